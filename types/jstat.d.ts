@@ -1,0 +1,7 @@
+declare module "jstat" {
+  export const jStat: {
+    normal: { inv(p: number, mean: number, sd: number): number; cdf(x: number, mean: number, sd: number): number };
+    chisquare: { inv(p: number, df: number): number; cdf(x: number, df: number): number };
+    studentt: { inv(p: number, df: number): number; cdf(x: number, df: number): number };
+  };
+}
