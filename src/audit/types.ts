@@ -1,0 +1,106 @@
+/**
+ * The shapes of an audit: a claim to test, the outcome of one test method on it,
+ * and the whole result (`AuditResult`) that `--json` prints as it is and every renderer formats.
+ * JSON field names are a public contract: add fields, never rename.
+ */
+import type { VariableType } from "../data/Table.js";
+
+/** An implied independence x ⫫ y | given, derived from a missing arrow. */
+export interface Claim {
+  x: string;
+  y: string;
+  given: string[];
+}
+
+/** A missing arrow no set of measured nodes can test, with the reason. */
+export interface UntestableClaim {
+  x: string;
+  y: string;
+  /** Present when a separating set exists but the data cannot test it (constant column, collinear set...). */
+  given?: string[];
+  reason: string;
+}
+
+export type TestName = "pearson-partial" | "spearman-partial" | "stratified-chisq" | "regression-lr";
+
+/** What one test method returns for one claim. */
+export interface TestOutcome {
+  test: TestName;
+  /** Rows used (complete cases of the claim's variables, after --listwise if set). */
+  n: number;
+  /** The test statistic: t for partial correlations, G² / LR for likelihood-ratio tests. */
+  statistic: number;
+  df: number;
+  /** Unadjusted p-value, never exactly 0 (see `log_p`). */
+  p: number;
+  /** Natural log of p, exact even where p underflows. */
+  log_p: number;
+  /** Effect on the common scale: partial correlation, or sign·√(1 − exp(−LR/n)). */
+  effect: number;
+  /** 95% confidence interval of `effect`. */
+  ci: [number, number];
+  p_method: "asymptotic" | "permutation";
+  /** Monte-Carlo permutations used, when p_method is permutation. */
+  B?: number;
+  /** Test-specific numbers (X², Mantel–Haenszel odds ratio, strata counts, model details...). */
+  details?: Record<string, unknown>;
+  /** Problems that did not stop the test (non-convergence at the limit, sparse strata...). */
+  warnings?: string[];
+}
+
+export type Verdict = "contradicted" | "consistent";
+
+export interface TestedClaim extends Claim, TestOutcome {
+  p_adjusted: number;
+  verdict: Verdict;
+  /** 1-based rank (contradicted first, then adjusted p ascending, ties by |effect| descending). */
+  rank: number;
+  /** Repairs in graph-file notation that keep the graph acyclic: "x -> y", "y -> x", "x <-> y". */
+  arrows: string[];
+}
+
+export interface VariableSummary {
+  name: string;
+  type: VariableType;
+  type_source: "inferred" | "declared";
+  missing: number;
+  levels?: string[];
+}
+
+export interface AuditSettings {
+  alpha: number;
+  adjust: "holm" | "bh" | "none";
+  method: "auto" | "linear" | "rank" | "chisq" | "regression";
+  min_effect: number;
+  listwise: boolean;
+  sets: "union-parents" | "minimal" | "all-minimal";
+  rank_by: "p" | "effect";
+  seed: number;
+  permutations?: number;
+}
+
+export interface GlobalTest {
+  method: "fisher-c";
+  statistic: number;
+  df: number;
+  p: number;
+  /** Number of claims combined (k). */
+  k: number;
+  contradicted: number;
+  /** k · alpha: contradictions expected by chance alone if every claim held (before adjustment). */
+  expected_by_chance: number;
+  /** Set when the global test's assumptions are not met (e.g. a non-basis set was used). */
+  note?: string;
+}
+
+export interface AuditResult {
+  tool: { name: "arrowaudit"; version: string };
+  data: { file?: string; rows: number; rows_used: number; patterns: number };
+  variables: VariableSummary[];
+  graph: { nodes: string[]; measured: string[]; unmeasured: string[]; arrows: [string, string][]; bidirected: [string, string][] };
+  settings: AuditSettings;
+  claims: TestedClaim[];
+  untestable: UntestableClaim[];
+  global: GlobalTest;
+  warnings: string[];
+}
