@@ -1,0 +1,38 @@
+/**
+ * A test method is one module that plugs into the audit: it says which claims it can test
+ * and returns a `TestOutcome` (or an untestable reason) for one claim. Register it in
+ * `src/audit/methods/index.ts`.
+ */
+import type { Table, VariableType } from "../data/Table.js";
+import type { PatternMoments } from "../data/Moments.js";
+import type { Claim, TestName, TestOutcome } from "./types.js";
+
+export interface TestContext {
+  table: Table;
+  /** Moments of the scores (for pearson-partial and linear models). */
+  moments: PatternMoments;
+  /** Moments of mid-ranks (for spearman-partial); built lazily by the pipeline. */
+  rankMoments(): PatternMoments;
+  /** When set, only these rows may be used (listwise deletion); otherwise complete cases per claim. */
+  rowFilter?: Uint8Array;
+  /** Seed for Monte-Carlo p-values; a method derives its own stream from (seed, claim). */
+  seed: number;
+  /** Monte-Carlo permutations forced by the user (--permutations), if any. */
+  permutations?: number;
+}
+
+export interface ClaimTypes {
+  x: VariableType;
+  y: VariableType;
+  given: VariableType[];
+}
+
+export type MethodResult = { ok: true; outcome: TestOutcome } | { ok: false; reason: string };
+
+export interface TestMethod {
+  /** The `test` name written to the result. */
+  readonly name: TestName;
+  /** Whether the method can test a claim with these variable types. */
+  accepts(types: ClaimTypes): boolean;
+  run(claim: Claim, ctx: TestContext): MethodResult;
+}
