@@ -1,0 +1,16 @@
+/**
+ * Exit codes of the arrowaudit command (documented in the README):
+ * 0 success (whatever the verdicts); 1 usage error; 2 invalid input (graph or data);
+ * 3 with --fail-on-contradiction, at least one claim contradicted; 10 internal error (a bug: please report it).
+ */
+import { ArrowauditError, UsageError } from "../src/errors.js";
+
+export const EXIT = { ok: 0, usage: 1, input: 2, contradiction: 3, internal: 10 } as const;
+
+/** Map a thrown error to its exit code and the message to print on stderr. */
+export function exitFor(e: unknown): { code: number; message: string } {
+  if (e instanceof UsageError) return { code: EXIT.usage, message: `arrowaudit: ${e.message}` };
+  if (e instanceof ArrowauditError) return { code: EXIT.input, message: `arrowaudit: ${e.message}` };
+  const err = e as Error;
+  return { code: EXIT.internal, message: `arrowaudit: internal error: ${err?.stack ?? String(e)}\nplease report this with the command you ran` };
+}

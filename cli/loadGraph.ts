@@ -1,0 +1,26 @@
+import { readGraphSource } from "../src/graph/readGraphSource.js";
+import { withUnmeasured } from "../src/graph/withUnmeasured.js";
+import type { Graph } from "../src/graph/Graph.js";
+import { type Io, readInput } from "./io.js";
+
+export const splitList = (s: unknown): string[] =>
+  typeof s === "string" ? s.split(",").map((x) => x.trim()).filter((x) => x !== "") : [];
+
+/** Read, parse and validate a graph file; print its warnings on stderr (unless --quiet). */
+export function loadGraph(io: Io, path: string, opts: Record<string, unknown>): Graph {
+  const bytes = readInput(path, io.cwd);
+  const parsed = readGraphSource(bytes, { file: path, format: (opts.format as "auto" | "arrows" | "dot") ?? "auto" });
+  if (!opts.quiet) for (const w of parsed.warnings) io.stderr(`warning: ${w}\n`);
+  return withUnmeasured(parsed.graph, splitList(opts.unmeasured));
+}
+
+/** The graph part of a result document. */
+export function graphJson(graph: Graph) {
+  return {
+    nodes: [...graph.nodes],
+    measured: graph.nodes.filter((n) => graph.isMeasured(n)),
+    unmeasured: graph.nodes.filter((n) => !graph.isMeasured(n)),
+    arrows: graph.arrows.map(([a, b]) => [a, b]),
+    bidirected: graph.bidirected.map(([a, b]) => [a, b]),
+  };
+}

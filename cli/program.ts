@@ -1,0 +1,143 @@
+/**
+ * The arrowaudit command line: parses flags, calls one library function per command,
+ * renders, writes, and maps the outcome to an exit code (cli/exitCodes.ts) in one place.
+ */
+import { Command, CommanderError, InvalidArgumentError, Option } from "commander";
+import { basename, extname, join, resolve } from "node:path";
+import { UsageError } from "../src/errors.js";
+import { exitFor, EXIT } from "./exitCodes.js";
+import { type Io, packageRoot, toolVersion } from "./io.js";
+import { runClaims } from "./commands/claims.js";
+import { runTest } from "./commands/test.js";
+import { runReport } from "./commands/report.js";
+import { runDraw } from "./commands/draw.js";
+
+/** Parse a number option in [lo, hi]. */
+export function numberIn(name: string, lo: number, hi: number, integer = false) {
+  return (v: string): number => {
+    const x = Number(v);
+    if (!Number.isFinite(x) || x < lo || x > hi || (integer && !Number.isInteger(x))) {
+      throw new InvalidArgumentError(`${name} must be ${integer ? "a whole number" : "a number"} from ${lo} to ${hi}, got "${v}"`);
+    }
+    return x;
+  };
+}
+
+const graphOptions = (c: Command): Command =>
+  c
+    .addOption(new Option("--format <format>", "graph file format (default: by extension; .dot/.gv are DOT)").choices(["auto", "arrows", "dot"]).default("auto"))
+    .option("--unmeasured <names>", "comma-separated nodes that are not in the data (adds to the file's unmeasured:)")
+    .addOption(new Option("--sets <kind>", "separating sets for the claims").choices(["union-parents", "minimal", "all-minimal"]).default("union-parents"));
+
+/** Options shared by test, report and demo. */
+export const auditOptions = (c: Command): Command =>
+  graphOptions(c)
+    .option("--alpha <a>", "significance level", numberIn("--alpha", 1e-12, 0.5), 0.05)
+    .addOption(new Option("--adjust <method>", "multiple-testing adjustment").choices(["holm", "bh", "none"]).default("holm"))
+    .addOption(new Option("--method <method>", "test per claim: auto picks by variable types").choices(["auto", "linear", "rank", "chisq", "regression"]).default("auto"))
+    .option("--min-effect <e>", "relevance floor: |effect| below it is never contradicted", numberIn("--min-effect", 0, 1), 0)
+    .addOption(new Option("--rank-by <key>", "rank contradicted claims by adjusted p or by |effect|").choices(["p", "effect"]).default("p"))
+    .option("--missing <codes>", 'extra missing-value codes, comma-separated (e.g. "-9,999")')
+    .option("--types <list>", 'declare variable types, e.g. "education=ordinal,region=nominal"')
+    .option("--levels <list>", 'order text ordinal levels, e.g. "education=low|mid|high" (several separated by ";")')
+    .addOption(new Option("--delimiter <d>", "field delimiter (default: detected)").choices([",", ";", "tab", "\\t"]))
+    .option("--decimal-comma", "numbers use a decimal comma (1,5)", false)
+    .option("--listwise", "use only rows complete on every measured variable", false)
+    .option("--seed <n>", "seed for Monte-Carlo p-values", numberIn("--seed", 0, 2 ** 32 - 1, true), 1)
+    .option("--permutations <B>", "Monte-Carlo permutation p-values with B permutations for categorical claims", numberIn("--permutations", 99, 1e7, true))
+    .option("--ascii", "ASCII output only (x _indep_ y | a)", false)
+    .option("--quiet", "print nothing but errors and requested output", false);
+
+/** Build the program; actions record their exit code in `state`. */
+function buildProgram(io: Io, state: { code: number }, argv: string[]): Command {
+  const program = new Command("arrowaudit")
+    .description("Test the independencies a causal DAG implies against cohort data, rank the missing arrows the data contradict, and report.")
+    .version(toolVersion(), "-V, --version")
+    .showHelpAfterError("(run with --help for usage)")
+    .exitOverride()
+    .configureOutput({ writeOut: io.stdout, writeErr: io.stderr });
+
+  graphOptions(
+    program
+      .command("claims")
+      .description("list every testable independence claim the graph makes (one per missing arrow)")
+      .argument("<graph>", "graph file (.txt in arrowaudit's format, or .dot/.gv)")
+      .option("--json", "print one JSON document", false)
+      .option("--ascii", "ASCII output only (x _indep_ y | a)", false)
+      .option("--columns <data.csv>", "check graph names against this CSV's header"),
+  ).action(async (graph: string, opts: Record<string, unknown>) => {
+    state.code = await runClaims(io, graph, opts);
+  });
+
+  auditOptions(
+    program
+      .command("test")
+      .description("test every claim against a data file and rank the missing arrows the data contradict")
+      .argument("<graph>", "graph file")
+      .argument("<data>", "data file (CSV with a header row; comma, semicolon or tab)")
+      .option("--json", "print the result as one JSON document", false)
+      .option("--csv", "print one CSV row per claim", false)
+      .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
+  ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
+    if (opts.json && opts.csv) throw new UsageError("choose one of --json and --csv");
+    state.code = await runTest(io, graph, data, opts, argv);
+  });
+
+  auditOptions(
+    program
+      .command("report")
+      .description("write an HTML (.html) or Markdown (.md) report of the audit")
+      .argument("<graph>", "graph file")
+      .argument("<data>", "data file")
+      .requiredOption("--out <file>", "report file: .html or .md (an existing file is overwritten)")
+      .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
+  ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
+    state.code = await runReport(io, graph, data, opts, argv, false);
+  });
+
+  program
+    .command("draw")
+    .description("draw the graph as SVG, optionally marked with a saved `test --json` result")
+    .argument("<graph>", "graph file")
+    .option("--out <file>", "SVG file to write (default: print to stdout)")
+    .option("--results <result.json>", "mark the contradicted missing arrows from this result")
+    .addOption(new Option("--format <format>", "graph file format").choices(["auto", "arrows", "dot"]).default("auto"))
+    .option("--unmeasured <names>", "comma-separated nodes that are not in the data")
+    .action(async (graph: string, opts: Record<string, unknown>) => {
+      state.code = await runDraw(io, graph, opts);
+    });
+
+  auditOptions(
+    program
+      .command("demo")
+      .description("run the audit on the bundled invented demo cohort and write arrowaudit-demo-report.html")
+      .option("--out <file>", "report file", "arrowaudit-demo-report.html"),
+  ).action(async (opts: Record<string, unknown>) => {
+    const dir = join(packageRoot(), "data", "demo");
+    state.code = await runReport(io, join(dir, "graph.txt"), join(dir, "cohort.csv"), { ...opts, printSummary: true }, argv, true);
+  });
+  return program;
+}
+
+/**
+ * Run the CLI on `argv` (without the node and script entries) and return the exit code.
+ * Never calls process.exit, so tests can run it in-process.
+ */
+export async function run(argv: string[], io: Io): Promise<number> {
+  const state = { code: EXIT.ok as number };
+  const program = buildProgram(io, state, argv);
+  try {
+    await program.parseAsync(argv, { from: "user" });
+    return state.code;
+  } catch (e) {
+    if (e instanceof CommanderError) {
+      if (e.code === "commander.helpDisplayed" || e.code === "commander.version" || e.code === "commander.help") return EXIT.ok;
+      return EXIT.usage;
+    }
+    const { code, message } = exitFor(e);
+    io.stderr(message.endsWith("\n") ? message : message + "\n");
+    return code;
+  }
+}
+
+export { basename, extname, resolve };

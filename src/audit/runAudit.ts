@@ -1,0 +1,269 @@
+/**
+ * The audit pipeline: derive the claims a causal graph makes, test each against the data
+ * with a method that fits its variable types, adjust for multiple testing, decide, rank,
+ * propose repair arrows, and combine everything in Shipley's global test.
+ *
+ * Terms: a *claim* x ⫫ y | S is an implied conditional independence of two measured nodes
+ * with no arrow between them, S a separating set of measured nodes. A claim is
+ * *contradicted* when its adjusted p-value is below alpha and its |effect| reaches the
+ * relevance floor (`min_effect`), else *consistent*; a claim the data cannot test is
+ * *untestable* and carries its reason.
+ */
+import { UnknownNodeError } from "../errors.js";
+import type { Graph } from "../graph/Graph.js";
+import { deriveClaims } from "../graph/deriveClaims.js";
+import type { Table, VariableType } from "../data/Table.js";
+import { buildPatternMoments } from "../data/buildPatternMoments.js";
+import type { PatternMoments } from "../data/Moments.js";
+import { adjustPValues } from "../stats/adjustPValues.js";
+import { fisherC } from "../stats/fisherC.js";
+import { chooseMethod } from "./methods/index.js";
+import { repairArrows } from "./repairArrows.js";
+import { compareClaims } from "./rankClaims.js";
+import type { TestContext } from "./TestMethod.js";
+import type { AuditResult, AuditSettings, Claim, TestedClaim, TestOutcome, UntestableClaim } from "./types.js";
+
+export const DEFAULT_SETTINGS: AuditSettings = {
+  alpha: 0.05,
+  adjust: "holm",
+  method: "auto",
+  min_effect: 0,
+  listwise: false,
+  sets: "union-parents",
+  rank_by: "p",
+  seed: 1,
+};
+
+export interface AuditOptions {
+  settings?: Partial<AuditSettings>;
+  /** Tool version written into the result. */
+  version?: string;
+  /** Called after each claim is tested (done, total), e.g. for a progress bar. */
+  onProgress?: (done: number, total: number) => void;
+}
+
+/**
+ * Run the whole audit of `graph` against `table`.
+ * Cost: O(rows · d²) once for the pattern moments, then per claim a cost independent of the
+ * number of rows for linear tests (O(P·d² + d³), P missing-data patterns), and O(rows of the
+ * claim) for categorical grouping.
+ * @throws UnknownNodeError when a measured node of the graph is not a column of the table.
+ * @example
+ * const result = runAudit(graph, table, { settings: { alpha: 0.01 } });
+ * result.claims[0].verdict; // "contradicted" | "consistent"
+ */
+export function runAudit(graph: Graph, table: Table, options: AuditOptions = {}): AuditResult {
+  const settings: AuditSettings = { ...DEFAULT_SETTINGS, ...options.settings };
+  const measured = graph.nodes.filter((n) => graph.isMeasured(n));
+  const missingCols = measured.filter((n) => !table.column(n));
+  if (missingCols.length) {
+    throw new UnknownNodeError(
+      `${table.file ?? "the data"}: measured graph node${missingCols.length > 1 ? "s" : ""} ${missingCols.map((n) => `"${n}"`).join(", ")} not found among the columns; rename the column or the node, or declare it unmeasured`,
+      missingCols,
+      { file: table.file },
+    );
+  }
+  const warnings: string[] = [...table.warnings];
+  const { claims, untestable: graphUntestable } = deriveClaims(graph, { sets: settings.sets });
+
+  // Missing-data patterns over the measured variables (one pass over the rows).
+  const rp = rowPatterns(table, measured);
+  let rowFilter: Uint8Array | undefined;
+  if (settings.listwise) {
+    const all = maskOf(measured, measured);
+    const complete = rp.words.map((w) => covers(w, all));
+    rowFilter = new Uint8Array(table.rows);
+    for (let r = 0; r < table.rows; r++) rowFilter[r] = complete[rp.index[r]!] ? 1 : 0;
+  }
+  const moments = buildPatternMoments(table, { variables: measured, rowFilter });
+  let ranks: PatternMoments | undefined;
+  const ctx: TestContext = {
+    table,
+    moments,
+    rankMoments: () => (ranks ??= buildPatternMoments(table, { variables: measured, rowFilter, useRanks: true })),
+    rowFilter,
+    seed: settings.seed,
+    permutations: settings.permutations,
+  };
+
+  const untestable: UntestableClaim[] = graphUntestable.map((u) => ({ ...u }));
+  const tested: Array<Claim & TestOutcome> = [];
+  const constant = constantColumns(table, measured, rowFilter);
+  const total = claims.length;
+  let done = 0;
+  for (const claim of claims) {
+    const reason = precheck(claim, constant);
+    if (reason) {
+      untestable.push({ ...claim, reason });
+    } else {
+      const types = {
+        x: table.column(claim.x)!.type,
+        y: table.column(claim.y)!.type,
+        given: claim.given.map((g) => table.column(g)!.type),
+      };
+      const method = chooseMethod(settings.method, types);
+      const res = method.run(claim, ctx);
+      if (!res.ok) untestable.push({ ...claim, reason: res.reason });
+      else {
+        const bad = nonFinite(res.outcome);
+        if (bad) untestable.push({ ...claim, reason: `the ${res.outcome.test} test gave a non-finite ${bad}; the data may be degenerate for this claim` });
+        else tested.push({ ...claim, ...res.outcome });
+      }
+    }
+    options.onProgress?.(++done, total);
+  }
+
+  const padj = adjustPValues(tested.map((t) => t.p), settings.adjust);
+  const result: TestedClaim[] = tested.map((t, i) => {
+    const p_adjusted = padj[i]!;
+    const verdict = p_adjusted < settings.alpha && Math.abs(t.effect) >= settings.min_effect ? "contradicted" : "consistent";
+    return { ...t, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y) };
+  });
+  result.sort(compareClaims(settings.rank_by));
+  result.forEach((c, i) => (c.rank = i + 1));
+
+  const fc = fisherC(result.map((c) => c.log_p));
+  const notes: string[] = [];
+  if (settings.sets !== "union-parents") notes.push(`Fisher's C assumes mutually independent tests, which Shipley's basis set (--sets union-parents) provides; with --sets ${settings.sets} the claims overlap, so read the global p-value as descriptive only`);
+  if (result.some((c) => c.p_method === "permutation")) notes.push("some p-values are Monte-Carlo permutation estimates (bounded below by 1/(B+1)), which makes Fisher's C conservative");
+  const contradicted = result.filter((c) => c.verdict === "contradicted").length;
+  if (untestable.length > 0) warnings.push(`${untestable.length} missing arrow${untestable.length > 1 ? "s were" : " was"} not tested (see untestable): untested is not the same as consistent`);
+
+  const rowsUsed = usedRows(rp, [...result, ...untestable.filter((u) => u.given)].map((c) => maskOf(measured, [c.x, c.y, ...(c.given ?? [])])), rowFilter);
+  return {
+    tool: { name: "arrowaudit", version: options.version ?? "0.0.0" },
+    data: { file: table.file, rows: table.rows, rows_used: rowsUsed, patterns: moments.patterns },
+    variables: table.columns
+      .filter((c) => measured.includes(c.name))
+      .map((c) => ({ name: c.name, type: c.type, type_source: c.typeSource, missing: c.missing, ...(c.levels && c.type !== "continuous" ? { levels: [...c.levels] } : {}) })),
+    graph: {
+      nodes: [...graph.nodes],
+      measured,
+      unmeasured: graph.nodes.filter((n) => !graph.isMeasured(n)),
+      arrows: graph.arrows.map(([a, b]) => [a, b] as [string, string]),
+      bidirected: graph.bidirected.map(([a, b]) => [a, b] as [string, string]),
+    },
+    settings,
+    claims: result,
+    untestable,
+    global: {
+      method: "fisher-c",
+      statistic: fc.statistic,
+      df: fc.df,
+      p: fc.p,
+      k: result.length,
+      contradicted,
+      expected_by_chance: result.length * settings.alpha,
+      ...(notes.length ? { note: notes.join("; ") } : {}),
+    },
+    warnings,
+  };
+}
+
+/** Reasons a claim cannot be tested before any method runs (constant variables). */
+function precheck(claim: Claim, constant: Map<string, string>): string | undefined {
+  for (const v of [claim.x, claim.y, ...claim.given]) {
+    const why = constant.get(v);
+    if (why) return why;
+  }
+  return undefined;
+}
+
+/** Variables with fewer than two distinct observed values (among the rows allowed). */
+function constantColumns(table: Table, names: readonly string[], rowFilter?: Uint8Array): Map<string, string> {
+  const out = new Map<string, string>();
+  for (const name of names) {
+    const v = table.column(name)!.values;
+    let first = NaN;
+    let distinct = 0;
+    for (let r = 0; r < v.length; r++) {
+      if (rowFilter && !rowFilter[r]) continue;
+      const x = v[r]!;
+      if (Number.isNaN(x)) continue;
+      if (distinct === 0) {
+        first = x;
+        distinct = 1;
+      } else if (x !== first) {
+        distinct = 2;
+        break;
+      }
+    }
+    if (distinct === 0) out.set(name, `"${name}" has no observed values${rowFilter ? " among the listwise-complete rows" : ""}`);
+    else if (distinct === 1) out.set(name, `"${name}" is constant (every observed value is ${formatValue(table, name, first)}), so it carries no information`);
+  }
+  return out;
+}
+
+function formatValue(table: Table, name: string, v: number): string {
+  const c = table.column(name)!;
+  if (c.type === "nominal" && c.levels) return JSON.stringify(c.levels[v] ?? String(v));
+  return String(v);
+}
+
+function nonFinite(o: TestOutcome): string | undefined {
+  if (!Number.isFinite(o.statistic)) return "statistic";
+  if (!Number.isFinite(o.df)) return "df";
+  if (!(o.p >= 0 && o.p <= 1)) return "p-value";
+  if (!Number.isFinite(o.effect)) return "effect";
+  if (!o.ci.every((v) => Number.isFinite(v))) return "confidence interval";
+  return undefined;
+}
+
+/** Missing-data patterns over the measured variables: each distinct observed set, with its row count. */
+interface RowPatterns {
+  /** Pattern index per row. */
+  index: Int32Array;
+  /** Observed sets as bit words (32 variables a word), one per pattern. */
+  words: Uint32Array[];
+  counts: number[];
+}
+
+/** Group the rows by which measured variables they observe. Cost: O(rows · variables). */
+function rowPatterns(table: Table, names: readonly string[]): RowPatterns {
+  const cols = names.map((n) => table.column(n)!.values);
+  const nw = Math.max(1, Math.ceil(names.length / 32));
+  const index = new Int32Array(table.rows);
+  const byKey = new Map<string, number>();
+  const words: Uint32Array[] = [];
+  const counts: number[] = [];
+  const w = new Uint32Array(nw);
+  for (let r = 0; r < table.rows; r++) {
+    w.fill(0);
+    for (let j = 0; j < cols.length; j++) if (!Number.isNaN(cols[j]![r]!)) w[j >>> 5] |= 1 << (j & 31);
+    const key = nw === 1 ? String(w[0]) : w.join(",");
+    let k = byKey.get(key);
+    if (k === undefined) {
+      k = words.length;
+      byKey.set(key, k);
+      words.push(Uint32Array.from(w));
+      counts.push(0);
+    }
+    counts[k]!++;
+    index[r] = k;
+  }
+  return { index, words, counts };
+}
+
+function maskOf(names: readonly string[], vars: readonly string[]): Uint32Array {
+  const m = new Uint32Array(Math.max(1, Math.ceil(names.length / 32)));
+  for (const v of vars) {
+    const j = names.indexOf(v);
+    m[j >>> 5] |= 1 << (j & 31);
+  }
+  return m;
+}
+
+const covers = (have: Uint32Array, need: Uint32Array): boolean => need.every((x, i) => ((have[i]! & x) >>> 0) === x);
+
+/** Rows that enter at least one test: rows whose observed set covers some claim's variables. */
+function usedRows(rp: RowPatterns, claimMasks: Uint32Array[], rowFilter?: Uint8Array): number {
+  if (claimMasks.length === 0) return 0;
+  if (rowFilter) return rowFilter.reduce((a, b) => a + b, 0);
+  let n = 0;
+  rp.words.forEach((w, k) => {
+    if (claimMasks.some((cm) => covers(w, cm))) n += rp.counts[k]!;
+  });
+  return n;
+}
+
+export type { VariableType };
