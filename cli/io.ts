@@ -1,6 +1,6 @@
 /** File and process plumbing for the CLI; the library in src/ never touches these. */
 import { createHash, randomBytes } from "node:crypto";
-import { createReadStream, existsSync, readFileSync, renameSync, rmSync, writeFileSync } from "node:fs";
+import { closeSync, createReadStream, existsSync, openSync, readSync, readFileSync, renameSync, rmSync, writeFileSync } from "node:fs";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { InputError } from "../src/errors.js";
@@ -77,4 +77,21 @@ export function writeAtomic(path: string, cwd: string, content: string): string 
     throw new InputError(`${path}: cannot write the output file (${(e as NodeJS.ErrnoException).code ?? "error"}); check the folder exists and is writable`, { file: path });
   }
   return full;
+}
+
+/** Read at most the first 1 MiB of a file as text (enough for any header row). */
+export function readHead(path: string, cwd: string): string {
+  let fd: number;
+  try {
+    fd = openSync(resolve(cwd, path), "r");
+  } catch (e) {
+    throw new InputError(`${path}: cannot read the file (${(e as NodeJS.ErrnoException).code ?? "error"}); check the path`, { file: path });
+  }
+  try {
+    const buf = Buffer.alloc(1 << 20);
+    const n = readSync(fd, buf, 0, buf.length, 0);
+    return buf.subarray(0, n).toString("utf8");
+  } finally {
+    closeSync(fd);
+  }
 }

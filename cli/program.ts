@@ -39,7 +39,7 @@ export const auditOptions = (c: Command): Command =>
     .addOption(new Option("--rank-by <key>", "rank contradicted claims by adjusted p or by |effect|").choices(["p", "effect"]).default("p"))
     .option("--missing <codes>", 'extra missing-value codes, comma-separated (e.g. "-9,999")')
     .option("--types <list>", 'declare variable types, e.g. "education=ordinal,region=nominal"')
-    .option("--levels <list>", 'order text ordinal levels, e.g. "education=low|mid|high" (several separated by ";")')
+    .option("--levels <list>", 'order levels, e.g. "education=low|mid|high,region=north|south"')
     .addOption(new Option("--delimiter <d>", "field delimiter (default: detected)").choices([",", ";", "tab", "\\t"]))
     .option("--decimal-comma", "numbers use a decimal comma (1,5)", false)
     .option("--listwise", "use only rows complete on every measured variable", false)
