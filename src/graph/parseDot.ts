@@ -248,7 +248,10 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
     while (peek().kind === "[") {
       const open = next();
       while (peek().kind !== "]") {
-        if (peek().kind === "eof") failAt(open, "unclosed '['; close the attribute list with ']'");
+        const k = peek().kind;
+        if (k === "eof" || k === "}" || k === "{" || k === "[" || k === "->" || k === "--") {
+          failAt(open, "unclosed '['; close the attribute list with ']'");
+        }
         const key = expectId("an attribute name such as unmeasured");
         const eq = next();
         if (eq.kind !== "=") failAt(eq, `expected '=' after attribute ${key.value} but found ${describe(eq)}; write ${key.value}=value`);
