@@ -1,0 +1,467 @@
+/**
+ * Column builder: receives the cells of a table row by row (as parsed numbers or as text)
+ * and produces typed columns once, without keeping the text of number cells.
+ *
+ * Storage while reading: per column, blocks of BLOCK_ROWS doubles (NaN for a missing or a
+ * text cell) and, only for blocks that contain text, blocks of Int32 text codes (-1 for no
+ * text) into a per-column dictionary of distinct labels. At the end every column is copied
+ * once into a Float64Array of exactly `rows` elements and its blocks are dropped, so the peak
+ * is the data plus one column. Number cells are classified by {@link ColumnBuilder.num},
+ * text cells by {@link ColumnBuilder.text}; both paths of the reader go through these two
+ * methods, which is what makes them produce identical tables.
+ */
+import { DataError, UsageError } from "../errors.js";
+import { inferType, MAX_INFERRED_ORDINAL_LEVELS } from "./inferType.js";
+import { DEFAULT_MISSING_CODES } from "./readOptions.js";
+import { parseNumberText } from "./parseNumberText.js";
+import type { Column, Table, VariableType } from "./Table.js";
+
+export const BLOCK_ROWS = 65536;
+const TRACK_LIMIT = MAX_INFERRED_ORDINAL_LEVELS + 1;
+
+export interface BuilderOptions {
+  file?: string;
+  decimalComma?: boolean;
+  missing?: readonly string[];
+  types?: Readonly<Record<string, VariableType>>;
+  levels?: Readonly<Record<string, readonly string[]>>;
+  /** Keep only these columns; undefined keeps all. */
+  columns?: readonly string[];
+}
+
+/** Format a number as a level label (decimal comma when the file uses one). */
+export function numberLabel(v: number, decimalComma: boolean): string {
+  const s = Object.is(v, -0) ? "0" : String(v);
+  return decimalComma ? s.replace(".", ",") : s;
+}
+
+export class ColumnBuilder {
+  /** Names of all header fields, in file order. */
+  readonly header: readonly string[];
+  /** Names of the kept columns, in file order. */
+  readonly names: string[];
+  /** Header field index → kept column index, or -1 when skipped. */
+  readonly fieldToColumn: Int32Array;
+  readonly decimalComma: boolean;
+  readonly file?: string;
+
+  rows = 0;
+  /** Row index inside the current block. */
+  blockRow = BLOCK_ROWS;
+  /** Current value block per kept column. */
+  readonly cur: Float64Array[] = [];
+  /** Line (1-based) of the record being read. */
+  line = 0;
+  blankLines = 0;
+
+  private readonly blocks: Float64Array[][] = [];
+  private readonly textBlocks: (Int32Array | undefined)[][] = [];
+  private readonly missingCount: Float64Array;
+  private readonly textCount: Float64Array;
+  private readonly distinct: Float64Array[] = [];
+  private readonly distinctN: Int32Array;
+  private readonly overflow: Uint8Array;
+  private readonly allInt: Uint8Array;
+  private readonly dict: Map<string, number>[] = [];
+  private readonly labels: string[][] = [];
+  private readonly firstTexts: { line: number; text: string }[][] = [];
+  private readonly textMissing: Set<string>;
+  private readonly numericMissing: number[];
+  /** Rows where (line − row) changes: parallel arrays, for mapping rows back to lines. */
+  private readonly lineRows: number[] = [];
+  private readonly lineOffsets: number[] = [];
+  private readonly options: BuilderOptions;
+
+  constructor(header: readonly string[], options: BuilderOptions) {
+    this.options = options;
+    this.file = options.file;
+    this.header = header;
+    this.decimalComma = options.decimalComma ?? false;
+    const headerSet = new Set(header);
+    const keep = options.columns ? new Set(options.columns) : undefined;
+    checkNamesExist(options.columns ?? [], headerSet, "--columns", header);
+    checkNamesExist(Object.keys(options.types ?? {}), headerSet, "--types", header);
+    checkNamesExist(Object.keys(options.levels ?? {}), headerSet, "--levels", header);
+    this.fieldToColumn = new Int32Array(header.length).fill(-1);
+    this.names = [];
+    header.forEach((name, f) => {
+      if (keep && !keep.has(name)) return;
+      this.fieldToColumn[f] = this.names.length;
+      this.names.push(name);
+    });
+    const k = this.names.length;
+    this.missingCount = new Float64Array(k);
+    this.textCount = new Float64Array(k);
+    this.distinctN = new Int32Array(k);
+    this.overflow = new Uint8Array(k);
+    this.allInt = new Uint8Array(k).fill(1);
+    for (let c = 0; c < k; c++) {
+      this.blocks.push([]);
+      this.textBlocks.push([]);
+      this.cur.push(new Float64Array(0));
+      this.distinct.push(new Float64Array(TRACK_LIMIT));
+      this.dict.push(new Map());
+      this.labels.push([]);
+      this.firstTexts.push([]);
+    }
+    const codes = [...DEFAULT_MISSING_CODES, ...(options.missing ?? [])].map((s) => s.trim());
+    this.textMissing = new Set(codes);
+    this.numericMissing = [];
+    for (const code of codes) {
+      const v = parseNumberText(code, this.decimalComma);
+      if (v !== undefined && !this.numericMissing.includes(v)) this.numericMissing.push(v);
+    }
+  }
+
+  /** Start a record that begins on `line`. Cost: O(1) amortised (a new block every BLOCK_ROWS rows). */
+  beginRecord(line: number): void {
+    this.line = line;
+    const offset = line - this.rows;
+    const n = this.lineOffsets.length;
+    if (n === 0 || this.lineOffsets[n - 1] !== offset) {
+      this.lineRows.push(this.rows);
+      this.lineOffsets.push(offset);
+    }
+    if (this.blockRow === BLOCK_ROWS) {
+      this.blockRow = 0;
+      for (let c = 0; c < this.cur.length; c++) {
+        const b = new Float64Array(BLOCK_ROWS);
+        this.blocks[c]!.push(b);
+        this.cur[c] = b;
+      }
+    }
+  }
+
+  /** Finish the record; `fields` is the number of fields it had. @throws DataError on a ragged row */
+  endRecord(fields: number): void {
+    if (fields !== this.header.length) this.raggedError(fields);
+    this.rows++;
+    this.blockRow++;
+  }
+
+  raggedError(fields: number): never {
+    throw new DataError(
+      `${this.where(this.line)}row has ${fields} field${fields === 1 ? "" : "s"} but the header has ${this.header.length}; check the delimiter and quoting on this line`,
+      { file: this.file, line: this.line },
+    );
+  }
+
+  /** A number cell (already parsed). */
+  num(c: number, v: number): void {
+    const nm = this.numericMissing;
+    if (nm.length > 0 && nm.includes(v)) {
+      this.miss(c);
+      return;
+    }
+    this.cur[c]![this.blockRow] = v;
+    if (this.overflow[c] === 0) this.track(c, v);
+  }
+
+  /** A missing cell. */
+  miss(c: number): void {
+    this.cur[c]![this.blockRow] = NaN;
+    this.missingCount[c]!++;
+  }
+
+  /** A cell given as text (untrimmed): classified as missing, number or text. */
+  text(c: number, raw: string): void {
+    const t = raw.trim();
+    if (this.textMissing.has(t)) {
+      this.miss(c);
+      return;
+    }
+    const v = parseNumberText(t, this.decimalComma);
+    if (v !== undefined) {
+      this.num(c, v);
+      return;
+    }
+    this.cur[c]![this.blockRow] = NaN;
+    this.textCount[c]!++;
+    const dict = this.dict[c]!;
+    let code = dict.get(t);
+    if (code === undefined) {
+      code = dict.size;
+      dict.set(t, code);
+      this.labels[c]!.push(t);
+    }
+    const bi = this.blocks[c]!.length - 1;
+    const tb = this.textBlocks[c]!;
+    let block = tb[bi];
+    if (block === undefined) {
+      block = new Int32Array(BLOCK_ROWS).fill(-1);
+      tb[bi] = block;
+    }
+    block[this.blockRow] = code;
+    const ft = this.firstTexts[c]!;
+    if (ft.length < 3) ft.push({ line: this.line, text: t });
+  }
+
+  private track(c: number, v: number): void {
+    const d = this.distinct[c]!;
+    const n = this.distinctN[c]!;
+    for (let i = 0; i < n; i++) if (d[i] === v) return;
+    if (!Number.isInteger(v)) this.allInt[c] = 0;
+    if (n === TRACK_LIMIT - 1) {
+      this.overflow[c] = 1;
+      this.distinctN[c] = TRACK_LIMIT;
+      return;
+    }
+    d[n] = v;
+    this.distinctN[c] = n + 1;
+  }
+
+  /** Line number of a data row (0-based row index). */
+  lineOf(row: number): number {
+    let lo = 0;
+    let hi = this.lineRows.length - 1;
+    while (lo < hi) {
+      const mid = (lo + hi + 1) >> 1;
+      if (this.lineRows[mid]! <= row) lo = mid;
+      else hi = mid - 1;
+    }
+    return row + (this.lineOffsets[lo] ?? 0);
+  }
+
+  private where(line?: number): string {
+    const f = this.file ?? "data";
+    return line === undefined ? `${f}: ` : `${f}:${line}: `;
+  }
+
+  /**
+   * Type every column and assemble the table. Cost: O(rows · columns) plus a sort of each
+   * categorical column's levels.
+   * @throws DataError for stray text in a numeric column, undeclared levels, values outside declared levels
+   */
+  finish(): Table {
+    const warnings: string[] = [];
+    if (this.blankLines > 0) {
+      warnings.push(`${this.blankLines} blank line${this.blankLines === 1 ? " was" : "s were"} skipped`);
+    }
+    if (this.rows === 0) warnings.push("the file has a header but no data rows");
+    const columns: Column[] = [];
+    for (let c = 0; c < this.names.length; c++) {
+      columns.push(this.finishColumn(c, warnings));
+      this.blocks[c] = [];
+      this.textBlocks[c] = [];
+    }
+    return assembleTable(this.file, this.rows, columns, warnings);
+  }
+
+  private gather(c: number): { values: Float64Array; texts?: Int32Array } {
+    const n = this.rows;
+    const values = new Float64Array(n);
+    const blocks = this.blocks[c]!;
+    for (let b = 0; b < blocks.length; b++) {
+      const start = b * BLOCK_ROWS;
+      const len = Math.min(BLOCK_ROWS, n - start);
+      if (len <= 0) break;
+      values.set(len === BLOCK_ROWS ? blocks[b]! : blocks[b]!.subarray(0, len), start);
+    }
+    if (this.textCount[c] === 0) return { values };
+    const texts = new Int32Array(n).fill(-1);
+    const tb = this.textBlocks[c]!;
+    for (let b = 0; b < tb.length; b++) {
+      const block = tb[b];
+      if (block === undefined) continue;
+      const start = b * BLOCK_ROWS;
+      const len = Math.min(BLOCK_ROWS, n - start);
+      texts.set(len === BLOCK_ROWS ? block : block.subarray(0, len), start);
+    }
+    return { values, texts };
+  }
+
+  private finishColumn(c: number, warnings: string[]): Column {
+    const name = this.names[c]!;
+    const { values, texts } = this.gather(c);
+    const missing = this.missingCount[c]!;
+    const nText = this.textCount[c]!;
+    const observed = this.rows - missing;
+    const declaredLevels = this.options.levels?.[name];
+    let declared = this.options.types?.[name];
+    if (declared === undefined && declaredLevels !== undefined) {
+      declared = declaredLevels.length === 2 ? "binary" : "ordinal";
+    }
+    if (declared === "continuous") {
+      if (nText > 0) this.strayTextError(c, true);
+      return { name, type: "continuous", typeSource: "declared", values, missing };
+    }
+    if (declared !== undefined) {
+      return this.categorical(c, name, declared, "declared", values, texts, missing, declaredLevels);
+    }
+    const inferred = inferType({
+      name,
+      observed,
+      numbers: observed - nText,
+      texts: nText,
+      distinctNumbers: this.distinctN[c]!,
+      allIntegers: this.allInt[c] === 1,
+      distinctTexts: this.labels[c]!.length,
+    });
+    if (inferred.kind === "strayText") this.strayTextError(c, false);
+    if (inferred.note) warnings.push(inferred.note);
+    if (inferred.type === "continuous") {
+      return { name, type: "continuous", typeSource: "inferred", values, missing };
+    }
+    return this.categorical(c, name, inferred.type, "inferred", values, texts, missing, undefined);
+  }
+
+  private strayTextError(c: number, declared: boolean): never {
+    const name = this.names[c]!;
+    const ft = this.firstTexts[c]!;
+    const first = ft[0]!;
+    const more =
+      ft.length > 1
+        ? ` (also ${ft
+            .slice(1)
+            .map((t) => `"${t.text}" on line ${t.line}`)
+            .join(", ")}${this.textCount[c]! > ft.length ? `, ${this.textCount[c]! - ft.length} more` : ""})`
+        : "";
+    const hints = [`declare it with --missing "${first.text}"`];
+    if (!declared) hints.push(`read the column as text with --types ${name}=nominal`);
+    if (!this.decimalComma && /^[+-]?\d*,\d+$/.test(first.text)) hints.push("use --decimal-comma");
+    hints.push("or fix the file");
+    throw new DataError(
+      `${this.where(first.line)}column "${name}" has text "${first.text}" among numbers${more}; ${hints.join(", ")}`,
+      { file: this.file, line: first.line, column: this.header.indexOf(name) + 1 },
+    );
+  }
+
+  private categorical(
+    c: number,
+    name: string,
+    type: VariableType,
+    source: "declared" | "inferred",
+    values: Float64Array,
+    texts: Int32Array | undefined,
+    missing: number,
+    declaredLevels: readonly string[] | undefined,
+  ): Column {
+    const n = this.rows;
+    const textLabels = this.labels[c]!;
+    // Distinct numbers over the whole column.
+    const numSet = new Set<number>();
+    for (let i = 0; i < n; i++) {
+      const v = values[i]!;
+      if (v === v) numSet.add(Object.is(v, -0) ? 0 : v);
+    }
+    const nums = [...numSet].sort((a, b) => a - b);
+    let levels: string[];
+    let numericLevels: number[] | undefined;
+    if (declaredLevels !== undefined) {
+      levels = [...declaredLevels];
+      const parsed = levels.map((l) => parseNumberText(l, this.decimalComma));
+      if (parsed.every((v) => v !== undefined)) numericLevels = parsed as number[];
+    } else if (textLabels.length === 0) {
+      numericLevels = nums;
+      levels = nums.map((v) => numberLabel(v, this.decimalComma));
+    } else {
+      if (type === "ordinal") {
+        const all = [...nums.map((v) => numberLabel(v, this.decimalComma)), ...[...textLabels].sort(compareText)];
+        throw new DataError(
+          `${this.where()}column "${name}" is ordinal but its levels are text (${listLevels(all)}); give their order low to high with --levels "${name}=${all.join("|")}"`,
+          { file: this.file, column: this.header.indexOf(name) + 1 },
+        );
+      }
+      levels = [...nums.map((v) => numberLabel(v, this.decimalComma)), ...[...textLabels].sort(compareText)];
+    }
+    if (type === "binary" && levels.length > 2) {
+      throw new DataError(
+        `${this.where()}column "${name}" is declared binary but has ${levels.length} distinct values (${listLevels(levels)}); declare it ordinal or nominal`,
+        { file: this.file, column: this.header.indexOf(name) + 1 },
+      );
+    }
+    // Map numbers and text codes to level indices.
+    const levelIndex = new Map<string, number>();
+    levels.forEach((l, i) => levelIndex.set(l, i));
+    const numIndex = new Map<number, number>();
+    for (const v of nums) {
+      let idx: number | undefined;
+      if (numericLevels !== undefined) {
+        const j = numericLevels.indexOf(v);
+        idx = j >= 0 ? j : undefined;
+      } else {
+        idx = levelIndex.get(numberLabel(v, this.decimalComma));
+      }
+      if (idx !== undefined) numIndex.set(v, idx);
+    }
+    const textIndex = textLabels.map((t) => {
+      if (numericLevels !== undefined) return -1;
+      return levelIndex.get(t) ?? -1;
+    });
+    const codes = new Int32Array(n);
+    const out = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const v = values[i]!;
+      let code: number;
+      if (v === v) {
+        const idx = numIndex.get(Object.is(v, -0) ? 0 : v);
+        if (idx === undefined) this.outsideLevels(name, numberLabel(v, this.decimalComma), i, levels);
+        code = idx;
+      } else {
+        const t = texts === undefined ? -1 : texts[i]!;
+        if (t < 0) {
+          codes[i] = -1;
+          out[i] = NaN;
+          continue;
+        }
+        code = textIndex[t]!;
+        if (code < 0) this.outsideLevels(name, textLabels[t]!, i, levels);
+      }
+      codes[i] = code;
+      out[i] = numericLevels !== undefined && (type === "binary" || type === "ordinal") ? numericLevels[code]! : code;
+    }
+    return { name, type, typeSource: source, values: out, codes, levels, missing };
+  }
+
+  private outsideLevels(name: string, value: string, row: number, levels: readonly string[]): never {
+    const line = this.lineOf(row);
+    throw new DataError(
+      `${this.where(line)}column "${name}" has "${value}", which is not among its levels (${listLevels(levels)}); add it to --levels or declare it with --missing "${value}"`,
+      { file: this.file, line, column: this.header.indexOf(name) + 1 },
+    );
+  }
+}
+
+function listLevels(levels: readonly string[]): string {
+  const shown = levels.slice(0, 8).join(", ");
+  return levels.length > 8 ? `${shown}, ... ${levels.length} in all` : shown;
+}
+
+/** Code-unit order: deterministic and locale-independent. */
+function compareText(a: string, b: string): number {
+  return a < b ? -1 : a > b ? 1 : 0;
+}
+
+function checkNamesExist(names: readonly string[], header: Set<string>, flag: string, all: readonly string[]): void {
+  for (const name of names) {
+    if (!header.has(name)) {
+      const shown = all.slice(0, 12).join(", ") + (all.length > 12 ? ", ..." : "");
+      throw new UsageError(`${flag}: column "${name}" is not in the file header (${shown}); check the spelling`);
+    }
+  }
+}
+
+class ColumnTable implements Table {
+  private readonly byName: Map<string, Column>;
+  constructor(
+    readonly file: string | undefined,
+    readonly rows: number,
+    readonly columns: readonly Column[],
+    readonly warnings: readonly string[],
+  ) {
+    this.byName = new Map(columns.map((col) => [col.name, col]));
+  }
+  column(name: string): Column | undefined {
+    return this.byName.get(name);
+  }
+}
+
+/** Wrap finished columns as a {@link Table}. Cost: O(columns). */
+export function assembleTable(
+  file: string | undefined,
+  rows: number,
+  columns: readonly Column[],
+  warnings: readonly string[],
+): Table {
+  return new ColumnTable(file, rows, columns, warnings);
+}
