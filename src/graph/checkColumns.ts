@@ -114,7 +114,7 @@ export function checkColumns(graph: Graph, columns: readonly string[], options: 
     throw new UnknownNodeError(
       `${where}${one ? "a graph node is" : `${missing.length} graph nodes are`} not ${one ? "a column" : "columns"} of the data; ` +
         `rename the column or the node so they match exactly (case matters), or declare the node unmeasured ` +
-        `with "unmeasured: ${example}" in the graph file or --unmeasured ${example}\n${lines.join("\n")}`,
+        `in the graph file (unmeasured: ${example}) or with --unmeasured ${example}\n${lines.join("\n")}`,
       missing,
       { file: options.file },
     );
