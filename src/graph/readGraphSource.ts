@@ -69,8 +69,12 @@ function stripLeadingComments(text: string): string {
 }
 
 /**
- * Does this text look like a DOT graph: after blank space and comments, `[strict] digraph`
- * or `[strict] graph`, an optional name, then `{`? (A file in arrowaudit's format cannot have `{`.)
+ * Detect DOT text: true when, after blank space and comments, the text opens with
+ * `[strict] digraph` or `[strict] graph`, an optional name, then `{` (a file in arrowaudit's own
+ * format cannot contain `{`). O(n) at worst, usually O(1).
+ * @example
+ * looksLikeDot("// exported\ndigraph G {"); // true
+ * looksLikeDot("digraph -> b"); // false: a node called digraph
  */
 export function looksLikeDot(text: string): boolean {
   const s = stripLeadingComments(text.replace(/^\uFEFF/u, ""));

@@ -1,6 +1,9 @@
+import { readFileSync } from "node:fs";
+import { fileURLToPath } from "node:url";
 import { describe, expect, it } from "vitest";
 import { CycleError, GraphError, InputError } from "../../src/errors.js";
 import { parseDot } from "../../src/graph/parseDot.js";
+import { parseGraph } from "../../src/graph/parseGraph.js";
 
 // Expected arrow lists below are worked by hand from the DOT language definition
 // (Graphviz documentation, "The DOT Language", https://graphviz.org/doc/info/lang.html):
@@ -243,5 +246,26 @@ describe("parseDot documentation", () => {
     const { graph } = parseDot("digraph { age -> {sbp smoking} -> stroke; u [unmeasured=true]; u -> sbp }");
     expect(graph.parents("stroke")).toEqual(["sbp", "smoking"]);
     expect(graph.isMeasured("u")).toBe(false);
+  });
+});
+
+describe("docs/graph-format.md examples", () => {
+  const doc = readFileSync(fileURLToPath(new URL("../../docs/graph-format.md", import.meta.url)), "utf8");
+  const blocks = (lang: string) => [...doc.matchAll(new RegExp("```" + lang + "\\n([\\s\\S]*?)```", "gu"))].map((m) => m[1]!);
+
+  it("the arrows-format and DOT examples in the docs describe the same graph", () => {
+    const arrows = parseGraph(blocks("text")[0]!).graph;
+    const dot = parseDot(blocks("dot")[0]!).graph;
+    const sorted = (g: typeof arrows) => g.arrows.map(([a, b]) => `${a} -> ${b}`).sort();
+    expect(sorted(dot)).toEqual(sorted(arrows).filter((a) => a !== "statin -> stroke"));
+    expect(arrows.isMeasured("frailty")).toBe(false);
+    expect(dot.isMeasured("frailty")).toBe(false);
+    expect(arrows.bidirected).toEqual([["statin", "stroke"]]);
+    expect(arrows.hasNode("2hr_glucose")).toBe(true);
+  });
+
+  it("the error example in the docs is the message parseGraph gives", () => {
+    const shown = blocks("text")[1]!.trimEnd();
+    expect(() => parseGraph("a -> b\nc\nb ->", { file: "graph.txt" })).toThrow(shown);
   });
 });

@@ -1,7 +1,15 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { CycleError, GraphError, InputError } from "../../src/errors.js";
-import { displayName, formatSourceSnippet, parseGraph } from "../../src/graph/parseGraph.js";
+import {
+  createGraphWithSites,
+  displayName,
+  formatSourceLocation,
+  formatSourceSnippet,
+  parseGraph,
+  sourceError,
+  splitSourceLines,
+} from "../../src/graph/parseGraph.js";
 
 /** Parse and return the thrown error (fails the test when nothing is thrown). */
 function errorOf(text: string, options: { file?: string } = { file: "graph.txt" }): InputError {
@@ -344,5 +352,21 @@ describe("parseGraph input handling", () => {
     const { graph, warnings } = parseGraph("age -> sbp -> stroke\nage -> stroke\n", { file: "g.txt" });
     expect(graph.parents("stroke")).toEqual(["sbp", "age"]);
     expect(warnings).toEqual([]);
+  });
+});
+
+describe("parseGraph helper examples", () => {
+  it("formatSourceLocation, formatSourceSnippet, displayName, splitSourceLines, sourceError and createGraphWithSites @examples", () => {
+    expect(formatSourceLocation("g.txt", 3, 7)).toBe("g.txt:3:7");
+    expect(formatSourceLocation("g.txt", 3)).toBe("g.txt:3");
+    expect(formatSourceLocation(undefined, 3)).toBe("line 3");
+    expect(formatSourceSnippet("a => b", 3)).toBe("  a => b\n    ^");
+    expect(displayName("systolic bp")).toBe('"systolic bp"');
+    expect(displayName("2hr_glucose")).toBe("2hr_glucose");
+    expect(splitSourceLines("\uFEFFa\r\nb")).toEqual(["a", "b"]);
+    expect(sourceError(InputError, "g.txt", ["a => b"], 1, 3, "unknown arrow '=>'; write '->'").message).toBe(
+      "g.txt:1:3: unknown arrow '=>'; write '->'\n  a => b\n    ^",
+    );
+    expect(createGraphWithSites({ arrows: [["a", "b"]] }, [{ from: "a", to: "b", line: 1, column: 3 }], "g.txt", ["a -> b"]).arrows).toEqual([["a", "b"]]);
   });
 });

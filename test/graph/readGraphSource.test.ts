@@ -234,3 +234,10 @@ describe(`readGraphSource agrees with networkx on random graphs (${source})`, ()
     });
   }
 });
+
+describe("looksLikeDot @example", () => {
+  it("looksLikeDot @example from its doc comment", () => {
+    expect(looksLikeDot("// exported\ndigraph G {")).toBe(true);
+    expect(looksLikeDot("digraph -> b")).toBe(false);
+  });
+});
