@@ -309,6 +309,7 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
   const readNodeId = (): string => {
     const t = expectId("a node name");
     if (t.keyword !== undefined && !t.quoted) failAt(t, `'${t.value}' is a DOT keyword; to use it as a node name, put it in double quotes`);
+    if (t.value.trim() === "") failAt(t, "empty node name; write a name between the quotes");
     if (peek().kind === ":") {
       next();
       expectId("a port name after ':'");

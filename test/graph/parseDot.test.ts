@@ -1,5 +1,6 @@
 import { readFileSync } from "node:fs";
 import { fileURLToPath } from "node:url";
+import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { CycleError, GraphError, InputError } from "../../src/errors.js";
 import { parseDot } from "../../src/graph/parseDot.js";
@@ -146,6 +147,20 @@ describe("parseDot accepted subset", () => {
     expect(strict.graph.arrows).toEqual([["a", "b"]]);
   });
 
+  it("parseDot reads back any name written as a quoted DOT ID with \\\" escapes (property)", () => {
+    // a trailing backslash cannot be written in a DOT string before the closing quote, so none here
+    const anyName = fc.string({ unit: "grapheme", minLength: 1, maxLength: 8 }).filter((s) => !/[\r\n]|\\$/u.test(s));
+    const quote = (s: string) => `"${s.replace(/"/gu, '\\"')}"`;
+    fc.assert(
+      fc.property(anyName, anyName, (a, b) => {
+        fc.pre(a !== b);
+        const { graph } = parseDot(`digraph { ${quote(a)} -> ${quote(b)} }`);
+        expect(graph.arrows).toEqual([[a, b]]);
+      }),
+      { numRuns: 200 },
+    );
+  });
+
   it("parseDot keeps keywords as names when quoted", () => {
     const { graph } = parseDot('digraph { "node" -> "edge" -> "graph" }');
     expect(graph.nodes).toEqual(["node", "edge", "graph"]);
@@ -175,6 +190,7 @@ describe("parseDot errors and their positions", () => {
     ["bad unmeasured value", "digraph { u [unmeasured=maybe] }", InputError, "1:25", "write unmeasured=true or unmeasured=false"],
     ["unicode arrow", "digraph { a → b }", InputError, "1:13", "write '->'"],
     ["stray character", "digraph { a -> b; @ }", InputError, "1:19", "unexpected character '@'"],
+    ["empty quoted name", 'digraph { a -> " " }', InputError, "1:16", "empty node name"],
     ["self-arrow", "digraph {\n a -> a\n}", GraphError, "2:4", "self-arrow a -> a"],
     ["self-arrow through subgraphs", "digraph { {a b} -> {b c} }", GraphError, "1:17", "self-arrow b -> b"],
   ];
