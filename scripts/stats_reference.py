@@ -142,7 +142,8 @@ def topic_gamma():
                 P = 1 - Q  # 40 digits leave P to 1e-25 absolute; used only where P is not tiny
                 if P < mp.mpf(10) ** -20:
                     raise
-            rows.append({"a": a, "x": x, "P": float(P), "Q": float(Q), "log_Q": float(mp.log(Q))})
+            log_q = mp.log1p(-P) if Q > 0.5 else mp.log(Q)  # log1p keeps digits when Q is near 1
+            rows.append({"a": a, "x": x, "P": float(P), "Q": float(Q), "log_Q": float(log_q)})
     return {"source": "mpmath.gammainc(regularized=True), 40 digits, scripts/stats_reference.py", "rows": rows}
 
 

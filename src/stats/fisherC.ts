@@ -7,7 +7,7 @@
  * Modeling 7(2):206–218) applies it to the independence claims of a basis set of a directed
  * acyclic graph: a small p says the data contradict the graph as a whole.
  */
-import { chiSquareUpper, logChiSquareUpper } from "./pvalues.js";
+import { logChiSquareUpper, regularizedGammaQ } from "./pvalues.js";
 
 export interface FisherCResult {
   /** C = −2 Σ ln p_i. */
@@ -39,7 +39,8 @@ export function fisherC(logPs: readonly number[]): FisherCResult {
   const statistic = -2 * sum;
   const df = 2 * logPs.length;
   const log_p = logChiSquareUpper(statistic, df);
-  const p0 = chiSquareUpper(statistic, df);
+  // regularizedGammaQ rather than chiSquareUpper: accurate for the large df of many claims
+  const p0 = regularizedGammaQ(df / 2, statistic / 2);
   const p = p0 > 1e-280 ? p0 : Math.max(Math.exp(log_p), Number.MIN_VALUE);
   return { statistic: statistic === 0 ? 0 : statistic, df, p, log_p };
 }

@@ -147,7 +147,7 @@ export function logRegularizedGammaQ(a: number, x: number): number {
   checkGammaArgs(a, x);
   if (x <= 0) return 0;
   if (x === Infinity) return -Infinity;
-  if (x < a + 1) return Math.log1p(-Math.exp(logGammaSeriesP(a, x)));
+  if (x < a + 1) return Math.log1p(-Math.exp(logGammaSeriesP(a, x))) + 0; // + 0 turns −0 into 0
   return logGammaPrefactor(a, x) + Math.log(upperGammaFraction(a, x));
 }
 
@@ -242,7 +242,7 @@ export function logStudentTTwoSided(t: number, df: number): number {
   const b = 0.5;
   const t2 = at * at;
   const p = t2 === Infinity ? 0 : betainc(df / (df + t2), a, b, true, false);
-  if (p > 0.5) return Math.log1p(-betainc(df / (df + t2), a, b, true, true));
+  if (p > 0.5) return Math.log1p(-betainc(df / (df + t2), a, b, true, true)) + 0; // + 0 turns −0 into 0
   if (p > LOG_SPACE_BELOW) return Math.log(p);
   // ln x = −ln(1 + t²/df), ln(1 − x) = −ln(1 + df/t²), written to survive t² overflowing.
   const logRatio = 2 * Math.log(at) - Math.log(df); // ln(t²/df)
