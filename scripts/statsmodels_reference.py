@@ -62,7 +62,7 @@ def regression():
     with open(os.path.join(OUT, "regression-data.csv"), "w") as f:
         f.write("x1,x2,x3,yb,ym,yc\n")
         for i in range(n):
-            f.write(f"{x1[i]!r},{x2[i]},{x3[i]},{yb[i]},{ym[i]},{yc[i]!r}\n")
+            f.write(f"{float(x1[i])!r},{int(x2[i])},{int(x3[i])},{int(yb[i])},{int(ym[i])},{float(yc[i])!r}\n")
 
     X_full = np.column_stack([np.ones(n), x1, x2, d31, d32])
     X_null = np.column_stack([np.ones(n), x2, d31, d32])  # without x1

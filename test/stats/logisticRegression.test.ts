@@ -1,0 +1,98 @@
+import { readFileSync } from "node:fs";
+import { describe, expect, it } from "vitest";
+import { logisticRegression } from "../../src/stats/logisticRegression.js";
+
+// Seeded dataset and statsmodels fits written by scripts/statsmodels_reference.py (committed fixtures)
+const dir = new URL("../fixtures/statsmodels/", import.meta.url);
+const ref = JSON.parse(readFileSync(new URL("regression-ref.json", dir), "utf8"));
+const lines = readFileSync(new URL("regression-data.csv", dir), "utf8").trim().split("\n").slice(1);
+const data = lines.map((l) => l.split(",").map(Number));
+const m = data.length;
+function design(withX1: boolean): { X: Float64Array; p: number } {
+  const p = withX1 ? 5 : 4;
+  const X = new Float64Array(m * p);
+  data.forEach(([x1, x2, x3], i) => {
+    const row = withX1 ? [1, x1!, x2!, x3 === 1 ? 1 : 0, x3 === 2 ? 1 : 0] : [1, x2!, x3 === 1 ? 1 : 0, x3 === 2 ? 1 : 0];
+    X.set(row, i * p);
+  });
+  return { X, p };
+}
+const yb = data.map((r) => r[3]!);
+
+function expectRelative(actual: ArrayLike<number>, expected: readonly number[], rel: number): void {
+  expect(actual.length).toBe(expected.length);
+  expected.forEach((e, j) => expect(Math.abs(actual[j]! - e)).toBeLessThanOrEqual(rel * Math.max(Math.abs(e), 1e-3)));
+}
+
+describe("logisticRegression", () => {
+  it("logisticRegression matches statsmodels Logit coefficients (1e-6 relative) and log-likelihood (1e-8)", () => {
+    const { X, p } = design(true);
+    const f = logisticRegression(X, m, p, yb);
+    expect(f.status).toBe("converged");
+    expect(f.separation).toBe("none");
+    expectRelative(f.coef, ref.logit.params, 1e-6); // statsmodels Logit.fit(tol=1e-12)
+    expect(Math.abs(f.logLik - ref.logit.llf)).toBeLessThan(1e-8); // statsmodels Logit llf
+    const f0 = logisticRegression(design(false).X, m, 4, yb);
+    expect(Math.abs(f0.logLik - ref.logit.llf_null_without_x1)).toBeLessThan(1e-8);
+    expect(2 * (f.logLik - f0.logLik)).toBeCloseTo(ref.logit.llr, 7);
+  });
+
+  it("logisticRegression on grouped rows with counts as weights equals the row-level fit (statsmodels GLM Binomial)", () => {
+    // group identical (x2, x3, y) rows
+    const counts = new Map<string, number>();
+    for (const r of data) {
+      const k = `${r[1]},${r[2]},${r[3]}`;
+      counts.set(k, (counts.get(k) ?? 0) + 1);
+    }
+    const keys = [...counts.keys()];
+    const X = new Float64Array(keys.length * 4);
+    const y = new Float64Array(keys.length);
+    const w = new Float64Array(keys.length);
+    keys.forEach((k, i) => {
+      const [x2, x3, yy] = k.split(",").map(Number);
+      X.set([1, x2!, x3 === 1 ? 1 : 0, x3 === 2 ? 1 : 0], i * 4);
+      y[i] = yy!;
+      w[i] = counts.get(k)!;
+    });
+    const f = logisticRegression(X, keys.length, 4, y, { weights: w });
+    expect(keys.length).toBeLessThanOrEqual(12);
+    expectRelative(f.coef, ref.logit_categorical.params, 1e-6); // statsmodels GLM(Binomial).fit(tol=1e-12)
+    expect(Math.abs(f.logLik - ref.logit_categorical.llf)).toBeLessThan(1e-8);
+  });
+
+  it("logisticRegression reports complete separation instead of diverging to NaN", () => {
+    const X = new Float64Array([1, -2, 1, -1, 1, 1, 1, 2]);
+    const f = logisticRegression(X, 4, 2, [0, 0, 1, 1]);
+    expect(f.separation).toBe("complete");
+    expect(f.status).not.toBe("converged");
+    expect(Number.isFinite(f.logLik)).toBe(true);
+    expect(f.logLik).toBeGreaterThan(-1e-6); // supremum of the likelihood is 1 (ℓ → 0)
+    expect([...f.coef].every(Number.isFinite)).toBe(true);
+  });
+
+  it("logisticRegression reports quasi-complete separation when one level has a single outcome", () => {
+    // level z = 1 has only y = 1; level z = 0 has both outcomes (Albert & Anderson 1984 quasi-complete case)
+    const z = [0, 0, 0, 0, 0, 0, 1, 1, 1];
+    const y = [0, 1, 0, 1, 1, 0, 1, 1, 1];
+    const X = new Float64Array(z.flatMap((v) => [1, v]));
+    const f = logisticRegression(X, 9, 2, y);
+    expect(f.separation).toBe("quasi-complete");
+    expect(f.separatedRows).toBe(3);
+    // ℓ tends to that of the saturated fit on z = 0 rows: 6·ln(1/2)
+    expect(f.logLik).toBeCloseTo(6 * Math.log(0.5), 6);
+  });
+
+  it("logisticRegression with an intercept only gives logit of the mean (example)", () => {
+    const f = logisticRegression(new Float64Array([1, 1, 1, 1]), 4, 1, [1, 0, 0, 0]);
+    expect(f.coef[0]).toBeCloseTo(Math.log(1 / 3), 10); // logit(1/4) (common practice)
+    expect(f.logLik).toBeCloseTo(Math.log(0.25) + 3 * Math.log(0.75), 10);
+  });
+
+  it("logisticRegression flags a singular design and rejects bad input", () => {
+    const X = new Float64Array([1, 2, 1, 2, 1, 2, 1, 2]); // second column = 2 × intercept
+    expect(logisticRegression(X, 4, 2, [0, 1, 0, 1]).status).toBe("singular");
+    expect(() => logisticRegression(X, 4, 2, [0, 2, 0, 1])).toThrow(/0 or 1/);
+    expect(() => logisticRegression(X, 4, 2, [0, 1, 0])).toThrow(RangeError);
+    expect(() => logisticRegression(X, 4, 2, [0, 1, 0, 1], { weights: [1, -1, 1, 1] })).toThrow(/non-negative/);
+  });
+});

@@ -1,0 +1,62 @@
+import { readFileSync } from "node:fs";
+import { describe, expect, it } from "vitest";
+import { logisticRegression } from "../../src/stats/logisticRegression.js";
+import { multinomialLogit } from "../../src/stats/multinomialLogit.js";
+
+// Seeded dataset and statsmodels fits written by scripts/statsmodels_reference.py (committed fixtures)
+const dir = new URL("../fixtures/statsmodels/", import.meta.url);
+const ref = JSON.parse(readFileSync(new URL("regression-ref.json", dir), "utf8"));
+const data = readFileSync(new URL("regression-data.csv", dir), "utf8").trim().split("\n").slice(1).map((l) => l.split(",").map(Number));
+const m = data.length;
+function design(withX1: boolean): { X: Float64Array; p: number } {
+  const p = withX1 ? 5 : 4;
+  const X = new Float64Array(m * p);
+  data.forEach(([x1, x2, x3], i) => X.set(withX1 ? [1, x1!, x2!, x3 === 1 ? 1 : 0, x3 === 2 ? 1 : 0] : [1, x2!, x3 === 1 ? 1 : 0, x3 === 2 ? 1 : 0], i * p));
+  return { X, p };
+}
+const ym = data.map((r) => r[4]!);
+
+describe("multinomialLogit", () => {
+  it("multinomialLogit matches statsmodels MNLogit coefficients (1e-6 relative) and log-likelihood (1e-8)", () => {
+    const { X, p } = design(true);
+    const f = multinomialLogit(X, m, p, ym, 3);
+    expect(f.status).toBe("converged");
+    const expected = (ref.mnlogit.params as number[][]).flat(); // statsmodels MNLogit params, category by category
+    expected.forEach((e, j) => expect(Math.abs(f.coef[j]! - e)).toBeLessThanOrEqual(1e-6 * Math.max(Math.abs(e), 1e-3)));
+    expect(Math.abs(f.logLik - ref.mnlogit.llf)).toBeLessThan(1e-8);
+    const f0 = multinomialLogit(design(false).X, m, 4, ym, 3);
+    expect(Math.abs(f0.logLik - ref.mnlogit.llf_null_without_x1)).toBeLessThan(1e-8);
+  });
+
+  it("multinomialLogit with two categories equals logistic regression (theorem: K = 2 is the logit model)", () => {
+    const { X, p } = design(true);
+    const yb = data.map((r) => r[3]!);
+    const a = multinomialLogit(X, m, p, yb, 2);
+    const b = logisticRegression(X, m, p, yb);
+    for (let j = 0; j < p; j++) expect(a.coef[j]).toBeCloseTo(b.coef[j]!, 8);
+    expect(a.logLik).toBeCloseTo(b.logLik, 9);
+  });
+
+  it("multinomialLogit with an intercept only gives log ratios of category shares (example)", () => {
+    const f = multinomialLogit(new Float64Array([1, 1, 1, 1]), 4, 1, [0, 1, 2, 2], 3);
+    expect(f.coef[0]).toBeCloseTo(0, 9);
+    expect(f.coef[1]).toBeCloseTo(Math.log(2), 9); // ln(2/1) (common practice)
+  });
+
+  it("multinomialLogit reports complete separation and weighted rows equal repeated rows", () => {
+    const X = new Float64Array([1, -2, 1, -1, 1, 1, 1, 2, 1, 4, 1, 5]);
+    const f = multinomialLogit(X, 6, 2, [0, 0, 1, 1, 2, 2], 3);
+    expect(f.separation).toBe("complete");
+    expect(Number.isFinite(f.logLik)).toBe(true);
+    const Xw = new Float64Array([1, 0, 1, 1, 1, 0, 1, 1, 1, 0, 1, 1]);
+    const y = [0, 0, 1, 1, 2, 2];
+    const w = multinomialLogit(Xw, 6, 2, y, 3, { weights: [2, 1, 1, 3, 1, 1] });
+    const Xr: number[] = [];
+    const yr: number[] = [];
+    [2, 1, 1, 3, 1, 1].forEach((c, i) => { for (let t = 0; t < c; t++) { Xr.push(Xw[2 * i]!, Xw[2 * i + 1]!); yr.push(y[i]!); } });
+    const r = multinomialLogit(new Float64Array(Xr), yr.length, 2, yr, 3);
+    expect(w.logLik).toBeCloseTo(r.logLik, 10);
+    for (let j = 0; j < 4; j++) expect(w.coef[j]).toBeCloseTo(r.coef[j]!, 8);
+    expect(() => multinomialLogit(Xw, 6, 2, [0, 0, 1, 1, 2, 3], 3)).toThrow(/0\.\.2/);
+  });
+});
