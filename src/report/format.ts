@@ -8,7 +8,7 @@
  * Negative zero after rounding is written "0.00", never "-0.00".
  * Non-finite numbers are written "n/a" so that nothing prints as "NaN".
  */
-import type { Claim } from "../audit/types.js";
+import type { Claim, TestName } from "../audit/types.js";
 
 /** Text written in place of a number that is missing or not finite. */
 export const NOT_AVAILABLE = "n/a";
@@ -138,4 +138,33 @@ export function claimLabel(claim: Pick<Claim, "x" | "y" | "given">, ascii = fals
   const sep = ascii ? " indep " : " ⫫ ";
   const set = claim.given.length === 0 ? (ascii ? "{}" : "∅") : claim.given.join(", ");
   return `${claim.x}${sep}${claim.y} | ${set}`;
+}
+
+/**
+ * Symbol for a claim's effect in short labels: "r" for a partial Pearson correlation,
+ * "ρ" (ASCII "rho") for a partial Spearman correlation, "e" for the likelihood-ratio effect
+ * sign·√(1 − exp(−G²/n)) of the categorical and regression tests. Cost: O(1).
+ *
+ * @example effectSymbol("pearson-partial") // "r"
+ */
+export function effectSymbol(test: TestName, ascii = false): string {
+  switch (test) {
+    case "pearson-partial":
+      return "r";
+    case "spearman-partial":
+      return ascii ? "rho" : "ρ";
+    case "stratified-chisq":
+    case "regression-lr":
+      return "e";
+  }
+}
+
+/**
+ * Replace hyphen-minus signs of negative numbers by the typographic minus sign (U+2212), for
+ * HTML and SVG output where the text is read rather than copied into code. Cost: O(length).
+ *
+ * @example typographicMinus("-0.11 [-0.17, -0.05]") // "−0.11 [−0.17, −0.05]"
+ */
+export function typographicMinus(text: string): string {
+  return text.replace(/(^|[\s(\[=,])-(?=\d)/g, "$1\u2212");
 }

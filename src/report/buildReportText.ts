@@ -1,0 +1,385 @@
+/**
+ * The words and numbers of a report, shared by the HTML and Markdown renderers: summary facts,
+ * the ranked claim table, the untestable list, the data summary, a methods paragraph with the
+ * numbers filled in, the references actually relied on, cautions, and reproducibility facts.
+ * Everything here is plain Unicode text, not escaped: each renderer escapes for its format.
+ *
+ * Only methods that the result actually used are described and cited: a report of partial
+ * correlations does not cite categorical methods, and vice versa.
+ */
+import type { AuditResult, TestName, TestedClaim, VariableSummary } from "../audit/types.js";
+import type { ReportContext } from "./ReportContext.js";
+import {
+  claimLabel,
+  effectSymbol,
+  formatCount,
+  formatEffectWithCI,
+  formatP,
+  formatPInline,
+  formatStatistic,
+} from "./format.js";
+
+/** A reference list entry, keyed for inclusion. */
+type RefKey =
+  | "pearl2009"
+  | "shipley2000"
+  | "tian1998"
+  | "fisher1925"
+  | "holm1979"
+  | "bh1995"
+  | "fisher1921"
+  | "fisher1924"
+  | "kendall1990"
+  | "wilks1938"
+  | "agresti2013"
+  | "mh1959"
+  | "rbg1986"
+  | "coxsnell1989"
+  | "magee1990"
+  | "steiger1990"
+  | "verma1990";
+
+/** Full references, in the journal style of an epidemiology methods section. */
+const REFERENCES: Record<RefKey, string> = {
+  pearl2009: "Pearl J. Causality: Models, Reasoning, and Inference. 2nd ed. Cambridge: Cambridge University Press; 2009.",
+  shipley2000: "Shipley B. A new inferential test for path models based on directed acyclic graphs. Structural Equation Modeling. 2000;7(2):206–218.",
+  tian1998: "Tian J, Paz A, Pearl J. Finding minimal d-separators. Technical Report R-254. Los Angeles: University of California, Cognitive Systems Laboratory; 1998.",
+  fisher1925: "Fisher RA. Statistical Methods for Research Workers. Edinburgh: Oliver and Boyd; 1925.",
+  holm1979: "Holm S. A simple sequentially rejective multiple test procedure. Scandinavian Journal of Statistics. 1979;6(2):65–70.",
+  bh1995: "Benjamini Y, Hochberg Y. Controlling the false discovery rate: a practical and powerful approach to multiple testing. Journal of the Royal Statistical Society, Series B. 1995;57(1):289–300.",
+  fisher1921: "Fisher RA. On the “probable error” of a coefficient of correlation deduced from a small sample. Metron. 1921;1:3–32.",
+  fisher1924: "Fisher RA. The distribution of the partial correlation coefficient. Metron. 1924;3:329–332.",
+  kendall1990: "Kendall MG, Gibbons JD. Rank Correlation Methods. 5th ed. London: Edward Arnold; 1990.",
+  wilks1938: "Wilks SS. The large-sample distribution of the likelihood ratio for testing composite hypotheses. Annals of Mathematical Statistics. 1938;9(1):60–62.",
+  agresti2013: "Agresti A. Categorical Data Analysis. 3rd ed. Hoboken (NJ): Wiley; 2013.",
+  mh1959: "Mantel N, Haenszel W. Statistical aspects of the analysis of data from retrospective studies of disease. Journal of the National Cancer Institute. 1959;22(4):719–748.",
+  rbg1986: "Robins J, Breslow N, Greenland S. Estimators of the Mantel–Haenszel variance consistent in both sparse data and large-strata limiting models. Biometrics. 1986;42(2):311–323.",
+  coxsnell1989: "Cox DR, Snell EJ. Analysis of Binary Data. 2nd ed. London: Chapman and Hall; 1989.",
+  magee1990: "Magee L. R² measures based on Wald and likelihood ratio joint significance tests. The American Statistician. 1990;44(3):250–253.",
+  steiger1990: "Steiger JH. Structural model evaluation and modification: an interval estimation approach. Multivariate Behavioral Research. 1990;25(2):173–180.",
+  verma1990: "Verma T, Pearl J. Equivalence and synthesis of causal models. In: Proceedings of the Sixth Conference on Uncertainty in Artificial Intelligence. 1990:220–227.",
+};
+
+/** How each test is described in the methods, which variable types it served, and what it cites. */
+const TEST_TEXT: Record<TestName, { name: string; text: string; refs: RefKey[] }> = {
+  "pearson-partial": {
+    name: "Pearson partial r",
+    text: "the partial Pearson correlation r, tested with the t statistic on n − 2 − |Z| degrees of freedom (|Z| the size of the conditioning set), with a 95% confidence interval from Fisher's z transformation (Fisher 1921; Fisher 1924)",
+    refs: ["fisher1921", "fisher1924"],
+  },
+  "spearman-partial": {
+    name: "Spearman partial ρ",
+    text: "the partial Spearman correlation ρ, the partial correlation of mid-ranks (tied values share their mean rank), tested and given a confidence interval as the partial Pearson correlation (Kendall & Gibbons 1990; Fisher 1921)",
+    refs: ["kendall1990", "fisher1921"],
+  },
+  "stratified-chisq": {
+    name: "stratified G²",
+    text: "the likelihood-ratio G² test of independence within each stratum of the conditioning set, summed over strata (Wilks 1938; Agresti 2013)",
+    refs: ["wilks1938", "agresti2013"],
+  },
+  "regression-lr": {
+    name: "regression LR",
+    text: "a likelihood-ratio test comparing regression models of one variable (linear, logistic or multinomial logistic according to its type) with and without the other, both adjusted for the conditioning set (Wilks 1938; Agresti 2013)",
+    refs: ["wilks1938", "agresti2013"],
+  },
+};
+
+const TEST_ORDER: TestName[] = ["pearson-partial", "spearman-partial", "stratified-chisq", "regression-lr"];
+
+export interface ClaimRow {
+  rank: string;
+  claim: string;
+  n: string;
+  test: string;
+  effect: string;
+  p: string;
+  pAdjusted: string;
+  verdict: "contradicted" | "consistent";
+  arrows: string;
+}
+
+export interface VariableRow {
+  name: string;
+  type: string;
+  decided: string;
+  missing: string;
+  levels: string;
+}
+
+export interface ReportText {
+  title: string;
+  /** Present for demo runs: a plain statement that the data are invented. */
+  demoNotice?: string;
+  /** Key facts for the summary, label → value. */
+  summary: { label: string; value: string }[];
+  /** One plain sentence on what the global test means. */
+  globalSentence: string;
+  claimRows: ClaimRow[];
+  untestable: { claim: string; reason: string }[];
+  variables: VariableRow[];
+  /** Paragraphs of the methods text, ready to paste. */
+  methods: string[];
+  references: string[];
+  cautions: string[];
+  warnings: string[];
+  reproducibility: { label: string; value: string; code?: boolean }[];
+  /** Footnote explaining effect symbols used in the table. */
+  effectNote: string;
+}
+
+/** "a", "a and b", "a, b and c". */
+function listJoin(items: string[]): string {
+  if (items.length <= 1) return items.join("");
+  return `${items.slice(0, -1).join(", ")} and ${items[items.length - 1]}`;
+}
+
+function plural(n: number, one: string, many: string): string {
+  return `${formatCount(n)} ${n === 1 ? one : many}`;
+}
+
+function percent(part: number, whole: number): string {
+  if (!(whole > 0)) return "";
+  const v = (100 * part) / whole;
+  return v > 0 && v < 0.1 ? "< 0.1%" : `${v.toFixed(1)}%`;
+}
+
+/** Sentence case: first letter upper. */
+function cap(s: string): string {
+  return s.charAt(0).toUpperCase() + s.slice(1);
+}
+
+/**
+ * One plain sentence on what the global (Fisher's C) test means for this result.
+ * Cost: O(1).
+ *
+ * @example globalSentence(result) // "Taken together, the tests ... contradict ..."
+ */
+export function globalSentence(result: AuditResult): string {
+  const g = result.global;
+  if (g.k === 0) return "No claim could be tested, so the data give no verdict on the graph as a whole.";
+  if (!Number.isFinite(g.p)) return "The global test could not be computed, so the data give no overall verdict on the graph.";
+  if (g.p < result.settings.alpha) {
+    return `Taken together, the ${plural(g.k, "test", "tests")} depart from what the graph implies more than chance would explain (${formatPInline(g.p)}): the data contradict at least one independence the graph implies.`;
+  }
+  return `Taken together, the ${plural(g.k, "test", "tests")} show no evidence against the graph (${formatPInline(g.p)}); this does not show that the graph is right.`;
+}
+
+function typeOf(result: AuditResult): Map<string, VariableSummary> {
+  return new Map(result.variables.map((v) => [v.name, v]));
+}
+
+function methodsText(result: AuditResult, refs: Set<RefKey>): string[] {
+  const s = result.settings;
+  const g = result.graph;
+  const claims = result.claims;
+  const k = claims.length;
+  const types = typeOf(result);
+  const paras: string[] = [];
+
+  // 1. claims
+  refs.add("pearl2009");
+  let derivation: string;
+  if (s.sets === "union-parents") {
+    refs.add("shipley2000");
+    derivation =
+      "For each pair of measured variables not joined by an arrow, the implied independence was tested conditional on the union of the two variables' parents (Shipley's basis set; Shipley 2000)";
+  } else {
+    refs.add("tian1998");
+    derivation =
+      s.sets === "minimal"
+        ? "For each pair of measured variables not joined by an arrow, the implied independence was tested conditional on a minimal set of measured variables that d-separates the pair (Tian, Paz & Pearl 1998)"
+        : "For each pair of measured variables not joined by an arrow, the implied independence was tested conditional on every minimal set of measured variables that d-separates the pair (Tian, Paz & Pearl 1998)";
+  }
+  paras.push(
+    `The causal graph (${plural(g.nodes.length, "node", "nodes")}: ${formatCount(g.measured.length)} measured, ${formatCount(g.unmeasured.length)} unmeasured; ${plural(g.arrows.length, "arrow", "arrows")}; ${plural(g.bidirected.length, "bidirected edge", "bidirected edges")} for unmeasured common causes) implies conditional independencies among the measured variables through d-separation (Pearl 2009). ` +
+      `${derivation}. ${cap(plural(k, "claim was", "claims were"))} tested; ${plural(result.untestable.length, "missing arrow", "missing arrows")} could not be tested and ${result.untestable.length === 1 ? "is" : "are"} listed with the reason.`,
+  );
+
+  // 2. tests actually used
+  const used = TEST_ORDER.filter((t) => claims.some((c) => c.test === t));
+  if (used.length > 0) {
+    const parts = used.map((t) => {
+      const cs = claims.filter((c) => c.test === t);
+      const vt = [...new Set(cs.flatMap((c) => [types.get(c.x)?.type, types.get(c.y)?.type]).filter((v): v is NonNullable<typeof v> => v !== undefined))].sort();
+      TEST_TEXT[t].refs.forEach((r) => refs.add(r));
+      const who = `${cap(plural(cs.length, "claim", "claims"))}${vt.length > 0 ? ` involving ${listJoin(vt)} variables` : ""}`;
+      return `${who} ${cs.length === 1 ? "was" : "were"} tested with ${TEST_TEXT[t].text}.`;
+    });
+    let text = `Each claim was tested with a method suited to its variables' types. ${parts.join(" ")}`;
+    const lr = claims.some((c) => c.test === "stratified-chisq" || c.test === "regression-lr");
+    if (lr) {
+      refs.add("coxsnell1989");
+      refs.add("magee1990");
+      refs.add("steiger1990");
+      text +=
+        " Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−G²/n)) (Cox & Snell 1989; Magee 1990), with a 95% interval from the noncentral chi-square distribution (Steiger 1990).";
+    }
+    const mh = claims.some((c) => c.test === "stratified-chisq" && c.details !== undefined && Object.keys(c.details).some((key) => /mantel|^mh|odds/i.test(key)));
+    if (mh) {
+      refs.add("mh1959");
+      refs.add("rbg1986");
+      text +=
+        " For two binary variables the Mantel–Haenszel common odds ratio (Mantel & Haenszel 1959) is also given, with the Robins–Breslow–Greenland variance of its logarithm (Robins, Breslow & Greenland 1986).";
+    }
+    const perm = claims.filter((c) => c.p_method === "permutation");
+    if (perm.length > 0) {
+      const B = s.permutations ?? perm[0]?.B;
+      text += ` The p-values of ${plural(perm.length, "claim", "claims")} were estimated by Monte Carlo permutation${B !== undefined ? ` (B = ${formatCount(B)} permutations` : " ("}${B !== undefined ? ", " : ""}random seed ${s.seed}).`;
+    }
+    paras.push(text);
+  }
+
+  // 3. missing data and multiple testing
+  const ns = claims.map((c) => c.n).filter(Number.isFinite);
+  const rows = result.data.rows;
+  let missing: string;
+  if (s.listwise) {
+    missing = `Rows with a missing value in any analysed variable were removed before testing (listwise deletion): ${formatCount(result.data.rows_used)} of ${formatCount(rows)} rows were used.`;
+  } else if (ns.length > 0) {
+    const lo = Math.min(...ns);
+    const hi = Math.max(...ns);
+    missing = `Each claim used the rows complete for its own variables (complete cases per claim): n = ${lo === hi ? formatCount(lo) : `${formatCount(lo)} to ${formatCount(hi)}`} of ${formatCount(rows)} rows.`;
+  } else {
+    missing = `Each claim would use the rows complete for its own variables (complete cases per claim), out of ${formatCount(rows)} rows.`;
+  }
+  let adjust: string;
+  if (s.adjust === "holm") {
+    refs.add("holm1979");
+    adjust = `P-values were adjusted for the ${plural(k, "test", "tests")} with Holm's step-down method, controlling the family-wise error rate (Holm 1979).`;
+  } else if (s.adjust === "bh") {
+    refs.add("bh1995");
+    adjust = `P-values were adjusted for the ${plural(k, "test", "tests")} with the Benjamini–Hochberg step-up method, controlling the false discovery rate (Benjamini & Hochberg 1995).`;
+  } else {
+    adjust = "P-values were not adjusted for multiple testing.";
+  }
+  const rule =
+    s.min_effect > 0
+      ? `A claim was called contradicted when its ${s.adjust === "none" ? "" : "adjusted "}p-value was below α = ${s.alpha} and its absolute effect was at least ${s.min_effect}.`
+      : `A claim was called contradicted when its ${s.adjust === "none" ? "" : "adjusted "}p-value was below α = ${s.alpha}.`;
+  paras.push(`${missing} ${adjust} ${rule}`);
+
+  // 4. results and the global test
+  const gl = result.global;
+  const contradicted = claims.filter((c) => c.verdict === "contradicted");
+  const chance = Number.isFinite(gl.expected_by_chance) ? String(Number(gl.expected_by_chance.toFixed(2))) : "n/a";
+  let res =
+    k === 0
+      ? "No claim could be tested."
+      : `${contradicted.length === 0 ? "None" : formatCount(contradicted.length)} of the ${plural(k, "claim", "claims")} ${contradicted.length === 1 || contradicted.length === 0 ? "was" : "were"} contradicted by the data (${chance} expected by chance alone at α = ${s.alpha} before adjustment if every claim held).`;
+  if (contradicted.length > 0) {
+    const top = contradicted
+      .slice(0, 3)
+      .map((c) => `${claimLabel(c)} (${effectSymbol(c.test)} = ${formatEffectWithCI(c.effect, c.ci)}, ${s.adjust === "none" ? "" : "adjusted "}${formatPInline(c.p_adjusted)})`);
+    res += ` The strongest ${contradicted.length === 1 ? "contradiction was" : "contradictions were"} ${listJoin(top)}.`;
+  }
+  if (k > 0) {
+    refs.add("fisher1925");
+    refs.add("shipley2000");
+    res += ` Combining the ${plural(k, "p-value", "p-values")} with Fisher's method (Fisher 1925), as proposed for graph tests by Shipley (2000), gave C = ${formatStatistic(gl.statistic)} on ${gl.df} degrees of freedom, ${formatPInline(gl.p)}.`;
+    if (gl.note) res += ` ${cap(gl.note)}.`;
+  }
+  paras.push(res);
+  return paras;
+}
+
+/**
+ * Build the text content of a report from an audit result and its context: summary, table rows,
+ * untestable list, data summary, methods paragraphs (numbers filled in, only the methods used),
+ * the references cited, cautions and reproducibility facts. Plain text, not escaped.
+ * Cost: O(k + u + v) for k claims, u untestable claims and v variables.
+ *
+ * @param result the audit result
+ * @param context command, date, input hashes, tool version, demo flag
+ * @example buildReportText(result, context).claimRows.length === result.claims.length
+ */
+export function buildReportText(result: AuditResult, context: ReportContext): ReportText {
+  const s = result.settings;
+  const claims = [...result.claims].sort((a, b) => a.rank - b.rank);
+  const contradicted = claims.filter((c) => c.verdict === "contradicted").length;
+  const refs = new Set<RefKey>();
+  const methods = methodsText(result, refs);
+
+  const dataName = result.data.file ?? context.inputs.find((i) => /\.(csv|tsv|txt|parquet)$/i.test(i.path))?.path;
+  const summary = [
+    { label: "Data read", value: `${dataName !== undefined ? `${dataName}: ` : ""}${plural(result.data.rows, "row", "rows")}, ${plural(result.variables.length, "variable", "variables")}` },
+    { label: "Claims tested", value: formatCount(claims.length) },
+    { label: "Contradicted", value: formatCount(contradicted) },
+    { label: "Consistent", value: formatCount(claims.length - contradicted) },
+    { label: "Untestable", value: formatCount(result.untestable.length) },
+    {
+      label: "Global test",
+      value: claims.length > 0 ? `Fisher's C = ${formatStatistic(result.global.statistic)}, df = ${result.global.df}, ${formatPInline(result.global.p)}` : "not computed (no claims tested)",
+    },
+  ];
+
+  const claimRows: ClaimRow[] = claims.map((c: TestedClaim) => ({
+    rank: String(c.rank),
+    claim: claimLabel(c),
+    n: formatCount(c.n),
+    test: TEST_TEXT[c.test]?.name ?? c.test,
+    effect: `${effectSymbol(c.test)} = ${formatEffectWithCI(c.effect, c.ci)}`,
+    p: formatP(c.p),
+    pAdjusted: formatP(c.p_adjusted),
+    verdict: c.verdict,
+    arrows: c.verdict === "contradicted" ? c.arrows.join("; ") : "",
+  }));
+
+  const rows = result.data.rows;
+  const variables: VariableRow[] = result.variables.map((v) => ({
+    name: v.name,
+    type: v.type,
+    decided: v.type_source === "declared" ? "declared by the user" : "inferred from the values",
+    missing: v.missing > 0 ? `${formatCount(v.missing)} (${percent(v.missing, rows)})` : "0",
+    levels: v.levels && v.type !== "continuous" ? v.levels.join(", ") : "",
+  }));
+
+  refs.add("verma1990");
+  const cautions = [
+    "Consistency with the data does not show that the graph is right: other graphs imply the same independencies (Markov-equivalent graphs; Verma & Pearl 1990), and the data cannot tell them apart.",
+    "A claim that is not contradicted may simply be untested for lack of power: read its confidence interval, not only its p-value. Untestable claims were not tested at all; they are not shown to hold.",
+    "Results depend on the assumed functional form (linear, monotone or categorical relations as tested), on measurement error, which can leave residual dependence after conditioning, and on how the rows were selected.",
+    "Changing the graph because the data contradicted it needs subject-matter justification: an arrow suggested by the data is a hypothesis to be checked, not a finding, and repeated data-driven changes invalidate the p-values.",
+  ];
+
+  const warnings = [
+    ...result.warnings,
+    ...claims.flatMap((c) => (c.warnings ?? []).map((w) => `#${c.rank} ${claimLabel(c)}: ${w}`)),
+  ];
+
+  const reproducibility: ReportText["reproducibility"] = [
+    { label: "Tool", value: `arrowaudit ${context.toolVersion}` },
+    { label: "Date", value: context.date },
+    { label: "Command", value: context.command, code: true },
+    ...context.inputs.map((i) => ({ label: `SHA-256 of ${i.path}`, value: i.sha256, code: true })),
+    { label: "Random seed", value: String(s.seed) },
+    {
+      label: "Settings",
+      value: `alpha ${s.alpha}; adjustment ${s.adjust}; method ${s.method}; sets ${s.sets}; minimum effect ${s.min_effect}; listwise ${s.listwise ? "yes" : "no"}; ranked by ${s.rank_by}${s.permutations !== undefined ? `; permutations ${s.permutations}` : ""}`,
+    },
+  ];
+
+  const symbols = [...new Set(claims.map((c) => c.test))].sort((a, b) => TEST_ORDER.indexOf(a) - TEST_ORDER.indexOf(b));
+  const effectNote = symbols
+    .map((t): string => (t === "pearson-partial" ? "r: partial Pearson correlation" : t === "spearman-partial" ? "ρ: partial Spearman correlation" : ""))
+    .concat(symbols.some((t) => t === "stratified-chisq" || t === "regression-lr") ? ["e: likelihood-ratio effect √(1 − exp(−G²/n)) on the correlation scale"] : [])
+    .filter((x) => x !== "")
+    .join("; ");
+
+  return {
+    title: "Graph–data consistency report",
+    demoNotice: context.demo
+      ? "Demonstration only: the data in this report are invented (simulated) and describe no real study or person."
+      : undefined,
+    summary,
+    globalSentence: globalSentence(result),
+    claimRows,
+    untestable: result.untestable.map((u) => ({ claim: u.given ? claimLabel({ x: u.x, y: u.y, given: u.given }) : `${u.x} – ${u.y}`, reason: u.reason })),
+    variables,
+    methods,
+    references: [...refs].map((r) => REFERENCES[r]).sort(),
+    cautions,
+    warnings,
+    reproducibility,
+    effectNote,
+  };
+}
