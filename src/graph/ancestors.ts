@@ -153,7 +153,7 @@ export function ancestors(graph: Graph, nodes: readonly string[]): string[] {
 /**
  * Moral graph of the ancestral set An(seeds), in local numbering.
  * `nodes[k]` is the expanded-graph index of local node k (increasing), `local[v]` the reverse
- * (−1 outside the set), `adj[k]` the neighbours of k (deduplicated, increasing).
+ * (−1 outside the set), `adj[k]` the neighbours of k (deduplicated, in a deterministic order).
  */
 export interface MoralGraph {
   readonly nodes: Int32Array;
@@ -175,23 +175,32 @@ export function moralAncestralGraph(e: ExpandedGraph, seeds: Iterable<number>): 
       list.push(v);
     }
   }
-  const sets: Array<Set<number>> = list.map(() => new Set<number>());
-  const join = (a: number, b: number) => {
-    sets[a]!.add(b);
-    sets[b]!.add(a);
-  };
-  for (const v of list) {
-    const lv = local[v]!;
-    const ps = e.parents[v]!; // parents of an ancestor are ancestors
-    for (let i = 0; i < ps.length; i++) {
-      const li = local[ps[i]!]!;
-      join(lv, li);
-      for (let j = i + 1; j < ps.length; j++) join(li, local[ps[j]!]!);
+  // Neighbours of v: its parents, its children inside the set, and the other parents of those
+  // children. `stamp` deduplicates without hashing.
+  const stamp = new Int32Array(list.length).fill(-1);
+  const adj: number[][] = [];
+  for (let lv = 0; lv < list.length; lv++) {
+    const v = list[lv]!;
+    const out: number[] = [];
+    stamp[lv] = lv;
+    for (const p of e.parents[v]!) {
+      const lp = local[p]!; // parents of an ancestor are ancestors
+      if (stamp[lp] !== lv) (stamp[lp] = lv), out.push(lp);
     }
+    for (const c of e.children[v]!) {
+      const lc = local[c]!;
+      if (lc < 0) continue;
+      if (stamp[lc] !== lv) (stamp[lc] = lv), out.push(lc);
+      for (const q of e.parents[c]!) {
+        const lq = local[q]!;
+        if (stamp[lq] !== lv) (stamp[lq] = lv), out.push(lq);
+      }
+    }
+    adj.push(out);
   }
   return {
     nodes: Int32Array.from(list),
     local,
-    adj: sets.map((s) => [...s].sort((a, b) => a - b)),
+    adj,
   };
 }

@@ -102,13 +102,16 @@ export function findMinSepLocal(s: SeparatorSearch): number[] | undefined {
 function minimumCutLocal(s: SeparatorSearch, source: number, sink: number): number[] {
   const n = s.m.nodes.length;
   const INF = 1 << 30;
+  let arcs = 2 * n;
+  for (const list of s.m.adj) arcs += 2 * list.length;
   const head = new Int32Array(2 * n).fill(-1);
-  const to: number[] = [];
-  const cap: number[] = [];
-  const next: number[] = [];
+  const to = new Int32Array(arcs);
+  const cap = new Int32Array(arcs);
+  const next = new Int32Array(arcs);
+  let used = 0;
   const arc = (a: number, b: number, c: number) => {
-    to.push(b), cap.push(c), next.push(head[a]!), (head[a] = to.length - 1);
-    to.push(a), cap.push(0), next.push(head[b]!), (head[b] = to.length - 1);
+    to[used] = b, cap[used] = c, next[used] = head[a]!, head[a] = used++;
+    to[used] = a, cap[used] = 0, next[used] = head[b]!, head[b] = used++;
   };
   // Node k becomes in = 2k -> out = 2k + 1.
   for (let k = 0; k < n; k++) arc(2 * k, 2 * k + 1, s.allowed[k] ? 1 : INF);
@@ -117,11 +120,13 @@ function minimumCutLocal(s: SeparatorSearch, source: number, sink: number): numb
   const snk = 2 * sink;
   const prevArc = new Int32Array(2 * n);
   const seen = new Uint8Array(2 * n);
+  const queue = new Int32Array(2 * n);
   const search = (): boolean => {
     seen.fill(0);
-    const queue = [src];
+    let qn = 0;
+    queue[qn++] = src;
     seen[src] = 1;
-    for (let qi = 0; qi < queue.length; qi++) {
+    for (let qi = 0; qi < qn; qi++) {
       const v = queue[qi]!;
       for (let a = head[v]!; a !== -1; a = next[a]!) {
         const w = to[a]!;
@@ -129,7 +134,7 @@ function minimumCutLocal(s: SeparatorSearch, source: number, sink: number): numb
           seen[w] = 1;
           prevArc[w] = a;
           if (w === snk) return true;
-          queue.push(w);
+          queue[qn++] = w;
         }
       }
     }
