@@ -135,6 +135,15 @@ describe("dSeparated on the textbook patterns (Pearl 2009, Causality, §1.2.3)",
   });
 });
 
+describe("doc examples", () => {
+  it("dSeparated and ancestors @example blocks run as written", () => {
+    const g1 = createGraph({ arrows: [["a", "b"], ["b", "c"]] });
+    expect(dSeparated(g1, ["a"], ["c"], ["b"])).toBe(true);
+    expect(dSeparated(g1, ["a"], ["c"], [])).toBe(false);
+    expect(ancestors(createGraph({ arrows: [["a", "b"], ["b", "c"], ["d", "c"]] }), ["b"])).toEqual(["a", "b"]);
+  });
+});
+
 describe("dSeparated edge cases and errors", () => {
   const chain = g([["a", "b"], ["b", "c"]]);
 

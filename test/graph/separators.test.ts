@@ -44,6 +44,10 @@ describe("findMinimalSeparator on worked examples", () => {
     expect(findMinimalSeparator(diamond, "b", "c", { restrict: all })).toEqual(["a"]);
   });
 
+  it("listMinimalSeparators @example runs as written", () => {
+    expect(listMinimalSeparators(diamond, "a", "d", { restrict: all })).toEqual({ sets: [["b", "c"]], truncated: false });
+  });
+
   it("findMinimalSeparator returns undefined when the only separating node is not allowed", () => {
     expect(findMinimalSeparator(diamond, "b", "c", { restrict: (n) => n !== "a" })).toBeUndefined();
     expect(findMinimalSeparator(diamond, "a", "d", { restrict: (n) => n !== "c" })).toBeUndefined();
