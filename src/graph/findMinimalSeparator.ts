@@ -17,9 +17,12 @@
  *    Lauritzen's criterion (ancestors.ts) the minimal separating sets are exactly the minimal
  *    x–y cuts made of allowed nodes in the moral graph of An({x, y}).
  * 3. A minimum such cut is a minimum vertex cut, found by a maximum flow with unit capacity on
- *    allowed nodes and unlimited capacity on all others (Acid & de Campos 1996, Proc. IPMU
- *    pp. 991–996; Tian, Paz & Pearl 1998). Among all minimum cuts, the one whose source side is
- *    smallest is unique (Ford & Fulkerson 1962, Flows in Networks, §I.5): this module returns the
+ *    allowed nodes and unlimited capacity on all others (Acid & de Campos 1996, Proc. 12th
+ *    Conference on Uncertainty in Artificial Intelligence, 3–10; Tian, Paz & Pearl 1998). Among all
+ *    minimum cuts, the one whose source side is smallest is unique — it is the set reachable from
+ *    the source in the residual network of any maximum flow (Ford & Fulkerson 1962, Flows in
+ *    Networks, Princeton University Press; Picard & Queyranne 1980, Mathematical Programming
+ *    Study 13:8–16): this module returns the
  *    minimum cut nearest to whichever of x and y comes first in topological order, so the answer
  *    does not depend on argument order or search order.
  */
@@ -86,7 +89,7 @@ function boundaryReached(m: MoralGraph, from: number, target: number, stopAt: Ui
 
 /**
  * A minimal allowed separating set by the linear-time FindMinSep of van der Zander, Liśkiewicz &
- * Textor (2019), Algorithm 3 with I = ∅, in local indices; `undefined` when none exists (Fact 1).
+ * Textor (2019) with no forced nodes (I = ∅), in local indices; `undefined` when none exists (Fact 1).
  */
 export function findMinSepLocal(s: SeparatorSearch): number[] | undefined {
   const z1 = s.allowed; // R ∩ An({x, y}) \ {x, y}
@@ -160,10 +163,11 @@ function minimumCutLocal(s: SeparatorSearch, source: number, sink: number): numb
  * arrow or a `<->`). The set is sorted by topological order; `[]` means x and y are separated
  * unconditionally.
  * Cost: O(V + E + Σ indeg²) to build the moral ancestral graph; then O(that) for `minimum: false`
- * (van der Zander et al. 2019, Algorithm 3) or O(k · that) for the minimum set of size k.
+ * (FindMinSep of van der Zander et al. 2019) or O(k · that) for the minimum set of size k.
  * Source: van der Zander, Liśkiewicz & Textor (2019), Artificial Intelligence 270:1–40;
  * Tian, Paz & Pearl (1998), Finding minimal d-separators, Technical Report R-254, UCLA;
- * Acid & de Campos (1996), Proc. IPMU, 991–996.
+ * Acid & de Campos (1996), An algorithm for finding minimum d-separating sets in belief networks,
+ * Proc. 12th Conference on Uncertainty in Artificial Intelligence, 3–10.
  * @throws UnknownNodeError when x or y is not a node of the graph
  * @throws UsageError when x and y are the same node
  * @example
