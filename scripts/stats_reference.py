@@ -35,7 +35,12 @@ Z975 = float(stats.norm.ppf(0.975))
 
 
 def residual_partial(data, i, j, given):
-    """Partial correlation of columns i, j given `given` by regressing both on [1, given]."""
+    """Partial correlation of columns i, j given `given` by regressing both on [1, given].
+
+    Columns are centred first: with the raw 1e6 offset column, lstsq on [1, big] loses about
+    1e-9 relative accuracy (checked against a 60-digit mpmath solution of the same problem).
+    """
+    data = data - data.mean(axis=0)
     n = data.shape[0]
     X = np.column_stack([np.ones(n)] + [data[:, g] for g in given])
     ri = data[:, i] - X @ np.linalg.lstsq(X, data[:, i], rcond=None)[0]
