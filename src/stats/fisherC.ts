@@ -27,7 +27,7 @@ export interface FisherCResult {
  * Sources: Fisher (1925), Statistical Methods for Research Workers, §21.1; Shipley (2000),
  * Structural Equation Modeling 7(2):206–218.
  * @throws {RangeError} when the list is empty or a log p-value is NaN or positive
- * @example fisherC([Math.log(0.05), Math.log(0.5)]) // { statistic ≈ 7.3778, df: 4, p ≈ 0.1171 }
+ * @example fisherC([Math.log(0.05), Math.log(0.5)]) // { statistic ≈ 7.3778, df: 4, p ≈ 0.11722 }
  */
 export function fisherC(logPs: readonly number[]): FisherCResult {
   if (logPs.length === 0) throw new RangeError("no p-values to combine; Fisher's C needs at least one test");
