@@ -1,0 +1,186 @@
+import { readFileSync } from "node:fs";
+import fc from "fast-check";
+import { describe, expect, it } from "vitest";
+import { UnknownNodeError } from "../../src/errors.js";
+import { buildPatternMoments } from "../../src/data/buildPatternMoments.js";
+import { createTable } from "../../src/data/createTable.js";
+import { readTable } from "../../src/data/readTable.js";
+import type { Moments } from "../../src/data/Moments.js";
+import type { Table } from "../../src/data/Table.js";
+
+// pandas dropna().mean() / cov(ddof=1), written by test/fixtures/data/make_moments_reference.py (committed fixture)
+interface Case { variables: string[]; useRanks: boolean; n: number; design: string[]; means: number[]; cov: number[] }
+const reference = JSON.parse(readFileSync(new URL("../fixtures/data/moments-reference.json", import.meta.url), "utf8")) as {
+  cases: Case[];
+};
+const input = new Uint8Array(readFileSync(new URL("../fixtures/data/moments-input.csv", import.meta.url)));
+const ALL = ["x1", "x2", "x3", "x4", "b", "ord", "region"];
+
+/** Relative error of covariances on the scale of their variables; of means on the scale of mean and sd. */
+function expectClose(m: Moments, means: ArrayLike<number>, cov: ArrayLike<number>, tol: number): void {
+  const d = m.design.length;
+  for (let a = 0; a < d; a++) {
+    const sd = Math.sqrt(cov[a * d + a]!);
+    expect(Math.abs(m.means[a]! - means[a]!)).toBeLessThanOrEqual(tol * Math.max(Math.abs(means[a]!), sd));
+    for (let b = 0; b < d; b++) {
+      const scale = Math.sqrt(cov[a * d + a]! * cov[b * d + b]!);
+      expect(Math.abs(m.cov[a * d + b]! - cov[a * d + b]!)).toBeLessThanOrEqual(tol * scale);
+    }
+  }
+}
+
+/** Two-pass complete-case moments straight from the rows (the definition). */
+function naiveMoments(t: Table, vars: string[]): { n: number; means: number[]; cov: number[] } {
+  const cols: Float64Array[] = [];
+  for (const v of vars) {
+    const c = t.column(v)!;
+    if (c.type === "nominal") {
+      for (let l = 1; l < c.levels!.length; l++) cols.push(Float64Array.from(c.codes!, (k) => (k < 0 ? NaN : k === l ? 1 : 0)));
+    } else cols.push(c.values);
+  }
+  const rows: number[] = [];
+  for (let i = 0; i < t.rows; i++) if (vars.every((v) => !Number.isNaN(t.column(v)!.values[i]!))) rows.push(i);
+  const n = rows.length;
+  const means = cols.map((c) => rows.reduce((s, i) => s + c[i]!, 0) / n);
+  const d = cols.length;
+  const cov: number[] = [];
+  for (let a = 0; a < d; a++)
+    for (let b = 0; b < d; b++) cov.push(rows.reduce((s, i) => s + (cols[a]![i]! - means[a]!) * (cols[b]![i]! - means[b]!), 0) / (n - 1));
+  return { n, means, cov };
+}
+
+describe("buildPatternMoments", () => {
+  it("buildPatternMoments(...).momentsFor(vars) matches pandas complete-case cov within 1e-9 (committed pandas fixture)", async () => {
+    const table = await readTable(input, { file: "moments-input.csv" });
+    expect(table.column("region")!.type).toBe("nominal");
+    expect(table.column("ord")!.type).toBe("ordinal");
+    for (const useRanks of [false, true]) {
+      const pm = buildPatternMoments(table, { variables: ALL, useRanks });
+      for (const c of reference.cases.filter((k) => k.useRanks === useRanks)) {
+        const m = pm.momentsFor(c.variables);
+        expect(m.n).toBe(c.n);
+        expect(m.design.map((x) => x.name)).toEqual(c.design);
+        expectClose(m, c.means, c.cov, 1e-9);
+      }
+    }
+  });
+
+  it("buildPatternMoments counts distinct missing patterns and complete rows as the rows define them", async () => {
+    const table = await readTable(input);
+    const pm = buildPatternMoments(table, { variables: ALL });
+    const keys = new Set<string>();
+    let complete = 0;
+    for (let i = 0; i < table.rows; i++) {
+      const key = ALL.map((v) => (Number.isNaN(table.column(v)!.values[i]!) ? "0" : "1")).join("");
+      keys.add(key);
+      if (!key.includes("0")) complete++;
+    }
+    expect(pm.patterns).toBe(keys.size);
+    expect(pm.completeRows).toBe(complete);
+    expect(pm.patterns).toBeGreaterThan(5);
+  });
+
+  it("momentsFor(vars) is the same whether built over vars alone or over a superset (the pattern sum theorem)", async () => {
+    const table = await readTable(input);
+    const big = buildPatternMoments(table, { variables: ALL });
+    for (const vars of [["x2", "region"], ["x1", "x3", "b"], ["ord"]]) {
+      const small = buildPatternMoments(table, { variables: vars }).momentsFor(vars);
+      const m = big.momentsFor(vars);
+      expect(m.n).toBe(small.n);
+      expectClose(m, small.means, small.cov, 1e-12);
+    }
+  });
+
+  it("buildPatternMoments with rowFilter equals building on the filtered rows only", async () => {
+    const table = await readTable(input);
+    const filter = new Uint8Array(table.rows).map((_, i) => (i % 3 === 0 ? 0 : 1));
+    const m = buildPatternMoments(table, { variables: ALL, rowFilter: filter }).momentsFor(["x1", "region", "x4"]);
+    const data: Record<string, (number | string | null)[]> = {};
+    for (const v of ["x1", "region", "x4"]) {
+      const c = table.column(v)!;
+      data[v] = [];
+      for (let i = 0; i < table.rows; i++) {
+        if (!filter[i]) continue;
+        data[v]!.push(c.codes ? (c.codes[i]! < 0 ? null : c.levels![c.codes[i]!]!) : c.values[i]!);
+      }
+    }
+    const sub = createTable(data, { types: { region: "nominal" } });
+    const ref = naiveMoments(sub, ["x1", "region", "x4"]);
+    expect(m.n).toBe(ref.n);
+    expectClose(m, ref.means, ref.cov, 1e-9);
+  });
+
+  it("buildPatternMoments answers from the rows when the pattern budget is exceeded, with the same moments", async () => {
+    const table = await readTable(input);
+    const grouped = buildPatternMoments(table, { variables: ALL });
+    const rowwise = buildPatternMoments(table, { variables: ALL, maxPatternBytes: 0 });
+    expect(rowwise.patterns).toBe(grouped.patterns);
+    for (const vars of [ALL, ["region", "x2"]]) {
+      const a = grouped.momentsFor(vars);
+      const b = rowwise.momentsFor(vars);
+      expect(b.n).toBe(a.n);
+      expectClose(b, a.means, a.cov, 1e-12);
+    }
+  });
+
+  it("momentsFor matches the two-pass definition on random tables with missing values and odd/even design sizes", () => {
+    fc.assert(
+      fc.property(
+        fc.integer({ min: 1, max: 7 }),
+        fc.integer({ min: 3, max: 60 }),
+        fc.integer({ min: 0, max: 1000 }),
+        (k, n, seed) => {
+          let s = seed + 1;
+          const rnd = () => ((s = (s * 16807) % 2147483647) / 2147483647);
+          const data: Record<string, (number | null)[]> = {};
+          for (let j = 0; j < k; j++) data[`v${j}`] = Array.from({ length: n }, () => (rnd() < 0.15 ? null : 1e3 * j + rnd() * 10));
+          const t = createTable(data);
+          const vars = Object.keys(data);
+          const m = buildPatternMoments(t, { variables: vars }).momentsFor(vars);
+          const ref = naiveMoments(t, vars);
+          expect(m.n).toBe(ref.n);
+          if (ref.n >= 2) expectClose(m, ref.means, ref.cov, 1e-9);
+          else expect(m.cov.every((v) => Number.isNaN(v))).toBe(true);
+        },
+      ),
+      { numRuns: 60, seed: 5 },
+    );
+  });
+
+  it("buildPatternMoments handles empty tables, all-missing variables and unknown names", () => {
+    const t = createTable({ a: [1, 2, 3], b: [null, null, null], g: ["x", "y", "z"] });
+    const pm = buildPatternMoments(t, { variables: ["a", "b", "g"] });
+    const none = pm.momentsFor(["a", "b"]);
+    expect(none.n).toBe(0);
+    expect(Number.isNaN(none.means[0]!)).toBe(true);
+    const ag = pm.momentsFor(["g", "a"]);
+    expect(ag.design).toEqual([
+      { name: "g=y", source: "g" },
+      { name: "g=z", source: "g" },
+      { name: "a", source: "a" },
+    ]);
+    expect(ag.n).toBe(3);
+    expect(ag.means[0]).toBeCloseTo(1 / 3, 15); // share of "y", by hand
+    expect(ag.cov[0 * 3 + 1]).toBeCloseTo(-1 / 6, 15); // cov of two exclusive indicators, p = 1/3 each: -n/(n-1)·p², by hand
+    expect(pm.momentsFor([]).n).toBe(3);
+    expect(() => pm.momentsFor(["zzz"])).toThrow(UnknownNodeError);
+    expect(() => buildPatternMoments(t, { variables: ["nope"] })).toThrow(UnknownNodeError);
+    const empty = createTable({ a: [], b: [] });
+    const e = buildPatternMoments(empty, { variables: ["a", "b"] });
+    expect(e.patterns).toBe(0);
+    expect(e.momentsFor(["a"]).n).toBe(0);
+  });
+
+  it("buildPatternMoments keeps patterns over more than 52 variables apart", () => {
+    const data: Record<string, (number | null)[]> = {};
+    for (let j = 0; j < 60; j++) data[`v${j}`] = Array.from({ length: 40 }, (_, i) => (i % 60 === j || (j === 59 && i === 1) ? null : i * (j + 1) + (i % 7)));
+    const t = createTable(data);
+    const vars = Object.keys(data);
+    const pm = buildPatternMoments(t, { variables: vars });
+    const sub = ["v0", "v59", "v30"];
+    const ref = naiveMoments(t, sub);
+    const m = pm.momentsFor(sub);
+    expect(m.n).toBe(ref.n);
+    expectClose(m, ref.means, ref.cov, 1e-9);
+  });
+});
