@@ -1,0 +1,29 @@
+export { escapeXml } from "./escapeXml.js";
+export {
+  NOT_AVAILABLE,
+  claimLabel,
+  effectDigits,
+  effectSymbol,
+  formatCI,
+  formatCount,
+  formatEffect,
+  formatEffectWithCI,
+  formatP,
+  formatPInline,
+  formatStatistic,
+  typographicMinus,
+} from "./format.js";
+export type { ReportContext } from "./ReportContext.js";
+export { layoutGraph, contradictionMarks } from "./layoutGraph.js";
+export type { GraphLayout, GraphMarks, ContradictionMark, NodeBox, ArrowRoute, Connector, ReportGraph } from "./layoutGraph.js";
+export { renderGraphSvg } from "./renderGraphSvg.js";
+export type { GraphSvgOptions } from "./renderGraphSvg.js";
+export { renderForestPlot } from "./renderForestPlot.js";
+export type { ForestPlotOptions } from "./renderForestPlot.js";
+export { renderHtmlReport } from "./renderHtmlReport.js";
+export type { ReportSvgs } from "./renderHtmlReport.js";
+export { renderMarkdownReport, escapeMarkdown } from "./renderMarkdownReport.js";
+export type { MarkdownReportOptions } from "./renderMarkdownReport.js";
+export { buildReportText, globalSentence } from "./buildReportText.js";
+export type { ReportText } from "./buildReportText.js";
+export { renderReportSvgs } from "./renderReportSvgs.js";
