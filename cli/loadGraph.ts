@@ -20,7 +20,7 @@ export function graphJson(graph: Graph) {
     nodes: [...graph.nodes],
     measured: graph.nodes.filter((n) => graph.isMeasured(n)),
     unmeasured: graph.nodes.filter((n) => !graph.isMeasured(n)),
-    arrows: graph.arrows.map(([a, b]) => [a, b]),
-    bidirected: graph.bidirected.map(([a, b]) => [a, b]),
+    arrows: graph.arrows.map(([a, b]) => [a, b] as [string, string]),
+    bidirected: graph.bidirected.map(([a, b]) => [a, b] as [string, string]),
   };
 }

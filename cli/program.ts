@@ -3,7 +3,7 @@
  * renders, writes, and maps the outcome to an exit code (cli/exitCodes.ts) in one place.
  */
 import { Command, CommanderError, InvalidArgumentError, Option } from "commander";
-import { basename, extname, join, resolve } from "node:path";
+import { join } from "node:path";
 import { UsageError } from "../src/errors.js";
 import { exitFor, EXIT } from "./exitCodes.js";
 import { type Io, packageRoot, toolVersion } from "./io.js";
@@ -114,6 +114,9 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .option("--out <file>", "report file", "arrowaudit-demo-report.html"),
   ).action(async (opts: Record<string, unknown>) => {
     const dir = join(packageRoot(), "data", "demo");
+    // The demo file codes missing BMI as -9 and missing blood pressure as 999, and has text education levels.
+    opts.missing ??= "-9,999";
+    opts.levels ??= "education=primary|secondary|tertiary";
     state.code = await runReport(io, join(dir, "graph.txt"), join(dir, "cohort.csv"), { ...opts, printSummary: true }, argv, true);
   });
   return program;
@@ -140,4 +143,3 @@ export async function run(argv: string[], io: Io): Promise<number> {
   }
 }
 
-export { basename, extname, resolve };

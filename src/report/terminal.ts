@@ -43,6 +43,29 @@ function paint(on: boolean | undefined, code: string, s: string): string {
   return on ? `\u001b[${code}m${s}\u001b[0m` : s;
 }
 
+/**
+ * A claim label as lines of at most `max` characters: one line when it fits, else `x ⫫ y` on the
+ * first line and the conditioning set on the following ones (names shortened in the middle only
+ * when a single name cannot fit).
+ */
+function claimLines(c: Pick<Claim, "x" | "y" | "given">, max: number, ascii: boolean): string[] {
+  const full = claimLabel(c, ascii);
+  if (len(full) <= max) return [full];
+  const head = fitLabel({ x: c.x, y: c.y, given: [] }, max, ascii).replace(/ \| (∅|\{\})$/, "");
+  const lines = [len(head) <= max ? head : middleEllipsis(head, max, ascii)];
+  let cur = "  |";
+  c.given.forEach((g, i) => {
+    const name = middleEllipsis(g, max - 5, ascii) + (i < c.given.length - 1 ? "," : "");
+    if (len(cur) + 1 + len(name) > max) {
+      lines.push(cur);
+      cur = "   ";
+    }
+    cur += " " + name;
+  });
+  lines.push(cur);
+  return lines;
+}
+
 /** A claim label whose names are shortened so the whole label fits `max` characters. */
 function fitLabel(c: Pick<Claim, "x" | "y" | "given">, max: number, ascii: boolean): string {
   const full = claimLabel(c, ascii);
@@ -117,21 +140,24 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   const colW = head.map((h, i) => Math.max(len(h), ...rows.map((row) => (i === 1 ? 0 : len(row[i] as string)))));
   const gaps = 2 * (head.length - 1);
   const others = colW.reduce((a, b, i) => (i === 1 ? a : a + b), 0);
-  const claimW = Math.max(20, width - gaps - others);
+  const claimW = Math.max(24, width - gaps - others);
   const labelW = Math.min(claimW, Math.max(len(head[1]!), ...r.claims.map((c) => len(claimLabel(c, ascii)))));
+  // Long names stay readable: the claim column spills onto extra lines rather than shrinking below 24.
   const widths = colW.map((w, i) => (i === 1 ? labelW : w));
   const rightAligned = new Set([0, 2, 5, 6]);
   const fmtRow = (cells: string[]) => cells.map((s, i) => (rightAligned.has(i) ? padLeft(s, widths[i]!) : pad(s, widths[i]!))).join("  ").trimEnd();
   if (rows.length) {
     out.push(paint(color, "1", fmtRow(head)));
+    const claimIndent = " ".repeat(widths[0]! + 2);
     for (const row of rows) {
       const c = row[1] as Claim & { verdict: string; arrows: string[] };
-      const cells = [row[0], fitLabel(c, labelW, ascii), row[2], row[3], row[4], row[5], row[6], row[7]] as string[];
-      const line = fmtRow(cells);
+      const label = claimLines(c, labelW, ascii);
+      const cells = [row[0], label[0]!, row[2], row[3], row[4], row[5], row[6], row[7]] as string[];
+      const lines = [fmtRow(cells), ...label.slice(1).map((l) => claimIndent + l)];
       if (c.verdict === "contradicted") {
-        out.push(paint(color, "1;38;5;166", line));
-        out.push(...wrap(`${" ".repeat(widths[0]! + 2)}consider: ${c.arrows.join(", ")}`, width, " ".repeat(widths[0]! + 12)));
-      } else out.push(line);
+        out.push(...lines.map((l) => paint(color, "1;38;5;166", l)));
+        out.push(...wrap(`consider: ${c.arrows.join(", ")}`, width - claimIndent.length, "          ").map((l) => claimIndent + l));
+      } else out.push(...lines);
     }
   } else out.push("no claim could be tested");
 
@@ -156,7 +182,9 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
 
 /** Greedy word wrap to `width` columns; continuation lines start with `indent`. */
 function wrap(text: string, width: number, indent: string): string[] {
-  const words = text.split(" ");
+  const lead = /^ */.exec(text)![0];
+  const words = text.slice(lead.length).split(" ");
+  words[0] = lead + words[0];
   const lines: string[] = [];
   let cur = "";
   for (const w of words) {
