@@ -5,7 +5,7 @@
  * with F(x) = p. `normalQuantile` is Wichura's algorithm AS 241 (PPND16): rational
  * approximations in three ranges with relative error about 1e-16 (Wichura 1988, Applied
  * Statistics 37:477–484). `chiSquareQuantile` solves F(x) = p for the chi-square distribution
- * by Newton's method on the log of the nearer tail, started from the Wilson–Hilferty cube-root
+ * by Newton's method on the log of the nearer tail against ln x, started from the Wilson–Hilferty cube-root
  * approximation (Wilson & Hilferty 1931, PNAS 17:684–688) and safeguarded by bisection.
  */
 import { logGamma, logRegularizedGammaQ, regularizedGammaP } from "./pvalues.js";
@@ -92,18 +92,18 @@ export function chiSquareQuantile(p: number, df: number): number {
   }
   while (sgn * g(hi) < 0) hi *= 2;
   x = Math.min(Math.max(x, lo), hi);
-  for (let it = 0; it < 200; it++) {
+  for (let it = 0; it < 400; it++) {
     const gx = g(x);
     if (gx === 0) return x;
     if (sgn * gx < 0) lo = x;
     else hi = x;
-    // d/dx ln tail = ±density/tail
-    const slope = sgn * Math.exp(logDensity(x) - logTail(x));
-    let next = x - gx / slope;
-    if (!(next > lo && next < hi) || !Number.isFinite(next)) next = (lo + hi) / 2;
+    // Newton in u = ln x: dg/du = x · (±density/tail), nearly constant near 0 and far out
+    const slope = sgn * Math.exp(Math.log(x) + logDensity(x) - logTail(x));
+    let next = x * Math.exp(-gx / slope);
+    if (!(next > lo && next < hi) || !Number.isFinite(next)) next = Math.sqrt(lo * hi); // geometric bisection
     if (Math.abs(next - x) <= 1e-15 * x) return next;
     x = next;
-    if ((hi - lo) <= 1e-15 * hi) return x;
+    if (hi - lo <= 1e-15 * hi) return x;
   }
   return x;
 }

@@ -1,0 +1,86 @@
+import { describe, expect, it } from "vitest";
+import fc from "fast-check";
+import { chiSquareQuantile, normalQuantile } from "../../src/stats/quantiles.js";
+import { chiSquareUpper, normalTwoSided, regularizedGammaP, regularizedGammaQ } from "../../src/stats/pvalues.js";
+import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
+
+interface QRef {
+  normal: { p: number; q: number }[];
+  chi2: { p: number; df: number; q: number }[];
+  chi2_upper: { alpha: number; df: number; q: number }[];
+}
+const ref = loadReference<QRef>("quantiles");
+
+describe("quantiles against the NIST/SEMATECH e-Handbook tables", () => {
+  // NIST/SEMATECH e-Handbook of Statistical Methods §1.3.6.7.4, "Critical Values of the
+  // Chi-Square Distribution" (3 decimals), copied from /work/shared/reference/distribution-tables.md
+  const table: [number, number, number][] = [
+    [1, 3.841, 6.635],
+    [2, 5.991, 9.21],
+    [5, 11.07, 15.086],
+    [10, 18.307, 23.209],
+    [30, 43.773, 50.892],
+  ];
+  it("chiSquareQuantile(0.95 and 0.99, df) agrees with the handbook's 3-decimal critical values", () => {
+    for (const [df, q95, q99] of table) {
+      expect(Math.abs(chiSquareQuantile(0.95, df) - q95), `df=${df}`).toBeLessThanOrEqual(0.0005);
+      expect(Math.abs(chiSquareQuantile(0.99, df) - q99), `df=${df}`).toBeLessThanOrEqual(0.0005);
+    }
+  });
+  it("normalQuantile(0.975) = 1.96 to the handbook's precision (§1.3.6.7.1) and 1.959963984540054 to double precision", () => {
+    expect(Math.abs(normalQuantile(0.975) - 1.96)).toBeLessThanOrEqual(0.005); // NIST/SEMATECH §1.3.6.7.1
+    expect(relErr(normalQuantile(0.975), 1.959963984540054)).toBeLessThanOrEqual(1e-15); // distribution-tables.md
+  });
+});
+
+describe(`quantiles against scipy (reference: ${ref.origin})`, () => {
+  // scipy.stats.norm.ppf, scipy.stats.chi2.ppf / .isf, scripts/stats_reference.py
+  it("normalQuantile(p) matches scipy.stats.norm.ppf to 1e-14 relative from 1e-300 to 1 − 1e-10", () => {
+    for (const r of ref.data.normal) expect(relErr(normalQuantile(r.p), r.q), `p=${r.p}`).toBeLessThanOrEqual(1e-14);
+  });
+  it("chiSquareQuantile(p, df) matches scipy.stats.chi2.ppf to 1e-12 relative for df from 0.5 to 1e5", () => {
+    for (const r of ref.data.chi2) expect(relErr(chiSquareQuantile(r.p, r.df), r.q), `p=${r.p} df=${r.df}`).toBeLessThanOrEqual(1e-12);
+  });
+  it("chiSquareQuantile(1 − α, df) keeps scipy.stats.chi2.isf accuracy where 1 − α rounds (α ≥ 1e-10)", () => {
+    for (const r of ref.data.chi2_upper) {
+      if (r.alpha < 1e-10) continue; // 1 − α is 1 in double precision below about 1e-16
+      expect(relErr(chiSquareQuantile(1 - r.alpha, r.df), r.q)).toBeLessThanOrEqual(1e-6 * r.alpha * 1e10);
+    }
+  });
+});
+
+describe("quantile theorems and edges", () => {
+  it("normalQuantile inverts the normal tail and is antisymmetric (theorem)", () => {
+    fc.assert(
+      fc.property(fc.double({ min: 1e-300, max: 0.5, noNaN: true }), (p) => {
+        const z = normalQuantile(p);
+        if (p > 1e-10) expect(normalQuantile(1 - p)).toBeCloseTo(-z, 5); // 1 − p rounds, so the check is looser
+        expect(relErr(normalTwoSided(z) / 2, p)).toBeLessThanOrEqual(1e-12);
+      }),
+      { numRuns: 200, seed: 11 },
+    );
+  });
+  it("chiSquareQuantile inverts the chi-square cdf (theorem)", () => {
+    fc.assert(
+      fc.property(fc.double({ min: 1e-12, max: 1 - 1e-12, noNaN: true }), fc.double({ min: 0.2, max: 5000, noNaN: true }), (p, df) => {
+        const x = chiSquareQuantile(p, df);
+        // the nearer tail comes back with its relative accuracy
+        if (p <= 0.5) expect(relErr(regularizedGammaP(df / 2, x / 2), p)).toBeLessThanOrEqual(1e-9);
+        else expect(relErr(regularizedGammaQ(df / 2, x / 2), 1 - p)).toBeLessThanOrEqual(1e-9);
+      }),
+      { numRuns: 150, seed: 12 },
+    );
+    expect(relErr(chiSquareUpper(chiSquareQuantile(0.95, 3), 3), 0.05)).toBeLessThanOrEqual(1e-12);
+  });
+  it("edges: p = 0 and 1 give the support's ends; bad p or df throw", () => {
+    expect(normalQuantile(0)).toBe(-Infinity);
+    expect(normalQuantile(1)).toBe(Infinity);
+    expect(normalQuantile(0.5)).toBe(0);
+    expect(chiSquareQuantile(0, 3)).toBe(0);
+    expect(chiSquareQuantile(1, 3)).toBe(Infinity);
+    expect(() => normalQuantile(1.1)).toThrow(/\[0, 1\]/);
+    expect(() => normalQuantile(NaN)).toThrow(RangeError);
+    expect(() => chiSquareQuantile(0.5, 0)).toThrow(/df must be a positive/);
+    expect(() => chiSquareQuantile(-0.5, 2)).toThrow(/\[0, 1\]/);
+  });
+});
