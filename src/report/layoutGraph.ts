@@ -280,7 +280,7 @@ export async function layoutGraph(input: AuditResult | ReportGraph, marks: Graph
     }
   }
   for (const c of contra) {
-    const half = estimateTextWidth(c.label, 12) / 2 + 10;
+    const half = (estimateTextWidth(c.label, 12) * 1.08 + 20) / 2 + 2;
     minX = Math.min(minX, c.mid.x - half);
     maxX = Math.max(maxX, c.mid.x + half);
     minY = Math.min(minY, c.mid.y - 14);

@@ -167,7 +167,7 @@ export function renderGraphSvg(layout: GraphLayout, options: GraphSvgOptions = {
   const nodes = layout.nodes.map(nodeSvg).join("");
   const contradictions = layout.contradictions
     .map((c) => {
-      const lw = estimateTextWidth(c.label, 12) + 14;
+      const lw = estimateTextWidth(c.label, 12) * 1.08 + 20;
       return (
         `<g class="contradiction" data-x="${escapeXml(c.x)}" data-y="${escapeXml(c.y)}" data-rank="${c.rank}">` +
         `<title>${escapeXml(`#${c.rank}: missing arrow ${c.x} – ${c.y} contradicted by the data, ${c.label}`)}</title>` +

@@ -1,0 +1,65 @@
+import { describe, expect, it } from "vitest";
+import { escapeMarkdown, renderMarkdownReport } from "../../src/report/renderMarkdownReport.js";
+import { hostileResult, sampleResult } from "../fixtures/report/sampleResult.js";
+import { count, sampleContext } from "./helpers.js";
+
+/** Split a GFM table row into cells, honouring "\|" escapes (GFM spec §4.10). */
+function cells(row: string): string[] {
+  return row.replace(/^\|\s?|\s?\|$/g, "").split(/(?<!\\)\|/).map((c) => c.trim());
+}
+
+describe("escapeMarkdown", () => {
+  it("escapeMarkdown(text) escapes table pipes, emphasis, links and raw HTML", () => {
+    // escapes per CommonMark 0.31 §2.4 and GFM §4.10 (from memory)
+    expect(escapeMarkdown("a|b")).toBe("a\\|b");
+    expect(escapeMarkdown("*x*_y_")).toBe("\\*x\\*\\_y\\_");
+    expect(escapeMarkdown("[l](u)")).toBe("\\[l\\](u)");
+    expect(escapeMarkdown("<b>&")).toBe("&lt;b&gt;&amp;");
+    expect(escapeMarkdown("a\nb")).toBe("a b");
+    expect(escapeMarkdown("")).toBe("");
+    expect(escapeMarkdown("âge ⫫ 体重")).toBe("âge ⫫ 体重");
+  });
+});
+
+describe("renderMarkdownReport", () => {
+  it("renderMarkdownReport has one table row per claim, each with nine cells", () => {
+    const r = sampleResult();
+    const md = renderMarkdownReport(r, sampleContext());
+    const lines = md.split("\n");
+    const header = lines.findIndex((l) => l.startsWith("| # | Claim |"));
+    const rows = [];
+    for (let i = header + 2; lines[i]!.startsWith("|"); i++) rows.push(lines[i]!);
+    expect(rows).toHaveLength(r.claims.length);
+    for (const row of rows) expect(cells(row)).toHaveLength(9);
+    expect(cells(rows[0]!)[1]).toBe("commute\\_min ⫫ sbp \\| active, age, fatigue, sleep\\_h");
+    expect(cells(rows[0]!)[7]).toBe("**contradicted**");
+  });
+
+  it("renderMarkdownReport references the drawing only when svgFile is given", () => {
+    const r = sampleResult();
+    expect(renderMarkdownReport(r, sampleContext(), { svgFile: "out dir/graph (1).svg" })).toContain("](out%20dir/graph%20%281%29.svg)");
+    expect(renderMarkdownReport(r, sampleContext())).not.toContain("![");
+  });
+
+  it("renderMarkdownReport keeps table structure with hostile names and emits no raw HTML", () => {
+    const r = hostileResult();
+    r.variables[0]!.name = "a|b*c";
+    const md = renderMarkdownReport(r, sampleContext());
+    expect(md).not.toMatch(/<script|<img/i);
+    expect(md).toContain("&lt;script&gt;alert(1)&lt;/script&gt;");
+    const lines = md.split("\n");
+    const header = lines.findIndex((l) => l.startsWith("| Variable |"));
+    for (let i = header + 2; lines[i]!.startsWith("|"); i++) expect(cells(lines[i]!)).toHaveLength(5);
+    expect(md).toContain("| a\\|b\\*c |");
+  });
+
+  it("renderMarkdownReport carries the methods, references, cautions and reproducibility", () => {
+    const ctx = sampleContext({ command: "arrowaudit check `g.txt` d.csv" });
+    const md = renderMarkdownReport(sampleResult(), ctx);
+    for (const h of ["## Summary", "## Ranked claims", "## Untestable claims", "## Data summary", "## Methods", "### References", "## Cautions", "## Reproducibility"]) expect(md).toContain(h);
+    expect(md).toContain("``arrowaudit check `g.txt` d.csv``");
+    for (const i of ctx.inputs) expect(md).toContain(i.sha256);
+    expect(count(md, /^\d+\. /m)).toBeGreaterThan(3);
+    expect(md).not.toMatch(/https?:/);
+  });
+});
