@@ -122,8 +122,10 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
   result.sort(compareClaims(settings.rank_by));
   result.forEach((c, i) => (c.rank = i + 1));
 
-  const fc = fisherC(result.map((c) => c.log_p));
   const notes: string[] = [];
+  // With no tested claim there is nothing to combine: C = 0 on 0 df, p = 1, and the note says why.
+  const fc = result.length ? fisherC(result.map((c) => c.log_p)) : { statistic: 0, df: 0, p: 1 };
+  if (result.length === 0) notes.push("no claim could be tested, so the global test has nothing to combine");
   if (settings.sets !== "union-parents") notes.push(`Fisher's C assumes mutually independent tests, which Shipley's basis set (--sets union-parents) provides; with --sets ${settings.sets} the claims overlap, so read the global p-value as descriptive only`);
   if (result.some((c) => c.p_method === "permutation")) notes.push("some p-values are Monte-Carlo permutation estimates (bounded below by 1/(B+1)), which makes Fisher's C conservative");
   const contradicted = result.filter((c) => c.verdict === "contradicted").length;
