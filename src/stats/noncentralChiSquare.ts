@@ -30,8 +30,8 @@ function logPoisson(j: number, mu: number): number {
 function poissonMixture(x: number, df: number, lambda: number, upper: boolean): number {
   const z = x / 2;
   const tail = (j: number): number => (upper ? regularizedGammaQ(df / 2 + j, z) : regularizedGammaP(df / 2 + j, z));
-  if (lambda === 0) return tail(0);
   const mu = lambda / 2;
+  if (mu === 0) return tail(0); // λ = 0, or so small that λ/2 underflows
   const mode = Math.floor(mu);
   const w0 = Math.exp(logPoisson(mode, mu));
   let sum = w0 * tail(mode);
