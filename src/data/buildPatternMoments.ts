@@ -323,20 +323,31 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
   };
 }
 
-/** Shifted sums and lower-triangle cross-products over row tiles, in 2 × 2 register blocks. */
+/**
+ * Shifted sums and lower-triangle cross-products over row tiles. The tile holds the design
+ * columns padded with zero columns to a multiple of 4, so the products run in full 4 × 2
+ * register blocks (8 accumulators); the padding's products are zero and are dropped.
+ */
 class CrossProductKernel {
   private readonly tile: Float64Array;
+  private readonly scratch: Float64Array;
   constructor(
     private readonly design: readonly DesignSource[],
     private readonly shift: Float64Array,
   ) {
-    this.tile = new Float64Array(TILE * Math.max(1, design.length));
+    const dpad = Math.ceil(Math.max(1, design.length) / 4) * 4;
+    this.tile = new Float64Array(TILE * dpad);
+    this.scratch = new Float64Array(dpad * dpad);
   }
 
   /** Add rows[from, to) over design columns `cols` into sums (d) and cross (d × d, lower triangle). */
   accumulate(rows: Int32Array, from: number, to: number, cols: readonly number[], sums: Float64Array, cross: Float64Array): void {
     const d = cols.length;
+    const dpad = Math.ceil(d / 4) * 4;
     const X = this.tile;
+    const Z = this.scratch;
+    Z.fill(0, 0, dpad * dpad);
+    X.fill(0, d * TILE, dpad * TILE);
     for (let t0 = from; t0 < to; t0 += TILE) {
       const m = Math.min(TILE, to - t0);
       for (let k = 0; k < d; k++) {
@@ -355,50 +366,44 @@ class CrossProductKernel {
         for (let t = 0; t < m; t++) s += X[off + t]!;
         sums[k] += s;
       }
-      for (let i = 0; i < d; i += 2) {
-        const oi = i * TILE;
-        const hasI1 = i + 1 < d;
-        const oi1 = oi + TILE;
-        for (let j = 0; j <= i; j += 2) {
-          const oj = j * TILE;
-          const oj1 = oj + TILE;
-          if (hasI1) {
-            let s00 = 0;
-            let s01 = 0;
-            let s10 = 0;
-            let s11 = 0;
-            for (let t = 0; t < m; t++) {
-              const a0 = X[oi + t]!;
-              const a1 = X[oi1 + t]!;
-              const b0 = X[oj + t]!;
-              const b1 = X[oj1 + t]!;
-              s00 += a0 * b0;
-              s01 += a0 * b1;
-              s10 += a1 * b0;
-              s11 += a1 * b1;
-            }
-            cross[i * d + j] += s00;
-            cross[i * d + j + 1] += s01;
-            cross[(i + 1) * d + j] += s10;
-            cross[(i + 1) * d + j + 1] += s11;
-          } else if (j + 1 < d && j + 1 <= i) {
-            let s00 = 0;
-            let s01 = 0;
-            for (let t = 0; t < m; t++) {
-              const a0 = X[oi + t]!;
-              s00 += a0 * X[oj + t]!;
-              s01 += a0 * X[oj1 + t]!;
-            }
-            cross[i * d + j] += s00;
-            cross[i * d + j + 1] += s01;
-          } else {
-            let s00 = 0;
-            for (let t = 0; t < m; t++) s00 += X[oi + t]! * X[oj + t]!;
-            cross[i * d + j] += s00;
+      for (let i = 0; i < dpad; i += 4) {
+        const o0 = i * TILE;
+        const o1 = o0 + TILE;
+        const o2 = o1 + TILE;
+        const o3 = o2 + TILE;
+        for (let j = 0; j < i + 4; j += 2) {
+          const p0 = j * TILE;
+          const p1 = p0 + TILE;
+          let s00 = 0, s01 = 0, s10 = 0, s11 = 0, s20 = 0, s21 = 0, s30 = 0, s31 = 0;
+          for (let t = 0; t < m; t++) {
+            const b0 = X[p0 + t]!;
+            const b1 = X[p1 + t]!;
+            const a0 = X[o0 + t]!;
+            s00 += a0 * b0;
+            s01 += a0 * b1;
+            const a1 = X[o1 + t]!;
+            s10 += a1 * b0;
+            s11 += a1 * b1;
+            const a2 = X[o2 + t]!;
+            s20 += a2 * b0;
+            s21 += a2 * b1;
+            const a3 = X[o3 + t]!;
+            s30 += a3 * b0;
+            s31 += a3 * b1;
           }
+          const r = i * dpad + j;
+          Z[r] += s00;
+          Z[r + 1] += s01;
+          Z[r + dpad] += s10;
+          Z[r + dpad + 1] += s11;
+          Z[r + 2 * dpad] += s20;
+          Z[r + 2 * dpad + 1] += s21;
+          Z[r + 3 * dpad] += s30;
+          Z[r + 3 * dpad + 1] += s31;
         }
       }
     }
+    for (let i = 0; i < d; i++) for (let j = 0; j <= i; j++) cross[i * d + j] += Z[i * dpad + j]!;
   }
 }
 
