@@ -126,16 +126,16 @@ export function formatCount(n: number): string {
 /**
  * Human-readable label of an implied independence: "x ⫫ y | a, b", with the empty
  * conditioning set written "∅". The ASCII form, for terminals without Unicode, is
- * "x indep y | a, b" with "{}" for the empty set. Names are not escaped: escape for the target
+ * "x _indep_ y | a, b" with "{}" for the empty set. Names are not escaped: escape for the target
  * format (HTML, Markdown) afterwards. Cost: O(|given|).
  *
  * @param claim x, y and the conditioning set
  * @param ascii use only ASCII characters
  * @example claimLabel({ x: "a", y: "b", given: [] }) // "a ⫫ b | ∅"
- * @example claimLabel({ x: "a", y: "b", given: ["c", "d"] }, true) // "a indep b | c, d"
+ * @example claimLabel({ x: "a", y: "b", given: ["c", "d"] }, true) // "a _indep_ b | c, d"
  */
 export function claimLabel(claim: Pick<Claim, "x" | "y" | "given">, ascii = false): string {
-  const sep = ascii ? " indep " : " ⫫ ";
+  const sep = ascii ? " _indep_ " : " ⫫ ";
   const set = claim.given.length === 0 ? (ascii ? "{}" : "∅") : claim.given.join(", ");
   return `${claim.x}${sep}${claim.y} | ${set}`;
 }
