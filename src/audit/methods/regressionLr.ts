@@ -260,13 +260,14 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   const kept = independentColumns(allCols, weights, m);
   const p0 = kept.filter((j) => j < baseCols.length).length;
   const p = kept.length;
-  const df = p - p0;
+  const q = kind === "multinomial" ? respLevels.length - 1 : 1;
+  // Added parameters: one per added column, for each non-baseline response category.
+  const df = (p - p0) * q;
   const droppedBase = baseCols.length - p0;
   if (droppedBase > 0) warnings.push(`${droppedBase} column${droppedBase > 1 ? "s" : ""} of the given set aliased with others and dropped`);
   if (df === 0) {
     return { ok: false, reason: `"${added.name}" is determined by ${claim.given.length ? quoted(claim.given) : "the intercept"} among the complete rows (aliased); the claim cannot be tested` };
   }
-  const q = kind === "multinomial" ? respLevels.length - 1 : 1;
   if (n <= p * q + 1) {
     return { ok: false, reason: `${n} complete rows are too few for the ${p * q} parameters of the full model; collect more data or use a smaller set` };
   }

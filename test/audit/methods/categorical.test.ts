@@ -1,0 +1,328 @@
+import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
+import { describe, expect, it } from "vitest";
+import type { Column, Table, VariableType } from "../../../src/data/Table.js";
+import { groupRows } from "../../../src/audit/methods/groupRows.js";
+import { regressionLr } from "../../../src/audit/methods/regressionLr.js";
+import { stratifiedChisq } from "../../../src/audit/methods/stratifiedChisq.js";
+import type { TestContext } from "../../../src/audit/TestMethod.js";
+import type { Claim, TestOutcome } from "../../../src/audit/types.js";
+import { logisticRegression } from "../../../src/stats/logisticRegression.js";
+import { multinomialLogit } from "../../../src/stats/multinomialLogit.js";
+import { chiSquareUpper } from "../../../src/stats/pvalues.js";
+import { createRng } from "../../../src/stats/rng.js";
+
+// ---- tiny hand-built tables (the CSV reader is tested elsewhere) ----
+function cat(name: string, labels: readonly (string | null)[], type: VariableType = "nominal", levels?: readonly string[]): Column {
+  const lv = levels ?? [...new Set(labels.filter((l): l is string => l !== null))];
+  const index = new Map(lv.map((l, i) => [l, i] as const));
+  const codes = Int32Array.from(labels, (l) => (l === null ? -1 : index.get(l)!));
+  return { name, type, typeSource: "declared", codes, levels: lv, values: Float64Array.from(codes, (c) => (c < 0 ? NaN : c)), missing: codes.filter((c) => c < 0).length };
+}
+function num(name: string, values: readonly number[]): Column {
+  const v = Float64Array.from(values);
+  return { name, type: "continuous", typeSource: "declared", values: v, missing: v.filter((x) => Number.isNaN(x)).length };
+}
+function table(cols: Column[]): Table {
+  const rows = cols[0]?.values.length ?? 0;
+  return { rows, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
+}
+function ctx(t: Table, extra: Partial<TestContext> = {}): TestContext {
+  const unused = () => { throw new Error("moments are not used by categorical methods"); };
+  return { table: t, moments: { patterns: 0, completeRows: 0, momentsFor: unused }, rankMoments: unused, seed: 1, ...extra };
+}
+function ok(r: ReturnType<typeof stratifiedChisq.run>): TestOutcome {
+  if (!r.ok) throw new Error(`expected a test outcome, got untestable: ${r.reason}`);
+  return r.outcome;
+}
+
+// ---- Berkeley admissions, one row per applicant ----
+interface Dept { dept: string; men_admitted: number; men_rejected: number; women_admitted: number; women_rejected: number }
+const fixtures = new URL("../../fixtures/statsmodels/", import.meta.url);
+// Bickel, Hammel & O'Connell (1975), Science 187:398–404
+const ucb = JSON.parse(readFileSync(new URL("ucb-admissions.json", fixtures), "utf8")) as { departments: Dept[] };
+function berkeley(shuffleSeed?: number): Table {
+  const g: string[] = [], a: string[] = [], d: string[] = [];
+  for (const r of ucb.departments) {
+    const add = (gender: string, adm: string, k: number) => { for (let i = 0; i < k; i++) { g.push(gender); a.push(adm); d.push(r.dept); } };
+    add("Male", "Admitted", r.men_admitted); add("Male", "Rejected", r.men_rejected);
+    add("Female", "Admitted", r.women_admitted); add("Female", "Rejected", r.women_rejected);
+  }
+  if (shuffleSeed !== undefined) {
+    const rng = createRng(shuffleSeed);
+    for (let i = g.length - 1; i > 0; i--) { const j = rng.nextInt(i + 1); [g[i], g[j]] = [g[j]!, g[i]!]; [a[i], a[j]] = [a[j]!, a[i]!]; [d[i], d[j]] = [d[j]!, d[i]!]; }
+  }
+  return table([cat("gender", g, "binary", ["Male", "Female"]), cat("admission", a, "binary", ["Admitted", "Rejected"]), cat("dept", d, "nominal")]);
+}
+function scipyReference(): { ref: { x2_sum: number; g2_sum: number }; from: string } {
+  const script = new URL("../../../scripts/statsmodels_reference.py", import.meta.url).pathname;
+  const run = spawnSync("python3", [script, "--ucb"], { encoding: "utf8", timeout: 60_000 });
+  if (run.status === 0) return { ref: JSON.parse(run.stdout), from: "python3 scipy (live)" };
+  return { ref: JSON.parse(readFileSync(new URL("ucb-scipy.json", fixtures), "utf8")), from: "committed fixture ucb-scipy.json" };
+}
+const scipy = scipyReference();
+const claimUCB: Claim = { x: "gender", y: "admission", given: ["dept"] };
+
+describe("stratifiedChisq (Berkeley admissions)", () => {
+  it(`stratifiedChisq.run(gender ⫫ admission | dept) on 4,526 applicants matches R and scipy [${scipy.from}]`, () => {
+    const o = ok(stratifiedChisq.run(claimUCB, ctx(berkeley())));
+    expect(o.test).toBe("stratified-chisq");
+    expect(o.n).toBe(4526); // Bickel et al. (1975)
+    expect(o.df).toBe(6);
+    expect(o.statistic).toBeCloseTo(scipy.ref.g2_sum, 9); // scipy chi2_contingency(lambda_="log-likelihood"), summed
+    expect(o.details!.x2 as number).toBeCloseTo(scipy.ref.x2_sum, 9); // scipy chi2_contingency(correction=False), summed
+    expect(o.p_method).toBe("asymptotic");
+    expect(o.p).toBeCloseTo(chiSquareUpper(scipy.ref.g2_sum, 6), 12);
+    expect(o.log_p).toBeCloseTo(Math.log(o.p), 9);
+    const mh = o.details!.mantel_haenszel as { odds_ratio: number; ci: [number, number]; cmh: number; p: number; cmh_corrected: number; p_corrected: number };
+    // R stats::mantelhaen.test(UCBAdmissions), documented output (tests/Examples/stats-Ex.Rout.save)
+    expect(mh.cmh).toBeCloseTo(1.5246, 4);
+    expect(mh.p).toBeCloseTo(0.2169, 4);
+    expect(mh.cmh_corrected).toBeCloseTo(1.4269, 4);
+    expect(mh.p_corrected).toBeCloseTo(0.2323, 4);
+    expect(mh.odds_ratio).toBeCloseTo(0.9046968, 7);
+    expect(mh.ci[0]).toBeCloseTo(0.7719074, 7);
+    expect(mh.ci[1]).toBeCloseTo(1.0603298, 7);
+    expect(o.details).toMatchObject({ strata_used: 6, strata_total: 6 });
+    // effect scale: √(1 − exp(−G²/n)), unsigned for a 6-df test, inside its interval
+    expect(o.effect).toBeCloseTo(Math.sqrt(1 - Math.exp(-scipy.ref.g2_sum / 4526)), 12);
+    expect(o.ci[0]).toBeLessThanOrEqual(o.effect);
+    expect(o.ci[1]).toBeGreaterThanOrEqual(o.effect);
+  });
+
+  it("stratifiedChisq.run does not depend on row order and skips rows with a missing value", () => {
+    const a = ok(stratifiedChisq.run(claimUCB, ctx(berkeley())));
+    const t = berkeley(9);
+    const b = ok(stratifiedChisq.run(claimUCB, ctx(t)));
+    expect(b.statistic).toBeCloseTo(a.statistic, 10);
+    // add 3 rows with a missing member: n and the statistic stay
+    const cols = t.columns.map((c) => cat(c.name, [...Array.from(c.codes!, (k) => c.levels![k]!), null, c.name === "dept" ? "A" : null, "A" === "A" && c.name === "gender" ? "Male" : null], c.type, c.levels));
+    const c = ok(stratifiedChisq.run(claimUCB, ctx(table(cols))));
+    expect(c.n).toBe(4526);
+    expect(c.statistic).toBeCloseTo(a.statistic, 10);
+    // a row filter (listwise deletion) removing department F
+    const filter = Uint8Array.from(t.column("dept")!.codes!, (k) => (t.column("dept")!.levels![k] === "F" ? 0 : 1));
+    const d = ok(stratifiedChisq.run(claimUCB, ctx(t, { rowFilter: filter })));
+    expect(d.df).toBe(5);
+    expect(d.n).toBe(4526 - 714); // F: 22 + 351 + 24 + 317
+  });
+
+  it("stratifiedChisq.run uses permutations when asked: p_method, B, seeded and reproducible", () => {
+    const t = berkeley();
+    const a = ok(stratifiedChisq.run(claimUCB, ctx(t, { permutations: 400, seed: 3 })));
+    const b = ok(stratifiedChisq.run(claimUCB, ctx(t, { permutations: 400, seed: 3 })));
+    expect(a.p_method).toBe("permutation");
+    expect(a.B).toBe(400);
+    expect(a.p).toBe(b.p);
+    expect(a.p).toBeGreaterThanOrEqual(1 / 401);
+    // G² = 21.7 on 6 df: asymptotic p ≈ 0.0014 (scipy value above); the permutation p is small too
+    expect(a.p).toBeLessThan(0.02);
+    expect(a.log_p).toBeCloseTo(Math.log(a.p), 12);
+    // gender ⫫ admission without department: G² ≈ 93, p tiny; permutation p at its floor 1/(B + 1)
+    const m = ok(stratifiedChisq.run({ x: "gender", y: "admission", given: [] }, ctx(t, { permutations: 200 })));
+    expect(m.p).toBe(1 / 201);
+  });
+});
+
+describe("stratifiedChisq sparse and degenerate data", () => {
+  // deterministic pseudo-random categorical data
+  function randomCats(n: number, seed: number, levels: number[]): string[][] {
+    const rng = createRng(seed, "cats");
+    return levels.map((L) => Array.from({ length: n }, () => `l${rng.nextInt(L)}`));
+  }
+
+  it("the sparse rule switches to permutation when more than 20% of expected counts are below 5", () => {
+    const [x, y, z] = randomCats(60, 1, [3, 3, 4]);
+    const t = table([cat("x", x!), cat("y", y!), cat("z", z!)]);
+    const o = ok(stratifiedChisq.run({ x: "x", y: "y", given: ["z"] }, ctx(t)));
+    expect((o.details!.sparse_share as number)).toBeGreaterThan(0.2);
+    expect(o.p_method).toBe("permutation");
+    expect(o.B).toBe(2000);
+    expect(o.warnings!.join(" ")).toMatch(/below 5/);
+    // dense data: asymptotic
+    const [x2, y2, z2] = randomCats(4000, 2, [3, 3, 2]);
+    const d = ok(stratifiedChisq.run({ x: "x", y: "y", given: ["z"] }, ctx(table([cat("x", x2!), cat("y", y2!), cat("z", z2!)]))));
+    expect(d.p_method).toBe("asymptotic");
+    expect(d.B).toBeUndefined();
+  });
+
+  it("a stratum with one row is counted as unused, adds nothing and is reported", () => {
+    const [x, y, z] = randomCats(400, 3, [2, 2, 2]);
+    const base = ok(stratifiedChisq.run({ x: "x", y: "y", given: ["z"] }, ctx(table([cat("x", x!), cat("y", y!), cat("z", z!)]))));
+    const t = table([cat("x", [...x!, "l0"]), cat("y", [...y!, "l1"]), cat("z", [...z!, "lonely"])]);
+    const o = ok(stratifiedChisq.run({ x: "x", y: "y", given: ["z"] }, ctx(t)));
+    expect(o.details).toMatchObject({ strata_used: 2, strata_total: 3 });
+    expect(o.statistic).toBeCloseTo(base.statistic, 12);
+    expect(o.df).toBe(base.df);
+    expect(o.n).toBe(401);
+    expect(o.warnings!.join(" ")).toMatch(/1 of 3 strata/);
+  });
+
+  it("a level seen only once enters its stratum's table (df grows by one) and the sparse rule applies", () => {
+    const [x, y] = randomCats(200, 4, [2, 2]);
+    const t = table([cat("x", [...x!, "rare"]), cat("y", [...y!, "l0"])]);
+    const o = ok(stratifiedChisq.run({ x: "x", y: "y", given: [] }, ctx(t)));
+    expect(o.df).toBe(2); // (3 − 1)(2 − 1)
+    expect(o.details!.sparse_cells).toBe(2); // the two cells of the rare level have expected ≈ 0.5 (< 5)
+    expect(o.p_method).toBe("permutation"); // 2 of 6 cells sparse: 33% > 20%
+  });
+
+  it("a nominal variable with 40 levels and n = 200 gets a permutation p-value; regression-lr tests it with 39 df", () => {
+    const rng = createRng(5, "forty");
+    const x = Array.from({ length: 200 }, (_, i) => `k${i % 40}`);
+    const y = Array.from({ length: 200 }, () => (rng.nextFloat() < 0.4 ? "yes" : "no"));
+    const c = Array.from({ length: 200 }, () => rng.nextFloat() * 10);
+    const t = table([cat("x", x), cat("y", y, "binary"), num("c", c)]);
+    const o = ok(stratifiedChisq.run({ x: "x", y: "y", given: [] }, ctx(t)));
+    expect(o.df).toBe(39);
+    expect(o.p_method).toBe("permutation");
+    expect(o.p).toBeGreaterThan(0.001); // independent by construction
+    // continuous response: linear model with 39 dummies
+    const r = ok(regressionLr.run({ x: "x", y: "c", given: [] }, ctx(t)));
+    expect(r.df).toBe(39);
+    expect(r.details!.model).toBe("linear");
+    // binary response on 40 levels of 5 rows: some level has a single outcome → quasi-complete separation warning
+    const l = ok(regressionLr.run({ x: "x", y: "y", given: ["c"] }, ctx(t)));
+    expect(l.details!.model).toBe("logistic");
+    expect(l.warnings!.join(" ")).toMatch(/quasi-complete separation/);
+    expect(Number.isFinite(l.statistic)).toBe(true);
+  });
+
+  it("untestable claims give a reason: no variation within strata, no complete rows, non-categorical variables", () => {
+    // x constant within every stratum of z (x = z)
+    const z = ["a", "a", "b", "b", "a", "b"];
+    const t = table([cat("x", z), cat("y", ["u", "v", "u", "v", "v", "u"]), cat("z", z), num("w", [1, 2, 3, 4, 5, 6])]);
+    const r = stratifiedChisq.run({ x: "x", y: "y", given: ["z"] }, ctx(t));
+    expect(r.ok).toBe(false);
+    if (!r.ok) expect(r.reason).toMatch(/never both vary within any stratum of "z"/);
+    const e = stratifiedChisq.run({ x: "x", y: "y", given: [] }, ctx(table([cat("x", [null, "a"]), cat("y", ["u", null])])));
+    expect(e.ok).toBe(false);
+    if (!e.ok) expect(e.reason).toMatch(/no row has all of "x", "y" observed/);
+    const w = stratifiedChisq.run({ x: "x", y: "w", given: [] }, ctx(t));
+    expect(w.ok).toBe(false);
+    expect(stratifiedChisq.run({ x: "x", y: "nope", given: [] }, ctx(t))).toMatchObject({ ok: false });
+    expect(stratifiedChisq.accepts({ x: "binary", y: "nominal", given: ["ordinal"] })).toBe(true);
+    expect(stratifiedChisq.accepts({ x: "binary", y: "nominal", given: ["continuous"] })).toBe(false);
+  });
+
+  it("Unicode names and level labels work; an empty table is untestable", () => {
+    const [x, y] = randomCats(300, 6, [2, 3]);
+    const t = table([cat("tabagisme_é", x!), cat("血压", y!)]);
+    const o = ok(stratifiedChisq.run({ x: "tabagisme_é", y: "血压", given: [] }, ctx(t)));
+    expect(o.df).toBe(2);
+    const empty = table([cat("a", []), cat("b", [])]);
+    expect(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(empty)).ok).toBe(false);
+  });
+});
+
+describe("groupRows", () => {
+  it("groupRows counts distinct combinations, skips missing rows and honours the row filter", () => {
+    const a = cat("a", ["p", "q", "p", "p", null, "q"]);
+    const b = cat("b", ["u", "u", "u", "v", "v", "u"]);
+    const g = groupRows([a, b], 6);
+    expect(g.n).toBe(5);
+    expect(g.groups).toBe(3);
+    const got = new Map<string, number>();
+    for (let i = 0; i < g.groups; i++) got.set(`${a.levels![g.codes[0]![i]!]}${b.levels![g.codes[1]![i]!]}`, g.counts[i]!);
+    expect(Object.fromEntries(got)).toEqual({ pu: 2, qu: 2, pv: 1 });
+    expect(g.rowGroup[4]).toBe(-1);
+    const f = groupRows([a, b], 6, Uint8Array.from([1, 1, 0, 1, 1, 1]));
+    expect(f.n).toBe(4);
+    expect(() => groupRows([num("c", [1, 2])], 2)).toThrow(/not categorical/);
+    expect(groupRows([], 0).n).toBe(0);
+  });
+});
+
+describe("regressionLr", () => {
+  // Seeded dataset and statsmodels fits written by scripts/statsmodels_reference.py (committed fixtures)
+  const ref = JSON.parse(readFileSync(new URL("regression-ref.json", fixtures), "utf8"));
+  const data = readFileSync(new URL("regression-data.csv", fixtures), "utf8").trim().split("\n").slice(1).map((l) => l.split(",").map(Number));
+  const t = table([
+    num("x1", data.map((r) => r[0]!)),
+    cat("x2", data.map((r) => String(r[1])), "binary", ["0", "1"]),
+    cat("x3", data.map((r) => String(r[2])), "nominal", ["0", "1", "2"]),
+    cat("yb", data.map((r) => String(r[3])), "binary", ["0", "1"]),
+    cat("ym", data.map((r) => String(r[4])), "nominal", ["0", "1", "2"]),
+    num("yc", data.map((r) => r[5]!)),
+  ]);
+
+  it("regressionLr.run: continuous response gives statsmodels' OLS likelihood ratio, signed by the coefficient", () => {
+    const ln = ok(regressionLr.run({ x: "x1", y: "yc", given: ["x2", "x3"] }, ctx(t)));
+    expect(ln.details!.model).toBe("linear");
+    expect(ln.details!.response).toBe("yc");
+    expect(ln.statistic).toBeCloseTo(ref.ols.llr, 7); // statsmodels OLS 2(llf − llf_null)
+    expect(ln.df).toBe(1);
+    expect(Math.sign(ln.effect)).toBe(Math.sign(ref.ols.params[1])); // sign of the x1 coefficient
+    expect(ln.p).toBeCloseTo(chiSquareUpper(ref.ols.llr, 1), 12);
+    expect(ln.ci[0]).toBeLessThanOrEqual(ln.effect);
+    expect(ln.ci[1]).toBeGreaterThanOrEqual(ln.effect);
+    // a continuous side is the response even when it is x
+    const sw = ok(regressionLr.run({ x: "yc", y: "x2", given: ["x1", "x3"] }, ctx(t)));
+    expect(sw.details!.response).toBe("yc");
+  });
+
+  it("regressionLr.run: binary response → logistic, nominal response → multinomial, LR = 2(ℓ1 − ℓ0) of the fits", () => {
+    const m = data.length;
+    const lg = ok(regressionLr.run({ x: "x2", y: "yb", given: ["x1", "x3"] }, ctx(t)));
+    expect(lg.details).toMatchObject({ model: "logistic", response: "yb", grouped: false });
+    const X = new Float64Array(m * 5);
+    data.forEach(([x1, x2, x3], i) => X.set([1, x1!, x3 === 1 ? 1 : 0, x3 === 2 ? 1 : 0, x2!], i * 5));
+    const X0 = new Float64Array(m * 4);
+    data.forEach(([x1, , x3], i) => X0.set([1, x1!, x3 === 1 ? 1 : 0, x3 === 2 ? 1 : 0], i * 4));
+    const y = data.map((r) => r[3]!);
+    const lr = 2 * (logisticRegression(X, m, 5, y).logLik - logisticRegression(X0, m, 4, y).logLik);
+    expect(lg.statistic).toBeCloseTo(lr, 8);
+    expect(lg.df).toBe(1);
+    // nominal x3 and nominal ym (3 levels each): ym is the response (y on ties), df = 2 × 2
+    const ml = ok(regressionLr.run({ x: "x3", y: "ym", given: ["x1", "x2"] }, ctx(t)));
+    expect(ml.details).toMatchObject({ model: "multinomial", response: "ym" });
+    expect(ml.df).toBe(4);
+    const Xm = new Float64Array(m * 5);
+    data.forEach(([x1, x2, x3], i) => Xm.set([1, x2!, x1!, x3 === 1 ? 1 : 0, x3 === 2 ? 1 : 0], i * 5));
+    const Xm0 = new Float64Array(m * 3);
+    data.forEach(([x1, x2], i) => Xm0.set([1, x2!, x1!], i * 3));
+    const yy = data.map((r) => r[4]!);
+    const lrm = 2 * (multinomialLogit(Xm, m, 5, yy, 3).logLik - multinomialLogit(Xm0, m, 3, yy, 3).logLik);
+    expect(ml.statistic).toBeCloseTo(lrm, 7);
+    // a binary side is preferred as the response over a nominal one
+    const pick = ok(regressionLr.run({ x: "x2", y: "ym", given: ["x1"] }, ctx(t)));
+    expect(pick.details!.response).toBe("x2");
+  });
+
+  it("regressionLr.run groups all-categorical claims into a small weighted fit with the row-level answer", () => {
+    const g = ok(regressionLr.run({ x: "x2", y: "yb", given: ["x3"] }, ctx(t)));
+    expect(g.details!.grouped).toBe(true);
+    expect(g.details!.fitted_rows as number).toBeLessThanOrEqual(12);
+    // statsmodels GLM Binomial log-likelihood of yb on x2 and x3 dummies (regression-ref.json)
+    expect(Math.abs((g.details!.loglik_full as number) - ref.logit_categorical.llf)).toBeLessThan(1e-8);
+  });
+
+  it("regressionLr.run: complete separation is untestable with its reason; quasi-complete gives a warning", () => {
+    const x = Array.from({ length: 40 }, (_, i) => i / 4);
+    const yy = x.map((v) => (v > 5 ? "1" : "0"));
+    const th = x.map((v) => (v > 5 ? "hi" : "lo"));
+    const n = x.map((_, i) => (i % 2 ? "p" : "q"));
+    const t2 = table([cat("yy", yy, "binary"), cat("th", th, "binary"), cat("n", n, "binary"), num("c", x.map((v, i) => Math.sin(i) + v / 100))]);
+    const comp = regressionLr.run({ x: "n", y: "yy", given: ["th"] }, ctx(t2));
+    expect(comp.ok).toBe(false);
+    if (!comp.ok) expect(comp.reason).toMatch(/complete separation in the null model: "yy" is predicted perfectly by "th"/);
+    // continuous given, separated response: row-level fit, same outcome
+    const comp2 = regressionLr.run({ x: "n", y: "yy", given: ["th", "c"] }, ctx(t2));
+    expect(comp2.ok).toBe(false);
+    // without the separating variable the claim is testable
+    expect(regressionLr.run({ x: "n", y: "yy", given: [] }, ctx(t2)).ok).toBe(true);
+  });
+
+  it("regressionLr.run: constant added side, single-level response, aliased side and too few rows are untestable", () => {
+    const a = table([num("c", [1, 2, 3, 4, 5, 6]), cat("k", ["a", "a", "a", "a", "a", "a"]), cat("z", ["u", "v", "u", "v", "u", "v"]), cat("zz", ["u", "v", "u", "v", "u", "v"])]);
+    const reason = (r: ReturnType<typeof regressionLr.run>) => (r.ok ? "(testable)" : r.reason);
+    expect(reason(regressionLr.run({ x: "k", y: "c", given: [] }, ctx(a)))).toMatch(/"k" is constant/);
+    expect(reason(regressionLr.run({ x: "z", y: "k", given: [] }, ctx(a)))).toMatch(/"k" is constant/);
+    const b = table([cat("k1", ["a", "a", "a", "a"]), cat("k2", ["b", "b", "b", "b"])]);
+    expect(reason(regressionLr.run({ x: "k1", y: "k2", given: [] }, ctx(b)))).toMatch(/"k2" has a single observed level/);
+    expect(reason(regressionLr.run({ x: "zz", y: "c", given: ["z"] }, ctx(a)))).toMatch(/"zz" is determined by "z"/);
+    expect(reason(regressionLr.run({ x: "z", y: "c", given: [] }, ctx(table([num("c", [1, 2, 3]), cat("z", ["u", "v", "u"])]))))).toMatch(/too few/);
+    expect(reason(regressionLr.run({ x: "z", y: "c", given: [] }, ctx(table([num("c", [NaN, 2]), cat("z", ["u", null])]))))).toMatch(/no row/);
+    expect(regressionLr.accepts({ x: "continuous", y: "nominal", given: [] })).toBe(true);
+  });
+});

@@ -1,0 +1,150 @@
+import { gammaln } from "simple-statistics";
+import { describe, expect, it } from "vitest";
+import { hypergeometricDraw, logFactorialTable, monteCarloPValue, randomTableWithMargins, shuffleInPlace } from "../../src/stats/permutation.js";
+import { chiSquareUpper } from "../../src/stats/pvalues.js";
+import { createRng, hashString32, streamKeyOfClaim } from "../../src/stats/rng.js";
+
+/** Exact hypergeometric pmf C(K,k)·C(N−K,n−k)/C(N,n) in BigInt arithmetic (textbook definition). */
+function choose(n: number, k: number): bigint {
+  if (k < 0 || k > n) return 0n;
+  let r = 1n;
+  for (let i = 1; i <= k; i++) r = (r * BigInt(n - k + i)) / BigInt(i);
+  return r;
+}
+function hyperPmf(N: number, K: number, n: number, k: number): number {
+  if (N > 1000) {
+    // large populations: log-gamma from simple-statistics (an independent implementation)
+    const lc = (a: number, b: number) => gammaln(a + 1) - gammaln(b + 1) - gammaln(a - b + 1);
+    return Math.exp(lc(K, k) + lc(N - K, n - k) - lc(N, n));
+  }
+  const num = choose(K, k) * choose(N - K, n - k);
+  const den = choose(N, n);
+  const scale = 10n ** 30n;
+  return Number((num * scale) / den) / 1e30;
+}
+/** Pearson goodness-of-fit p-value of observed counts against probabilities (cells with expected ≥ 5, rest pooled). */
+function gofP(obs: number[], probs: number[], total: number): number {
+  let x2 = 0, df = -1, poolO = 0, poolE = 0;
+  obs.forEach((o, k) => {
+    const e = probs[k]! * total;
+    if (e >= 5) { x2 += (o - e) ** 2 / e; df++; } else { poolO += o; poolE += e; }
+  });
+  if (poolE > 0) { x2 += (poolO - poolE) ** 2 / poolE; df++; }
+  return chiSquareUpper(x2, df);
+}
+
+describe("rng", () => {
+  it("createRng is deterministic per (seed, key) and streams differ across keys and seeds", () => {
+    const a = createRng(7, "x\u0000y");
+    const b = createRng(7, "x\u0000y");
+    const seqA = Array.from({ length: 5 }, () => a.nextUint32());
+    expect(Array.from({ length: 5 }, () => b.nextUint32())).toEqual(seqA);
+    const c = createRng(7, "x\u0000z");
+    const d = createRng(8, "x\u0000y");
+    expect(Array.from({ length: 5 }, () => c.nextUint32())).not.toEqual(seqA);
+    expect(Array.from({ length: 5 }, () => d.nextUint32())).not.toEqual(seqA);
+    expect(() => createRng(NaN)).toThrow(/finite/);
+  });
+
+  it("nextInt is uniform (chi-square goodness of fit) and nextFloat lies in [0, 1)", () => {
+    const r = createRng(1, "uniform");
+    const counts = new Array(7).fill(0);
+    for (let i = 0; i < 70_000; i++) counts[r.nextInt(7)]++;
+    expect(gofP(counts, new Array(7).fill(1 / 7), 70_000)).toBeGreaterThan(1e-3);
+    let mn = 1, mx = 0, s = 0;
+    for (let i = 0; i < 100_000; i++) { const u = r.nextFloat(); mn = Math.min(mn, u); mx = Math.max(mx, u); s += u; }
+    expect(mn).toBeGreaterThanOrEqual(0);
+    expect(mx).toBeLessThan(1);
+    // mean of 1e5 uniforms: sd = 1/√(12·1e5) ≈ 0.000913; 5 sd (common practice)
+    expect(Math.abs(s / 100_000 - 0.5)).toBeLessThan(5 * 0.000913);
+  });
+
+  it("streamKeyOfClaim ignores the order of the conditioning set; hashString32 is FNV-1a", () => {
+    expect(streamKeyOfClaim({ x: "a", y: "b", given: ["d", "c"] })).toBe(streamKeyOfClaim({ x: "a", y: "b", given: ["c", "d"] }));
+    expect(hashString32("")).toBe(0x811c9dc5); // FNV-1a offset basis (Fowler–Noll–Vo, from memory)
+    expect(hashString32("a")).toBe(0xe40c292c); // FNV-1a 32 of "a", published test vector (from memory)
+  });
+});
+
+describe("permutation", () => {
+  it("hypergeometricDraw follows the exact hypergeometric pmf (goodness of fit, small and large populations)", () => {
+    for (const [N, K, n] of [[20, 7, 9], [500, 120, 200], [100_000, 30_000, 5_000]] as const) {
+      const lf = logFactorialTable(N);
+      const rng = createRng(3, `h${N}`);
+      const draws = 20_000;
+      const lo = Math.max(0, n - (N - K));
+      const hi = Math.min(n, K);
+      const counts = new Array(hi - lo + 1).fill(0);
+      for (let i = 0; i < draws; i++) {
+        const k = hypergeometricDraw(rng, N, K, n, lf);
+        expect(k).toBeGreaterThanOrEqual(lo);
+        expect(k).toBeLessThanOrEqual(hi);
+        counts[k - lo]++;
+      }
+      const probs = counts.map((c, i) => (c > 0 || Math.abs(i + lo - (n * K) / N) < 6 * Math.sqrt(n) ? hyperPmf(N, K, n, i + lo) : 0));
+      expect(gofP(counts, probs, draws)).toBeGreaterThan(1e-3);
+    }
+  });
+
+  it("hypergeometricDraw handles degenerate supports", () => {
+    const lf = logFactorialTable(10);
+    const rng = createRng(1);
+    expect(hypergeometricDraw(rng, 10, 10, 4, lf)).toBe(4);
+    expect(hypergeometricDraw(rng, 10, 0, 4, lf)).toBe(0);
+    expect(hypergeometricDraw(rng, 10, 3, 10, lf)).toBe(3);
+    expect(hypergeometricDraw(rng, 10, 3, 0, lf)).toBe(0);
+  });
+
+  it("randomTableWithMargins keeps the margins and matches the table of a shuffled column (same G² distribution)", () => {
+    const rowM = [5, 9, 6];
+    const colM = [8, 4, 8];
+    const N = 20;
+    const lf = logFactorialTable(N);
+    const rng = createRng(11, "tables");
+    const out = new Float64Array(9);
+    const xs = new Int32Array(N), ys = new Int32Array(N);
+    let at = 0;
+    rowM.forEach((r, i) => { for (let t = 0; t < r; t++) xs[at++] = i; });
+    at = 0;
+    colM.forEach((c, j) => { for (let t = 0; t < c; t++) ys[at++] = j; });
+    const reps = 20_000;
+    const cell00a = new Array(6).fill(0);
+    const cell00b = new Array(6).fill(0);
+    for (let b = 0; b < reps; b++) {
+      randomTableWithMargins(rowM, colM, rng, lf, out);
+      for (let i = 0; i < 3; i++) expect(out[3 * i]! + out[3 * i + 1]! + out[3 * i + 2]!).toBe(rowM[i]);
+      for (let j = 0; j < 3; j++) expect(out[j]! + out[3 + j]! + out[6 + j]!).toBe(colM[j]);
+      cell00a[out[0]!]++;
+      shuffleInPlace(xs, rng);
+      let c00 = 0;
+      for (let q = 0; q < N; q++) if (xs[q] === 0 && ys[q] === 0) c00++;
+      cell00b[c00]++;
+    }
+    // cell (0,0) is hypergeometric(N = 20, K = 8, n = 5) under both methods (textbook)
+    const probs = cell00a.map((_, k) => hyperPmf(20, 8, 5, k));
+    expect(gofP(cell00a, probs, reps)).toBeGreaterThan(1e-3);
+    expect(gofP(cell00b, probs, reps)).toBeGreaterThan(1e-3);
+    expect(() => randomTableWithMargins([1, 2], [2, 2], rng, lf, out)).toThrow(/agree/);
+  });
+
+  it("monteCarloPValue is (1 + hits)/(1 + B), never 0, counts ties, and validates B", () => {
+    let i = 0;
+    const seq = [1, 5, 3, 2, 3 - 1e-12];
+    expect(monteCarloPValue(3, 5, () => seq[i++]!)).toBeCloseTo((1 + 3) / 6, 15); // 5, 3 and the rounding tie
+    expect(monteCarloPValue(1e9, 10, () => 0)).toBe(1 / 11);
+    expect(monteCarloPValue(3, 4, () => 1)).toBe(0.2);
+    expect(() => monteCarloPValue(1, 0, () => 0)).toThrow(/positive integer/);
+    expect(() => monteCarloPValue(NaN, 10, () => 0)).toThrow(/finite/);
+  });
+
+  it("shuffleInPlace gives each of the 6 orders of 3 items equally often", () => {
+    const rng = createRng(5, "shuffle");
+    const counts = new Map<string, number>();
+    for (let i = 0; i < 60_000; i++) {
+      const a = shuffleInPlace(new Int32Array([0, 1, 2]), rng);
+      counts.set(a.join(""), (counts.get(a.join("")) ?? 0) + 1);
+    }
+    expect(counts.size).toBe(6);
+    expect(gofP([...counts.values()], new Array(6).fill(1 / 6), 60_000)).toBeGreaterThan(1e-3);
+  });
+});
