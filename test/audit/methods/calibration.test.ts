@@ -1,0 +1,161 @@
+/**
+ * Calibration under true claims: when x ⫫ y | given holds by construction, a test at α = 0.05
+ * must reject in about 5% of seeded replications. The acceptance band is the exact central 99%
+ * interval of Binomial(R, 0.05), computed here from the binomial pmf (common practice).
+ */
+import { describe, expect, it } from "vitest";
+import type { Column, Table, VariableType } from "../../../src/data/Table.js";
+import { regressionLr } from "../../../src/audit/methods/regressionLr.js";
+import { stratifiedChisq } from "../../../src/audit/methods/stratifiedChisq.js";
+import type { TestContext, TestMethod } from "../../../src/audit/TestMethod.js";
+import type { Claim, TestOutcome } from "../../../src/audit/types.js";
+import { createRng, type Rng } from "../../../src/stats/rng.js";
+
+const R = 500;
+const ALPHA = 0.05;
+
+/** Exact central 99% interval [lo, hi] of Binomial(n, p): P(X < lo) ≤ 0.005 and P(X > hi) ≤ 0.005. */
+function binomialInterval(n: number, p: number, level = 0.99): [number, number] {
+  const tail = (1 - level) / 2;
+  const pmf: number[] = [];
+  let logC = 0;
+  for (let k = 0; k <= n; k++) {
+    if (k > 0) logC += Math.log(n - k + 1) - Math.log(k);
+    pmf.push(Math.exp(logC + k * Math.log(p) + (n - k) * Math.log(1 - p)));
+  }
+  let lo = 0, acc = 0;
+  while (acc + pmf[lo]! <= tail) acc += pmf[lo++]!;
+  let hi = n; acc = 0;
+  while (acc + pmf[hi]! <= tail) acc += pmf[hi--]!;
+  return [lo, hi];
+}
+const [LO, HI] = binomialInterval(R, ALPHA);
+
+function cat(name: string, codes: Int32Array, L: number, type: VariableType = "nominal"): Column {
+  return { name, type, typeSource: "declared", codes, levels: Array.from({ length: L }, (_, i) => `v${i}`), values: Float64Array.from(codes), missing: 0 };
+}
+function num(name: string, values: Float64Array): Column {
+  return { name, type: "continuous", typeSource: "declared", values, missing: 0 };
+}
+function table(cols: Column[]): Table {
+  return { rows: cols[0]!.values.length, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
+}
+function ctx(t: Table, seed: number): TestContext {
+  const unused = () => { throw new Error("not used"); };
+  return { table: t, moments: { patterns: 0, completeRows: 0, momentsFor: unused }, rankMoments: unused, seed };
+}
+/** Draw a category from weights. */
+function draw(rng: Rng, w: readonly number[]): number {
+  const tot = w.reduce((a, b) => a + b, 0);
+  let u = rng.nextFloat() * tot;
+  for (let k = 0; k < w.length; k++) { u -= w[k]!; if (u < 0) return k; }
+  return w.length - 1;
+}
+function normal(rng: Rng): number {
+  return Math.sqrt(-2 * Math.log(1 - rng.nextFloat())) * Math.cos(2 * Math.PI * rng.nextFloat());
+}
+
+function rejectionRate(method: TestMethod, claim: Claim, make: (rng: Rng) => Table, check: (o: TestOutcome) => void): number {
+  let rejected = 0;
+  for (let r = 0; r < R; r++) {
+    const rng = createRng(r, `calibration:${claim.x}:${claim.y}:${method.name}`);
+    const res = method.run(claim, ctx(make(rng), r));
+    if (!res.ok) throw new Error(`replication ${r} untestable: ${res.reason}`);
+    check(res.outcome);
+    expect(Number.isFinite(res.outcome.p) && res.outcome.p > 0 && res.outcome.p <= 1).toBe(true);
+    if (res.outcome.p <= ALPHA) rejected++;
+  }
+  console.log(`${method.name} ${claim.x} ⫫ ${claim.y} | ${claim.given.join(", ")}: ${rejected}/${R} rejected at ${ALPHA} (band ${LO}–${HI})`);
+  return rejected;
+}
+
+describe("calibration under true claims (500 seeded replications, exact binomial 99% band)", () => {
+  it("binomialInterval(500, 0.05) is the exact central 99% band", () => {
+    // scipy.stats.binom.ppf(0.005, 500, 0.05) = 13 and binom.isf(0.005, 500, 0.05) = 38 (scipy 1.17, run by hand)
+    expect([LO, HI]).toEqual([13, 38]);
+  });
+
+  it("stratified-chisq, binary x, y, z (n = 300, asymptotic G²): rejection rate in the band", () => {
+    const n = 300;
+    const rej = rejectionRate(stratifiedChisq, { x: "x", y: "y", given: ["z"] }, (rng) => {
+      const z = new Int32Array(n), x = new Int32Array(n), y = new Int32Array(n);
+      for (let i = 0; i < n; i++) {
+        z[i] = draw(rng, [0.4, 0.6]);
+        x[i] = draw(rng, z[i] ? [0.3, 0.7] : [0.6, 0.4]);
+        y[i] = draw(rng, z[i] ? [0.5, 0.5] : [0.8, 0.2]);
+      }
+      return table([cat("x", x, 2, "binary"), cat("y", y, 2, "binary"), cat("z", z, 2, "binary")]);
+    }, (o) => expect(o.p_method).toBe("asymptotic"));
+    expect(rej).toBeGreaterThanOrEqual(LO);
+    expect(rej).toBeLessThanOrEqual(HI);
+  }, 20_000);
+
+  it("stratified-chisq, nominal 3 × 4 levels in 3 strata, sparse (n = 90): the sparse rule switches to permutation, rate in the band", () => {
+    const n = 90;
+    const rej = rejectionRate(stratifiedChisq, { x: "x", y: "y", given: ["z"] }, (rng) => {
+      const z = new Int32Array(n), x = new Int32Array(n), y = new Int32Array(n);
+      for (let i = 0; i < n; i++) {
+        z[i] = draw(rng, [1, 1, 1]);
+        x[i] = draw(rng, z[i] === 0 ? [3, 1, 1] : z[i] === 1 ? [1, 2, 2] : [1, 1, 3]);
+        y[i] = draw(rng, z[i] === 2 ? [1, 1, 2, 4] : [2, 2, 1, 1]);
+      }
+      return table([cat("x", x, 3), cat("y", y, 4), cat("z", z, 3)]);
+    }, (o) => {
+      expect(o.p_method).toBe("permutation");
+      expect(o.B).toBe(2000);
+    });
+    expect(rej).toBeGreaterThanOrEqual(LO);
+    expect(rej).toBeLessThanOrEqual(HI);
+  }, 20_000);
+
+  it("regression-lr, nominal x (4 levels) and continuous y given binary z (linear LR, n = 200): rate in the band", () => {
+    const n = 200;
+    const rej = rejectionRate(regressionLr, { x: "x", y: "y", given: ["z"] }, (rng) => {
+      const z = new Int32Array(n), x = new Int32Array(n), y = new Float64Array(n);
+      for (let i = 0; i < n; i++) {
+        z[i] = draw(rng, [1, 1]);
+        x[i] = draw(rng, z[i] ? [1, 2, 3, 4] : [4, 3, 2, 1]);
+        y[i] = 1.5 * z[i]! + normal(rng);
+      }
+      return table([cat("x", x, 4), num("y", y), cat("z", z, 2, "binary")]);
+    }, (o) => expect(o.details!.model).toBe("linear"));
+    expect(rej).toBeGreaterThanOrEqual(LO);
+    expect(rej).toBeLessThanOrEqual(HI);
+  }, 20_000);
+
+  it("regression-lr, nominal x (3 levels) and binary y given continuous c (logistic LR, n = 300): rate in the band", () => {
+    const n = 300;
+    const rej = rejectionRate(regressionLr, { x: "x", y: "y", given: ["c"] }, (rng) => {
+      const c = new Float64Array(n), x = new Int32Array(n), y = new Int32Array(n);
+      for (let i = 0; i < n; i++) {
+        c[i] = normal(rng);
+        x[i] = draw(rng, c[i]! > 0 ? [1, 2, 3] : [3, 2, 1]);
+        y[i] = rng.nextFloat() < 1 / (1 + Math.exp(-(0.2 + 0.8 * c[i]!))) ? 1 : 0;
+      }
+      return table([cat("x", x, 3), cat("y", y, 2, "binary"), num("c", c)]);
+    }, (o) => {
+      expect(o.details!.model).toBe("logistic");
+      expect(o.df).toBe(2);
+    });
+    expect(rej).toBeGreaterThanOrEqual(LO);
+    expect(rej).toBeLessThanOrEqual(HI);
+  }, 20_000);
+
+  it("regression-lr, nominal x (3 levels) and nominal y (4 levels) given continuous c (multinomial LR, n = 400): rate in the band", () => {
+    const n = 400;
+    const rej = rejectionRate(regressionLr, { x: "x", y: "y", given: ["c"] }, (rng) => {
+      const c = new Float64Array(n), x = new Int32Array(n), y = new Int32Array(n);
+      for (let i = 0; i < n; i++) {
+        c[i] = normal(rng);
+        x[i] = draw(rng, c[i]! > 0 ? [1, 2, 3] : [3, 2, 1]);
+        y[i] = draw(rng, [1, Math.exp(0.5 * c[i]!), Math.exp(-0.5 * c[i]!), 1]);
+      }
+      return table([cat("x", x, 3), cat("y", y, 4), num("c", c)]);
+    }, (o) => {
+      expect(o.details).toMatchObject({ model: "multinomial", response: "x" });
+      expect(o.df).toBe(6); // 2 response logits × 3 dummies of y
+    });
+    expect(rej).toBeGreaterThanOrEqual(LO);
+    expect(rej).toBeLessThanOrEqual(HI);
+  }, 20_000);
+});
