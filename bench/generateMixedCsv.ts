@@ -49,7 +49,8 @@ export async function generateMixedCohort(csvPath: string, graphPath: string, sp
   const idx = names.map((_, i) => i).sort(() => rand() - 0.5);
   const kind: Array<"cont" | "bin" | "ord" | "nom"> = names.map(() => "cont");
   idx.slice(0, spec.categorical).forEach((i, k) => (kind[i] = (["bin", "ord", "nom"] as const)[k % 3]!));
-  const missingCols = new Set(idx.slice(spec.categorical - 5, spec.categorical + 5));
+  const firstMissing = Math.max(0, spec.categorical - 5);
+  const missingCols = new Set(idx.slice(firstMissing, firstMissing + 10));
   const nomLevels = ["alpha", "beta", "gamma", "delta"];
 
   const out = createWriteStream(csvPath, { highWaterMark: 1 << 22 });

@@ -1,0 +1,63 @@
+/**
+ * `npm run bench`: the benchmarks behind the README's figures. Not a timed test.
+ * 1. claim derivation on random DAGs (200 and 1,000 nodes);
+ * 2. `arrowaudit test` end to end on 1,000,000 rows × 50 continuous columns with a few % missing,
+ *    against the I/O floor (reading the file in 4 MiB chunks and counting newlines);
+ * 3. `arrowaudit test` end to end on 1,000,000 rows × 50 mixed columns (30 categorical).
+ * Data are generated (invented) into bench/out/ on first use. Set BENCH_ROWS to run smaller.
+ */
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
+import { join } from "node:path";
+import { fileURLToPath } from "node:url";
+import { benchClaims } from "./claims.js";
+import { generateMixedCohort } from "./generateMixedCsv.js";
+import { ioFloor, measure } from "./measure.js";
+
+const here = fileURLToPath(new URL(".", import.meta.url));
+const out = join(here, "out");
+const root = join(here, "..");
+const cli = join(root, "dist", "cli", "main.js");
+const rows = Number(process.env.BENCH_ROWS ?? 1_000_000);
+
+async function endToEnd(name: string, categorical: number) {
+  const csv = join(out, `${name}-${rows}.csv`);
+  const graph = join(out, `${name}-${rows}.graph.txt`);
+  if (!existsSync(csv) || !existsSync(graph) || !existsSync(graph + ".types")) {
+    console.error(`generating ${csv} ...`);
+    await generateMixedCohort(csv, graph, { rows, nodes: 50, categorical, density: 2, missing: 0.04, seed: 7 + categorical });
+  }
+  const types = readFileSync(graph + ".types", "utf8").trim();
+  await ioFloor(csv); // warm the page cache
+  const floor = await ioFloor(csv);
+  const run = await measure("node", [cli, "test", graph, csv, "--json", "--types", types], { cwd: root });
+  if (run.code !== 0) throw new Error(`arrowaudit test failed (${run.code}): ${run.stderr}`);
+  const result = JSON.parse(run.stdout) as { claims: { test: string }[]; untestable: unknown[]; data: { patterns: number } };
+  const tests: Record<string, number> = {};
+  for (const c of result.claims) tests[c.test] = (tests[c.test] ?? 0) + 1;
+  return {
+    case: name,
+    rows,
+    columns: 50,
+    categorical,
+    claims: result.claims.length,
+    untestable: result.untestable.length,
+    patterns: result.data.patterns,
+    tests,
+    io_floor_s: +floor.seconds.toFixed(2),
+    end_to_end_s: +run.seconds.toFixed(2),
+    ratio_to_floor: +(run.seconds / floor.seconds).toFixed(1),
+    peak_rss_mb: Math.round(run.peakRssMB),
+  };
+}
+
+mkdirSync(out, { recursive: true });
+if (!existsSync(cli)) throw new Error("build first: npm run build");
+const results: Record<string, unknown> = {};
+results.claims = await benchClaims();
+console.log(JSON.stringify(results.claims, null, 2));
+results.numeric = await endToEnd("numeric", 0);
+console.log(JSON.stringify(results.numeric, null, 2));
+results.mixed = await endToEnd("mixed", 30);
+console.log(JSON.stringify(results.mixed, null, 2));
+writeFileSync(join(out, "results.json"), JSON.stringify(results, null, 2));
+console.log(`results written to ${join(out, "results.json")}`);
