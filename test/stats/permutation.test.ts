@@ -1,6 +1,6 @@
 import { gammaln } from "simple-statistics";
 import { describe, expect, it } from "vitest";
-import { hypergeometricDraw, logFactorialTable, monteCarloPValue, randomTableWithMargins, shuffleInPlace } from "../../src/stats/permutation.js";
+import { hypergeometricDraw, logFactorialTable, monteCarloPValue, randomTableWithMargins, sequentialMonteCarloPValue, shuffleInPlace } from "../../src/stats/permutation.js";
 import { chiSquareUpper } from "../../src/stats/pvalues.js";
 import { createRng, hashString32, streamKeyOfClaim } from "../../src/stats/rng.js";
 
@@ -135,6 +135,25 @@ describe("permutation", () => {
     expect(monteCarloPValue(3, 4, () => 1)).toBe(0.2);
     expect(() => monteCarloPValue(1, 0, () => 0)).toThrow(/positive integer/);
     expect(() => monteCarloPValue(NaN, 10, () => 0)).toThrow(/finite/);
+  });
+
+  it("sequentialMonteCarloPValue stops after h hits with p = h/L, else equals the fixed-B p-value", () => {
+    expect(sequentialMonteCarloPValue(0, 1000, 10, () => 1)).toEqual({ p: 1, draws: 10 });
+    let i = 0;
+    // hits at every 4th draw: the 5th hit comes at draw 20 → p = 5/20 (Besag & Clifford 1991)
+    expect(sequentialMonteCarloPValue(1, 1000, 5, () => (++i % 4 === 0 ? 2 : 0))).toEqual({ p: 0.25, draws: 20 });
+    expect(sequentialMonteCarloPValue(1, 99, 5, () => 0)).toEqual({ p: 0.01, draws: 99 });
+    // validity: under the null (uniform statistics), P(p ≤ 0.05) ≤ 0.05 — 2000 seeded trials,
+    // band of Bin(2000, 0.05) is 76..126 (scipy binom.ppf/isf(0.005, 2000, 0.05), run by hand)
+    const rng = createRng(2, "besag");
+    let rej = 0;
+    for (let t = 0; t < 2000; t++) {
+      const obs = rng.nextFloat();
+      if (sequentialMonteCarloPValue(obs, 399, 10, () => rng.nextFloat()).p <= 0.05) rej++;
+    }
+    expect(rej).toBeLessThanOrEqual(126);
+    expect(rej).toBeGreaterThanOrEqual(76);
+    expect(() => sequentialMonteCarloPValue(1, 10, 0, () => 0)).toThrow(/positive integer/);
   });
 
   it("shuffleInPlace gives each of the 6 orders of 3 items equally often", () => {

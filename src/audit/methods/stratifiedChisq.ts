@@ -15,11 +15,13 @@
  * *Sparse rule*: when more than 20% of the cells of the used strata have an expected count below
  * 5 (Cochran 1954, Biometrics 10:417–451 — common practice), or when the user asks for
  * permutations, the p-value is a Monte-Carlo permutation p-value: x is permuted within each
- * stratum (the stratum's x and y margins stay fixed) B times (default 2000) and
- * p = (1 + #{G²* ≥ G²})/(1 + B). The random numbers come from the stream of (ctx.seed, claim)
- * (see `stats/rng.ts`). Small strata (at most 64 rows) are permuted as expanded rows by
- * Fisher–Yates; larger strata are drawn cell by cell from conditional hypergeometric
- * distributions, which gives the same distribution of tables at O(r·c·√n_s) per draw.
+ * stratum (the stratum's x and y margins stay fixed) up to B times (default 2000) and
+ * p = (1 + #{G²* ≥ G²})/(1 + B); sequentially (Besag & Clifford 1991, Biometrika 78:301–304), the
+ * drawing stops once 20 permuted G² reach the observed one, with p = 20/L after L draws, and `B`
+ * reports the draws made. The random numbers come from the stream of (ctx.seed, claim)
+ * (see `stats/rng.ts`). Small strata (at most 64 rows, or at most 4 rows per cell) are permuted
+ * as expanded rows by Fisher–Yates; larger strata are drawn cell by cell from conditional
+ * hypergeometric distributions, which gives the same distribution of tables at O(r·c·√n_s) per draw.
  *
  * Effect: √(1 − exp(−G²/n)), signed by the odds ratio only for a 1-df test (one used 2 × 2
  * stratum); 95% interval from the noncentral chi-square inversion of Steiger (1990).
@@ -28,7 +30,7 @@ import type { Column } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrEffectCI, lrToEffect } from "../../stats/effectScale.js";
 import { mantelHaenszel } from "../../stats/mantelHaenszel.js";
-import { logFactorialTable, monteCarloPValue, randomTableWithMargins, shuffleInPlace } from "../../stats/permutation.js";
+import { logFactorialTable, randomTableWithMargins, sequentialMonteCarloPValue, shuffleInPlace } from "../../stats/permutation.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import { stratifiedChiSquare, type ContingencyStratum } from "../../stats/stratifiedChiSquare.js";
@@ -40,8 +42,13 @@ import { groupRows } from "./groupRows.js";
 export const DEFAULT_PERMUTATIONS = 2000;
 /** Share of sparse cells (expected count < 5) above which the permutation p-value is used. */
 export const SPARSE_SHARE = 0.2;
-/** Strata up to this many rows are permuted as expanded rows; larger ones by hypergeometric draws. */
-const SHUFFLE_MAX_ROWS = 64;
+/** Draws reaching the observed G² after which the sequential permutation test stops (Besag & Clifford 1991). */
+export const STOP_AFTER_HITS = 20;
+/**
+ * A stratum is permuted as expanded rows when it has at most this many rows per cell of its
+ * table (or at most 64 rows); otherwise by hypergeometric draws, which cost O(cells) per table.
+ */
+const SHUFFLE_ROWS_PER_CELL = 4;
 
 /** A used stratum prepared for permutation. */
 interface PermStratum {
@@ -136,7 +143,7 @@ function buildStrata(x: Column, y: Column, given: readonly Column[], rows: numbe
  * The statistic compared is Σ_s Σ_cells O ln O, which differs from G²/2 by a constant given the
  * margins. Cost: O(B · Σ_s min(n_s, r_s·c_s·√n_s)).
  */
-function permutationP(tables: readonly CompactStratum[], B: number, seed: number, key: string): number {
+function permutationP(tables: readonly CompactStratum[], B: number, seed: number, key: string): { p: number; draws: number } {
   const used: PermStratum[] = [];
   let maxN = 0;
   for (const t of tables) {
@@ -154,7 +161,7 @@ function permutationP(tables: readonly CompactStratum[], B: number, seed: number
     if (t.rows < 2 || t.cols < 2) continue;
     maxN = Math.max(maxN, tot);
     const ps: PermStratum = { r: t.rows, c: t.cols, rowMargins, colMargins };
-    if (tot <= SHUFFLE_MAX_ROWS) {
+    if (tot <= 64 || tot <= SHUFFLE_ROWS_PER_CELL * t.rows * t.cols) {
       const xs = new Int32Array(tot);
       const ys = new Int32Array(tot);
       let at = 0;
@@ -201,7 +208,7 @@ function permutationP(tables: readonly CompactStratum[], B: number, seed: number
     }
     return stat;
   };
-  return monteCarloPValue(observed, B, draw);
+  return sequentialMonteCarloPValue(observed, B, STOP_AFTER_HITS, draw);
 }
 
 /**
@@ -250,8 +257,10 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   let B: number | undefined;
   if (permute) {
     B = ctx.permutations ?? DEFAULT_PERMUTATIONS;
-    p = permutationP(tables, B, ctx.seed, streamKeyOfClaim(claim));
+    const perm = permutationP(tables, B, ctx.seed, streamKeyOfClaim(claim));
+    p = perm.p;
     logP = Math.log(p);
+    if (perm.draws < B) B = perm.draws;
     if (sparse) warnings.push(`${(100 * sparseShare).toFixed(0)}% of expected counts are below 5; p-value from ${B} permutations within strata`);
   } else {
     logP = logPAsymptotic;

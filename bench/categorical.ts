@@ -1,0 +1,59 @@
+/**
+ * Micro-benchmark of the categorical and regression likelihood-ratio methods at 1,000,000 rows:
+ * a generated table with 30 categorical and 20 continuous variables, and one claim of each
+ * kind the methods meet. Prints the wall time per claim.
+ * Run: node --import tsx bench/categorical.ts [rows]
+ */
+import type { Column, Table, VariableType } from "../src/data/Table.js";
+import { regressionLr } from "../src/audit/methods/regressionLr.js";
+import { stratifiedChisq } from "../src/audit/methods/stratifiedChisq.js";
+import type { TestContext, TestMethod } from "../src/audit/TestMethod.js";
+import type { Claim } from "../src/audit/types.js";
+import { createRng } from "../src/stats/rng.js";
+
+const rows = Number(process.argv[2] ?? 1_000_000);
+const rng = createRng(42, "bench");
+const cols: Column[] = [];
+const cont: Float64Array[] = [];
+for (let j = 0; j < 20; j++) {
+  const v = new Float64Array(rows);
+  for (let i = 0; i < rows; i++) {
+    const u = Math.sqrt(-2 * Math.log(1 - rng.nextFloat())) * Math.cos(2 * Math.PI * rng.nextFloat());
+    v[i] = j > 0 ? 0.5 * cont[j - 1]![i]! + u : u;
+  }
+  cont.push(v);
+  cols.push({ name: `c${j}`, type: "continuous", typeSource: "inferred", values: v, missing: 0 });
+}
+for (let j = 0; j < 30; j++) {
+  const L = [2, 3, 4, 5, 8][j % 5]!;
+  const type: VariableType = L === 2 ? "binary" : j % 2 ? "ordinal" : "nominal";
+  const codes = new Int32Array(rows);
+  const src = cont[j % 20]!;
+  for (let i = 0; i < rows; i++) {
+    const s = src[i]! + (rng.nextFloat() - 0.5) * 2;
+    codes[i] = Math.min(L - 1, Math.max(0, Math.floor((s + 2) * (L / 4))));
+    if (rng.nextFloat() < 0.01) codes[i] = -1; // 1% missing
+  }
+  cols.push({ name: `k${j}`, type, typeSource: "inferred", codes, levels: Array.from({ length: L }, (_, i) => `l${i}`), values: Float64Array.from(codes, (c) => (c < 0 ? NaN : c)), missing: 0 });
+}
+const table: Table = { rows, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
+const unused = () => { throw new Error("not used"); };
+const ctx = (extra: Partial<TestContext> = {}): TestContext => ({ table, moments: { patterns: 0, completeRows: 0, momentsFor: unused }, rankMoments: unused, seed: 1, ...extra });
+
+const cases: [string, TestMethod, Claim, Partial<TestContext>][] = [
+  ["chisq binary×binary | 3 categorical", stratifiedChisq, { x: "k0", y: "k5", given: ["k1", "k2", "k3"] }, {}],
+  ["chisq 8×5 levels | 6 categorical (sparse → permutation)", stratifiedChisq, { x: "k4", y: "k3", given: ["k1", "k2", "k6", "k7", "k8", "k9"] }, {}],
+  ["chisq 3×4 | 2 categorical, 2000 permutations forced", stratifiedChisq, { x: "k1", y: "k2", given: ["k6", "k7"] }, { permutations: 2000 }],
+  ["regression linear: nominal x (8) → continuous y | 3 continuous + 2 categorical", regressionLr, { x: "k4", y: "c10", given: ["c1", "c2", "c3", "k1", "k2"] }, {}],
+  ["regression logistic: binary y, nominal x (4) | 3 continuous", regressionLr, { x: "k2", y: "k0", given: ["c1", "c5", "c9"] }, {}],
+  ["regression multinomial: nominal y (4), x (3) | 2 continuous", regressionLr, { x: "k1", y: "k12", given: ["c1", "c5"] }, {}],
+  ["regression grouped: binary y, nominal x | 3 categorical", regressionLr, { x: "k4", y: "k5", given: ["k1", "k2", "k3"] }, {}],
+];
+console.log(`rows: ${rows}`);
+for (const [label, method, claim, extra] of cases) {
+  const t0 = performance.now();
+  const r = method.run(claim, ctx(extra));
+  const ms = performance.now() - t0;
+  const info = r.ok ? `${r.outcome.test} stat ${r.outcome.statistic.toFixed(2)} df ${r.outcome.df} p ${r.outcome.p.toExponential(2)} ${r.outcome.p_method}${r.outcome.warnings ? " warn: " + r.outcome.warnings.join("; ") : ""}` : `untestable: ${r.reason}`;
+  console.log(`${(ms / 1000).toFixed(2).padStart(6)} s  ${label}  [${info}]`);
+}
