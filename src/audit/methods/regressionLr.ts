@@ -143,7 +143,7 @@ function quoted(names: readonly string[]): string {
 /**
  * Regression likelihood-ratio test of one claim (see the module comment).
  * Cost: grouped categorical data O(rows·k + iterations·G·p²) for G groups; otherwise
- * O(rows·p²) per Newton iteration (about 5–8 iterations per model) or one QR, O(rows·p²).
+ * O(rows·p²) per Newton iteration (about 5–8 iterations per model) or one Givens QR pass, O(rows·p²).
  * Source: Wilks (1938); McCullagh & Nelder (1989), Generalized Linear Models, 2nd ed.; Agresti
  * (2013), Categorical Data Analysis, 3rd ed., §8.1.
  * @example
@@ -272,7 +272,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     return { ok: false, reason: `${n} complete rows are too few for the ${p * q} parameters of the full model; collect more data or use a smaller set` };
   }
   const X1 = toRowMajor(kept.map((j) => allCols[j]!), m);
-  const X0 = toRowMajor(kept.slice(0, p0).map((j) => allCols[j]!), m);
+  const nullDesign = () => toRowMajor(kept.slice(0, p0).map((j) => allCols[j]!), m);
 
   let lr: number;
   let addedCoef: number | undefined;
@@ -302,14 +302,14 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     let f0: LogisticFit | MultinomialFit;
     let f1: LogisticFit | MultinomialFit;
     if (kind === "logistic") {
-      f0 = logisticRegression(X0, m, p0, y, { weights });
+      f0 = logisticRegression(nullDesign(), m, p0, y, { weights });
       const start = new Float64Array(p);
       start.set(f0.coef);
       f1 = logisticRegression(X1, m, p, y, { weights, start });
       addedCoef = f1.coef[p - 1];
     } else {
       const K = respLevels.length;
-      f0 = multinomialLogit(X0, m, p0, y, K, { weights });
+      f0 = multinomialLogit(nullDesign(), m, p0, y, K, { weights });
       const start = new Float64Array(q * p);
       for (let k = 0; k < q; k++) for (let j = 0; j < p0; j++) start[k * p + j] = f0.coef[k * p0 + j]!;
       f1 = multinomialLogit(X1, m, p, y, K, { weights, start });
