@@ -6,14 +6,18 @@
  * regresses the response on an intercept and the given variables; the *full model* adds the
  * added side. LR = 2(ℓ1 − ℓ0) is referred to χ² on the number of added (non-aliased) parameters
  * (Wilks 1938, Annals of Mathematical Statistics 9:60–62).
- * - Response choice: the continuous side when there is one (y first) → Gaussian linear model,
- *   LR = n·ln(RSS0/RSS1); else a side with exactly two observed levels (y first) → logistic
- *   regression; else the side with fewer observed levels (y on ties) → multinomial
- *   (baseline-category) logit. *An ordinal response is modelled by a multinomial logit: no
- *   proportional-odds assumption is made*, so ordinal and nominal responses are treated alike.
- * - Predictors: a continuous variable enters as one column (centred and scaled, which changes
- *   no likelihood); a categorical variable (binary, ordinal or nominal) as 0/1 dummies for its
- *   observed levels except the first observed one (levels with no complete row get no column).
+ * - Response choice: the continuous side when there is one (y first); else an ordinal side (y
+ *   first), modelled through its scores; both give a Gaussian linear model, LR = n·ln(RSS0/RSS1),
+ *   computed from the pattern-grouped moments (`ctx.moments`) at a cost independent of the number
+ *   of rows. In these linear models binary and ordinal predictors enter as scores and nominal ones
+ *   as dummies, as in the partial correlations. Otherwise a side with exactly two observed levels
+ *   (y first) → logistic regression; else the side with fewer observed levels (y on ties) →
+ *   multinomial (baseline-category) logit. *An ordinal response is treated as scores (no
+ *   proportional-odds model)*: the test then asks whether the added side shifts its mean.
+ * - Predictors of logistic and multinomial models: a continuous variable enters as one column
+ *   (centred and scaled, which changes no likelihood); a categorical variable (binary, ordinal or
+ *   nominal) as 0/1 dummies for its observed levels except the first observed one (levels with no
+ *   complete row get no column).
  *   Columns aliased with earlier ones (pivots below 1e-9 of their scale in a Cholesky sweep of the
  *   Gram matrix) are dropped, given columns first, so the df counts only identifiable parameters.
  * - Grouping: when the response and every predictor are categorical, identical complete rows are
@@ -31,7 +35,7 @@
 import type { Column } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrEffectCI, lrToEffect } from "../../stats/effectScale.js";
-import { linearLR } from "../../stats/linearLR.js";
+import { gaussianLRFromMoments } from "../../stats/gaussianLRFromMoments.js";
 import { logisticRegression, type LogisticFit } from "../../stats/logisticRegression.js";
 import { multinomialLogit, type MultinomialFit } from "../../stats/multinomialLogit.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
@@ -39,7 +43,7 @@ import type { MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { Claim, TestOutcome } from "../types.js";
 import { groupRows } from "./groupRows.js";
 
-type ModelKind = "linear" | "logistic" | "multinomial";
+type ModelKind = "logistic" | "multinomial";
 
 function isCategorical(c: Column): boolean {
   return CATEGORICAL_TYPES.has(c.type) && c.codes !== undefined && c.levels !== undefined;
@@ -161,13 +165,13 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   const [xCol, yCol, ...givenCols] = cols as [Column, Column, ...Column[]];
   const rows = ctx.table.rows;
 
-  // Response choice.
+  // Continuous or ordinal response: Gaussian linear models from the pattern moments.
+  const scoredResponse = [yCol, xCol].find((c) => c.type === "continuous") ?? [yCol, xCol].find((c) => c.type === "ordinal");
+  if (scoredResponse) return linearFromMoments(claim, scoredResponse, scoredResponse === yCol ? xCol : yCol, ctx);
+
+  // Binary or nominal response (both sides are binary or nominal here): chosen below from the observed levels.
   const cat = (c: Column) => isCategorical(c);
-  let resp: Column;
-  let added: Column;
-  if (!cat(yCol)) [resp, added] = [yCol, xCol];
-  else if (!cat(xCol)) [resp, added] = [xCol, yCol];
-  else [resp, added] = [yCol, xCol]; // both categorical: refined below from the observed levels
+  let [resp, added] = [yCol, xCol];
 
   const allCategorical = cols.every(cat);
   const warnings: string[] = [];
@@ -229,16 +233,11 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     const lx = observedLevels(codesOf(xCol), xCol.levels!.length, weights, m).length;
     if (ly !== 2 && (lx === 2 || lx < ly)) [resp, added] = [xCol, yCol];
   }
-  let kind: ModelKind;
-  let respLevels: number[] = [];
-  if (!cat(resp)) kind = "linear";
-  else {
-    respLevels = observedLevels(codesOf(resp), resp.levels!.length, weights, m);
-    if (respLevels.length < 2) {
-      return { ok: false, reason: `"${resp.name}" has a single observed level among the ${n} complete rows; the claim cannot be tested` };
-    }
-    kind = respLevels.length === 2 ? "logistic" : "multinomial";
+  const respLevels = observedLevels(codesOf(resp), resp.levels!.length, weights, m);
+  if (respLevels.length < 2) {
+    return { ok: false, reason: `"${resp.name}" has a single observed level among the ${n} complete rows; the claim cannot be tested` };
   }
+  const kind: ModelKind = respLevels.length === 2 ? "logistic" : "multinomial";
 
   // Design blocks.
   const blockOf = (c: Column): Block => cat(c) ? categoricalBlock(c.name, codesOf(c), c.levels!, weights, m) : continuousBlock(c.name, valuesOf(c));
@@ -286,14 +285,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     grouped: allCategorical,
     fitted_rows: m,
   };
-  if (kind === "linear") {
-    const y = valuesOf(resp);
-    const res = linearLR(X1, m, p, p0, y);
-    if (!res) return { ok: false, reason: `the linear model of "${resp.name}" fits exactly or is rank deficient among the ${n} complete rows; the claim cannot be tested` };
-    lr = res.lr;
-    addedCoef = res.coef[p - 1];
-    Object.assign(details, { rss_null: res.rss0, rss_full: res.rss1, loglik_null: res.logLik0, loglik_full: res.logLik1 });
-  } else {
+  {
     const codes = codesOf(resp);
     const recode = new Int32Array(resp.levels!.length).fill(-1);
     respLevels.forEach((l, i) => (recode[l] = i));
@@ -330,15 +322,64 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     Object.assign(details, { loglik_null: f0.logLik, loglik_full: f1.logLik, iterations: [f0.iterations, f1.iterations] });
   }
   if (!Number.isFinite(lr)) return { ok: false, reason: `the likelihood-ratio statistic of "${added.name}" is not finite; the claim cannot be tested with these data` };
-  if (lr < 0) lr = 0; // rounding: the full model's likelihood cannot be lower
-  const pAsym = chiSquareUpper(lr, df);
-  const logP = logChiSquareUpper(lr, df);
   let sign: -1 | 0 | 1 = 1;
   if (df === 1 && addedCoef !== undefined && Number.isFinite(addedCoef)) sign = addedCoef > 0 ? 1 : addedCoef < 0 ? -1 : 0;
-  const effect = lrToEffect(lr, n, sign);
-  const [lo, hi] = lrEffectCI(lr, df, n, 0.95);
   if (addedCoef !== undefined && df === 1) details.added_coefficient = addedCoef;
-  const outcome: TestOutcome = {
+  const outcome = lrOutcome(lr, df, n, sign, details, warnings);
+  return { ok: true, outcome };
+}
+
+/** Gaussian LR of the linear models of a continuous or ordinal (scored) response, from `ctx.moments`. */
+function linearFromMoments(claim: Claim, resp: Column, added: Column, ctx: TestContext): MethodResult {
+  const m = ctx.moments.momentsFor([resp.name, added.name, ...claim.given]);
+  const k = m.design.length;
+  const n = m.n;
+  const names = [claim.x, claim.y, ...claim.given];
+  if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
+  const idx = (source: string) => m.design.flatMap((d, i) => (d.source === source ? [i] : []));
+  const respIdx = idx(resp.name)[0]!;
+  const addedIdx = idx(added.name);
+  const givenIdx = claim.given.flatMap(idx);
+  if (!(m.cov[respIdx * k + respIdx]! > 0)) {
+    return { ok: false, reason: `"${resp.name}" is constant among the ${n} complete rows; the claim cannot be tested` };
+  }
+  if (addedIdx.every((i) => !(m.cov[i * k + i]! > 0))) {
+    return { ok: false, reason: `"${added.name}" is constant among the ${n} complete rows; the claim cannot be tested` };
+  }
+  const fit = gaussianLRFromMoments(m.cov, k, n, respIdx, givenIdx, addedIdx);
+  if (!fit) return { ok: false, reason: `the linear model of "${resp.name}" fits exactly among the ${n} complete rows; the claim cannot be tested` };
+  const warnings: string[] = [];
+  const droppedBase = givenIdx.length - fit.givenKept;
+  if (droppedBase > 0) warnings.push(`${droppedBase} column${droppedBase > 1 ? "s" : ""} of the given set aliased with others (or empty levels) and dropped`);
+  if (fit.df === 0) {
+    return { ok: false, reason: `"${added.name}" is determined by ${claim.given.length ? quoted(claim.given) : "the intercept"} among the complete rows (aliased); the claim cannot be tested` };
+  }
+  const p = 1 + fit.givenKept + fit.df;
+  if (n <= p + 1) {
+    return { ok: false, reason: `${n} complete rows are too few for the ${p} parameters of the full model; collect more data or use a smaller set` };
+  }
+  const details: Record<string, unknown> = {
+    model: "linear",
+    response: resp.name,
+    ...(resp.type === "ordinal" ? { response_scored: true } : {}),
+    added: added.name,
+    parameters_null: 1 + fit.givenKept,
+    parameters_full: p,
+    fitted_from: "moments",
+    residual_variance_null: fit.residualVarianceNull,
+    residual_variance_full: fit.residualVarianceFull,
+  };
+  return { ok: true, outcome: lrOutcome(fit.lr, fit.df, n, fit.sign, details, warnings) };
+}
+
+/** The common tail of every regression LR: p-value, log p, effect and its interval. */
+function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, details: Record<string, unknown>, warnings: string[]): TestOutcome {
+  const lr = lrIn < 0 ? 0 : lrIn; // rounding: the full model's likelihood cannot be lower
+  const pAsym = chiSquareUpper(lr, df);
+  const logP = logChiSquareUpper(lr, df);
+  const effect = lrToEffect(lr, n, df === 1 ? sign : 1);
+  const [lo, hi] = lrEffectCI(lr, df, n, 0.95);
+  return {
     test: "regression-lr",
     n,
     statistic: lr,
@@ -346,12 +387,11 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     p: pAsym > 0 ? pAsym : Number.MIN_VALUE,
     log_p: logP,
     effect,
-    ci: sign < 0 ? [-hi, -lo] : [lo, hi],
+    ci: df === 1 && sign < 0 ? [-hi, -lo] : [lo, hi],
     p_method: "asymptotic",
     details,
     ...(warnings.length ? { warnings } : {}),
   };
-  return { ok: true, outcome };
 }
 
 /** The `regression-lr` test method: accepts every mix of variable types. */

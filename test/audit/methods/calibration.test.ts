@@ -5,6 +5,7 @@
  */
 import { describe, expect, it } from "vitest";
 import type { Column, Table, VariableType } from "../../../src/data/Table.js";
+import { buildPatternMoments } from "../../../src/data/buildPatternMoments.js";
 import { regressionLr } from "../../../src/audit/methods/regressionLr.js";
 import { stratifiedChisq } from "../../../src/audit/methods/stratifiedChisq.js";
 import type { TestContext, TestMethod } from "../../../src/audit/TestMethod.js";
@@ -42,7 +43,9 @@ function table(cols: Column[]): Table {
 }
 function ctx(t: Table, seed: number): TestContext {
   const unused = () => { throw new Error("not used"); };
-  return { table: t, moments: { patterns: 0, completeRows: 0, momentsFor: unused }, rankMoments: unused, seed };
+  // Linear models (continuous or ordinal response) read the pattern moments, built here on demand.
+  const moments = { patterns: 0, completeRows: 0, momentsFor: (vars: readonly string[]) => buildPatternMoments(t, { variables: [...vars] }).momentsFor(vars) };
+  return { table: t, moments, rankMoments: unused, seed };
 }
 /** Draw a category from weights. */
 function draw(rng: Rng, w: readonly number[]): number {

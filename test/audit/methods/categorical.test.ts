@@ -1,6 +1,7 @@
 import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
+import { buildPatternMoments } from "../../../src/data/buildPatternMoments.js";
 import type { Column, Table, VariableType } from "../../../src/data/Table.js";
 import { groupRows } from "../../../src/audit/methods/groupRows.js";
 import { regressionLr } from "../../../src/audit/methods/regressionLr.js";
@@ -28,8 +29,10 @@ function table(cols: Column[]): Table {
   return { rows, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
 }
 function ctx(t: Table, extra: Partial<TestContext> = {}): TestContext {
-  const unused = () => { throw new Error("moments are not used by categorical methods"); };
-  return { table: t, moments: { patterns: 0, completeRows: 0, momentsFor: unused }, rankMoments: unused, seed: 1, ...extra };
+  const unused = () => { throw new Error("ranks are not used by these methods"); };
+  // Linear models (continuous or ordinal response) read the pattern moments, built here on demand.
+  const moments = { patterns: 0, completeRows: 0, momentsFor: (vars: readonly string[]) => buildPatternMoments(t, { variables: [...vars] }).momentsFor(vars) };
+  return { table: t, moments, rankMoments: unused, seed: 1, ...extra };
 }
 function ok(r: ReturnType<typeof stratifiedChisq.run>): TestOutcome {
   if (!r.ok) throw new Error(`expected a test outcome, got untestable: ${r.reason}`);
