@@ -225,14 +225,16 @@ function rowPatterns(table: Table, names: readonly string[]): RowPatterns {
   const cols = names.map((n) => table.column(n)!.values);
   const nw = Math.max(1, Math.ceil(names.length / 32));
   const index = new Int32Array(table.rows);
-  const byKey = new Map<string, number>();
+  const byKey = new Map<number | string, number>();
+  // A number key while the mask fits in 53 bits (two words), a string beyond.
+  const numericKey = names.length <= 53;
   const words: Uint32Array[] = [];
   const counts: number[] = [];
   const w = new Uint32Array(nw);
   for (let r = 0; r < table.rows; r++) {
     w.fill(0);
     for (let j = 0; j < cols.length; j++) if (!Number.isNaN(cols[j]![r]!)) w[j >>> 5] |= 1 << (j & 31);
-    const key = nw === 1 ? String(w[0]) : w.join(",");
+    const key = numericKey ? w[0]! + (nw > 1 ? w[1]! * 4294967296 : 0) : w.join(",");
     let k = byKey.get(key);
     if (k === undefined) {
       k = words.length;
