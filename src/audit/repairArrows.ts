@@ -36,5 +36,5 @@ export function isAncestor(graph: Graph, a: string, b: string): boolean {
 
 /** A node name as written in a graph file: bare when it is a plain identifier, else double-quoted. */
 export function quoteName(name: string): string {
-  return /^[\p{L}\p{N}_.]+$/u.test(name) ? name : `"${name.replace(/\\/g, "\\\\").replace(/"/g, '\\"')}"`;
+  return /^[\p{L}\p{M}\p{N}_.]+$/u.test(name) ? name : `"${name.replace(/\\/g, "\\\\").replace(/"/g, '\\"')}"`;
 }

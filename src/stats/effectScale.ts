@@ -34,6 +34,23 @@ export function lrToEffect(lr: number, n: number, sign: -1 | 0 | 1 = 1): number 
   return sign * Math.sqrt(-Math.expm1(-lr / n));
 }
 
+/**
+ * The effect reported for a likelihood-ratio test on `df` degrees of freedom: for df = 1,
+ * sign·√(1 − exp(−LR/n)) ({@link lrToEffect}, equal to |r| for the Gaussian partial-correlation LR);
+ * for df > 1, where LR has expectation df even when nothing is there, the chance part is removed
+ * first, √(1 − exp(−max(0, LR − df)/n)), as the RMSEA does (Steiger 1990), so that the point lies
+ * inside the interval of {@link lrEffectCI} (whose λ has the unbiased estimate max(0, LR − df)).
+ * Cost: O(1).
+ * Source: Steiger (1990), Multivariate Behavioral Research 25:173–180.
+ * @throws {RangeError} as lrToEffect; when df is not positive
+ * @example lrEffect(20, 1, 100) // ≈ 0.4257, as lrToEffect(20, 100)
+ * @example lrEffect(3, 6, 500)  // 0: below its chance expectation
+ */
+export function lrEffect(lr: number, df: number, n: number, sign: -1 | 0 | 1 = 1): number {
+  if (!(df > 0)) throw new RangeError(`df must be positive, got ${df}`);
+  return df === 1 ? lrToEffect(lr, n, sign) : lrToEffect(Math.max(0, lr - df), n, 1);
+}
+
 /** Solve P(χ²(df, λ) ≥ lr) = target for λ ≥ 0 by bracketing and bisection on λ (tail increases with λ). */
 function solveNoncentrality(lr: number, df: number, target: number): number {
   const sf = (lambda: number): number => noncentralChiSquareUpper(lr, df, lambda);

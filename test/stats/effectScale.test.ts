@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { lrEffectCI, lrToEffect } from "../../src/stats/effectScale.js";
+import { lrEffect, lrEffectCI, lrToEffect } from "../../src/stats/effectScale.js";
 import { noncentralChiSquareUpper } from "../../src/stats/noncentralChiSquare.js";
 import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
 
@@ -76,5 +76,24 @@ describe("lrEffectCI", () => {
     expect(() => lrEffectCI(1, 0, 10)).toThrow(/df must be positive/);
     expect(() => lrEffectCI(1, 1, 0)).toThrow(/sample size/);
     expect(() => lrEffectCI(1, 1, 10, 1)).toThrow(/confidence level/);
+  });
+});
+
+describe("lrEffect", () => {
+  it("lrEffect equals lrToEffect for 1 df (so |r| for the Gaussian LR) and removes the chance expectation df for more", () => {
+    expect(lrEffect(20, 1, 100, -1)).toBe(lrToEffect(20, 100, -1));
+    expect(lrEffect(3, 6, 500)).toBe(0); // below its expectation under the null
+    expect(lrEffect(26, 6, 500)).toBeCloseTo(Math.sqrt(1 - Math.exp(-20 / 500)), 15);
+  });
+
+  it("lrEffect lies inside lrEffectCI for every LR, df and n (property)", () => {
+    fc.assert(
+      fc.property(fc.double({ min: 0, max: 400, noNaN: true }), fc.integer({ min: 1, max: 40 }), fc.integer({ min: 50, max: 100000 }), (lr, df, n) => {
+        const e = lrEffect(lr, df, n);
+        const [lo, hi] = lrEffectCI(lr, df, n);
+        return lo <= e + 1e-12 && e <= hi + 1e-12;
+      }),
+      { numRuns: 150, seed: 7 },
+    );
   });
 });

@@ -29,12 +29,13 @@
  *   separation and non-convergence within 50 Newton iterations give a `warnings` entry and the
  *   test goes on at the last iterate. The p-value is always asymptotic (permutations are not
  *   used by this method; see `stratified-chisq` for the permutation test).
- * - Effect: sign·√(1 − exp(−LR/n)), signed by the added coefficient only for 1-df tests; 95%
- *   interval by noncentral chi-square inversion (Steiger 1990).
+ * - Effect: sign·√(1 − exp(−LR/n)) for 1-df tests, signed by the added coefficient; for more df,
+ *   √(1 − exp(−max(0, LR − df)/n)) (`lrEffect`); 95% interval by noncentral chi-square inversion
+ *   (Steiger 1990).
  */
 import type { Column } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
-import { lrEffectCI, lrToEffect } from "../../stats/effectScale.js";
+import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
 import { gaussianLRFromMoments } from "../../stats/gaussianLRFromMoments.js";
 import { logisticRegression, type LogisticFit } from "../../stats/logisticRegression.js";
 import { multinomialLogit, type MultinomialFit } from "../../stats/multinomialLogit.js";
@@ -377,7 +378,7 @@ function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, detail
   const lr = lrIn < 0 ? 0 : lrIn; // rounding: the full model's likelihood cannot be lower
   const pAsym = chiSquareUpper(lr, df);
   const logP = logChiSquareUpper(lr, df);
-  const effect = lrToEffect(lr, n, df === 1 ? sign : 1);
+  const effect = lrEffect(lr, df, n, sign);
   const [lo, hi] = lrEffectCI(lr, df, n, 0.95);
   return {
     test: "regression-lr",
