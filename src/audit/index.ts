@@ -1,0 +1,6 @@
+export { runAudit, DEFAULT_SETTINGS, type AuditOptions } from "./runAudit.js";
+export type { AuditResult, AuditSettings, Claim, GlobalTest, TestedClaim, TestName, TestOutcome, UntestableClaim, VariableSummary, Verdict } from "./types.js";
+export type { ClaimTypes, MethodResult, TestContext, TestMethod } from "./TestMethod.js";
+export { METHODS, chooseMethod } from "./methods/index.js";
+export { repairArrows, isAncestor } from "./repairArrows.js";
+export { compareClaims } from "./rankClaims.js";

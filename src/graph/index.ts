@@ -1,0 +1,12 @@
+export type { Graph } from "./Graph.js";
+export { createGraph, type GraphSpec } from "./createGraph.js";
+export { parseGraph, type ParsedGraph, type ParseGraphOptions } from "./parseGraph.js";
+export { parseDot, type ParseDotOptions } from "./parseDot.js";
+export { readGraphSource, looksLikeDot, type GraphFormat, type ReadGraphSourceOptions } from "./readGraphSource.js";
+export { checkColumns, findClosestNames, type CheckColumnsOptions, type ColumnCheck } from "./checkColumns.js";
+export { withUnmeasured } from "./withUnmeasured.js";
+export { ancestors } from "./ancestors.js";
+export { dSeparated } from "./dSeparated.js";
+export { findMinimalSeparator, type SeparatorOptions } from "./findMinimalSeparator.js";
+export { listMinimalSeparators, type ListSeparatorsOptions, type SeparatorList } from "./listMinimalSeparators.js";
+export { deriveClaims, type ClaimSets, type DeriveClaimsOptions, type DerivedClaims } from "./deriveClaims.js";

@@ -1,0 +1,15 @@
+export { chiSquareUpper, logChiSquareUpper, logStudentTTwoSided, normalTwoSided, studentTTwoSided } from "./pvalues.js";
+export { normalQuantile, chiSquareQuantile } from "./quantiles.js";
+export { cholesky, choleskySolve, choleskyLogDet, leastSquaresQR, type LeastSquaresFit } from "./linalg.js";
+export { partialCorrelation, partialCorrelationWithReason } from "./partialCorrelation.js";
+export { partialCorrelationTest } from "./partialCorrelationTest.js";
+export { adjustPValues, type AdjustMethod } from "./adjustPValues.js";
+export { fisherC } from "./fisherC.js";
+export { noncentralChiSquareCdf, noncentralChiSquareUpper } from "./noncentralChiSquare.js";
+export { lrEffect, lrEffectCI, lrToEffect } from "./effectScale.js";
+export { gaussianLRFromMoments } from "./gaussianLRFromMoments.js";
+export { stratifiedChiSquare, type ContingencyStratum } from "./stratifiedChiSquare.js";
+export { mantelHaenszel } from "./mantelHaenszel.js";
+export { logisticRegression } from "./logisticRegression.js";
+export { multinomialLogit } from "./multinomialLogit.js";
+export { createRng, type Rng } from "./rng.js";
