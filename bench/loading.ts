@@ -57,7 +57,7 @@ export async function benchLoading(path: string): Promise<LoadingPhase[]> {
   out.push({ phase: "I/O floor", seconds: (performance.now() - t0) / 1000, peakRssMiB: peakMiB(), detail: `${(bytes / 1e6).toFixed(1)} MB, ${lines} lines` });
 
   t0 = performance.now();
-  const table = await readTable(fileChunks(path), { file: path });
+  const table = await readTable(fileChunks(path), { file: path }, { totalBytes: bytes });
   out.push({
     phase: "readTable",
     seconds: (performance.now() - t0) / 1000,

@@ -2,11 +2,13 @@
  * Column builder: receives the cells of a table row by row (as parsed numbers or as text)
  * and produces typed columns once, without keeping the text of number cells.
  *
- * Storage while reading: per column, blocks of BLOCK_ROWS doubles (NaN for a missing or a
- * text cell) and, only for blocks that contain text, blocks of Int32 text codes (-1 for no
- * text) into a per-column dictionary of distinct labels. At the end every column is copied
- * once into a Float64Array of exactly `rows` elements and its blocks are dropped, so the peak
- * is the data plus one column. Number cells are classified by {@link ColumnBuilder.num},
+ * Storage while reading: per column, one Float64Array of `capacity` doubles written in place
+ * (NaN for a missing or a text cell) and, only for columns that contain text, one Int32Array
+ * of text codes (-1 for no text) into a per-column dictionary of distinct labels. The capacity
+ * starts at the caller's estimate of the row count (see {@link ColumnBuilder.reserve}) and
+ * grows by half when exceeded, one column at a time; at the end a column with more than 1/8
+ * unused capacity is copied once to its exact length, otherwise it is handed over as a view,
+ * so the peak is the data plus at most one column. Number cells are classified by {@link ColumnBuilder.num},
  * text cells by {@link ColumnBuilder.text}; both paths of the reader go through these two
  * methods, which is what makes them produce identical tables.
  */
@@ -16,7 +18,7 @@ import { DEFAULT_MISSING_CODES } from "./readOptions.js";
 import { parseNumberText } from "./parseNumberText.js";
 import type { Column, Table, VariableType } from "./Table.js";
 
-export const BLOCK_ROWS = 65536;
+const INITIAL_CAPACITY = 1024;
 const TRACK_LIMIT = MAX_INFERRED_ORDINAL_LEVELS + 1;
 
 export interface BuilderOptions {
@@ -45,17 +47,23 @@ export class ColumnBuilder {
   readonly decimalComma: boolean;
   readonly file?: string;
 
+  /** Rows finished so far; the record being read is written at this index. */
   rows = 0;
-  /** Row index inside the current block. */
-  blockRow = BLOCK_ROWS;
-  /** Current value block per kept column. */
-  readonly cur: Float64Array[] = [];
+  /** Rows the columns can hold before they grow. */
+  capacity = 0;
+  /** Values per kept column (capacity long; the first `rows` are filled). */
+  readonly vals: Float64Array[] = [];
+  /**
+   * Per kept column, 1 when a number cell needs no classification beyond storing it (no
+   * numeric missing codes, distinct-value tracking finished): then `vals[c][rows] = v` is
+   * exactly what {@link ColumnBuilder.num} does. The byte scanner uses it to skip the call.
+   */
+  readonly plain: Uint8Array;
   /** Line (1-based) of the record being read. */
   line = 0;
   blankLines = 0;
 
-  private readonly blocks: Float64Array[][] = [];
-  private readonly textBlocks: (Int32Array | undefined)[][] = [];
+  private readonly textCodes: (Int32Array | undefined)[] = [];
   private readonly missingCount: Float64Array;
   private readonly textCount: Float64Array;
   private readonly distinct: Float64Array[] = [];
@@ -95,10 +103,10 @@ export class ColumnBuilder {
     this.distinctN = new Int32Array(k);
     this.overflow = new Uint8Array(k);
     this.allInt = new Uint8Array(k).fill(1);
+    this.plain = new Uint8Array(k);
     for (let c = 0; c < k; c++) {
-      this.blocks.push([]);
-      this.textBlocks.push([]);
-      this.cur.push(new Float64Array(0));
+      this.textCodes.push(undefined);
+      this.vals.push(new Float64Array(0));
       this.distinct.push(new Float64Array(TRACK_LIMIT));
       this.dict.push(new Map());
       this.labels.push([]);
@@ -113,7 +121,28 @@ export class ColumnBuilder {
     }
   }
 
-  /** Start a record that begins on `line`. Cost: O(1) amortised (a new block every BLOCK_ROWS rows). */
+  /**
+   * Make room for at least `rows` rows in every column (an estimate of the final row count
+   * avoids regrowing). Cost: O(rows · columns) when it grows, else O(1).
+   */
+  reserve(rows: number): void {
+    if (rows <= this.capacity) return;
+    const cap = Math.ceil(rows);
+    for (let c = 0; c < this.vals.length; c++) {
+      const v = new Float64Array(cap);
+      v.set(this.vals[c]!.subarray(0, this.rows));
+      this.vals[c] = v;
+      const t = this.textCodes[c];
+      if (t !== undefined) {
+        const u = new Int32Array(cap).fill(-1);
+        u.set(t.subarray(0, this.rows));
+        this.textCodes[c] = u;
+      }
+    }
+    this.capacity = cap;
+  }
+
+  /** Start a record that begins on `line`. Cost: O(1) amortised (the columns grow by half when full). */
   beginRecord(line: number): void {
     this.line = line;
     const offset = line - this.rows;
@@ -122,21 +151,13 @@ export class ColumnBuilder {
       this.lineRows.push(this.rows);
       this.lineOffsets.push(offset);
     }
-    if (this.blockRow === BLOCK_ROWS) {
-      this.blockRow = 0;
-      for (let c = 0; c < this.cur.length; c++) {
-        const b = new Float64Array(BLOCK_ROWS);
-        this.blocks[c]!.push(b);
-        this.cur[c] = b;
-      }
-    }
+    if (this.rows === this.capacity) this.reserve(Math.max(INITIAL_CAPACITY, this.capacity * 1.5));
   }
 
   /** Finish the record; `fields` is the number of fields it had. @throws DataError on a ragged row */
   endRecord(fields: number): void {
     if (fields !== this.header.length) this.raggedError(fields);
     this.rows++;
-    this.blockRow++;
   }
 
   raggedError(fields: number): never {
@@ -153,13 +174,13 @@ export class ColumnBuilder {
       this.miss(c);
       return;
     }
-    this.cur[c]![this.blockRow] = v;
+    this.vals[c]![this.rows] = v;
     if (this.overflow[c] === 0) this.track(c, v);
   }
 
   /** A missing cell. */
   miss(c: number): void {
-    this.cur[c]![this.blockRow] = NaN;
+    this.vals[c]![this.rows] = NaN;
     this.missingCount[c]!++;
   }
 
@@ -175,7 +196,7 @@ export class ColumnBuilder {
       this.num(c, v);
       return;
     }
-    this.cur[c]![this.blockRow] = NaN;
+    this.vals[c]![this.rows] = NaN;
     this.textCount[c]!++;
     const dict = this.dict[c]!;
     let code = dict.get(t);
@@ -184,14 +205,12 @@ export class ColumnBuilder {
       dict.set(t, code);
       this.labels[c]!.push(t);
     }
-    const bi = this.blocks[c]!.length - 1;
-    const tb = this.textBlocks[c]!;
-    let block = tb[bi];
-    if (block === undefined) {
-      block = new Int32Array(BLOCK_ROWS).fill(-1);
-      tb[bi] = block;
+    let codes = this.textCodes[c];
+    if (codes === undefined) {
+      codes = new Int32Array(this.capacity).fill(-1);
+      this.textCodes[c] = codes;
     }
-    block[this.blockRow] = code;
+    codes[this.rows] = code;
     const ft = this.firstTexts[c]!;
     if (ft.length < 3) ft.push({ line: this.line, text: t });
   }
@@ -204,6 +223,7 @@ export class ColumnBuilder {
     if (n === TRACK_LIMIT - 1) {
       this.overflow[c] = 1;
       this.distinctN[c] = TRACK_LIMIT;
+      if (this.numericMissing.length === 0) this.plain[c] = 1;
       return;
     }
     d[n] = v;
@@ -241,33 +261,20 @@ export class ColumnBuilder {
     const columns: Column[] = [];
     for (let c = 0; c < this.names.length; c++) {
       columns.push(this.finishColumn(c, warnings));
-      this.blocks[c] = [];
-      this.textBlocks[c] = [];
+      this.vals[c] = new Float64Array(0);
+      this.textCodes[c] = undefined;
     }
     return assembleTable(this.file, this.rows, columns, warnings);
   }
 
+  /** The column's values (and text codes) at their exact length: a view when little capacity is unused, else a copy. */
   private gather(c: number): { values: Float64Array; texts?: Int32Array } {
     const n = this.rows;
-    const values = new Float64Array(n);
-    const blocks = this.blocks[c]!;
-    for (let b = 0; b < blocks.length; b++) {
-      const start = b * BLOCK_ROWS;
-      const len = Math.min(BLOCK_ROWS, n - start);
-      if (len <= 0) break;
-      values.set(len === BLOCK_ROWS ? blocks[b]! : blocks[b]!.subarray(0, len), start);
-    }
+    const exact = <T extends Float64Array | Int32Array>(a: T): T =>
+      (a.length === n ? a : 8 * (a.length - n) <= a.length ? a.subarray(0, n) : a.slice(0, n)) as T;
+    const values = exact(this.vals[c]!);
     if (this.textCount[c] === 0) return { values };
-    const texts = new Int32Array(n).fill(-1);
-    const tb = this.textBlocks[c]!;
-    for (let b = 0; b < tb.length; b++) {
-      const block = tb[b];
-      if (block === undefined) continue;
-      const start = b * BLOCK_ROWS;
-      const len = Math.min(BLOCK_ROWS, n - start);
-      texts.set(len === BLOCK_ROWS ? block : block.subarray(0, len), start);
-    }
-    return { values, texts };
+    return { values, texts: exact(this.textCodes[c]!) };
   }
 
   private finishColumn(c: number, warnings: string[]): Column {

@@ -19,7 +19,7 @@ const MINUS = 45;
 const DOT = 46;
 const COMMA = 44;
 const MAX_SAFE = 9007199254740991;
-const POW10 = Array.from({ length: 23 }, (_, i) => Number(`1e${i}`));
+const POW10 = Float64Array.from({ length: 23 }, (_, i) => Number(`1e${i}`));
 const utf8 = new TextDecoder("utf-8");
 
 /** Decode bytes [start, end) as UTF-8 (short ASCII runs without TextDecoder). */
@@ -52,6 +52,8 @@ export function scanUnquotedRecords(
   line: number,
 ): number {
   const map = b.fieldToColumn;
+  const vals = b.vals;
+  const plain = b.plain;
   const nf = map.length;
   const mark = b.decimalComma ? COMMA : DOT;
   let p = start;
@@ -64,6 +66,7 @@ export function scanUnquotedRecords(
       continue;
     }
     b.beginRecord(line);
+    const row = b.rows;
     let f = 0;
     for (;;) {
       const c = f < nf ? map[f]! : -1;
@@ -123,8 +126,10 @@ export function scanUnquotedRecords(
         if (ok && atEnd) {
           const e10 = exp - frac;
           if (m <= MAX_SAFE && e10 >= -22 && e10 <= 22) {
-            const v = e10 < 0 ? m / POW10[-e10]! : m * POW10[e10]!;
-            b.num(c, neg ? -v : v);
+            let v = e10 < 0 ? m / POW10[-e10]! : m * POW10[e10]!;
+            if (neg) v = -v;
+            if (plain[c] === 1) vals[c]![row] = v;
+            else b.num(c, v);
           } else {
             b.text(c, decodeBytes(buf, p, q));
           }
