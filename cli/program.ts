@@ -64,7 +64,8 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .argument("<graph>", "graph file (.txt in arrowaudit's format, or .dot/.gv)")
       .option("--json", "print one JSON document", false)
       .option("--ascii", "ASCII output only (x _indep_ y | a)", false)
-      .option("--columns <data.csv>", "check graph names against this CSV's header"),
+      .option("--columns <data.csv>", "check graph names against this CSV's header")
+      .option("--max-sets <n>", "with --sets all-minimal: most separating sets listed per pair", numberIn("--max-sets", 1, 100000, true), 100),
   ).action(async (graph: string, opts: Record<string, unknown>) => {
     state.code = await runClaims(io, graph, opts);
   });

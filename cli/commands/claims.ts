@@ -14,8 +14,19 @@ export async function runClaims(io: Io, graphPath: string, opts: Record<string, 
     const header = readHeader(readHead(opts.columns, io.cwd), { file: opts.columns });
     ignored = checkColumns(graph, header, { file: opts.columns }).ignoredColumns;
   }
-  const { claims, untestable } = deriveClaims(graph, { sets: opts.sets as "union-parents" | "minimal" | "all-minimal" });
-  const doc = { graph: graphJson(graph), claims, untestable, ...(ignored ? { ignored_columns: ignored } : {}) };
+  const sets = opts.sets as "union-parents" | "minimal" | "all-minimal";
+  const cap = opts.maxSets as number;
+  const { claims, untestable, truncatedPairs } = deriveClaims(graph, { sets, cap });
+  const doc = {
+    graph: graphJson(graph),
+    claims,
+    untestable,
+    ...(ignored ? { ignored_columns: ignored } : {}),
+    ...(sets === "all-minimal" ? { max_sets: cap, truncated_pairs: truncatedPairs } : {}),
+  };
+  if (truncatedPairs > 0) {
+    io.stderr(`note: ${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than ${cap} minimal separating sets; only the first ${cap} of each are listed (raise --max-sets to see more)\n`);
+  }
   if (opts.json) io.stdout(JSON.stringify(doc, null, 2) + "\n");
   else {
     io.stdout(renderClaimsText(doc, { ascii: !!opts.ascii }));

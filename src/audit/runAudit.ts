@@ -64,7 +64,8 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
     );
   }
   const warnings: string[] = [...table.warnings];
-  const { claims, untestable: graphUntestable } = deriveClaims(graph, { sets: settings.sets });
+  const { claims, untestable: graphUntestable, truncatedPairs } = deriveClaims(graph, { sets: settings.sets });
+  if (truncatedPairs > 0) warnings.push(`${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than 100 minimal separating sets; only 100 of each were tested`);
 
   // Missing-data patterns over the measured variables (one pass over the rows).
   const rp = rowPatterns(table, measured);

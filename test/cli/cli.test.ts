@@ -13,7 +13,7 @@ const root = join(import.meta.dirname, "..", "..");
 const fixtures = join(root, "test", "fixtures", "cli");
 const demo = join(root, "data", "demo");
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-cli-"));
-for (const f of ["cycle.txt", "syntax.txt", "typo.txt", "chain.txt", "stray.csv", "ragged.csv"]) copyFileSync(join(fixtures, f), join(work, f));
+for (const f of ["many-separators.txt", "cycle.txt", "syntax.txt", "typo.txt", "chain.txt", "stray.csv", "ragged.csv"]) copyFileSync(join(fixtures, f), join(work, f));
 copyFileSync(join(demo, "graph.txt"), join(work, "demo-graph.txt"));
 copyFileSync(join(demo, "cohort.csv"), join(work, "demo-cohort.csv"));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
@@ -52,6 +52,7 @@ describe("arrowaudit CLI (golden)", () => {
     ["test-demo", ["test", "demo-graph.txt", "demo-cohort.csv", ...DEMO_OPTS], 0],
     ["test-demo-fail", ["test", "demo-graph.txt", "demo-cohort.csv", ...DEMO_OPTS, "--quiet", "--fail-on-contradiction"], 3],
     ["test-demo-csv-bh", ["test", "demo-graph.txt", "demo-cohort.csv", ...DEMO_OPTS, "--csv", "--adjust", "bh"], 0],
+    ["claims-all-minimal-capped", ["claims", "many-separators.txt", "--sets", "all-minimal", "--max-sets", "2"], 0],
     ["error-cycle", ["claims", "cycle.txt"], 2],
     ["error-syntax", ["claims", "syntax.txt"], 2],
     ["error-typo-columns", ["claims", "typo.txt", "--columns", "stray.csv"], 2],
