@@ -23,7 +23,7 @@ const SHORT_TEST: Record<TestName, string> = {
 /**
  * Shorten `s` to at most `max` characters (code points) by cutting its middle and inserting "…"
  * ("..." in ASCII mode). Cost: O(|s|).
- * @example middleEllipsis("systolic_blood_pressure", 12) // "systo…essure"
+ * @example middleEllipsis("systolic_blood_pressure", 12) // "systol…ssure"
  */
 export function middleEllipsis(s: string, max: number, ascii = false): string {
   const cps = [...s];
@@ -140,9 +140,9 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   const colW = head.map((h, i) => Math.max(len(h), ...rows.map((row) => (i === 1 ? 0 : len(row[i] as string)))));
   const gaps = 2 * (head.length - 1);
   const others = colW.reduce((a, b, i) => (i === 1 ? a : a + b), 0);
-  const claimW = Math.max(24, width - gaps - others);
+  const claimW = Math.max(12, width - gaps - others);
   const labelW = Math.min(claimW, Math.max(len(head[1]!), ...r.claims.map((c) => len(claimLabel(c, ascii)))));
-  // Long names stay readable: the claim column spills onto extra lines rather than shrinking below 24.
+  // Long names stay readable: the claim column spills onto extra lines (claimLines) rather than widening the table.
   const widths = colW.map((w, i) => (i === 1 ? labelW : w));
   const rightAligned = new Set([0, 2, 5, 6]);
   const fmtRow = (cells: string[]) => cells.map((s, i) => (rightAligned.has(i) ? padLeft(s, widths[i]!) : pad(s, widths[i]!))).join("  ").trimEnd();
