@@ -24,6 +24,11 @@ import type { DesignColumn, Moments, PatternMoments } from "./Moments.js";
 import type { Table } from "./Table.js";
 
 const TILE = 1024;
+/** Rows per staging tile of a pattern (halved while the tiles exceed STAGING_BYTES). */
+const TILE_ROWS = 256;
+/** Rows read per block in the one-pass accumulation; at most the smallest tile. */
+const BLOCK_ROWS = 32;
+const STAGING_BYTES = 48 * 1024 * 1024;
 const WORD_BITS = 26;
 const DEFAULT_MAX_PATTERN_BYTES = 512 * 1024 * 1024;
 
@@ -36,6 +41,11 @@ export interface PatternMomentsOptions {
   useRanks?: boolean;
   /** Memory budget for the per-pattern statistics, in bytes (default 512 MiB). */
   maxPatternBytes?: number;
+  /**
+   * Memory budget for the one-pass staging tiles, in bytes (default 48 MiB); above it the rows
+   * are first sorted by pattern and read in that order (same moments, slower reads).
+   */
+  maxStagingBytes?: number;
 }
 
 interface DesignSource {
@@ -119,58 +129,83 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
   const V = variables.length;
   const words = Math.max(1, Math.ceil(V / WORD_BITS));
 
-  // Observation masks, column by column.
-  const maskWords: Float64Array[] = [];
-  for (let w = 0; w < words; w++) maskWords.push(new Float64Array(n));
-  for (let vi = 0; vi < V; vi++) {
-    const col = table.column(variables[vi]!)!;
-    const mw = maskWords[Math.floor(vi / WORD_BITS)]!;
-    const bit = 2 ** (vi % WORD_BITS);
-    if (col.type === "nominal") {
-      const codes = col.codes!;
-      for (let i = 0; i < n; i++) if (codes[i]! >= 0) mw[i] += bit;
-    } else {
-      const s = design[designOf[vi]![0]!]!.scores!;
-      for (let i = 0; i < n; i++) if (s[i] === s[i]) mw[i] += bit;
-    }
-  }
-
-  // Shifts: the mean of each design column over its observed (filtered) rows.
+  // One pass per design source: shift (mean over observed, filtered rows) and, for the
+  // variables that are ever missing, a bit per row in the row's missing-pattern key.
   const shift = new Float64Array(D);
+  const keyLo = new Int32Array(n);
+  const keyHi = new Int32Array(n);
+  let activeVars = 0;
+  const bitOfVar = new Int32Array(V).fill(-1);
   for (let j = 0; j < D; j++) {
     const src = design[j]!;
     let sum = 0;
     let cnt = 0;
+    let missing = 0;
     if (src.scores) {
       const s = src.scores;
       for (let i = 0; i < n; i++) {
         const v = s[i]!;
-        if (v === v && (!filter || filter[i] !== 0)) {
-          sum += v;
-          cnt++;
-        }
+        if (v === v) {
+          if (!filter || filter[i] !== 0) {
+            sum += v;
+            cnt++;
+          }
+        } else missing++;
       }
     } else {
       const codes = src.codes!;
       for (let i = 0; i < n; i++) {
         const c = codes[i]!;
-        if (c >= 0 && (!filter || filter[i] !== 0)) {
-          if (c === src.level) sum++;
-          cnt++;
-        }
+        if (c >= 0) {
+          if (!filter || filter[i] !== 0) {
+            if (c === src.level) sum++;
+            cnt++;
+          }
+        } else missing++;
       }
     }
     shift[j] = cnt > 0 ? sum / cnt : 0;
+    if (missing > 0 && bitOfVar[src.variable] === -1) bitOfVar[src.variable] = activeVars++;
+  }
+  // A nominal variable with one level has no design column but can still be missing.
+  for (let vi = 0; vi < V; vi++) {
+    if (bitOfVar[vi] !== -1 || designOf[vi]!.length > 0) continue;
+    const codes = table.column(variables[vi]!)!.codes!;
+    for (let i = 0; i < n; i++) {
+      if (codes[i]! < 0) {
+        bitOfVar[vi] = activeVars++;
+        break;
+      }
+    }
+  }
+  // Key of a row: bit b set when the b-th ever-missing variable is missing (a 31-bit and a
+  // 22-bit word packed exactly in one double up to 53 such variables, a string beyond).
+  const isMissing = (vi: number, i: number): boolean => {
+    const col = table.column(variables[vi]!)!;
+    if (col.type === "nominal") return col.codes![i]! < 0;
+    const s = design[designOf[vi]![0]!]!.scores!;
+    return s[i] !== s[i];
+  };
+  let wide: string[] | undefined;
+  if (activeVars > 53) wide = new Array<string>(n).fill("");
+  for (let vi = 0; vi < V; vi++) {
+    const b = bitOfVar[vi]!;
+    if (b < 0) continue;
+    const col = table.column(variables[vi]!)!;
+    const word = b < 31 ? keyLo : keyHi;
+    const bit = 1 << b % 31;
+    if (wide) {
+      for (let i = 0; i < n; i++) if (isMissing(vi, i)) wide[i] += b + ",";
+    } else if (col.type === "nominal") {
+      const codes = col.codes!;
+      for (let i = 0; i < n; i++) if (codes[i]! < 0) word[i] |= bit;
+    } else {
+      const s = design[designOf[vi]![0]!]!.scores!;
+      for (let i = 0; i < n; i++) if (s[i] !== s[i]) word[i] |= bit;
+    }
   }
 
-  // Pattern of every row.
-  const keyOf = (i: number): number | string => {
-    if (words === 1) return maskWords[0]![i]!;
-    if (words === 2) return maskWords[0]![i]! + maskWords[1]![i]! * 2 ** WORD_BITS;
-    let s = "";
-    for (let w = 0; w < words; w++) s += maskWords[w]![i]! + ",";
-    return s;
-  };
+  // Pattern of every row (a Map lookup only where the key changes from the row before).
   const patternIndex = new Map<number | string, number>();
   const patternOfRow = new Int32Array(n);
   const counts: number[] = [];
@@ -182,7 +217,7 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
       patternOfRow[i] = -1;
       continue;
     }
-    const key = keyOf(i);
+    const key = wide ? wide[i]! : keyLo[i]! + keyHi[i]! * 2147483648;
     let p: number;
     if (key === lastKey) p = lastIdx;
     else {
@@ -199,13 +234,14 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
     patternOfRow[i] = p;
     counts[p]!++;
   }
+  wide = undefined;
   const P = counts.length;
-  const masks = firstRow.map((i) => {
-    const m = new Uint32Array(words);
-    for (let w = 0; w < words; w++) m[w] = maskWords[w]![i]!;
-    return m;
-  });
-  maskWords.length = 0;
+  const masks = firstRow.map((i) =>
+    maskOf(
+      variables.map((_, vi) => vi).filter((vi) => !isMissing(vi, i)),
+      words,
+    ),
+  );
   const observedDesign = (mask: Uint32Array): number[] =>
     design.map((_, j) => j).filter((j) => isObserved(mask, design[j]!.variable));
   const allMask = maskOf(
@@ -273,25 +309,14 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
     };
   }
 
-  // Group rows by pattern (counting sort) and accumulate each pattern's statistics.
-  const start = new Int32Array(P + 1);
-  for (let p = 0; p < P; p++) start[p + 1] = start[p]! + counts[p]!;
-  const fill = start.slice(0, P);
-  const order = new Int32Array(start[P]!);
-  for (let i = 0; i < n; i++) {
-    const p = patternOfRow[i]!;
-    if (p >= 0) order[fill[p]!++] = i;
-  }
+  const observed = masks.map((m) => observedDesign(m));
+  const Z = accumulateByPattern(design, shift, patternOfRow, counts, observed, options.maxStagingBytes ?? STAGING_BYTES) ?? accumulateSorted(kernel, patternOfRow, counts, observed);
   const patterns: Pattern[] = [];
   for (let p = 0; p < P; p++) {
-    const obs = observedDesign(masks[p]!);
-    const d = obs.length;
+    const obs = observed[p]!;
     const pos = new Int32Array(D).fill(-1);
     obs.forEach((j, k) => (pos[j] = k));
-    const sums = new Float64Array(d);
-    const cross = new Float64Array(d * d);
-    kernel.accumulate(order, start[p]!, start[p + 1]!, obs, sums, cross);
-    patterns.push({ count: counts[p]!, mask: masks[p]!, pos, sums, cross });
+    patterns.push({ count: counts[p]!, mask: masks[p]!, pos, sums: Z[p]!.sums, cross: Z[p]!.cross });
   }
 
   return {
@@ -321,6 +346,208 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
       return finish(designIdx, count, S, C);
     },
   };
+}
+
+interface PatternSums {
+  /** Shifted sums over the pattern's observed design columns. */
+  sums: Float64Array;
+  /** Lower triangle of the shifted cross-products, d_p × d_p row-major. */
+  cross: Float64Array;
+}
+
+/**
+ * Group the rows by pattern (counting sort) and run the kernel on each pattern's rows, read
+ * through the row order. Used when the staging tiles of {@link accumulateByPattern} would not
+ * fit its budget (very many patterns). Cost: O(n · d²), with scattered reads.
+ */
+function accumulateSorted(
+  kernel: CrossProductKernel,
+  patternOfRow: Int32Array,
+  counts: readonly number[],
+  observed: readonly number[][],
+): PatternSums[] {
+  const P = counts.length;
+  const start = new Int32Array(P + 1);
+  for (let p = 0; p < P; p++) start[p + 1] = start[p]! + counts[p]!;
+  const fill = start.slice(0, P);
+  const order = new Int32Array(start[P]!);
+  for (let i = 0; i < patternOfRow.length; i++) {
+    const p = patternOfRow[i]!;
+    if (p >= 0) order[fill[p]!++] = i;
+  }
+  const out: PatternSums[] = [];
+  for (let p = 0; p < P; p++) {
+    const d = observed[p]!.length;
+    const sums = new Float64Array(d);
+    const cross = new Float64Array(d * d);
+    kernel.accumulate(order, start[p]!, start[p + 1]!, observed[p]!, sums, cross);
+    out.push({ sums, cross });
+  }
+  return out;
+}
+
+/**
+ * One pass over the rows in file order. Each row's shifted design values (0 for a missing
+ * variable) are appended to a row-major staging tile of its pattern; a full tile is transposed
+ * into a column tile and multiplied in 4 × 2 register blocks into the pattern's running
+ * cross-product over all design columns (the zero entries add nothing), from which the observed
+ * columns are taken at the end. Reads are sequential; the working set is the staging tiles.
+ * Returns undefined when the tiles would need more than `budget` bytes.
+ * Cost: O(n · D²) time, O(P · (T · D + D²)) memory for P patterns, D design columns, tiles of T rows.
+ */
+function accumulateByPattern(
+  design: readonly DesignSource[],
+  shift: Float64Array,
+  patternOfRow: Int32Array,
+  counts: readonly number[],
+  observed: readonly number[][],
+  budget: number,
+): PatternSums[] | undefined {
+  const P = counts.length;
+  const D = design.length;
+  const dpad = Math.ceil(Math.max(1, D) / 4) * 4;
+  let tileRows = TILE_ROWS;
+  const need = (t: number): number => counts.reduce((s, c) => s + 8 * (Math.min(t, c) * dpad + dpad * dpad + dpad), 0);
+  while (tileRows > BLOCK_ROWS && need(tileRows) > budget) tileRows /= 2;
+  if (need(tileRows) > budget) return undefined;
+  const capOf = new Int32Array(P);
+  const offOf = new Float64Array(P);
+  let total = 0;
+  for (let p = 0; p < P; p++) {
+    capOf[p] = Math.min(tileRows, counts[p]!);
+    offOf[p] = total;
+    total += capOf[p]! * dpad;
+  }
+  const stage = new Float64Array(total);
+  const fill = new Int32Array(P);
+  const blockCount = new Int32Array(P);
+  const Z = Array.from({ length: P }, () => new Float64Array(dpad * dpad));
+  const S = Array.from({ length: P }, () => new Float64Array(dpad));
+  const X = new Float64Array(tileRows * dpad);
+  const rowBase = new Float64Array(BLOCK_ROWS);
+
+  const flush = (p: number): void => {
+    const m = fill[p]!;
+    if (m === 0) return;
+    const off = offOf[p]!;
+    const sums = S[p]!;
+    for (let k = 0; k < D; k++) {
+      const xo = k * tileRows;
+      let s = 0;
+      for (let t = 0, o = off + k; t < m; t++, o += dpad) {
+        const v = stage[o]!;
+        X[xo + t] = v;
+        s += v;
+      }
+      sums[k] += s;
+    }
+    crossTile(X, tileRows, m, dpad, Z[p]!);
+    fill[p] = 0;
+  };
+
+  const n = patternOfRow.length;
+  const scores: (Float64Array | undefined)[] = design.map((src) => src.scores);
+  for (let i0 = 0; i0 < n; i0 += BLOCK_ROWS) {
+    const len = Math.min(BLOCK_ROWS, n - i0);
+    for (let r = 0; r < len; r++) {
+      const p = patternOfRow[i0 + r]!;
+      if (p >= 0) blockCount[p]++;
+    }
+    for (let r = 0; r < len; r++) {
+      const p = patternOfRow[i0 + r]!;
+      if (p < 0) {
+        rowBase[r] = -1;
+        continue;
+      }
+      const c = blockCount[p]!;
+      if (c > 0) {
+        if (fill[p]! + c > capOf[p]!) flush(p);
+        blockCount[p] = 0;
+      }
+      rowBase[r] = offOf[p]! + fill[p]!++ * dpad;
+    }
+    for (let k = 0; k < D; k++) {
+      const c = shift[k]!;
+      const s = scores[k];
+      if (s !== undefined) {
+        for (let r = 0; r < len; r++) {
+          const o = rowBase[r]!;
+          if (o < 0) continue;
+          const v = s[i0 + r]!;
+          stage[o + k] = v === v ? v - c : 0;
+        }
+      } else {
+        const codes = design[k]!.codes!;
+        const level = design[k]!.level;
+        for (let r = 0; r < len; r++) {
+          const o = rowBase[r]!;
+          if (o < 0) continue;
+          const code = codes[i0 + r]!;
+          stage[o + k] = code < 0 ? 0 : (code === level ? 1 : 0) - c;
+        }
+      }
+    }
+  }
+  const out: PatternSums[] = [];
+  for (let p = 0; p < P; p++) {
+    flush(p);
+    const obs = observed[p]!;
+    const d = obs.length;
+    const sums = new Float64Array(d);
+    const cross = new Float64Array(d * d);
+    const z = Z[p]!;
+    for (let a = 0; a < d; a++) {
+      sums[a] = S[p]![obs[a]!]!;
+      for (let b = 0; b <= a; b++) cross[a * d + b] = z[obs[a]! * dpad + obs[b]!]!;
+    }
+    out.push({ sums, cross });
+    Z[p] = new Float64Array(0);
+  }
+  return out;
+}
+
+/**
+ * Add the lower-triangle products of a column tile into Z (dpad × dpad, row-major): X holds
+ * dpad columns of `stride` entries, of which the first m rows are used; dpad is a multiple of 4.
+ * Runs in 4 × 2 register blocks (8 accumulators). Cost: O(m · dpad²).
+ */
+function crossTile(X: Float64Array, stride: number, m: number, dpad: number, Z: Float64Array): void {
+  for (let i = 0; i < dpad; i += 4) {
+    const o0 = i * stride;
+    const o1 = o0 + stride;
+    const o2 = o1 + stride;
+    const o3 = o2 + stride;
+    for (let j = 0; j < i + 4; j += 2) {
+      const p0 = j * stride;
+      const p1 = p0 + stride;
+      let s00 = 0, s01 = 0, s10 = 0, s11 = 0, s20 = 0, s21 = 0, s30 = 0, s31 = 0;
+      for (let t = 0; t < m; t++) {
+        const b0 = X[p0 + t]!;
+        const b1 = X[p1 + t]!;
+        const a0 = X[o0 + t]!;
+        s00 += a0 * b0;
+        s01 += a0 * b1;
+        const a1 = X[o1 + t]!;
+        s10 += a1 * b0;
+        s11 += a1 * b1;
+        const a2 = X[o2 + t]!;
+        s20 += a2 * b0;
+        s21 += a2 * b1;
+        const a3 = X[o3 + t]!;
+        s30 += a3 * b0;
+        s31 += a3 * b1;
+      }
+      const r = i * dpad + j;
+      Z[r] += s00;
+      Z[r + 1] += s01;
+      Z[r + dpad] += s10;
+      Z[r + dpad + 1] += s11;
+      Z[r + 2 * dpad] += s20;
+      Z[r + 2 * dpad + 1] += s21;
+      Z[r + 3 * dpad] += s30;
+      Z[r + 3 * dpad + 1] += s31;
+    }
+  }
 }
 
 /**

@@ -123,6 +123,37 @@ describe("buildPatternMoments", () => {
     }
   });
 
+  it("buildPatternMoments gives the same moments from smaller staging tiles and from the sorted-rows path", async () => {
+    const table = await readTable(input);
+    const staged = buildPatternMoments(table, { variables: ALL });
+    // 48 KiB forces tiles of 32 rows on this file; 0 forces the pattern sort instead of staging
+    for (const maxStagingBytes of [48 * 1024, 0]) {
+      const other = buildPatternMoments(table, { variables: ALL, maxStagingBytes });
+      expect(other.patterns).toBe(staged.patterns);
+      for (const vars of [ALL, ["region", "x2"], ["ord", "b", "x4"]]) {
+        const a = staged.momentsFor(vars);
+        const b = other.momentsFor(vars);
+        expect(b.n).toBe(a.n);
+        expectClose(b, a.means, a.cov, 1e-12);
+      }
+    }
+  });
+
+  it("buildPatternMoments keeps patterns apart when more than 31 variables are missing somewhere (two key words)", () => {
+    const data: Record<string, (number | null)[]> = {};
+    for (let j = 0; j < 45; j++) data[`v${j}`] = Array.from({ length: 90 }, (_, i) => (i % 45 === j ? null : i * (j + 1) + (i % 5) * (j % 3)));
+    const t = createTable(data);
+    const vars = Object.keys(data);
+    const pm = buildPatternMoments(t, { variables: vars });
+    expect(pm.patterns).toBe(45);
+    for (const sub of [["v0", "v44", "v31"], ["v32", "v40"], vars]) {
+      const ref = naiveMoments(t, sub);
+      const m = pm.momentsFor(sub);
+      expect(m.n).toBe(ref.n);
+      if (ref.n >= 2) expectClose(m, ref.means, ref.cov, 1e-9);
+    }
+  });
+
   it("momentsFor matches the two-pass definition on random tables with missing values and odd/even design sizes", () => {
     fc.assert(
       fc.property(
