@@ -1,6 +1,8 @@
 import { gammaln } from "simple-statistics";
 import { describe, expect, it } from "vitest";
-import { hypergeometricDraw, logFactorialTable, monteCarloPValue, randomTableWithMargins, sequentialMonteCarloPValue, shuffleInPlace } from "../../src/stats/permutation.js";
+import {
+  createTableStatisticSampler, forkRng, hypergeometricDraw, logFactorialTable, monteCarloPValue, randomTableWithMargins, sequentialMonteCarloPValue, shuffleInPlace,
+} from "../../src/stats/permutation.js";
 import { chiSquareUpper } from "../../src/stats/pvalues.js";
 import { createRng, hashString32, streamKeyOfClaim } from "../../src/stats/rng.js";
 
@@ -165,5 +167,132 @@ describe("permutation", () => {
     }
     expect(counts.size).toBe(6);
     expect(gofP([...counts.values()], new Array(6).fill(1 / 6), 60_000)).toBeGreaterThan(1e-3);
+  });
+});
+
+/** Every table with the given margins and its probability Π r_i! Π c_j! / (n! Π n_ij!) under a random permutation (textbook multivariate hypergeometric). */
+function enumerateTables(rowM: number[], colM: number[]): { cells: number[]; prob: number }[] {
+  const lf = logFactorialTable(rowM.reduce((a, b) => a + b, 0));
+  const n = rowM.reduce((a, b) => a + b, 0);
+  const base = rowM.reduce((a, v) => a + lf[v]!, 0) + colM.reduce((a, v) => a + lf[v]!, 0) - lf[n]!;
+  const out: { cells: number[]; prob: number }[] = [];
+  const r = rowM.length, c = colM.length;
+  const cells = new Array(r * c).fill(0);
+  const colLeft = [...colM];
+  const rec = (at: number, rowLeft: number): void => {
+    const i = Math.floor(at / c), j = at % c;
+    if (i === r) {
+      out.push({ cells: [...cells], prob: Math.exp(base - cells.reduce((a, v) => a + lf[v]!, 0)) });
+      return;
+    }
+    const left = j === 0 ? rowM[i]! : rowLeft;
+    const lo = j === c - 1 ? left : 0;
+    for (let k = lo; k <= Math.min(left, colLeft[j]!); k++) {
+      if (i === r - 1 && k !== colLeft[j]) continue; // the last row takes what the columns have left
+      cells[at] = k;
+      colLeft[j] -= k;
+      rec(at + 1, left - k);
+      colLeft[j] += k;
+    }
+    cells[at] = 0;
+  };
+  rec(0, 0);
+  return out;
+}
+const xlogx = Float64Array.from({ length: 64 }, (_, v) => (v > 1 ? v * Math.log(v) : 0));
+/** Exact distribution of Σ x ln x over independent strata, keyed by the value rounded to 1e-9. */
+function exactStatistic(strata: [number[], number[]][]): Map<string, number> {
+  let dist = new Map<number, number>([[0, 1]]);
+  for (const [rm, cm] of strata) {
+    const next = new Map<number, number>();
+    for (const { cells, prob } of enumerateTables(rm, cm)) {
+      const t = cells.reduce((a, v) => a + xlogx[v]!, 0);
+      for (const [v, p] of dist) next.set(Math.round((v + t) * 1e9) / 1e9, (next.get(Math.round((v + t) * 1e9) / 1e9) ?? 0) + p * prob);
+    }
+    dist = next;
+  }
+  return new Map([...dist].map(([v, p]) => [v.toFixed(6), p]));
+}
+
+describe("createTableStatisticSampler", () => {
+  it("enumerateTables (test helper) sums to 1 and gives the hypergeometric cell (0, 0) on a 2 × 2 table (theorem)", () => {
+    const all = enumerateTables([5, 15], [8, 12]);
+    expect(all.reduce((a, t) => a + t.prob, 0)).toBeCloseTo(1, 12);
+    for (const t of all) expect(t.prob).toBeCloseTo(hyperPmf(20, 8, 5, t.cells[0]!), 12); // textbook pmf in BigInt
+  });
+
+  it("createTableStatisticSampler draws Σ O ln O with its exact permutation distribution (one stratum, both orientations)", () => {
+    for (const [rm, cm] of [[[5, 15], [8, 12]], [[3, 4, 2], [2, 1, 3, 3]], [[2, 6, 1, 3], [7, 5]]] as [number[], number[]][]) {
+      const exact = exactStatistic([[rm, cm]]);
+      const draw = createTableStatisticSampler([Float64Array.from(rm)], [Float64Array.from(cm)], createRng(4, rm.join()), xlogx);
+      const reps = 20_000;
+      const counts = new Map<string, number>();
+      for (let b = 0; b < reps; b++) {
+        const key = draw().toFixed(6);
+        expect(exact.has(key)).toBe(true); // only values a table with these margins can give
+        counts.set(key, (counts.get(key) ?? 0) + 1);
+      }
+      const keys = [...exact.keys()];
+      expect(gofP(keys.map((k) => counts.get(k) ?? 0), keys.map((k) => exact.get(k)!), reps)).toBeGreaterThan(1e-3);
+    }
+  });
+
+  it("createTableStatisticSampler sums independent strata (exact convolution) and skips single-level strata", () => {
+    const strata: [number[], number[]][] = [[[2, 3], [1, 4]], [[1, 1, 2], [2, 2]], [[4], [1, 3]]];
+    const exact = exactStatistic(strata);
+    const draw = createTableStatisticSampler(strata.map(([r]) => r), strata.map(([, c]) => c), createRng(9, "conv"), xlogx);
+    const reps = 20_000;
+    const counts = new Map<string, number>();
+    for (let b = 0; b < reps; b++) {
+      const key = draw().toFixed(6);
+      expect(exact.has(key)).toBe(true);
+      counts.set(key, (counts.get(key) ?? 0) + 1);
+    }
+    const keys = [...exact.keys()];
+    expect(gofP(keys.map((k) => counts.get(k) ?? 0), keys.map((k) => exact.get(k)!), reps)).toBeGreaterThan(1e-3);
+  });
+
+  it("createTableStatisticSampler is reproducible per stream, handles large strata, and validates its input", () => {
+    const rm = [[300, 500, 1200], [3, 0, 2]];
+    const cm = [[900, 1100], [1, 4]];
+    const score = Float64Array.from({ length: 2001 }, (_, v) => (v > 1 ? v * Math.log(v) : 0));
+    const a = createTableStatisticSampler(rm, cm, createRng(1, "k"), score);
+    const b = createTableStatisticSampler(rm, cm, createRng(1, "k"), score);
+    const sa = Array.from({ length: 50 }, a);
+    expect(Array.from({ length: 50 }, b)).toEqual(sa);
+    expect(new Set(sa).size).toBeGreaterThan(1);
+    expect(sa.every(Number.isFinite)).toBe(true);
+    // a stratum above the tabulated binomial coefficients (total 2000 > 1000): 2 × 2, so the
+    // statistic is a function f(k) of cell (0, 0) ~ hypergeometric(2000, 900, 300); its mean and
+    // variance follow from the pmf (log-gamma from simple-statistics); sample mean within 5 sd
+    const f = (k: number) => score[k]! + score[300 - k]! + score[900 - k]! + score[800 + k]!;
+    let mean = 0, second = 0;
+    for (let k = 0; k <= 300; k++) { const q = hyperPmf(2000, 900, 300, k); mean += q * f(k); second += q * f(k) ** 2; }
+    const big = createTableStatisticSampler([[300, 1700]], [[900, 1100]], createRng(2, "big"), score);
+    const reps = 4000;
+    let sum = 0;
+    for (let t = 0; t < reps; t++) sum += big();
+    expect(Math.abs(sum / reps - mean)).toBeLessThan(5 * Math.sqrt((second - mean * mean) / reps));
+    expect(() => createTableStatisticSampler([[1, 2]], [[2, 2]], createRng(1), score)).toThrow(/agree/);
+    expect(() => createTableStatisticSampler([[1.5, 2]], [[2, 1.5]], createRng(1), score)).toThrow(/non-negative integer/);
+    expect(() => createTableStatisticSampler([[10, 10]], [[10, 10]], createRng(1), new Float64Array(5))).toThrow(/score table/);
+    expect(() => createTableStatisticSampler([[1]], [], createRng(1), score)).toThrow(/strata/);
+    expect(createTableStatisticSampler([], [], createRng(1), score)()).toBe(0); // no strata: empty sum
+  });
+
+  it("forkRng is reproducible, uniform (goodness of fit) and validates nextInt's bound", () => {
+    const a = forkRng(createRng(3, "fork"));
+    const b = forkRng(createRng(3, "fork"));
+    const seq = Array.from({ length: 5 }, () => a.nextUint32());
+    expect(Array.from({ length: 5 }, () => b.nextUint32())).toEqual(seq);
+    expect(seq.every((v) => Number.isInteger(v) && v >= 0 && v < 2 ** 32)).toBe(true);
+    const counts = new Array(7).fill(0);
+    for (let i = 0; i < 70_000; i++) counts[a.nextInt(7)]++;
+    expect(gofP(counts, new Array(7).fill(1 / 7), 70_000)).toBeGreaterThan(1e-3);
+    let mn = 1, mx = 0;
+    for (let i = 0; i < 10_000; i++) { const u = a.nextFloat(); mn = Math.min(mn, u); mx = Math.max(mx, u); }
+    expect(mn).toBeGreaterThanOrEqual(0);
+    expect(mx).toBeLessThan(1);
+    expect(() => a.nextInt(0)).toThrow(/1\.\.2\^21/);
   });
 });

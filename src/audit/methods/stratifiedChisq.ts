@@ -19,9 +19,9 @@
  * p = (1 + #{G²* ≥ G²})/(1 + B); sequentially (Besag & Clifford 1991, Biometrika 78:301–304), the
  * drawing stops once 20 permuted G² reach the observed one, with p = 20/L after L draws, and `B`
  * reports the draws made. The random numbers come from the stream of (ctx.seed, claim)
- * (see `stats/rng.ts`). Small strata (at most 64 rows, or at most 4 rows per cell) are permuted
- * as expanded rows by Fisher–Yates; larger strata are drawn cell by cell from conditional
- * hypergeometric distributions, which gives the same distribution of tables at O(r·c·√n_s) per draw.
+ * (see `stats/rng.ts`). Each permuted stratum table is drawn cell by cell from conditional
+ * hypergeometric distributions given the stratum's margins — the distribution of the table of
+ * a within-stratum permutation — at O(r_s·c_s) per draw whatever the number of rows.
  *
  * Effect: √(1 − exp(−G²/n)), signed by the odds ratio only for a 1-df test (one used 2 × 2
  * stratum); 95% interval from the noncentral chi-square inversion of Steiger (1990).
@@ -30,7 +30,7 @@ import type { Column } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrEffectCI, lrToEffect } from "../../stats/effectScale.js";
 import { mantelHaenszel } from "../../stats/mantelHaenszel.js";
-import { logFactorialTable, randomTableWithMargins, sequentialMonteCarloPValue, shuffleInPlace } from "../../stats/permutation.js";
+import { createTableStatisticSampler, sequentialMonteCarloPValue } from "../../stats/permutation.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import { stratifiedChiSquare, type ContingencyStratum } from "../../stats/stratifiedChiSquare.js";
@@ -44,23 +44,6 @@ export const DEFAULT_PERMUTATIONS = 2000;
 export const SPARSE_SHARE = 0.2;
 /** Draws reaching the observed G² after which the sequential permutation test stops (Besag & Clifford 1991). */
 export const STOP_AFTER_HITS = 20;
-/**
- * A stratum is permuted as expanded rows when it has at most this many rows per cell of its
- * table (or at most 64 rows); otherwise by hypergeometric draws, which cost O(cells) per table.
- */
-const SHUFFLE_ROWS_PER_CELL = 4;
-
-/** A used stratum prepared for permutation. */
-interface PermStratum {
-  r: number;
-  c: number;
-  rowMargins: Float64Array;
-  colMargins: Float64Array;
-  /** Expanded rows (x index, y index) for small strata. */
-  xs?: Int32Array;
-  ys?: Int32Array;
-}
-
 /** One stratum's compact table over the x and y levels it contains. */
 interface CompactStratum extends ContingencyStratum {
   counts: Float64Array;
@@ -141,12 +124,17 @@ function buildStrata(x: Column, y: Column, given: readonly Column[], rows: numbe
 /**
  * Permutation p-value of the stratified G²: x permuted within each stratum, B times.
  * The statistic compared is Σ_s Σ_cells O ln O, which differs from G²/2 by a constant given the
- * margins. Cost: O(B · Σ_s min(n_s, r_s·c_s·√n_s)).
+ * margins. A permuted stratum table is drawn directly from the multivariate hypergeometric
+ * distribution given the stratum's margins (`createTableStatisticSampler`), never by shuffling
+ * rows. O ln O comes from a table of x ln x for x ≤ the largest stratum.
+ * Cost: O(Σ_s n_s) once, then O(B · Σ_s (r_s·c_s + draws' spread)) — independent of the rows.
  */
 function permutationP(tables: readonly CompactStratum[], B: number, seed: number, key: string): { p: number; draws: number } {
-  const used: PermStratum[] = [];
+  const rowViews: Float64Array[] = [];
+  const colViews: Float64Array[] = [];
   let maxN = 0;
   for (const t of tables) {
+    if (t.rows < 2 || t.cols < 2) continue;
     const rowMargins = new Float64Array(t.rows);
     const colMargins = new Float64Array(t.cols);
     let tot = 0;
@@ -158,56 +146,18 @@ function permutationP(tables: readonly CompactStratum[], B: number, seed: number
         tot += v;
       }
     }
-    if (t.rows < 2 || t.cols < 2) continue;
+    rowViews.push(rowMargins);
+    colViews.push(colMargins);
     maxN = Math.max(maxN, tot);
-    const ps: PermStratum = { r: t.rows, c: t.cols, rowMargins, colMargins };
-    if (tot <= 64 || tot <= SHUFFLE_ROWS_PER_CELL * t.rows * t.cols) {
-      const xs = new Int32Array(tot);
-      const ys = new Int32Array(tot);
-      let at = 0;
-      for (let i = 0; i < t.rows; i++) {
-        for (let j = 0; j < t.cols; j++) {
-          for (let q = 0; q < t.counts[i * t.cols + j]!; q++) {
-            xs[at] = i;
-            ys[at] = j;
-            at++;
-          }
-        }
-      }
-      ps.xs = xs;
-      ps.ys = ys;
-    }
-    used.push(ps);
   }
   const xLogX = new Float64Array(maxN + 1);
   for (let v = 2; v <= maxN; v++) xLogX[v] = v * Math.log(v);
-  const logFact = logFactorialTable(maxN);
   let observed = 0;
   for (const t of tables) {
     if (t.rows < 2 || t.cols < 2) continue;
     for (let q = 0; q < t.counts.length; q++) observed += xLogX[t.counts[q]!]!;
   }
-  let maxCells = 0;
-  for (const s of used) maxCells = Math.max(maxCells, s.r * s.c);
-  const cell = new Float64Array(maxCells);
-  const rng = createRng(seed, key);
-  const draw = (): number => {
-    let stat = 0;
-    for (const s of used) {
-      const nc = s.r * s.c;
-      if (s.xs) {
-        cell.fill(0, 0, nc);
-        shuffleInPlace(s.xs, rng);
-        const xs = s.xs;
-        const ys = s.ys!;
-        for (let q = 0; q < xs.length; q++) cell[xs[q]! * s.c + ys[q]!]++;
-      } else {
-        randomTableWithMargins(s.rowMargins, s.colMargins, rng, logFact, cell);
-      }
-      for (let q = 0; q < nc; q++) stat += xLogX[cell[q]!]!;
-    }
-    return stat;
-  };
+  const draw = createTableStatisticSampler(rowViews, colViews, createRng(seed, key), xLogX);
   return sequentialMonteCarloPValue(observed, B, STOP_AFTER_HITS, draw);
 }
 
