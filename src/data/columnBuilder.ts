@@ -21,6 +21,25 @@ import type { Column, Table, VariableType } from "./Table.js";
 const INITIAL_CAPACITY = 1024;
 const TRACK_LIMIT = MAX_INFERRED_ORDINAL_LEVELS + 1;
 
+/** A builder's state as plain data; see {@link ColumnBuilder.exportState}. */
+export interface BuilderState {
+  rows: number;
+  inGivenStorage: boolean;
+  vals: Float64Array[];
+  textCodes: (Int32Array | undefined)[];
+  missingCount: Float64Array;
+  textCount: Float64Array;
+  distinct: Float64Array[];
+  distinctN: Int32Array;
+  overflow: Uint8Array;
+  allInt: Uint8Array;
+  labels: string[][];
+  firstTexts: { line: number; text: string }[][];
+  lineRows: number[];
+  lineOffsets: number[];
+  blankLines: number;
+}
+
 export interface BuilderOptions {
   file?: string;
   decimalComma?: boolean;
@@ -122,12 +141,131 @@ export class ColumnBuilder {
   }
 
   /**
+   * Write the columns into the given arrays (one per kept column, e.g. views of shared memory)
+   * until they are full; then the columns grow into memory of their own. Call before the first
+   * record. Cost: O(columns).
+   */
+  useStorage(vals: readonly Float64Array[]): void {
+    if (vals.length !== this.vals.length || this.rows > 0) throw new RangeError("useStorage needs one array per kept column, before the first record");
+    for (let c = 0; c < vals.length; c++) this.vals[c] = vals[c]!;
+    this.capacity = vals.reduce((m, v) => Math.min(m, v.length), Infinity);
+    if (vals.length === 0) this.capacity = Infinity;
+    this.inGivenStorage = true;
+  }
+
+  /** True while the columns are still the arrays given to {@link ColumnBuilder.useStorage}. */
+  inGivenStorage = false;
+
+  /**
+   * The builder's state as plain data (structured-cloneable), for {@link ColumnBuilder.absorb}
+   * in another thread. Cost: O(columns + distinct labels).
+   */
+  exportState(): BuilderState {
+    return {
+      rows: this.rows,
+      inGivenStorage: this.inGivenStorage,
+      vals: this.vals.map((v) => v.subarray(0, this.rows)),
+      textCodes: this.textCodes.map((t) => t?.subarray(0, this.rows)),
+      missingCount: this.missingCount,
+      textCount: this.textCount,
+      distinct: this.distinct,
+      distinctN: this.distinctN,
+      overflow: this.overflow,
+      allInt: this.allInt,
+      labels: this.labels,
+      firstTexts: this.firstTexts,
+      lineRows: this.lineRows,
+      lineOffsets: this.lineOffsets,
+      blankLines: this.blankLines,
+    };
+  }
+
+  /**
+   * Append the rows of another builder over the same header and options (read from a later part
+   * of the same file), as if this builder had read them itself: values and text codes are
+   * appended, counts added, labels merged, distinct-value tracking combined. `lineBase` is
+   * added to the other builder's line numbers. When this builder is still in given storage and
+   * `placedAt` says where in the same buffers the other's rows already are, they are moved down
+   * within the buffers instead of copied. Cost: O(rows of the other · columns).
+   */
+  absorb(s: BuilderState, lineBase: number, placedAt?: number): void {
+    const total = this.rows + s.rows;
+    const inPlace = placedAt !== undefined && this.inGivenStorage && s.inGivenStorage;
+    for (let c = 0; c < this.vals.length; c++) {
+      if (inPlace) {
+        const mine = this.vals[c]!;
+        const full = new Float64Array(mine.buffer, mine.byteOffset, placedAt! + s.rows);
+        full.copyWithin(this.rows, placedAt!, placedAt! + s.rows);
+        this.vals[c] = full;
+      }
+    }
+    if (inPlace) this.capacity = Math.max(total, this.vals.reduce((m, v) => Math.min(m, v.length), Infinity));
+    else {
+      this.reserve(total);
+      for (let c = 0; c < this.vals.length; c++) this.vals[c]!.set(s.vals[c]!.subarray(0, s.rows), this.rows);
+    }
+    for (let c = 0; c < this.vals.length; c++) {
+      this.missingCount[c]! += s.missingCount[c]!;
+      const theirs = s.textCodes[c];
+      if (theirs !== undefined && s.textCount[c]! > 0) {
+        const remap = s.labels[c]!.map((t) => {
+          const dict = this.dict[c]!;
+          let code = dict.get(t);
+          if (code === undefined) {
+            code = dict.size;
+            dict.set(t, code);
+            this.labels[c]!.push(t);
+          }
+          return code;
+        });
+        let codes = this.textCodes[c];
+        if (codes === undefined || codes.length < total) {
+          const grown = new Int32Array(Math.max(total, this.capacity)).fill(-1);
+          if (codes !== undefined) grown.set(codes.subarray(0, this.rows));
+          codes = grown;
+          this.textCodes[c] = codes;
+        }
+        for (let r = 0; r < s.rows; r++) {
+          const t = theirs[r]!;
+          codes[this.rows + r] = t < 0 ? -1 : remap[t]!;
+        }
+        this.textCount[c]! += s.textCount[c]!;
+        const ft = this.firstTexts[c]!;
+        for (const x of s.firstTexts[c]!) if (ft.length < 3) ft.push({ line: x.line + lineBase, text: x.text });
+      }
+      if (s.overflow[c] === 1) {
+        if (this.allInt[c] === 1 && s.allInt[c] === 0) this.allInt[c] = 0;
+        if (this.overflow[c] === 0) {
+          this.overflow[c] = 1;
+          this.distinctN[c] = TRACK_LIMIT;
+          if (this.numericMissing.length === 0) this.plain[c] = 1;
+        }
+      } else {
+        const d = s.distinct[c]!;
+        for (let i = 0; i < s.distinctN[c]! && this.overflow[c] === 0; i++) this.track(c, d[i]!);
+      }
+    }
+    for (let k = 0; k < s.lineRows.length; k++) {
+      const row = s.lineRows[k]! + this.rows;
+      const offset = s.lineOffsets[k]! + lineBase - this.rows;
+      const n = this.lineOffsets.length;
+      if (n === 0 || this.lineOffsets[n - 1] !== offset) {
+        this.lineRows.push(row);
+        this.lineOffsets.push(offset);
+      }
+    }
+    this.blankLines += s.blankLines;
+    this.rows = total;
+  }
+
+  /**
    * Make room for at least `rows` rows in every column (an estimate of the final row count
    * avoids regrowing). Cost: O(rows · columns) when it grows, else O(1).
    */
   reserve(rows: number): void {
     if (rows <= this.capacity) return;
     const cap = Math.ceil(rows);
+    this.inGivenStorage = false;
     for (let c = 0; c < this.vals.length; c++) {
       const v = new Float64Array(cap);
       v.set(this.vals[c]!.subarray(0, this.rows));

@@ -13,6 +13,7 @@
 import type { ColumnBuilder } from "./columnBuilder.js";
 
 const LF = 10;
+const QUOTE = 34;
 const CR = 13;
 const PLUS = 43;
 const MINUS = 45;
@@ -157,4 +158,76 @@ export function scanUnquotedRecords(
     line++;
   }
   return line;
+}
+
+/**
+ * Feeds chunks of a quote-free, LF-terminated region of a delimited file to
+ * {@link scanUnquotedRecords}, carrying a partial record from one chunk to the next (the
+ * chunks may be reused by the caller after each call). Stops at the first quote character:
+ * then `feed` returns false and the reader takes no more input (the caller reads the file
+ * another way). Cost: O(bytes).
+ * @throws DataError (from the builder) on a ragged row
+ * @example const r = new UnquotedRecordReader(builder, 44, 2); r.feed(chunk); r.finish()
+ */
+export class UnquotedRecordReader {
+  private carry: Uint8Array | undefined;
+  private stopped = false;
+
+  constructor(
+    private readonly builder: ColumnBuilder,
+    private readonly delim: number,
+    /** Line of the next record. */
+    public line: number,
+  ) {}
+
+  /** Scan the complete records of `chunk` (plus the carried part); false at a quote. */
+  feed(chunk: Uint8Array): boolean {
+    if (this.stopped) return false;
+    let pos = 0;
+    if (this.carry) {
+      const lf = chunk.indexOf(LF);
+      if (lf < 0) {
+        this.carry = join(this.carry, chunk);
+        return true;
+      }
+      const joined = join(this.carry, chunk.subarray(0, lf + 1));
+      this.carry = undefined;
+      if (!this.scan(joined, 0, joined.length)) return false;
+      pos = lf + 1;
+    }
+    const last = chunk.lastIndexOf(LF);
+    if (last < pos) {
+      if (pos < chunk.length) this.carry = chunk.slice(pos);
+      return true;
+    }
+    if (!this.scan(chunk, pos, last + 1)) return false;
+    if (last + 1 < chunk.length) this.carry = chunk.slice(last + 1);
+    return true;
+  }
+
+  /** Scan a last record that has no line feed; false at a quote. */
+  finish(): boolean {
+    if (this.stopped) return false;
+    if (!this.carry) return true;
+    const joined = join(this.carry, Uint8Array.of(LF));
+    this.carry = undefined;
+    return this.scan(joined, 0, joined.length);
+  }
+
+  private scan(buf: Uint8Array, start: number, end: number): boolean {
+    const q = buf.indexOf(QUOTE, start);
+    if (q >= 0 && q < end) {
+      this.stopped = true;
+      return false;
+    }
+    this.line = scanUnquotedRecords(buf, start, end, this.builder, this.delim, this.line);
+    return true;
+  }
+}
+
+function join(a: Uint8Array, b: Uint8Array): Uint8Array {
+  const out = new Uint8Array(a.length + b.length);
+  out.set(a, 0);
+  out.set(b, a.length);
+  return out;
 }

@@ -53,94 +53,25 @@ export async function readTable(
   hints: ReadHints = {},
 ): Promise<Table> {
   const file = options.file;
-  const decimalComma = options.decimalComma ?? false;
-  if (decimalComma && options.delimiter === ",") {
-    throw new UsageError("--decimal-comma needs a semicolon or tab delimiter, not a comma; drop --delimiter or choose ; or tab");
-  }
   const where = (line?: number) => `${file ?? "data"}${line === undefined ? "" : ":" + line}: `;
   const it = chunksOf(source)[Symbol.asyncIterator]();
 
   // Head: enough bytes for the header record and a sample of rows.
   let head: Uint8Array = new Uint8Array(0);
   let done = false;
-  let headerEnd = -1;
-  let lineEnd: "\n" | "\r" = "\n";
+  let plan: TablePlan | undefined;
   for (;;) {
-    const enough = head.length >= SAMPLE_BYTES || done;
-    const lf = findRecordEnd(head, LF);
-    if (lf >= 0 && enough) {
-      headerEnd = lf;
-      break;
-    }
-    if (lf < 0 && enough) {
-      const cr = findRecordEnd(head, CR);
-      if (cr >= 0 && cr + 1 < head.length && head[cr + 1] !== LF) {
-        headerEnd = cr;
-        lineEnd = "\r";
-        break;
-      }
-      if (done) {
-        headerEnd = head.length;
-        break;
-      }
-    }
+    plan = planTable(head, done, options);
+    if (plan) break;
     const next = await it.next();
     if (next.done) done = true;
     else head = concat(head, next.value);
   }
-  let bom = 0;
-  if (head[0] === 0xef && head[1] === 0xbb && head[2] === 0xbf) bom = 3;
-  if (headerEnd < bom) headerEnd = bom;
-  const headerText = decodeBytes(head, bom, headerEnd);
-  if (headerText.trim() === "") {
-    throw new DataError(
-      `${where(1)}${done && headerEnd >= head.length ? "the file is empty" : "the first line is empty"}; the first line must name the columns, separated by commas, semicolons or tabs`,
-      { file, line: 1 },
-    );
-  }
-
-  // Dialect.
-  const sampleEnd = done ? head.length : head.lastIndexOf(lineEnd === "\n" ? LF : CR) + 1;
-  const sampleText = decodeBytes(head, bom, Math.max(sampleEnd, headerEnd));
-  const delimiter = options.delimiter ?? detectDelimiter(sampleText, lineEnd, decimalComma, !done);
-  const header = Papa.parse<string[]>(headerText, { delimiter, newline: lineEnd }).data[0] ?? [];
-  const names = header.map((s) => s.trim());
-  const firstIndex = new Map<string, number>();
-  names.forEach((name, i) => {
-    if (name === "") {
-      throw new DataError(`${where(1)}column ${i + 1} has no name; name every column in the header line`, {
-        file,
-        line: 1,
-        column: i + 1,
-      });
-    }
-    const prev = firstIndex.get(name);
-    if (prev !== undefined) {
-      throw new DataError(
-        `${where(1)}column name "${name}" appears twice (columns ${prev + 1} and ${i + 1}); make the names unique`,
-        { file, line: 1, column: i + 1 },
-      );
-    }
-    firstIndex.set(name, i);
-  });
-  const builder = new ColumnBuilder(names, {
-    file,
-    decimalComma,
-    missing: options.missing,
-    types: options.types,
-    levels: options.levels,
-    columns: options.columns,
-  });
-  let line = 2 + countByte(head, lineEnd === "\n" ? LF : CR, bom, headerEnd);
+  const { delimiter, lineEnd, headerEnd } = plan;
+  const builder = createBuilder(plan, options);
+  let line = plan.firstLine;
   const totalBytes = source instanceof Uint8Array ? source.length : hints.totalBytes;
-  if (totalBytes !== undefined && sampleEnd > headerEnd + 1) {
-    // Size the columns once from the sample's bytes per record (3% margin; they grow if short).
-    const sampleRecords = countByte(head, lineEnd === "\n" ? LF : CR, headerEnd + 1, sampleEnd);
-    if (sampleRecords > 0) {
-      const perRecord = (sampleEnd - headerEnd - 1) / sampleRecords;
-      builder.reserve(Math.min(1.03 * ((totalBytes - headerEnd - 1) / perRecord) + 16, totalBytes / 2 + 16));
-    }
-  }
+  if (totalBytes !== undefined) builder.reserve(estimateRecords(plan, totalBytes - headerEnd - 1));
 
   // Data.
   const delimByte = delimiter.charCodeAt(0);
@@ -216,6 +147,124 @@ export async function readTable(
     }
   }
   return builder.finish();
+}
+
+/** Where the data start and how the file is written, from its first bytes. */
+export interface TablePlan {
+  /** Header field names (trimmed), in file order. */
+  names: string[];
+  delimiter: Delimiter;
+  lineEnd: "\n" | "\r";
+  /** Index of the byte that ends the header (its line end), or the head's length. */
+  headerEnd: number;
+  /** Line number of the first data record. */
+  firstLine: number;
+  /** Records and bytes in the sample after the header (complete records only). */
+  sampleRecords: number;
+  sampleBytes: number;
+}
+
+/**
+ * Read the header and dialect from the first bytes of a file: undefined while `head` is too
+ * short to decide (fewer than 64 KiB and not the whole file, `complete` false). Cost: O(head).
+ * @throws DataError for an empty file or first line, an unnamed or repeated column name
+ * @throws UsageError for --decimal-comma with a comma delimiter
+ * @example planTable(new TextEncoder().encode("a;b\n1;2\n"), true, {})?.delimiter // ";"
+ */
+export function planTable(head: Uint8Array, complete: boolean, options: ReadOptions): TablePlan | undefined {
+  const file = options.file;
+  const decimalComma = options.decimalComma ?? false;
+  if (decimalComma && options.delimiter === ",") {
+    throw new UsageError("--decimal-comma needs a semicolon or tab delimiter, not a comma; drop --delimiter or choose ; or tab");
+  }
+  const where = (line?: number) => `${file ?? "data"}${line === undefined ? "" : ":" + line}: `;
+  const done = complete;
+  let headerEnd = -1;
+  let lineEnd: "\n" | "\r" = "\n";
+  const enough = head.length >= SAMPLE_BYTES || done;
+  const lf = findRecordEnd(head, LF);
+  if (lf >= 0 && enough) headerEnd = lf;
+  else if (lf < 0 && enough) {
+    const cr = findRecordEnd(head, CR);
+    if (cr >= 0 && cr + 1 < head.length && head[cr + 1] !== LF) {
+      headerEnd = cr;
+      lineEnd = "\r";
+    } else if (done) headerEnd = head.length;
+  }
+  if (headerEnd < 0) return undefined;
+  let bom = 0;
+  if (head[0] === 0xef && head[1] === 0xbb && head[2] === 0xbf) bom = 3;
+  if (headerEnd < bom) headerEnd = bom;
+  const headerText = decodeBytes(head, bom, headerEnd);
+  if (headerText.trim() === "") {
+    throw new DataError(
+      `${where(1)}${done && headerEnd >= head.length ? "the file is empty" : "the first line is empty"}; the first line must name the columns, separated by commas, semicolons or tabs`,
+      { file, line: 1 },
+    );
+  }
+
+  // Dialect.
+  const sampleEnd = done ? head.length : head.lastIndexOf(lineEnd === "\n" ? LF : CR) + 1;
+  const sampleText = decodeBytes(head, bom, Math.max(sampleEnd, headerEnd));
+  const delimiter = options.delimiter ?? detectDelimiter(sampleText, lineEnd, decimalComma, !done);
+  const header = Papa.parse<string[]>(headerText, { delimiter, newline: lineEnd }).data[0] ?? [];
+  const names = header.map((s) => s.trim());
+  const firstIndex = new Map<string, number>();
+  names.forEach((name, i) => {
+    if (name === "") {
+      throw new DataError(`${where(1)}column ${i + 1} has no name; name every column in the header line`, {
+        file,
+        line: 1,
+        column: i + 1,
+      });
+    }
+    const prev = firstIndex.get(name);
+    if (prev !== undefined) {
+      throw new DataError(
+        `${where(1)}column name "${name}" appears twice (columns ${prev + 1} and ${i + 1}); make the names unique`,
+        { file, line: 1, column: i + 1 },
+      );
+    }
+    firstIndex.set(name, i);
+  });
+  const nl = lineEnd === "\n" ? LF : CR;
+  return {
+    names,
+    delimiter,
+    lineEnd,
+    headerEnd,
+    firstLine: 2 + countByte(head, nl, bom, headerEnd),
+    sampleRecords: sampleEnd > headerEnd + 1 ? countByte(head, nl, headerEnd + 1, sampleEnd) : 0,
+    sampleBytes: Math.max(0, sampleEnd - headerEnd - 1),
+  };
+}
+
+/**
+ * The column builder for a planned table (header, missing codes, declared types and levels,
+ * kept columns). Cost: O(columns).
+ * @throws UsageError for option names not in the header
+ * @example createBuilder(planTable(bytes, true, {})!, {}).names
+ */
+export function createBuilder(plan: TablePlan, options: ReadOptions): ColumnBuilder {
+  return new ColumnBuilder(plan.names, {
+    file: options.file,
+    decimalComma: options.decimalComma ?? false,
+    missing: options.missing,
+    types: options.types,
+    levels: options.levels,
+    columns: options.columns,
+  });
+}
+
+/**
+ * Estimate of the records in `bytes` bytes of data from the sample's bytes per record, with a
+ * 3% margin (the columns grow if it is short; at most one record per two bytes). Cost: O(1).
+ * @example estimateRecords(plan, 1e6)
+ */
+export function estimateRecords(plan: TablePlan, bytes: number): number {
+  if (plan.sampleRecords === 0 || bytes <= 0) return 0;
+  const perRecord = plan.sampleBytes / plan.sampleRecords;
+  return Math.ceil(Math.min(1.03 * (bytes / perRecord) + 16, bytes / 2 + 16));
 }
 
 /** Hands records to the builder from papaparse's incremental parser, keeping line numbers. */
