@@ -1,15 +1,17 @@
 /**
  * Loading benchmark: the I/O floor (read the file in 4 MiB chunks and count line feeds),
- * readTable end to end from a 4 MiB-chunk stream, and buildPatternMoments over every column,
+ * readTable end to end from a 4 MiB-chunk stream (or the two-thread reader), and buildPatternMoments over every column,
  * with wall time and the process's peak resident set size after each phase.
- * Usage: node --import tsx bench/loading.ts [path]   (default: bench/out/numeric-1m-50.csv,
- * generated first with bench/generateNumericCsv.ts if absent)
+ * Usage: node --import tsx bench/loading.ts [path] [--parallel]   (default: bench/out/numeric-1m-50.csv,
+ * generated first with bench/generateNumericCsv.ts if absent; --parallel reads with
+ * cli/parallelReadTable.ts, two threads, instead of the one-thread stream)
  */
 import { existsSync } from "node:fs";
 import { open } from "node:fs/promises";
 import { pathToFileURL } from "node:url";
 import { buildPatternMoments } from "../src/data/buildPatternMoments.js";
 import { readTable } from "../src/data/readTable.js";
+import { parallelReadTable } from "../cli/parallelReadTable.js";
 import { DEFAULT_OUT, generateNumericCsv } from "./generateNumericCsv.js";
 
 const CHUNK = 4 * 1024 * 1024;
@@ -39,7 +41,7 @@ async function* fileChunks(path: string): AsyncIterable<Uint8Array> {
 const peakMiB = () => process.resourceUsage().maxRSS / 1024;
 
 /** Run the three phases on `path` and return their figures. */
-export async function benchLoading(path: string): Promise<LoadingPhase[]> {
+export async function benchLoading(path: string, parallel = false): Promise<LoadingPhase[]> {
   const out: LoadingPhase[] = [];
   let t0 = performance.now();
   let lines = 0;
@@ -57,9 +59,11 @@ export async function benchLoading(path: string): Promise<LoadingPhase[]> {
   out.push({ phase: "I/O floor", seconds: (performance.now() - t0) / 1000, peakRssMiB: peakMiB(), detail: `${(bytes / 1e6).toFixed(1)} MB, ${lines} lines` });
 
   t0 = performance.now();
-  const table = await readTable(fileChunks(path), { file: path }, { totalBytes: bytes });
+  const table = parallel
+    ? await parallelReadTable(path, { file: path })
+    : await readTable(fileChunks(path), { file: path }, { totalBytes: bytes });
   out.push({
-    phase: "readTable",
+    phase: parallel ? "parallelReadTable" : "readTable",
     seconds: (performance.now() - t0) / 1000,
     peakRssMiB: peakMiB(),
     detail: `${table.rows} rows × ${table.columns.length} columns, ${table.columns.reduce((s, c) => s + c.missing, 0)} missing cells`,
@@ -82,12 +86,14 @@ export async function benchLoading(path: string): Promise<LoadingPhase[]> {
 }
 
 if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) {
-  const path = process.argv[2] ?? DEFAULT_OUT;
+  const args = process.argv.slice(2);
+  const parallel = args.includes("--parallel");
+  const path = args.find((a) => !a.startsWith("--")) ?? DEFAULT_OUT;
   if (!existsSync(path)) {
     console.log(`generating ${path} ...`);
     generateNumericCsv(path);
   }
-  const phases = await benchLoading(path);
+  const phases = await benchLoading(path, parallel);
   for (const p of phases) console.log(`${p.phase.padEnd(22)} ${p.seconds.toFixed(2).padStart(6)} s   peak RSS ${p.peakRssMiB.toFixed(0).padStart(5)} MiB   ${p.detail}`);
   const floor = phases[0]!.seconds;
   const load = phases[1]!.seconds + phases[2]!.seconds;
