@@ -141,12 +141,20 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
     let sum = 0;
     let cnt = 0;
     let missing = 0;
-    if (src.scores) {
+    if (src.scores && !filter) {
+      const s = src.scores;
+      for (let i = 0; i < n; i++) {
+        const v = s[i]!;
+        if (v === v) sum += v;
+        else missing++;
+      }
+      cnt = n - missing;
+    } else if (src.scores) {
       const s = src.scores;
       for (let i = 0; i < n; i++) {
         const v = s[i]!;
         if (v === v) {
-          if (!filter || filter[i] !== 0) {
+          if (filter![i] !== 0) {
             sum += v;
             cnt++;
           }
