@@ -51,13 +51,6 @@ export function readInput(path: string, cwd: string): Uint8Array {
   }
 }
 
-/** Stream an input file in large chunks. */
-export function streamInput(path: string, cwd: string): AsyncIterable<Uint8Array> {
-  const full = resolve(cwd, path);
-  if (!existsSync(full)) throw new InputError(`${path}: no such file; check the path`, { file: path });
-  return createReadStream(full, { highWaterMark: 4 * 1024 * 1024 });
-}
-
 /** SHA-256 of a file, hex, streamed. */
 export async function sha256File(path: string, cwd: string): Promise<string> {
   const h = createHash("sha256");

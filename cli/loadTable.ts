@@ -1,7 +1,10 @@
-import { readTable } from "../src/data/readTable.js";
+import { existsSync } from "node:fs";
+import { resolve } from "node:path";
+import { InputError } from "../src/errors.js";
 import { parseLevelDeclarations, parseMissingCodes, parseTypeDeclarations, type ReadOptions } from "../src/data/readOptions.js";
 import type { Table } from "../src/data/Table.js";
-import { type Io, streamInput } from "./io.js";
+import type { Io } from "./io.js";
+import { parallelReadTable } from "./parallelReadTable.js";
 
 /** Data-reading options from parsed command-line options. */
 export function readOptionsFrom(opts: Record<string, unknown>, file: string, columns?: string[]): ReadOptions {
@@ -17,8 +20,12 @@ export function readOptionsFrom(opts: Record<string, unknown>, file: string, col
   };
 }
 
-/** Stream a data file into typed columns, keeping only `columns`; print its warnings unless --quiet. */
+/**
+ * Read a data file into typed columns, keeping only `columns`: two threads for large plain
+ * files, the streaming reader otherwise (cli/parallelReadTable.ts decides).
+ */
 export async function loadTable(io: Io, path: string, opts: Record<string, unknown>, columns?: string[]): Promise<Table> {
-  const table = await readTable(streamInput(path, io.cwd), readOptionsFrom(opts, path, columns));
-  return table;
+  const full = resolve(io.cwd, path);
+  if (!existsSync(full)) throw new InputError(`${path}: no such file; check the path`, { file: path });
+  return parallelReadTable(full, readOptionsFrom(opts, path, columns));
 }
