@@ -1,6 +1,6 @@
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
-import { logisticRegression } from "../../src/stats/logisticRegression.js";
+import { logisticRegression, weightedCrossProduct } from "../../src/stats/logisticRegression.js";
 
 // Seeded dataset and statsmodels fits written by scripts/statsmodels_reference.py (committed fixtures)
 const dir = new URL("../fixtures/statsmodels/", import.meta.url);
@@ -94,5 +94,32 @@ describe("logisticRegression", () => {
     expect(() => logisticRegression(X, 4, 2, [0, 2, 0, 1])).toThrow(/0 or 1/);
     expect(() => logisticRegression(X, 4, 2, [0, 1, 0])).toThrow(RangeError);
     expect(() => logisticRegression(X, 4, 2, [0, 1, 0, 1], { weights: [1, -1, 1, 1] })).toThrow(/non-negative/);
+  });
+
+  it("weightedCrossProduct equals Σ v_i x_i x_iᵀ by the definition, with zero entries and zero weights (and the doc example)", () => {
+    const { X, p } = design(true);
+    const v = Float64Array.from({ length: m }, (_, i) => (i % 7 === 0 ? 0 : 0.1 + (i % 5) / 10));
+    const H = weightedCrossProduct(X, m, p, v, new Float64Array(p * p), new Int32Array(p), new Float64Array(p));
+    for (let a = 0; a < p; a++) {
+      for (let b = 0; b < p; b++) {
+        let s = 0;
+        for (let i = 0; i < m; i++) s += v[i]! * X[i * p + a]! * X[i * p + b]!; // textbook definition
+        expect(H[a * p + b]).toBeCloseTo(s, 9);
+      }
+    }
+    const ex = weightedCrossProduct(new Float64Array([1, 0, 1, 2]), 2, 2, new Float64Array([1, 3]), new Float64Array(4), new Int32Array(2), new Float64Array(2));
+    expect([...ex]).toEqual([4, 6, 6, 12]); // 1·[1,0][1,0]ᵀ + 3·[1,2][1,2]ᵀ by hand
+  });
+
+  it("logisticRegression from a start far from or at the optimum reaches the same fit; a start of the wrong length throws", () => {
+    const { X, p } = design(true);
+    const f = logisticRegression(X, m, p, yb, { start: [2, -1, 1, 0.5, -0.5] });
+    expect(f.status).toBe("converged");
+    expectRelative(f.coef, ref.logit.params, 1e-6); // statsmodels Logit.fit(tol=1e-12)
+    const g = logisticRegression(X, m, p, yb, { start: ref.logit.params });
+    expect(g.status).toBe("converged");
+    expect(g.iterations).toBeLessThanOrEqual(2);
+    expect(Math.abs(g.logLik - ref.logit.llf)).toBeLessThan(1e-8);
+    expect(() => logisticRegression(X, m, p, yb, { start: [0, 0] })).toThrow(/start has 2/);
   });
 });

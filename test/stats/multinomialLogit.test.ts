@@ -59,4 +59,14 @@ describe("multinomialLogit", () => {
     for (let j = 0; j < 4; j++) expect(w.coef[j]).toBeCloseTo(r.coef[j]!, 8);
     expect(() => multinomialLogit(Xw, 6, 2, [0, 0, 1, 1, 2, 3], 3)).toThrow(/0\.\.2/);
   });
+
+  it("multinomialLogit keeps the likelihood finite when linear predictors exceed the exponential's range, and checks start", () => {
+    // a column scaled by 1e3 puts η far beyond 700 during the iterations of a separated fit
+    const X = new Float64Array([1, -2000, 1, -1000, 1, 1000, 1, 2000, 1, 4000, 1, 5000]);
+    const f = multinomialLogit(X, 6, 2, [0, 0, 1, 1, 2, 2], 3);
+    expect(f.separation).toBe("complete");
+    expect(Number.isFinite(f.logLik)).toBe(true);
+    expect(f.logLik).toBeLessThanOrEqual(0);
+    expect(() => multinomialLogit(X, 6, 2, [0, 0, 1, 1, 2, 2], 3, { start: [0, 0, 0] })).toThrow(/start has 3/);
+  });
 });
