@@ -38,6 +38,11 @@ export interface AuditOptions {
   settings?: Partial<AuditSettings>;
   /** Tool version written into the result. */
   version?: string;
+  /**
+   * Moments built by the caller (e.g. over several threads) with `buildPatternMoments(table,
+   * { variables: measured nodes in graph order, rowFilter: listwiseFilter(...) when listwise })`.
+   */
+  moments?: PatternMoments;
   /** Called after each claim is tested (done, total), e.g. for a progress bar. */
   onProgress?: (done: number, total: number) => void;
 }
@@ -67,16 +72,8 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
   const { claims, untestable: graphUntestable, truncatedPairs } = deriveClaims(graph, { sets: settings.sets });
   if (truncatedPairs > 0) warnings.push(`${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than 100 minimal separating sets; only 100 of each were tested`);
 
-  // Missing-data patterns over the measured variables (one pass over the rows).
-  const rp = rowPatterns(table, measured);
-  let rowFilter: Uint8Array | undefined;
-  if (settings.listwise) {
-    const all = maskOf(measured, measured);
-    const complete = rp.words.map((w) => covers(w, all));
-    rowFilter = new Uint8Array(table.rows);
-    for (let r = 0; r < table.rows; r++) rowFilter[r] = complete[rp.index[r]!] ? 1 : 0;
-  }
-  const moments = buildPatternMoments(table, { variables: measured, rowFilter });
+  const rowFilter = settings.listwise ? listwiseFilter(table, measured) : undefined;
+  const moments = options.moments ?? buildPatternMoments(table, { variables: measured, rowFilter });
   let ranks: PatternMoments | undefined;
   const ctx: TestContext = {
     table,
@@ -132,7 +129,7 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
   const contradicted = result.filter((c) => c.verdict === "contradicted").length;
   if (untestable.length > 0) warnings.push(`${untestable.length} missing arrow${untestable.length > 1 ? "s were" : " was"} not tested (see untestable): untested is not the same as consistent`);
 
-  const rowsUsed = usedRows(rp, [...result, ...untestable.filter((u) => u.given)].map((c) => maskOf(measured, [c.x, c.y, ...(c.given ?? [])])), rowFilter);
+  const rowsUsed = usedRows(moments, [...result, ...untestable.filter((u) => u.given)].map((c) => [c.x, c.y, ...(c.given ?? [])]));
   return {
     tool: { name: "arrowaudit", version: options.version ?? "0.0.0" },
     data: { file: table.file, rows: table.rows, rows_used: rowsUsed, patterns: moments.patterns },
@@ -212,62 +209,26 @@ function nonFinite(o: TestOutcome): string | undefined {
   return undefined;
 }
 
-/** Missing-data patterns over the measured variables: each distinct observed set, with its row count. */
-interface RowPatterns {
-  /** Pattern index per row. */
-  index: Int32Array;
-  /** Observed sets as bit words (32 variables a word), one per pattern. */
-  words: Uint32Array[];
-  counts: number[];
-}
-
-/** Group the rows by which measured variables they observe. Cost: O(rows · variables). */
-function rowPatterns(table: Table, names: readonly string[]): RowPatterns {
-  const cols = names.map((n) => table.column(n)!.values);
-  const nw = Math.max(1, Math.ceil(names.length / 32));
-  const index = new Int32Array(table.rows);
-  const byKey = new Map<number | string, number>();
-  // A number key while the mask fits in 53 bits (two words), a string beyond.
-  const numericKey = names.length <= 53;
-  const words: Uint32Array[] = [];
-  const counts: number[] = [];
-  const w = new Uint32Array(nw);
-  for (let r = 0; r < table.rows; r++) {
-    w.fill(0);
-    for (let j = 0; j < cols.length; j++) if (!Number.isNaN(cols[j]![r]!)) w[j >>> 5] |= 1 << (j & 31);
-    const key = numericKey ? w[0]! + (nw > 1 ? w[1]! * 4294967296 : 0) : w.join(",");
-    let k = byKey.get(key);
-    if (k === undefined) {
-      k = words.length;
-      byKey.set(key, k);
-      words.push(Uint32Array.from(w));
-      counts.push(0);
-    }
-    counts[k]!++;
-    index[r] = k;
+/**
+ * Listwise deletion: 1 for the rows where every one of `variables` is observed, else 0.
+ * Cost: O(rows · variables).
+ */
+export function listwiseFilter(table: Table, variables: readonly string[]): Uint8Array {
+  const filter = new Uint8Array(table.rows).fill(1);
+  for (const name of variables) {
+    const v = table.column(name)!.values;
+    for (let r = 0; r < filter.length; r++) if (Number.isNaN(v[r]!)) filter[r] = 0;
   }
-  return { index, words, counts };
+  return filter;
 }
 
-function maskOf(names: readonly string[], vars: readonly string[]): Uint32Array {
-  const m = new Uint32Array(Math.max(1, Math.ceil(names.length / 32)));
-  for (const v of vars) {
-    const j = names.indexOf(v);
-    m[j >>> 5] |= 1 << (j & 31);
-  }
-  return m;
-}
-
-const covers = (have: Uint32Array, need: Uint32Array): boolean => need.every((x, i) => ((have[i]! & x) >>> 0) === x);
-
-/** Rows that enter at least one test: rows whose observed set covers some claim's variables. */
-function usedRows(rp: RowPatterns, claimMasks: Uint32Array[], rowFilter?: Uint8Array): number {
-  if (claimMasks.length === 0) return 0;
-  if (rowFilter) return rowFilter.reduce((a, b) => a + b, 0);
+/** Rows that enter at least one test: rows of the patterns that observe some claim's variables. */
+function usedRows(moments: PatternMoments, claimVars: string[][]): number {
   let n = 0;
-  rp.words.forEach((w, k) => {
-    if (claimMasks.some((cm) => covers(w, cm))) n += rp.counts[k]!;
-  });
+  for (const pat of moments.patternList()) {
+    const seen = new Set(pat.observed);
+    if (claimVars.some((vars) => vars.every((v) => seen.has(v)))) n += pat.rows;
+  }
   return n;
 }
 

@@ -33,6 +33,11 @@ export interface PatternMoments {
   /** Rows complete on every variable the moments were built over. */
   readonly completeRows: number;
   /**
+   * Each missing-data pattern: the variables it observes (in the order the moments were built
+   * over) and its row count (rows left out by a row filter are not in any pattern).
+   */
+  patternList(): ReadonlyArray<{ observed: readonly string[]; rows: number }>;
+  /**
    * Moments of the design columns of `variables` over the rows where all of them are observed.
    * Cost: O(P · d²) for P patterns and d design columns; independent of the number of rows.
    */

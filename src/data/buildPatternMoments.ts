@@ -258,6 +258,8 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
   );
   let completeRows = 0;
   for (let p = 0; p < P; p++) if (containsMask(masks[p]!, allMask)) completeRows += counts[p]!;
+  const patternList = () =>
+    masks.map((m, p) => ({ observed: variables.filter((_, vi) => isObserved(m, vi)), rows: counts[p]! }));
 
   let bytes = 0;
   for (let p = 0; p < P; p++) {
@@ -301,6 +303,7 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
     return {
       patterns: P,
       completeRows,
+      patternList,
       momentsFor(vars: readonly string[]): Moments {
         const { designIdx, req } = designIndexOf(vars);
         const rows: number[] = [];
@@ -330,6 +333,7 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
   return {
     patterns: P,
     completeRows,
+    patternList,
     momentsFor(vars: readonly string[]): Moments {
       const { designIdx, req } = designIndexOf(vars);
       const d = designIdx.length;

@@ -44,7 +44,7 @@ function table(cols: Column[]): Table {
 function ctx(t: Table, seed: number): TestContext {
   const unused = () => { throw new Error("not used"); };
   // Linear models (continuous or ordinal response) read the pattern moments, built here on demand.
-  const moments = { patterns: 0, completeRows: 0, momentsFor: (vars: readonly string[]) => buildPatternMoments(t, { variables: [...vars] }).momentsFor(vars) };
+  const moments = { patterns: 0, completeRows: 0, patternList: unused, momentsFor: (vars: readonly string[]) => buildPatternMoments(t, { variables: [...vars] }).momentsFor(vars) };
   return { table: t, moments, rankMoments: unused, seed };
 }
 /** Draw a category from weights. */

@@ -31,7 +31,7 @@ function table(cols: Column[]): Table {
 function ctx(t: Table, extra: Partial<TestContext> = {}): TestContext {
   const unused = () => { throw new Error("ranks are not used by these methods"); };
   // Linear models (continuous or ordinal response) read the pattern moments, built here on demand.
-  const moments = { patterns: 0, completeRows: 0, momentsFor: (vars: readonly string[]) => buildPatternMoments(t, { variables: [...vars] }).momentsFor(vars) };
+  const moments = { patterns: 0, completeRows: 0, patternList: unused, momentsFor: (vars: readonly string[]) => buildPatternMoments(t, { variables: [...vars] }).momentsFor(vars) };
   return { table: t, moments, rankMoments: unused, seed: 1, ...extra };
 }
 function ok(r: ReturnType<typeof stratifiedChisq.run>): TestOutcome {
