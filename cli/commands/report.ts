@@ -45,6 +45,7 @@ export async function runReport(io: Io, graphPath: string, dataPath: string, opt
     const svgs = await renderReportSvgs(result);
     written = writeAtomic(out, io.cwd, renderHtmlReport(result, context, svgs));
   }
-  if (!opts.quiet) io.stderr(`report written to ${written}\n`);
+  if (demo && !opts.quiet) io.stdout(`\nreport written to ${written}\nopen it in a browser; it works offline\n`);
+  else if (!opts.quiet) io.stderr(`report written to ${written}\n`);
   return opts.failOnContradiction && result.global.contradicted > 0 ? EXIT.contradiction : EXIT.ok;
 }
