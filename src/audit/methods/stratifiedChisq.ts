@@ -23,12 +23,13 @@
  * hypergeometric distributions given the stratum's margins — the distribution of the table of
  * a within-stratum permutation — at O(r_s·c_s) per draw whatever the number of rows.
  *
- * Effect: √(1 − exp(−G²/n)), signed by the odds ratio only for a 1-df test (one used 2 × 2
- * stratum); 95% interval from the noncentral chi-square inversion of Steiger (1990).
+ * Effect: √(1 − exp(−G²/n)) for a 1-df test (one used 2 × 2 stratum), signed by the odds ratio;
+ * for more df √(1 − exp(−max(0, G² − df)/n)) (`lrEffect`); 95% interval from the noncentral
+ * chi-square inversion of Steiger (1990).
  */
 import type { Column } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
-import { lrEffectCI, lrToEffect } from "../../stats/effectScale.js";
+import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
 import { mantelHaenszel } from "../../stats/mantelHaenszel.js";
 import { createTableStatisticSampler, sequentialMonteCarloPValue } from "../../stats/permutation.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
@@ -241,7 +242,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     };
     if (res.df === 1 && Number.isFinite(m.oddsRatio)) sign = m.oddsRatio > 1 ? 1 : m.oddsRatio < 1 ? -1 : 0;
   }
-  const effect = lrToEffect(res.g2, n, sign);
+  const effect = lrEffect(res.g2, res.df, n, sign);
   const [lo, hi] = lrEffectCI(res.g2, res.df, n, 0.95);
   const outcome: TestOutcome = {
     test: "stratified-chisq",

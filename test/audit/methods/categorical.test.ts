@@ -87,8 +87,8 @@ describe("stratifiedChisq (Berkeley admissions)", () => {
     expect(mh.ci[0]).toBeCloseTo(0.7719074, 7);
     expect(mh.ci[1]).toBeCloseTo(1.0603298, 7);
     expect(o.details).toMatchObject({ strata_used: 6, strata_total: 6 });
-    // effect scale: √(1 − exp(−G²/n)), unsigned for a 6-df test, inside its interval
-    expect(o.effect).toBeCloseTo(Math.sqrt(1 - Math.exp(-scipy.ref.g2_sum / 4526)), 12);
+    // effect scale for a 6-df test: √(1 − exp(−max(0, G² − df)/n)), unsigned, inside its interval
+    expect(o.effect).toBeCloseTo(Math.sqrt(1 - Math.exp(-Math.max(0, scipy.ref.g2_sum - 6) / 4526)), 12);
     expect(o.ci[0]).toBeLessThanOrEqual(o.effect);
     expect(o.ci[1]).toBeGreaterThanOrEqual(o.effect);
   });
