@@ -10,13 +10,14 @@
  * or a worker that cannot start.
  */
 import { closeSync, createReadStream, fstatSync, openSync, readSync } from "node:fs";
-import { Worker } from "node:worker_threads";
+import type { Worker } from "node:worker_threads";
 import type { BuilderState } from "../src/data/columnBuilder.js";
 import { UnquotedRecordReader } from "../src/data/fastNumericScan.js";
 import type { ReadOptions } from "../src/data/readOptions.js";
 import { createBuilder, estimateRecords, planTable, readTable } from "../src/data/readTable.js";
 import type { Table } from "../src/data/Table.js";
 import type { RangeTask } from "./readRangeWorker.js";
+import { startWorker } from "./startWorker.js";
 
 const CHUNK = 4 * 1024 * 1024;
 const HEAD_BYTES = 256 * 1024;
@@ -72,7 +73,7 @@ export async function parallelReadTable(path: string, options: ReadOptions, opts
 
   let worker: Worker;
   try {
-    worker = startWorker(task);
+    worker = startWorker(import.meta.url, "readRangeWorker", { kind: "readRange", task });
   } catch {
     return serial("worker did not start");
   }
@@ -102,17 +103,6 @@ export async function parallelReadTable(path: string, options: ReadOptions, opts
   builder.absorb(answer.state, lineBase, rows0);
   opts.onRead?.(2);
   return builder.finish();
-}
-
-function startWorker(task: RangeTask): Worker {
-  const here = import.meta.url;
-  const workerData = { kind: "readRange", task };
-  if (!here.endsWith(".ts")) return new Worker(new URL("./readRangeWorker.js", here), { workerData });
-  // Run from TypeScript sources (tsx, tests): register the TypeScript loader in the worker first.
-  const api = import.meta.resolve("tsx/esm/api");
-  const entry = new URL("./readRangeWorker.ts", here).href;
-  const boot = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(entry)}); })`;
-  return new Worker(boot, { eval: true, workerData });
 }
 
 /** Scan bytes [start, end) of the file into the reader; false at a quote. */

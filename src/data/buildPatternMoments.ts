@@ -17,6 +17,12 @@
  * are stored for it), plus two Int32 arrays of n while building. When that would exceed
  * `maxPatternBytes`, the statistics are not grouped and each `momentsFor` call reads the rows
  * again (O(n · d²) per call).
+ *
+ * Building runs in three steps, so that the row pass can be split over threads: a *plan*
+ * ({@link planPatternMoments}: design columns, shifts, the pattern of every row), a *part* per
+ * row range ({@link accumulatePatternRange}: per-pattern shifted sums and cross-products of the
+ * range, all parts with the same shifts), and the merge ({@link patternMomentsFromParts}: the
+ * parts added pattern by pattern). {@link buildPatternMoments} is the one-part case.
  */
 import { UnknownNodeError } from "../errors.js";
 import { rankColumns } from "./rankColumns.js";
@@ -48,14 +54,56 @@ export interface PatternMomentsOptions {
   maxStagingBytes?: number;
 }
 
-interface DesignSource {
-  column: DesignColumn;
-  variable: number;
+/** A design column's values as the row pass reads them (plain data; may live in shared memory). */
+export interface PassColumn {
   /** Scores (NaN missing), or undefined for a dummy. */
   scores?: Float64Array;
-  /** Level codes for a dummy. */
+  /** Level codes for a dummy (-1 missing). */
   codes?: Int32Array;
+  /** The dummy's level (1 where codes equal it, 0 elsewhere); -1 for a scored column. */
   level: number;
+}
+
+interface DesignSource extends PassColumn {
+  column: DesignColumn;
+  variable: number;
+}
+
+/**
+ * What the row pass needs, as structured-cloneable data: it can be posted to a worker thread
+ * (typed arrays on a SharedArrayBuffer are then shared, not copied).
+ */
+export interface PatternPass {
+  /** The design columns' values, in design order. */
+  columns: PassColumn[];
+  /** Shift c_j per design column (its mean over the observed, filtered rows). */
+  shift: Float64Array;
+  /** Pattern index of every row, -1 for a row left out by the row filter. */
+  patternOfRow: Int32Array;
+  /** Per pattern, its observed design columns (ascending design indices). */
+  observed: number[][];
+  /** Budget for the staging tiles, in bytes. */
+  maxStagingBytes: number;
+}
+
+/** The per-pattern statistics of a row range: shifted sums and lower-triangle cross-products. */
+export interface PatternPart {
+  /** Per pattern, Σ (x_j − c_j) over the range's rows of the pattern, for its observed design columns. */
+  sums: Float64Array[];
+  /** Per pattern, Σ (x_j − c_j)(x_k − c_k), d_p × d_p row-major, lower triangle filled. */
+  cross: Float64Array[];
+}
+
+/**
+ * The first step of building pattern moments (see {@link planPatternMoments}): everything but
+ * the cross-products. `pass` is undefined when the per-pattern statistics would exceed the
+ * pattern budget; the moments are then answered from the rows and need no parts.
+ */
+export interface PatternPlan {
+  readonly rows: number;
+  readonly pass: PatternPass | undefined;
+  /** @internal */
+  readonly finishWith: (parts: readonly PatternPart[]) => PatternMoments;
 }
 
 interface Pattern {
@@ -80,6 +128,20 @@ interface Pattern {
  * @example buildPatternMoments(table, { variables: ["x", "y", "z"] }).momentsFor(["x", "y"]).cov
  */
 export function buildPatternMoments(table: Table, options: PatternMomentsOptions): PatternMoments {
+  const plan = planPatternMoments(table, options);
+  return patternMomentsFromParts(plan, plan.pass ? [accumulatePatternRange(plan.pass, 0, plan.rows)] : []);
+}
+
+/**
+ * Pattern-moments plan: the design columns of `variables`, their shifts (column means over the
+ * observed, filtered rows), the missing-data pattern of every row and the pattern counts, as
+ * the first of the three steps of {@link buildPatternMoments}. Cost: O(n · v) time, O(n) memory
+ * (O(n log n) per column more with `useRanks`). Source: as {@link buildPatternMoments}.
+ * @throws UnknownNodeError when a variable is not a column of the table
+ * @throws RangeError when the row filter's length is not the table's row count
+ * @example const plan = planPatternMoments(table, { variables: ["x", "y"] }); plan.pass?.observed
+ */
+export function planPatternMoments(table: Table, options: PatternMomentsOptions): PatternPlan {
   const variables = [...new Set(options.variables)];
   const n = table.rows;
   const filter = options.rowFilter;
@@ -300,7 +362,7 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
 
   if (bytes > (options.maxPatternBytes ?? DEFAULT_MAX_PATTERN_BYTES)) {
     // Too many patterns to keep: answer each request from the rows.
-    return {
+    const rowMoments: PatternMoments = {
       patterns: P,
       completeRows,
       patternList,
@@ -318,19 +380,41 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
         return finish(designIdx, rows.length, S, C);
       },
     };
+    return { rows: n, pass: undefined, finishWith: () => rowMoments };
   }
 
   const observed = masks.map((m) => observedDesign(m));
-  const Z = accumulateByPattern(design, shift, patternOfRow, counts, observed, options.maxStagingBytes ?? STAGING_BYTES) ?? accumulateSorted(kernel, patternOfRow, counts, observed);
-  const patterns: Pattern[] = [];
-  for (let p = 0; p < P; p++) {
-    const obs = observed[p]!;
-    const pos = new Int32Array(D).fill(-1);
-    obs.forEach((j, k) => (pos[j] = k));
-    patterns.push({ count: counts[p]!, mask: masks[p]!, pos, sums: Z[p]!.sums, cross: Z[p]!.cross });
-  }
+  const pass: PatternPass = {
+    columns: design.map((src) => ({ ...(src.scores ? { scores: src.scores } : { codes: src.codes! }), level: src.level })),
+    shift,
+    patternOfRow,
+    observed,
+    maxStagingBytes: options.maxStagingBytes ?? STAGING_BYTES,
+  };
+  const finishWith = (parts: readonly PatternPart[]): PatternMoments => {
+    if (parts.length === 0) throw new RangeError("patternMomentsFromParts needs at least one part; pass accumulatePatternRange(plan.pass, 0, plan.rows)");
+    const patterns: Pattern[] = [];
+    for (let p = 0; p < P; p++) {
+      const obs = observed[p]!;
+      const pos = new Int32Array(D).fill(-1);
+      obs.forEach((j, k) => (pos[j] = k));
+      const sums = parts[0]!.sums[p]!.slice();
+      const cross = parts[0]!.cross[p]!.slice();
+      for (let q = 1; q < parts.length; q++) {
+        const ps = parts[q]!.sums[p]!;
+        const pc = parts[q]!.cross[p]!;
+        if (ps.length !== sums.length || pc.length !== cross.length) {
+          throw new RangeError(`part ${q} has ${ps.length} sums for pattern ${p}, which observes ${sums.length} design columns; build every part from the same plan`);
+        }
+        for (let a = 0; a < sums.length; a++) sums[a] += ps[a]!;
+        for (let a = 0; a < cross.length; a++) cross[a] += pc[a]!;
+      }
+      patterns.push({ count: counts[p]!, mask: masks[p]!, pos, sums, cross });
+    }
+    return momentsFromPatterns(patterns);
+  };
 
-  return {
+  const momentsFromPatterns = (patterns: Pattern[]): PatternMoments => ({
     patterns: P,
     completeRows,
     patternList,
@@ -357,7 +441,49 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
       }
       return finish(designIdx, count, S, C);
     },
-  };
+  });
+  return { rows: n, pass, finishWith };
+}
+
+/**
+ * Per-pattern shifted sums and cross-products of rows [from, to) (the second step of
+ * {@link buildPatternMoments}); parts over disjoint ranges that cover the rows merge into the
+ * moments of all rows with {@link patternMomentsFromParts}. Reads only `pass`, so it can run in a
+ * worker thread on shared columns. Cost: O((to − from) · D²) time for D design columns,
+ * O(P · (T · D + D²)) memory for P patterns and staging tiles of T rows.
+ * Source: Chan, Golub & LeVeque (1983), shifted sums and their pairwise combination.
+ * @throws RangeError when the range is outside the rows
+ * @example const part = accumulatePatternRange(plan.pass!, 0, plan.rows)
+ */
+export function accumulatePatternRange(pass: PatternPass, from: number, to: number): PatternPart {
+  const n = pass.patternOfRow.length;
+  if (!(Number.isInteger(from) && Number.isInteger(to) && 0 <= from && from <= to && to <= n)) {
+    throw new RangeError(`row range [${from}, ${to}) is not within the ${n} rows; pass 0 ≤ from ≤ to ≤ ${n}`);
+  }
+  const P = pass.observed.length;
+  const counts = new Array<number>(P).fill(0);
+  const rowPattern = pass.patternOfRow.subarray(from, to);
+  for (let i = 0; i < rowPattern.length; i++) {
+    const p = rowPattern[i]!;
+    if (p >= 0) counts[p]!++;
+  }
+  const Z =
+    accumulateByPattern(pass.columns, pass.shift, pass.patternOfRow, from, to, counts, pass.observed, pass.maxStagingBytes) ??
+    accumulateSorted(new CrossProductKernel(pass.columns, pass.shift), pass.patternOfRow, from, to, counts, pass.observed);
+  return { sums: Z.map((z) => z.sums), cross: Z.map((z) => z.cross) };
+}
+
+/**
+ * Pattern moments from a plan and the parts of its row pass (the last step of
+ * {@link buildPatternMoments}): the parts' sums and cross-products are added pattern by pattern.
+ * The parts must come from `plan.pass` over disjoint row ranges covering all rows; none are
+ * needed when `plan.pass` is undefined. Cost: O(parts · P · d²).
+ * Source: Chan, Golub & LeVeque (1983) (sums of shifted statistics with a common shift).
+ * @throws RangeError when no part is given for a plan with a pass, or a part does not fit the plan
+ * @example patternMomentsFromParts(plan, [accumulatePatternRange(plan.pass!, 0, plan.rows)])
+ */
+export function patternMomentsFromParts(plan: PatternPlan, parts: readonly PatternPart[]): PatternMoments {
+  return plan.finishWith(parts);
 }
 
 interface PatternSums {
@@ -375,6 +501,8 @@ interface PatternSums {
 function accumulateSorted(
   kernel: CrossProductKernel,
   patternOfRow: Int32Array,
+  from: number,
+  to: number,
   counts: readonly number[],
   observed: readonly number[][],
 ): PatternSums[] {
@@ -383,7 +511,7 @@ function accumulateSorted(
   for (let p = 0; p < P; p++) start[p + 1] = start[p]! + counts[p]!;
   const fill = start.slice(0, P);
   const order = new Int32Array(start[P]!);
-  for (let i = 0; i < patternOfRow.length; i++) {
+  for (let i = from; i < to; i++) {
     const p = patternOfRow[i]!;
     if (p >= 0) order[fill[p]!++] = i;
   }
@@ -408,9 +536,11 @@ function accumulateSorted(
  * Cost: O(n · D²) time, O(P · (T · D + D²)) memory for P patterns, D design columns, tiles of T rows.
  */
 function accumulateByPattern(
-  design: readonly DesignSource[],
+  design: readonly PassColumn[],
   shift: Float64Array,
   patternOfRow: Int32Array,
+  from: number,
+  to: number,
   counts: readonly number[],
   observed: readonly number[][],
   budget: number,
@@ -457,10 +587,9 @@ function accumulateByPattern(
     fill[p] = 0;
   };
 
-  const n = patternOfRow.length;
   const scores: (Float64Array | undefined)[] = design.map((src) => src.scores);
-  for (let i0 = 0; i0 < n; i0 += BLOCK_ROWS) {
-    const len = Math.min(BLOCK_ROWS, n - i0);
+  for (let i0 = from; i0 < to; i0 += BLOCK_ROWS) {
+    const len = Math.min(BLOCK_ROWS, to - i0);
     for (let r = 0; r < len; r++) {
       const p = patternOfRow[i0 + r]!;
       if (p >= 0) blockCount[p]++;
@@ -571,7 +700,7 @@ class CrossProductKernel {
   private readonly tile: Float64Array;
   private readonly scratch: Float64Array;
   constructor(
-    private readonly design: readonly DesignSource[],
+    private readonly design: readonly PassColumn[],
     private readonly shift: Float64Array,
   ) {
     const dpad = Math.ceil(Math.max(1, design.length) / 4) * 4;
