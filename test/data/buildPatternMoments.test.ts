@@ -2,7 +2,7 @@ import { readFileSync } from "node:fs";
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { UnknownNodeError } from "../../src/errors.js";
-import { buildPatternMoments } from "../../src/data/buildPatternMoments.js";
+import { accumulatePatternRange, buildPatternMoments, patternMomentsFromParts, planPatternMoments } from "../../src/data/buildPatternMoments.js";
 import { createTable } from "../../src/data/createTable.js";
 import { readTable } from "../../src/data/readTable.js";
 import type { Moments } from "../../src/data/Moments.js";
@@ -137,6 +137,38 @@ describe("buildPatternMoments", () => {
         expectClose(b, a.means, a.cov, 1e-12);
       }
     }
+  });
+
+  it("patternMomentsFromParts over disjoint row ranges equals the one-part build (staged and sorted paths)", async () => {
+    const table = await readTable(input);
+    for (const maxStagingBytes of [undefined, 0]) {
+      const options = { variables: ALL, ...(maxStagingBytes === undefined ? {} : { maxStagingBytes }) };
+      const whole = buildPatternMoments(table, options);
+      const plan = planPatternMoments(table, options);
+      const pass = plan.pass!;
+      const cuts = [0, 1, 1, Math.floor(plan.rows / 3), plan.rows - 2, plan.rows];
+      const parts = cuts.slice(1).map((to, i) => accumulatePatternRange(pass, cuts[i]!, to));
+      const merged = patternMomentsFromParts(plan, parts);
+      expect(merged.patterns).toBe(whole.patterns);
+      expect(merged.completeRows).toBe(whole.completeRows);
+      expect(merged.patternList()).toEqual(whole.patternList());
+      for (const vars of [ALL, ["region", "x2"], ["ord", "b", "x4"]]) {
+        const a = whole.momentsFor(vars);
+        const b = merged.momentsFor(vars);
+        expect(b.n).toBe(a.n);
+        expectClose(b, a.means, a.cov, 1e-12);
+      }
+      // an empty range adds nothing: its sums are all zero
+      expect(parts[1]!.sums.every((s) => s.every((v) => v === 0))).toBe(true);
+    }
+    const plan = planPatternMoments(table, { variables: ALL });
+    expect(() => accumulatePatternRange(plan.pass!, 5, 4)).toThrow(RangeError);
+    expect(() => accumulatePatternRange(plan.pass!, 0, plan.rows + 1)).toThrow(/not within the/);
+    expect(() => patternMomentsFromParts(plan, [])).toThrow(/at least one part/);
+    // a plan without a pass (pattern budget exceeded) needs no parts
+    const ungrouped = planPatternMoments(table, { variables: ALL, maxPatternBytes: 0 });
+    expect(ungrouped.pass).toBeUndefined();
+    expect(patternMomentsFromParts(ungrouped, []).momentsFor(["x1"]).n).toBe(buildPatternMoments(table, { variables: ALL }).momentsFor(["x1"]).n);
   });
 
   it("buildPatternMoments keeps patterns apart when more than 31 variables are missing somewhere (two key words)", () => {
