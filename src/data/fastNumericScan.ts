@@ -20,6 +20,9 @@ const MINUS = 45;
 const DOT = 46;
 const COMMA = 44;
 const MAX_SAFE = 9007199254740991;
+/** Digits that always fit a 32-bit integer mantissa (10⁹ − 1 < 2³¹). */
+const MAX_INT_DIGITS = 9;
+const SIGN = Float64Array.of(1, -1);
 const POW10 = Float64Array.from({ length: 23 }, (_, i) => Number(`1e${i}`));
 const utf8 = new TextDecoder("utf-8");
 
@@ -41,6 +44,12 @@ export function decodeBytes(buf: Uint8Array, start: number, end: number): string
  * Scan the records in buf[start, end) into the builder. Preconditions: the range holds no
  * quote character and ends just after an LF. `line` is the line of the first record; returns
  * the line after the last. Cost: O(end − start).
+ *
+ * The loop reads a cell as a plain decimal (optional sign, digits, optional mark and digits)
+ * with its 1 to 9 digits accumulated in a 32-bit integer m, and stores ±m / 10^frac (both exact,
+ * so one correctly rounded division) when the cell ends at the delimiter or the LF right after
+ * those digits; every other cell (empty, exponent, CR, text, more digits) goes to
+ * {@link scanOtherCell}, which reads up to 2⁵³ − 1 in the mantissa the same way.
  * @throws DataError (from the builder) on a ragged row
  * @example scanUnquotedRecords(bytes, 0, bytes.length, builder, 44, 2)
  */
@@ -72,92 +81,135 @@ export function scanUnquotedRecords(
     for (;;) {
       const c = f < nf ? map[f]! : -1;
       let q = p;
-      let term: number;
-      if (c < 0) {
-        let y = buf[q]!;
-        while (y !== delim && y !== LF) y = buf[++q]!;
-        term = q;
-      } else {
-        let x = buf[q]!;
-        let neg = false;
-        if (x === MINUS) {
-          neg = true;
-          x = buf[++q]!;
-        } else if (x === PLUS) {
-          x = buf[++q]!;
-        }
+      let x = buf[q]!;
+      if (c >= 0) {
+        // A minus sign without a branch (signs are unpredictable); a plus sign leaves no digits
+        // here and goes to scanOtherCell.
+        const minus = +(x === MINUS);
+        q += minus;
+        x = buf[q]!;
+        // Digits accumulate in a 32-bit integer (a short dependency chain); exact up to 9 digits.
+        const d0 = q;
         let m = 0;
-        let digits = 0;
+        let d = x - 48;
+        while (d >>> 0 < 10) {
+          m = (m * 10 + d) | 0;
+          x = buf[++q]!;
+          d = x - 48;
+        }
+        let digits = q - d0;
         let frac = 0;
-        while (x >= 48 && x <= 57) {
-          m = m * 10 + (x - 48);
-          digits++;
-          x = buf[++q]!;
-        }
         if (x === mark) {
+          const f0 = q + 1;
           x = buf[++q]!;
-          while (x >= 48 && x <= 57) {
-            m = m * 10 + (x - 48);
-            digits++;
-            frac++;
+          d = x - 48;
+          while (d >>> 0 < 10) {
+            m = (m * 10 + d) | 0;
             x = buf[++q]!;
+            d = x - 48;
           }
+          frac = q - f0;
+          digits += frac;
         }
-        let ok = digits > 0;
-        let exp = 0;
-        if (ok && (x === 101 || x === 69)) {
-          x = buf[++q]!;
-          let eneg = false;
-          if (x === MINUS) {
-            eneg = true;
-            x = buf[++q]!;
-          } else if (x === PLUS) {
-            x = buf[++q]!;
-          }
-          let ed = 0;
-          while (x >= 48 && x <= 57) {
-            if (exp < 100000) exp = exp * 10 + (x - 48);
-            ed++;
-            x = buf[++q]!;
-          }
-          if (ed === 0) ok = false;
-          if (eneg) exp = -exp;
-        }
-        const atEnd = x === delim || x === LF || (x === CR && buf[q + 1] === LF);
-        if (ok && atEnd) {
-          const e10 = exp - frac;
-          if (m <= MAX_SAFE && e10 >= -22 && e10 <= 22) {
-            let v = e10 < 0 ? m / POW10[-e10]! : m * POW10[e10]!;
-            if (neg) v = -v;
-            if (plain[c] === 1) vals[c]![row] = v;
-            else b.num(c, v);
-          } else {
-            b.text(c, decodeBytes(buf, p, q));
-          }
-          term = q;
-        } else if (q === p && atEnd) {
-          b.miss(c);
-          term = q;
+        if ((x === delim || x === LF) && (digits - 1) >>> 0 < MAX_INT_DIGITS) {
+          // × −1 flips the sign exactly (and gives −0 for "-0.0")
+          const v = (m / POW10[frac]!) * SIGN[minus]!;
+          if (plain[c] === 1) vals[c]![row] = v;
+          else b.num(c, v);
         } else {
-          let y = buf[q]!;
-          while (y !== delim && y !== LF) y = buf[++q]!;
-          term = q;
-          b.text(c, decodeBytes(buf, p, q));
+          q = scanOtherCell(buf, p, b, c, delim, mark);
+          x = buf[q]!;
         }
+      } else {
+        while (x !== delim && x !== LF) x = buf[++q]!;
       }
       f++;
-      const t = buf[term]!;
-      if (t === delim) {
-        p = term + 1;
+      if (x === delim) {
+        p = q + 1;
         continue;
       }
-      p = t === LF ? term + 1 : term + 2;
+      p = x === LF ? q + 1 : q + 2;
       break;
     }
     b.endRecord(f);
     line++;
   }
   return line;
+}
+
+/**
+ * Read the cell starting at buf[p] into column c of the builder when it is not a plain decimal
+ * ending at the delimiter or LF: a number with an exponent, a cell before a CR LF, an empty
+ * cell, more digits than a double holds exactly, or text. Returns the index of the byte that
+ * ends the cell (the delimiter, the LF, or the CR of a CR LF). Cost: O(cell length).
+ */
+function scanOtherCell(buf: Uint8Array, p: number, b: ColumnBuilder, c: number, delim: number, mark: number): number {
+  let q = p;
+  let x = buf[q]!;
+  let neg = false;
+  if (x === MINUS) {
+    neg = true;
+    x = buf[++q]!;
+  } else if (x === PLUS) {
+    x = buf[++q]!;
+  }
+  let m = 0;
+  let digits = 0;
+  let frac = 0;
+  while (x >= 48 && x <= 57) {
+    m = m * 10 + (x - 48);
+    digits++;
+    x = buf[++q]!;
+  }
+  if (x === mark) {
+    x = buf[++q]!;
+    while (x >= 48 && x <= 57) {
+      m = m * 10 + (x - 48);
+      digits++;
+      frac++;
+      x = buf[++q]!;
+    }
+  }
+  let ok = digits > 0;
+  let exp = 0;
+  if (ok && (x === 101 || x === 69)) {
+    x = buf[++q]!;
+    let eneg = false;
+    if (x === MINUS) {
+      eneg = true;
+      x = buf[++q]!;
+    } else if (x === PLUS) {
+      x = buf[++q]!;
+    }
+    let ed = 0;
+    while (x >= 48 && x <= 57) {
+      if (exp < 100000) exp = exp * 10 + (x - 48);
+      ed++;
+      x = buf[++q]!;
+    }
+    if (ed === 0) ok = false;
+    if (eneg) exp = -exp;
+  }
+  const atEnd = x === delim || x === LF || (x === CR && buf[q + 1] === LF);
+  if (ok && atEnd) {
+    const e10 = exp - frac;
+    if (m <= MAX_SAFE && e10 >= -22 && e10 <= 22) {
+      let v = e10 < 0 ? m / POW10[-e10]! : m * POW10[e10]!;
+      if (neg) v = -v;
+      b.num(c, v);
+    } else {
+      b.text(c, decodeBytes(buf, p, q));
+    }
+    return q;
+  }
+  if (q === p && atEnd) {
+    b.miss(c);
+    return q;
+  }
+  let y = buf[q]!;
+  while (y !== delim && y !== LF) y = buf[++q]!;
+  b.text(c, decodeBytes(buf, p, q));
+  return q;
 }
 
 /**
