@@ -193,6 +193,41 @@ describe("readTable", () => {
     texts.forEach((s, i) => expect(Object.is(t.column("x")!.values[i], Number(s))).toBe(true)); // ECMAScript Number()
   });
 
+  it("readTable reads plain decimals of 1 to 12 digits as Number() does, at both sides of the 9-digit integer fast path", async () => {
+    // ECMAScript Number() is the correctly rounded reference (common practice); 9 digits fit the
+    // 32-bit mantissa of the scanner's fast path, 10 or more take the double-mantissa path
+    const decimal = fc
+      .tuple(fc.boolean(), fc.stringMatching(/^[0-9]{1,12}$/), fc.nat({ max: 12 }), fc.boolean())
+      .map(([neg, digits, at, lastCell]) => {
+        const k = Math.min(at, digits.length);
+        return { text: `${neg ? "-" : ""}${digits.slice(0, k)}.${digits.slice(k)}`, lastCell };
+      });
+    await fc.assert(
+      fc.asyncProperty(fc.array(decimal, { minLength: 1, maxLength: 40 }), async (cells) => {
+        const lines = cells.map((c) => (c.lastCell ? `0,${c.text}` : `${c.text},0`));
+        const t = await readTable(bytes("a,b\n" + lines.join("\n") + "\n"));
+        cells.forEach((c, i) => {
+          const got = t.column(c.lastCell ? "b" : "a")!.values[i];
+          expect([c.text, Object.is(got, Number(c.text))]).toEqual([c.text, true]);
+        });
+      }),
+      { numRuns: 200, seed: 23 },
+    );
+    const edge = ["999999999", "1000000000", "-999999999", "0.999999999", "-0.0000", "-.5", ".5", "-5.", "0.123456789", "12345.6789", "2147483647", "4294967296.5"];
+    const t = await readTable(bytes("x,y\n" + edge.map((e) => `${e},${e}`).join("\n") + "\n"));
+    edge.forEach((e, i) => {
+      expect(Object.is(t.column("x")!.values[i], Number(e))).toBe(true); // ECMAScript Number()
+      expect(Object.is(t.column("y")!.values[i], Number(e))).toBe(true); // last cell of the line
+    });
+    // not numbers: a lone sign, sign and mark, two signs, two marks (text among numbers is reported) ...
+    for (const bad of ["-", "--5", "-+5", "1.2.3", "-."]) {
+      await expect(readTable(bytes(`x\n1\n2\n${bad}\n`), { types: { x: "continuous" } })).rejects.toThrow(DataError);
+    }
+    // ... while a lone mark is a default missing code (DEFAULT_MISSING_CODES) and an empty cell is missing
+    const dots = await readTable(bytes("x,y\n1,.\n.,\n"), { types: { x: "continuous", y: "continuous" } });
+    expect([...dots.column("x")!.values, ...dots.column("y")!.values]).toEqual([1, NaN, NaN, NaN]);
+  });
+
   it("readTable hands over to papaparse at a late quote and still matches papaparse alone", async () => {
     const lines = ["id,score,name"];
     for (let i = 1; i <= 3000; i++) lines.push(`${i},${(i * 0.37 - 500).toFixed(3)},${i === 2500 ? '"Doe, J"' : "n" + (i % 5)}`);
