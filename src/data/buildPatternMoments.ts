@@ -34,6 +34,9 @@ const TILE = 1024;
 const TILE_ROWS = 256;
 /** Rows read per block in the one-pass accumulation; at most the smallest tile. */
 const BLOCK_ROWS = 32;
+/** Rows per staging tile of a pattern holding less than 1/FREQUENT_SHARE of the rows; at least BLOCK_ROWS. */
+const RARE_TILE_ROWS = 32;
+const FREQUENT_SHARE = 16;
 const STAGING_BYTES = 48 * 1024 * 1024;
 const WORD_BITS = 26;
 const DEFAULT_MAX_PATTERN_BYTES = 512 * 1024 * 1024;
@@ -528,8 +531,8 @@ function accumulateSorted(
 
 /**
  * One pass over the rows in file order. Each row's shifted design values (0 for a missing
- * variable) are appended to a row-major staging tile of its pattern; a full tile is transposed
- * into a column tile and multiplied in 4 × 2 register blocks into the pattern's running
+ * variable) are appended to a column-major staging tile of its pattern; a full tile is
+ * multiplied in 4 × 2 register blocks into the pattern's running
  * cross-product over all design columns (the zero entries add nothing), from which the observed
  * columns are taken at the end. Reads are sequential; the working set is the staging tiles.
  * Returns undefined when the tiles would need more than `budget` bytes.
@@ -548,42 +551,44 @@ function accumulateByPattern(
   const P = counts.length;
   const D = design.length;
   const dpad = Math.ceil(Math.max(1, D) / 4) * 4;
+  // A pattern with at least 1/FREQUENT_SHARE of the rows gets full tiles; a rarer one gets short
+  // tiles, so that the tiles written between two rows of it stay small enough to be in cache.
+  let rows = 0;
+  for (const c of counts) rows += c;
+  const capFor = (t: number, c: number): number => Math.min(t, c, c * FREQUENT_SHARE >= rows ? t : RARE_TILE_ROWS);
   let tileRows = TILE_ROWS;
-  const need = (t: number): number => counts.reduce((s, c) => s + 8 * (Math.min(t, c) * dpad + dpad * dpad + dpad), 0);
+  const need = (t: number): number => counts.reduce((s, c) => s + 8 * (capFor(t, c) * dpad + dpad * dpad + dpad), 0);
   while (tileRows > BLOCK_ROWS && need(tileRows) > budget) tileRows /= 2;
   if (need(tileRows) > budget) return undefined;
   const capOf = new Int32Array(P);
-  const offOf = new Float64Array(P);
+  const offOf = new Int32Array(P);
   let total = 0;
   for (let p = 0; p < P; p++) {
-    capOf[p] = Math.min(tileRows, counts[p]!);
+    capOf[p] = capFor(tileRows, counts[p]!);
     offOf[p] = total;
     total += capOf[p]! * dpad;
   }
+  if (total > 2 ** 31 - 1) return undefined;
   const stage = new Float64Array(total);
   const fill = new Int32Array(P);
   const blockCount = new Int32Array(P);
   const Z = Array.from({ length: P }, () => new Float64Array(dpad * dpad));
   const S = Array.from({ length: P }, () => new Float64Array(dpad));
-  const X = new Float64Array(tileRows * dpad);
-  const rowBase = new Float64Array(BLOCK_ROWS);
+  const rowBase = new Int32Array(BLOCK_ROWS);
+  const rowStride = new Int32Array(BLOCK_ROWS);
 
   const flush = (p: number): void => {
     const m = fill[p]!;
     if (m === 0) return;
     const off = offOf[p]!;
+    const cap = capOf[p]!;
     const sums = S[p]!;
     for (let k = 0; k < D; k++) {
-      const xo = k * tileRows;
       let s = 0;
-      for (let t = 0, o = off + k; t < m; t++, o += dpad) {
-        const v = stage[o]!;
-        X[xo + t] = v;
-        s += v;
-      }
+      for (let o = off + k * cap, e = o + m; o < e; o++) s += stage[o]!;
       sums[k] += s;
     }
-    crossTile(X, tileRows, m, dpad, Z[p]!);
+    crossTile(stage, off, cap, m, dpad, Z[p]!);
     fill[p] = 0;
   };
 
@@ -605,7 +610,8 @@ function accumulateByPattern(
         if (fill[p]! + c > capOf[p]!) flush(p);
         blockCount[p] = 0;
       }
-      rowBase[r] = offOf[p]! + fill[p]!++ * dpad;
+      rowBase[r] = offOf[p]! + fill[p]!++;
+      rowStride[r] = capOf[p]!;
     }
     for (let k = 0; k < D; k++) {
       const c = shift[k]!;
@@ -615,7 +621,7 @@ function accumulateByPattern(
           const o = rowBase[r]!;
           if (o < 0) continue;
           const v = s[i0 + r]!;
-          stage[o + k] = v === v ? v - c : 0;
+          stage[o + k * rowStride[r]!] = v === v ? v - c : 0;
         }
       } else {
         const codes = design[k]!.codes!;
@@ -624,7 +630,7 @@ function accumulateByPattern(
           const o = rowBase[r]!;
           if (o < 0) continue;
           const code = codes[i0 + r]!;
-          stage[o + k] = code < 0 ? 0 : (code === level ? 1 : 0) - c;
+          stage[o + k * rowStride[r]!] = code < 0 ? 0 : (code === level ? 1 : 0) - c;
         }
       }
     }
@@ -648,18 +654,18 @@ function accumulateByPattern(
 }
 
 /**
- * Add the lower-triangle products of a column tile into Z (dpad × dpad, row-major): X holds
- * dpad columns of `stride` entries, of which the first m rows are used; dpad is a multiple of 4.
- * Runs in 4 × 2 register blocks (8 accumulators). Cost: O(m · dpad²).
+ * Add the lower-triangle products of a column tile into Z (dpad × dpad, row-major): X holds,
+ * from `base`, dpad columns of `stride` entries, of which the first m rows are used; dpad is a
+ * multiple of 4. Runs in 4 × 2 register blocks (8 accumulators). Cost: O(m · dpad²).
  */
-function crossTile(X: Float64Array, stride: number, m: number, dpad: number, Z: Float64Array): void {
+function crossTile(X: Float64Array, base: number, stride: number, m: number, dpad: number, Z: Float64Array): void {
   for (let i = 0; i < dpad; i += 4) {
-    const o0 = i * stride;
+    const o0 = base + i * stride;
     const o1 = o0 + stride;
     const o2 = o1 + stride;
     const o3 = o2 + stride;
     for (let j = 0; j < i + 4; j += 2) {
-      const p0 = j * stride;
+      const p0 = base + j * stride;
       const p1 = p0 + stride;
       let s00 = 0, s01 = 0, s10 = 0, s11 = 0, s20 = 0, s21 = 0, s30 = 0, s31 = 0;
       for (let t = 0; t < m; t++) {
