@@ -79,7 +79,7 @@ const TEST_TEXT: Record<TestName, { name: string; text: string; refs: RefKey[] }
   },
   "regression-lr": {
     name: "regression LR",
-    text: "a likelihood-ratio test comparing regression models of one variable (linear, logistic or multinomial logistic according to its type) with and without the other, both adjusted for the conditioning set (Wilks 1938; Agresti 2013)",
+    text: "a likelihood-ratio test comparing regression models of one variable (linear for a continuous or ordinal response, the ordinal one as scores; logistic for a binary and multinomial logistic for a nominal response) with and without the other, both adjusted for the conditioning set (Wilks 1938; Agresti 2013)",
     refs: ["wilks1938", "agresti2013"],
   },
 };
@@ -212,7 +212,7 @@ function methodsText(result: AuditResult, refs: Set<RefKey>): string[] {
       refs.add("magee1990");
       refs.add("steiger1990");
       text +=
-        " Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−G²/n)) (Cox & Snell 1989; Magee 1990), with a 95% interval from the noncentral chi-square distribution (Steiger 1990).";
+        " Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a 95% interval from the noncentral chi-square distribution (Steiger 1990).";
     }
     const mh = claims.some((c) => c.test === "stratified-chisq" && c.details !== undefined && Object.keys(c.details).some((key) => /mantel|^mh|odds/i.test(key)));
     if (mh) {
@@ -361,7 +361,7 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
   const symbols = [...new Set(claims.map((c) => c.test))].sort((a, b) => TEST_ORDER.indexOf(a) - TEST_ORDER.indexOf(b));
   const effectNote = symbols
     .map((t): string => (t === "pearson-partial" ? "r: partial Pearson correlation" : t === "spearman-partial" ? "ρ: partial Spearman correlation" : ""))
-    .concat(symbols.some((t) => t === "stratified-chisq" || t === "regression-lr") ? ["e: likelihood-ratio effect √(1 − exp(−G²/n)) on the correlation scale"] : [])
+    .concat(symbols.some((t) => t === "stratified-chisq" || t === "regression-lr") ? ["e: likelihood-ratio effect √(1 − exp(−LR/n)) on the correlation scale (LR − df in place of LR for tests on several df)"] : [])
     .filter((x) => x !== "")
     .join("; ");
 

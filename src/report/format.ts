@@ -143,7 +143,7 @@ export function claimLabel(claim: Pick<Claim, "x" | "y" | "given">, ascii = fals
 /**
  * Symbol for a claim's effect in short labels: "r" for a partial Pearson correlation,
  * "ρ" (ASCII "rho") for a partial Spearman correlation, "e" for the likelihood-ratio effect
- * sign·√(1 − exp(−G²/n)) of the categorical and regression tests. Cost: O(1).
+ * of the categorical and regression tests (see `lrEffect` in src/stats/effectScale.ts). Cost: O(1).
  *
  * @example effectSymbol("pearson-partial") // "r"
  */
