@@ -6,17 +6,7 @@
  */
 import { createWriteStream } from "node:fs";
 import { writeFileSync } from "node:fs";
-
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { mulberry32 } from "../src/stats/mulberry32.js";
 
 export interface BenchCohortSpec {
   rows: number;

@@ -8,20 +8,10 @@
 import { closeSync, mkdirSync, openSync, writeSync } from "node:fs";
 import { dirname } from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
+import { mulberry32 } from "../src/stats/mulberry32.js";
 
 export const DEFAULT_OUT = fileURLToPath(new URL("./out/numeric-1m-50.csv", import.meta.url));
 
-/** mulberry32: a small seeded 32-bit generator (Tommy Ettinger, public domain). */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** Write `rows` rows of `cols` columns to `path`; returns the bytes written. Cost: O(rows · cols). */
 export function generateNumericCsv(path: string, rows = 1_000_000, cols = 50, seed = 20240611): number {

@@ -12,21 +12,10 @@
 import { writeFileSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
+import { mulberry32 } from "../src/stats/mulberry32.js";
 
 const SEED = 20261202;
 const N = 3000;
-
-/** mulberry32: a small seeded 32-bit generator (Tommy Ettinger's public-domain design). */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 const rand = mulberry32(SEED);
 /** Standard normal by Box–Muller. */
@@ -104,7 +93,8 @@ grip -> fall_2y
 crp -> fall_2y
 `;
 
-const dir = join(dirname(fileURLToPath(import.meta.url)), "demo");
+// An output folder may be given (the tests regenerate into a temporary folder and compare bytes).
+const dir = process.argv[2] ?? join(dirname(fileURLToPath(import.meta.url)), "demo");
 writeFileSync(join(dir, "cohort.csv"), lines.join("\n") + "\n");
 writeFileSync(join(dir, "graph.txt"), graph);
 console.log(`wrote ${N} rows to ${join(dir, "cohort.csv")} and the graph to ${join(dir, "graph.txt")}`);

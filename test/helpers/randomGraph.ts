@@ -6,6 +6,9 @@
 import fc from "fast-check";
 import type { Graph } from "../../src/graph/Graph.js";
 import { createGraph, type GraphSpec } from "../../src/graph/createGraph.js";
+import { mulberry32 } from "../../src/stats/mulberry32.js";
+
+export { mulberry32 };
 
 export interface RandomGraphOptions {
   /** Number of nodes (≥ 1). */
@@ -18,18 +21,6 @@ export interface RandomGraphOptions {
   bidirected?: number;
   /** Mix in Unicode names (Greek, CJK, accented, emoji) — default false. */
   unicode?: boolean;
-}
-
-/** mulberry32: a small, fast 32-bit seeded generator returning floats in [0, 1). */
-export function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 const UNICODE = ["β", "γ₂", "血压", "café", "Δt", "🫀", "naïve", "ЖК"];
