@@ -201,19 +201,29 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   const keyHi = new Int32Array(n);
   let activeVars = 0;
   const bitOfVar = new Int32Array(V).fill(-1);
+  // A scored variable's key bits are set in its shift pass (its bit is the next free one, kept
+  // only when it is missing somewhere); `keyed` marks the variables whose bits are written.
+  const keyed = new Uint8Array(V);
   for (let j = 0; j < D; j++) {
     const src = design[j]!;
     let sum = 0;
     let cnt = 0;
     let missing = 0;
+    const b = activeVars;
+    const word = b < 31 ? keyLo : keyHi;
+    const bit = b < 53 ? 1 << b % 31 : 0;
     if (src.scores && !filter) {
       const s = src.scores;
       for (let i = 0; i < n; i++) {
         const v = s[i]!;
         if (v === v) sum += v;
-        else missing++;
+        else {
+          missing++;
+          word[i] |= bit;
+        }
       }
       cnt = n - missing;
+      if (missing > 0 && bit !== 0) keyed[src.variable] = 1;
     } else if (src.scores) {
       const s = src.scores;
       for (let i = 0; i < n; i++) {
@@ -223,8 +233,12 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
             sum += v;
             cnt++;
           }
-        } else missing++;
+        } else {
+          missing++;
+          word[i] |= bit;
+        }
       }
+      if (missing > 0 && bit !== 0) keyed[src.variable] = 1;
     } else {
       const codes = src.codes!;
       for (let i = 0; i < n; i++) {
@@ -263,7 +277,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   if (activeVars > 53) wide = new Array<string>(n).fill("");
   for (let vi = 0; vi < V; vi++) {
     const b = bitOfVar[vi]!;
-    if (b < 0) continue;
+    if (b < 0 || (keyed[vi] === 1 && !wide)) continue;
     const col = table.column(variables[vi]!)!;
     const word = b < 31 ? keyLo : keyHi;
     const bit = 1 << b % 31;
@@ -278,31 +292,51 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
     }
   }
 
-  // Pattern of every row (a Map lookup only where the key changes from the row before).
-  const patternIndex = new Map<number | string, number>();
+  // Pattern of every row: an open-addressing hash of the two key words (a Map of strings for
+  // wide keys), looked up only where the key changes from the row before.
   const patternOfRow = new Int32Array(n);
   const counts: number[] = [];
   const firstRow: number[] = [];
-  let lastKey: number | string | undefined;
+  const wideIndex = new Map<string, number>();
+  const keys = new PatternKeyTable();
+  let lastLo = 0;
+  let lastHi = 0;
+  let lastWide: string | undefined;
   let lastIdx = -1;
   for (let i = 0; i < n; i++) {
     if (filter && filter[i] === 0) {
       patternOfRow[i] = -1;
       continue;
     }
-    const key = wide ? wide[i]! : keyLo[i]! + keyHi[i]! * 2147483648;
     let p: number;
-    if (key === lastKey) p = lastIdx;
-    else {
-      const found = patternIndex.get(key);
-      if (found === undefined) {
-        p = counts.length;
-        patternIndex.set(key, p);
-        counts.push(0);
-        firstRow.push(i);
-      } else p = found;
-      lastKey = key;
-      lastIdx = p;
+    if (wide) {
+      const key = wide[i]!;
+      if (key === lastWide) p = lastIdx;
+      else {
+        const found = wideIndex.get(key);
+        if (found === undefined) {
+          p = counts.length;
+          wideIndex.set(key, p);
+          counts.push(0);
+          firstRow.push(i);
+        } else p = found;
+        lastWide = key;
+        lastIdx = p;
+      }
+    } else {
+      const lo = keyLo[i]!;
+      const hi = keyHi[i]!;
+      if (lastIdx >= 0 && lo === lastLo && hi === lastHi) p = lastIdx;
+      else {
+        p = keys.findOrAdd(lo, hi, counts.length);
+        if (p === counts.length) {
+          counts.push(0);
+          firstRow.push(i);
+        }
+        lastLo = lo;
+        lastHi = hi;
+        lastIdx = p;
+      }
     }
     patternOfRow[i] = p;
     counts[p]!++;
@@ -794,4 +828,39 @@ function maskOf(vIdx: readonly number[], words: number): Uint32Array {
 function containsMask(mask: Uint32Array, req: Uint32Array): boolean {
   for (let w = 0; w < req.length; w++) if ((mask[w]! & req[w]!) !== req[w]) return false;
   return true;
+}
+
+/** Open-addressing hash table from a pattern key (two 32-bit words) to a pattern index. */
+class PatternKeyTable {
+  private slots = new Int32Array(64).fill(-1);
+  private lo: number[] = [];
+  private hi: number[] = [];
+
+  /** The index of key (lo, hi), or `next` after adding it when it is new. Cost: O(1) expected. */
+  findOrAdd(lo: number, hi: number, next: number): number {
+    let mask = this.slots.length - 1;
+    let h = (Math.imul(lo, 0x9e3779b1) ^ Math.imul(hi + 0x7f4a7c15, 0x85ebca77)) >>> 0;
+    h = (h ^ (h >>> 15)) & mask;
+    for (;;) {
+      const p = this.slots[h]!;
+      if (p < 0) break;
+      if (this.lo[p] === lo && this.hi[p] === hi) return p;
+      h = (h + 1) & mask;
+    }
+    this.lo.push(lo);
+    this.hi.push(hi);
+    this.slots[h] = next;
+    if (2 * this.lo.length > this.slots.length) {
+      const old = this.lo.length;
+      this.slots = new Int32Array(this.slots.length * 2).fill(-1);
+      mask = this.slots.length - 1;
+      for (let p = 0; p < old; p++) {
+        let g = (Math.imul(this.lo[p]!, 0x9e3779b1) ^ Math.imul(this.hi[p]! + 0x7f4a7c15, 0x85ebca77)) >>> 0;
+        g = (g ^ (g >>> 15)) & mask;
+        while (this.slots[g]! >= 0) g = (g + 1) & mask;
+        this.slots[g] = p;
+      }
+    }
+    return next;
+  }
 }
