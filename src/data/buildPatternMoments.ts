@@ -115,7 +115,7 @@ interface Pattern {
   /** Global design index → position among this pattern's observed design columns, or -1. */
   pos: Int32Array;
   sums: Float64Array;
-  /** Row-major d_p × d_p; the lower triangle is filled. */
+  /** Row-major d_p × d_p, symmetric. */
   cross: Float64Array;
 }
 
@@ -446,6 +446,9 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
         for (let a = 0; a < sums.length; a++) sums[a] += ps[a]!;
         for (let a = 0; a < cross.length; a++) cross[a] += pc[a]!;
       }
+      // Mirror the lower triangle, so that requests in any column order read it directly.
+      const dp = sums.length;
+      for (let a = 0; a < dp; a++) for (let b = 0; b < a; b++) cross[b * dp + a] = cross[a * dp + b]!;
       patterns.push({ count: counts[p]!, mask: masks[p]!, pos, sums, cross });
     }
     return momentsFromPatterns(patterns);
@@ -462,18 +465,21 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
       const C = new Float64Array(d * d);
       let count = 0;
       const local = new Int32Array(d);
-      for (const pat of patterns) {
+      for (let p = 0; p < patterns.length; p++) {
+        const pat = patterns[p]!;
         if (!containsMask(pat.mask, req)) continue;
         count += pat.count;
-        const dp = pat.sums.length;
-        for (let a = 0; a < d; a++) local[a] = pat.pos[designIdx[a]!]!;
+        const sums = pat.sums;
+        const cross = pat.cross;
+        const pos = pat.pos;
+        const dp = sums.length;
+        for (let a = 0; a < d; a++) local[a] = pos[designIdx[a]!]!;
         for (let a = 0; a < d; a++) {
           const pa = local[a]!;
-          S[a] += pat.sums[pa]!;
-          for (let b = 0; b <= a; b++) {
-            const pb = local[b]!;
-            C[a * d + b] += pa >= pb ? pat.cross[pa * dp + pb]! : pat.cross[pb * dp + pa]!;
-          }
+          S[a] += sums[pa]!;
+          const row = pa * dp;
+          const out = a * d;
+          for (let b = 0; b <= a; b++) C[out + b] += cross[row + local[b]!]!;
         }
       }
       return finish(designIdx, count, S, C);
