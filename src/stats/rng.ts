@@ -60,21 +60,22 @@ export function createRng(seed: number, key = ""): Rng {
   // A second input word so that (seed, key) pairs with equal xor still differ.
   splitMix32(mix);
   mix.s = (mix.s + hashString32(key)) | 0;
-  let s0 = splitMix32(mix);
-  let s1 = splitMix32(mix);
-  let s2 = splitMix32(mix);
-  let s3 = splitMix32(mix);
-  if ((s0 | s1 | s2 | s3) === 0) s0 = 1; // the all-zero state is a fixed point
+  // The four state words live in one Int32Array (no boxed numbers in closures).
+  const st = new Int32Array(4);
+  st[0] = splitMix32(mix);
+  st[1] = splitMix32(mix);
+  st[2] = splitMix32(mix);
+  st[3] = splitMix32(mix);
+  if ((st[0]! | st[1]! | st[2]! | st[3]!) === 0) st[0] = 1; // the all-zero state is a fixed point
 
   const nextUint32 = (): number => {
-    const r = Math.imul(rotl(Math.imul(s1, 5), 7), 9) >>> 0;
-    const t = s1 << 9;
-    s2 ^= s0;
-    s3 ^= s1;
-    s1 ^= s2;
-    s0 ^= s3;
-    s2 ^= t;
-    s3 = rotl(s3, 11);
+    const s0 = st[0]!, s1 = st[1]!, s2 = st[2]! ^ s0, s3 = st[3]! ^ s1;
+    const x = Math.imul(s1, 5);
+    const r = Math.imul((x << 7) | (x >>> 25), 9) >>> 0;
+    st[0] = s0 ^ s3;
+    st[1] = s1 ^ s2;
+    st[2] = s2 ^ (s1 << 9);
+    st[3] = (s3 << 11) | (s3 >>> 21);
     return r;
   };
   const nextFloat = (): number => {
@@ -84,41 +85,35 @@ export function createRng(seed: number, key = ""): Rng {
   };
   const nextInt = (n: number): number => {
     if (!(n >= 1 && n <= 4294967296)) throw new RangeError(`nextInt bound must be in 1..2^32, got ${n}`);
-    // Lemire's nearly divisionless method with a 64-bit product split in two 32-bit halves.
+    // Lemire's nearly divisionless method: the 64-bit product x·bound in two 32-bit halves
+    // (hi, lo), computed from 16-bit pieces of x in doubles (exact below 2^53), no allocation.
     const bound = n >>> 0 || 4294967296;
     if (bound === 4294967296) return nextUint32();
     let x = nextUint32();
-    let m = mul32(x, bound);
-    if (m.lo < bound) {
+    let lo = mulLow32(x, bound);
+    if (lo < bound) {
       const threshold = (4294967296 - bound) % bound;
-      while (m.lo < threshold) {
+      while (lo < threshold) {
         x = nextUint32();
-        m = mul32(x, bound);
+        lo = mulLow32(x, bound);
       }
     }
-    return m.hi;
+    return mulHigh32(x, bound);
   };
   return { nextUint32, nextFloat, nextInt };
 }
 
-function rotl(x: number, k: number): number {
-  return (x << k) | (x >>> (32 - k));
+/** Low 32 bits of the product of two uint32, as a uint32. */
+function mulLow32(a: number, b: number): number {
+  return Math.imul(a, b) >>> 0;
 }
 
-/** Full 64-bit product of two uint32 as { hi, lo } uint32 halves. */
-function mul32(a: number, b: number): { hi: number; lo: number } {
+/** High 32 bits of the 64-bit product of two uint32: (a_hi·b + ⌊a_lo·b / 2^16⌋) / 2^16, all exact in doubles. */
+function mulHigh32(a: number, b: number): number {
   const aLo = a & 0xffff;
   const aHi = a >>> 16;
-  const bLo = b & 0xffff;
-  const bHi = b >>> 16;
-  const ll = aLo * bLo;
-  const lh = aLo * bHi;
-  const hl = aHi * bLo;
-  const hh = aHi * bHi;
-  const mid = (ll >>> 16) + (lh & 0xffff) + (hl & 0xffff);
-  const lo = ((mid & 0xffff) * 65536 + (ll & 0xffff)) >>> 0;
-  const hi = (hh + (lh >>> 16) + (hl >>> 16) + Math.floor(mid / 65536)) >>> 0;
-  return { hi, lo };
+  // aHi·b < 2^48 and aLo·b < 2^48: exact; the sum of the shifted parts is exact too.
+  return Math.floor((aHi * b + Math.floor((aLo * b) / 65536)) / 65536) >>> 0;
 }
 
 /**
