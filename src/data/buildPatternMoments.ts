@@ -37,6 +37,8 @@ const BLOCK_ROWS = 32;
 /** Rows per staging tile of a pattern holding less than 1/FREQUENT_SHARE of the rows; at least BLOCK_ROWS. */
 const RARE_TILE_ROWS = 32;
 const FREQUENT_SHARE = 16;
+/** Staging tiles up to this size are all full length (they stay in cache anyway). */
+const CACHED_STAGING_BYTES = 4 * 1024 * 1024;
 const STAGING_BYTES = 48 * 1024 * 1024;
 const WORD_BITS = 26;
 const DEFAULT_MAX_PATTERN_BYTES = 512 * 1024 * 1024;
@@ -591,11 +593,13 @@ function accumulateByPattern(
   const P = counts.length;
   const D = design.length;
   const dpad = Math.ceil(Math.max(1, D) / 4) * 4;
-  // A pattern with at least 1/FREQUENT_SHARE of the rows gets full tiles; a rarer one gets short
-  // tiles, so that the tiles written between two rows of it stay small enough to be in cache.
+  // When the full tiles would not stay in cache, a pattern with less than 1/FREQUENT_SHARE of
+  // the rows gets short tiles, so that the tiles written between two of its rows stay small.
   let rows = 0;
   for (const c of counts) rows += c;
-  const capFor = (t: number, c: number): number => Math.min(t, c, c * FREQUENT_SHARE >= rows ? t : RARE_TILE_ROWS);
+  const fullBytes = counts.reduce((s, c) => s + 8 * Math.min(TILE_ROWS, c) * dpad, 0);
+  const short = fullBytes > CACHED_STAGING_BYTES;
+  const capFor = (t: number, c: number): number => Math.min(t, c, short && c * FREQUENT_SHARE < rows ? RARE_TILE_ROWS : t);
   let tileRows = TILE_ROWS;
   const need = (t: number): number => counts.reduce((s, c) => s + 8 * (capFor(t, c) * dpad + dpad * dpad + dpad), 0);
   while (tileRows > BLOCK_ROWS && need(tileRows) > budget) tileRows /= 2;
