@@ -4,7 +4,7 @@
  * kind the methods meet. Prints the wall time per claim, then the time of the two model fits
  * (null and full) of the logistic and multinomial claims on their own, without the method's
  * design building.
- * Run: node --import tsx bench/categorical.ts [rows]
+ * Run: node --import tsx bench/categorical.ts [rows] [label filter, a regular expression]
  */
 import type { Column, Table, VariableType } from "../src/data/Table.js";
 import { regressionLr } from "../src/audit/methods/regressionLr.js";
@@ -16,6 +16,7 @@ import { multinomialLogit } from "../src/stats/multinomialLogit.js";
 import { createRng } from "../src/stats/rng.js";
 
 const rows = Number(process.argv[2] ?? 1_000_000);
+const only = new RegExp(process.argv[3] ?? "");
 const rng = createRng(42, "bench");
 const cols: Column[] = [];
 const cont: Float64Array[] = [];
@@ -50,11 +51,14 @@ const cases: [string, TestMethod, Claim, Partial<TestContext>][] = [
   ["chisq 3×4 | 2 categorical, 2000 permutations forced", stratifiedChisq, { x: "k1", y: "k2", given: ["k6", "k7"] }, { permutations: 2000 }],
   ["regression linear: nominal x (8) → continuous y | 3 continuous + 2 categorical", regressionLr, { x: "k4", y: "c10", given: ["c1", "c2", "c3", "k1", "k2"] }, {}],
   ["regression logistic: binary y, nominal x (4) | 3 continuous", regressionLr, { x: "k2", y: "k0", given: ["c1", "c5", "c9"] }, {}],
-  ["regression multinomial: nominal y (4), x (3) | 2 continuous", regressionLr, { x: "k1", y: "k12", given: ["c1", "c5"] }, {}],
+  ["regression multinomial: nominal y (4), nominal x (4) | 2 continuous", regressionLr, { x: "k2", y: "k12", given: ["c1", "c5"] }, {}],
+  ["regression multinomial: nominal y (4), binary x | 2 continuous + nominal (4) + ordinal (3)", regressionLr, { x: "k10", y: "k12", given: ["c1", "c5", "k2", "k1"] }, {}],
+  ["regression logistic: binary y, binary x | 4 continuous + 2 nominal (4, 8)", regressionLr, { x: "k10", y: "k0", given: ["c1", "c5", "c9", "c12", "k2", "k14"] }, {}],
   ["regression grouped: binary y, nominal x | 3 categorical", regressionLr, { x: "k4", y: "k5", given: ["k1", "k2", "k3"] }, {}],
 ];
 console.log(`rows: ${rows}`);
 for (const [label, method, claim, extra] of cases) {
+  if (!only.test(label)) continue;
   const t0 = performance.now();
   let r: ReturnType<TestMethod["run"]>;
   try {
@@ -91,7 +95,7 @@ function design(cont: readonly string[], dummyOf: string | undefined, y: string)
   });
   return { X0, X1, y: yy, m, p0, p, K: yc.levels!.length };
 }
-{
+if (only.test("fits only: logistic")) {
   const d = design(["c1", "c5", "c9"], "k2", "k0");
   const t0 = performance.now();
   const f0 = logisticRegression(d.X0, d.m, d.p0, d.y);
@@ -101,8 +105,8 @@ function design(cont: readonly string[], dummyOf: string | undefined, y: string)
   const s = (performance.now() - t0) / 1000;
   console.log(`${s.toFixed(2).padStart(6)} s  fits only: logistic null (${d.p0} columns) + full (${d.p} columns), ${d.m} rows  [LR ${(2 * (f1.logLik - f0.logLik)).toFixed(2)}, iterations ${f0.iterations} + ${f1.iterations}]`);
 }
-{
-  const d = design(["c1", "c5"], "k1", "k12");
+if (only.test("fits only: multinomial")) {
+  const d = design(["c1", "c5"], "k2", "k12");
   const q = d.K - 1;
   const t0 = performance.now();
   const f0 = multinomialLogit(d.X0, d.m, d.p0, d.y, d.K);

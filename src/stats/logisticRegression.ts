@@ -17,6 +17,14 @@
  * became singular as the weights μ(1 − μ) of separated rows vanished) and such rows exist,
  * separation is *complete* when every row with positive weight is separated, *quasi-complete*
  * when some are.
+ *
+ * *Factor form* of a design (`FactorDesign`): the columns are split into *indicator columns*
+ * (0/1, such as an intercept or the dummies of categorical predictors) and *dense columns*
+ * (numbers, stored row-major). Rows with the same indicator pattern form a *cell*; the design
+ * lists each cell's indicator columns once and each row's cell. The information matrix
+ * Σ v_i z_i z_iᵀ then needs, per row, only the dense products Σ v_i x_i x_iᵀ and the cell sums
+ * Σ_{i∈c} v_i and Σ_{i∈c} v_i x_i: O(d²) per row for d dense columns, whatever the number of
+ * indicator columns; the indicator blocks are assembled from the cell sums afterwards.
  */
 import { cholesky, choleskySolve } from "./linalg.js";
 
@@ -31,7 +39,7 @@ export interface LogisticFit {
   iterations: number;
   status: FitStatus;
   separation: Separation;
-  /** Rows (with positive weight) whose observed outcome is fitted with probability > 1 − 1e-9. */
+  /** Rows (with positive weight) whose observed outcome is fitted with probability > 1 − 1e-9 (counted when the fit did not converge; 0 otherwise). */
   separatedRows: number;
   /** Rows with positive weight. */
   rows: number;
@@ -46,51 +54,132 @@ export interface NewtonOptions {
   maxIter?: number;
 }
 
-const LOG_SEPARATED = Math.log1p(-1e-9);
-
-/** ln(1 + e^η) without overflow. */
-function log1pExp(eta: number): number {
-  return eta > 0 ? eta + Math.log1p(Math.exp(-eta)) : Math.log1p(Math.exp(eta));
+/**
+ * A design matrix in factor form (see the module comment). Parameter j < `factorColumns` is
+ * indicator column j; parameter `factorColumns` + a is dense column a.
+ */
+export interface FactorDesign {
+  /** Number of rows m. */
+  rows: number;
+  /** Dense columns, row-major m × `denseColumns`. */
+  dense: Float64Array;
+  denseColumns: number;
+  /** Number of indicator columns. */
+  factorColumns: number;
+  /** The cell (0 … cells − 1) of each row. */
+  cellOf: Int32Array;
+  /** Cell c's indicator columns are cellColumns[cellStart[c] … cellStart[c + 1] − 1]; length cells + 1. */
+  cellStart: Int32Array;
+  cellColumns: Int32Array;
 }
 
 /**
- * Information matrices are recomputed only while the coefficients still move by more than this
- * (relative): closer to the optimum the last one is reused (a chord step), which converges at a
- * rate proportional to the distance moved since it was computed.
+ * The factor form of a row-major m × p matrix: every column dense, one cell without indicator
+ * columns. No copy: `dense` is `X`. Cost: O(m) for the cell index.
+ * @throws RangeError when X does not have m·p entries
+ * @example
+ * designFromRowMajor(new Float64Array([1, 2, 1, 3]), 2, 2).denseColumns // 2
  */
-const CHORD_MOVE = 1e-3;
+export function designFromRowMajor(X: Float64Array, m: number, p: number): FactorDesign {
+  if (X.length !== m * p) throw new RangeError(`design has ${X.length} entries, expected ${m}×${p}`);
+  return { rows: m, dense: X, denseColumns: p, factorColumns: 0, cellOf: new Int32Array(m), cellStart: new Int32Array([0, 0]), cellColumns: new Int32Array(0) };
+}
+
+/** Check a factor design's sizes and indices. Cost: O(m + entries). */
+export function checkDesign(D: FactorDesign): void {
+  const { rows: m, denseColumns: d, factorColumns: pf, cellOf, cellStart, cellColumns } = D;
+  if (!(Number.isInteger(m) && m >= 0)) throw new RangeError(`design rows must be a non-negative integer, got ${m}`);
+  if (D.dense.length !== m * d) throw new RangeError(`dense part has ${D.dense.length} entries, expected ${m}×${d}`);
+  if (cellOf.length !== m) throw new RangeError(`cell index has ${cellOf.length} entries, expected ${m}`);
+  const C = cellStart.length - 1;
+  if (C < 0 || cellStart[0] !== 0 || cellStart[C] !== cellColumns.length) throw new RangeError(`cell starts must run from 0 to the ${cellColumns.length} cell columns`);
+  for (let c = 0; c < C; c++) if (!(cellStart[c + 1]! >= cellStart[c]!)) throw new RangeError(`cell starts decrease at cell ${c}`);
+  for (let u = 0; u < cellColumns.length; u++) {
+    const j = cellColumns[u]!;
+    if (!(j >= 0 && j < pf)) throw new RangeError(`cell column ${j} is outside 0..${pf - 1}`);
+  }
+  for (let i = 0; i < m; i++) {
+    const c = cellOf[i]!;
+    if (!(c >= 0 && c < C)) throw new RangeError(`row ${i} is in cell ${c}, outside 0..${C - 1}`);
+  }
+}
 
 /**
- * One pass over the rows at coefficients `beta`: writes η = Xβ into `eta` and the working
- * weights w μ (1 − μ) into `v`, accumulates the gradient Xᵀ W (y − μ) into `g` (zeroed here)
- * and returns ℓ(β). One exponential and one log1p per row: with t = e^{−|η|},
- * ln(1 + e^η) = max(η, 0) + ln(1 + t) and μ = 1/(1 + t) or t/(1 + t). Cost: O(m·p).
+ * Cell sums of weighted cross-products, for `nb` weight sets at once (one per information block):
+ * T[c·nb + b] = Σ_{i∈c} v_ib, S[(c·nb + b)·d + a] = Σ_{i∈c} v_ib x_ia and
+ * DD[b·d² + a·d + a′] = Σ_i v_ib x_ia x_ia′ (a ≤ a′).
  */
-function likelihoodPass(
-  X: Float64Array, m: number, p: number, y: ArrayLike<number>, w: ArrayLike<number> | undefined,
-  beta: Float64Array, eta: Float64Array, v: Float64Array, g: Float64Array,
-): number {
-  g.fill(0);
-  let ll = 0;
-  for (let i = 0, off = 0; i < m; i++, off += p) {
-    let e = 0;
-    for (let j = 0; j < p; j++) e += X[off + j]! * beta[j]!;
-    eta[i] = e;
-    const wi = w ? w[i]! : 1;
-    if (wi === 0) {
-      v[i] = 0;
-      continue;
+export interface CellSums {
+  T: Float64Array;
+  S: Float64Array;
+  DD: Float64Array;
+}
+
+/** Zeroed cell sums for a design and `nb` weight sets. */
+export function createCellSums(D: FactorDesign, nb: number): CellSums {
+  const C = D.cellStart.length - 1;
+  const d = D.denseColumns;
+  return { T: new Float64Array(C * nb), S: new Float64Array(C * nb * d), DD: new Float64Array(nb * d * d) };
+}
+
+/**
+ * Assemble the symmetric p × p cross-product of weight set `b` (of `nb`) from cell sums into
+ * `B` (row-major, both triangles). Cost: O(Σ_c (k_c² + k_c·d) + d²), k_c the indicators of cell c.
+ */
+export function assembleCrossProduct(D: FactorDesign, sums: CellSums, b: number, nb: number, B: Float64Array): Float64Array {
+  const pf = D.factorColumns;
+  const d = D.denseColumns;
+  const p = pf + d;
+  const { cellStart, cellColumns } = D;
+  const C = cellStart.length - 1;
+  B.fill(0);
+  for (let c = 0; c < C; c++) {
+    const t = sums.T[c * nb + b]!;
+    const s0 = (c * nb + b) * d;
+    const end = cellStart[c + 1]!;
+    for (let u = cellStart[c]!; u < end; u++) {
+      const j = cellColumns[u]!;
+      for (let u2 = u; u2 < end; u2++) {
+        const k = cellColumns[u2]!;
+        const at = j <= k ? j * p + k : k * p + j;
+        B[at] = B[at]! + t;
+      }
+      for (let a = 0; a < d; a++) B[j * p + pf + a] = B[j * p + pf + a]! + sums.S[s0 + a]!;
     }
-    const t = Math.exp(-Math.abs(e));
-    const l1p = Math.log1p(t);
-    const yi = y[i]!;
-    ll += wi * (yi * e - (e > 0 ? e + l1p : l1p));
-    const mu = e >= 0 ? 1 / (1 + t) : t / (1 + t);
-    v[i] = wi * mu * (1 - mu);
-    const r = wi * (yi - mu);
-    for (let j = 0; j < p; j++) g[j] = g[j]! + r * X[off + j]!;
   }
-  return ll;
+  const dd = b * d * d;
+  for (let a = 0; a < d; a++) for (let a2 = a; a2 < d; a2++) B[(pf + a) * p + pf + a2] = sums.DD[dd + a * d + a2]!;
+  for (let j = 0; j < p; j++) for (let k = j + 1; k < p; k++) B[k * p + j] = B[j * p + k]!;
+  return B;
+}
+
+/**
+ * Weighted cross-product Zᵀ diag(v) Z (p × p, both triangles) of a design in factor form, in
+ * parameter order (indicator columns first). Used for Gram matrices (v = weights, or 1 when
+ * `v` is undefined). Cost: O(m·d² + Σ_c k_c²).
+ * Source: the information matrix of a generalised linear model, McCullagh & Nelder (1989), §2.5.
+ * @example
+ * // an intercept (indicator) and one dense column x = [1, 2]: [[2, 3], [3, 5]]
+ * designCrossProduct({ rows: 2, dense: new Float64Array([1, 2]), denseColumns: 1, factorColumns: 1,
+ *   cellOf: new Int32Array(2), cellStart: new Int32Array([0, 1]), cellColumns: new Int32Array([0]) });
+ */
+export function designCrossProduct(D: FactorDesign, v?: ArrayLike<number>): Float64Array {
+  const { rows: m, dense: X, denseColumns: d, cellOf } = D;
+  const sums = createCellSums(D, 1);
+  const { T, S, DD } = sums;
+  for (let i = 0, off = 0; i < m; i++, off += d) {
+    const vi = v ? v[i]! : 1;
+    if (vi === 0) continue;
+    const c = cellOf[i]!;
+    T[c] = T[c]! + vi;
+    for (let a = 0, sa = c * d; a < d; a++) {
+      const va = vi * X[off + a]!;
+      S[sa + a] = S[sa + a]! + va;
+      for (let a2 = a, at = a * d + a; a2 < d; a2++, at++) DD[at] = DD[at]! + va * X[off + a2]!;
+    }
+  }
+  const p = D.factorColumns + d;
+  return assembleCrossProduct(D, sums, 0, 1, new Float64Array(p * p));
 }
 
 /**
@@ -131,11 +220,211 @@ export function weightedCrossProduct(
 }
 
 /**
- * Maximum-likelihood logistic regression of y on the columns of X (include an intercept column
- * yourself), by Newton–Raphson with step halving. Never throws on separation or
- * non-convergence: they are reported in `separation` and `status`.
- * Cost: one pass over the rows per iteration, O(m·p²) (η, ℓ, gradient and the upper triangle of
- * the information matrix together), typically 4–8 iterations; O(p³) for each Cholesky solve.
+ * Information matrices are recomputed only while the coefficients still move by more than this
+ * (relative): closer to the optimum the last one is reused (a chord step), which converges at a
+ * rate proportional to the distance moved since it was computed.
+ */
+export const CHORD_MOVE = 1e-3;
+
+/** Products of the factors 1 + t (each in (1, 2]) are turned into one logarithm when they pass this. */
+const PRODUCT_FLUSH = 1e280;
+
+/** Scratch of one logistic likelihood pass. */
+interface LogisticScratch {
+  cellEta: Float64Array;
+  R: Float64Array;
+  gd: Float64Array;
+  sums: CellSums;
+  /** Rows whose observed outcome is fitted with probability above 1 − 1e-9, at the last pass. */
+  separated: number;
+}
+
+/**
+ * One pass over the rows at coefficients `beta`: ℓ(β) (returned), the gradient Zᵀ W (y − μ)
+ * into `g`, the separated rows into `s.separated` and, when `withInfo`, the cell sums of the
+ * information matrix with weights w μ (1 − μ) into `s.sums`. One exponential per row: with
+ * t = e^{−|η|}, ln(1 + e^η) = max(η, 0) + ln(1 + t), μ = 1/(1 + t) or t/(1 + t) and
+ * μ(1 − μ) = t/(1 + t)²; the logarithms of unweighted rows are taken of running products of 1 + t.
+ * Cost: O(m·d) plus O(m·d²) with the information, d dense columns.
+ */
+function logisticPass(D: FactorDesign, y: ArrayLike<number>, w: ArrayLike<number> | undefined, beta: Float64Array, g: Float64Array, withInfo: boolean, s: LogisticScratch): number {
+  const { rows: m, dense: X, denseColumns: d, factorColumns: pf, cellOf, cellStart, cellColumns } = D;
+  const C = cellStart.length - 1;
+  const { cellEta, R, gd } = s;
+  const { T, S, DD } = s.sums;
+  for (let c = 0; c < C; c++) {
+    let e = 0;
+    for (let u = cellStart[c]!; u < cellStart[c + 1]!; u++) e += beta[cellColumns[u]!]!;
+    cellEta[c] = e;
+  }
+  R.fill(0);
+  gd.fill(0);
+  if (withInfo) {
+    T.fill(0);
+    S.fill(0);
+    DD.fill(0);
+  }
+  let ll = 0;
+  let prod = 1;
+  let separated = 0;
+  for (let i = 0, off = 0; i < m; i++, off += d) {
+    const wi = w ? w[i]! : 1;
+    if (wi === 0) continue;
+    const c = cellOf[i]!;
+    let e = cellEta[c]!;
+    for (let a = 0; a < d; a++) e += X[off + a]! * beta[pf + a]!;
+    const t = Math.exp(e < 0 ? e : -e);
+    const yi = y[i]!;
+    const inv = 1 / (1 + t);
+    const tinv = t * inv;
+    let mu: number;
+    if (e >= 0) {
+      mu = inv;
+      ll += wi * (yi * e - e);
+      if (yi === 1 && tinv < 1e-9) separated++;
+    } else {
+      mu = tinv;
+      ll += wi * yi * e;
+      if (yi === 0 && tinv < 1e-9) separated++;
+    }
+    if (w) ll -= wi * Math.log1p(t);
+    else {
+      prod *= 1 + t;
+      if (prod > PRODUCT_FLUSH) {
+        ll -= Math.log(prod);
+        prod = 1;
+      }
+    }
+    const r = wi * (yi - mu);
+    R[c] = R[c]! + r;
+    for (let a = 0; a < d; a++) gd[a] = gd[a]! + r * X[off + a]!;
+    if (withInfo) {
+      const v = wi * tinv * inv;
+      T[c] = T[c]! + v;
+      for (let a = 0, sa = c * d; a < d; a++) {
+        const va = v * X[off + a]!;
+        S[sa + a] = S[sa + a]! + va;
+        for (let a2 = a, at = a * d + a; a2 < d; a2++, at++) DD[at] = DD[at]! + va * X[off + a2]!;
+      }
+    }
+  }
+  ll -= Math.log(prod);
+  g.fill(0);
+  for (let c = 0; c < C; c++) for (let u = cellStart[c]!; u < cellStart[c + 1]!; u++) g[cellColumns[u]!] = g[cellColumns[u]!]! + R[c]!;
+  for (let a = 0; a < d; a++) g[pf + a] = gd[a]!;
+  s.separated = separated;
+  return ll;
+}
+
+/** Check outcomes (0/1 when `logistic`, else a category index in 0..K−1) and weights; count rows with positive weight. Cost: O(m). */
+function checkOutcome(m: number, y: ArrayLike<number>, w: ArrayLike<number> | undefined, K: number, logistic: boolean): number {
+  if (y.length !== m) throw new RangeError(`outcome has ${y.length} entries, expected ${m}`);
+  if (w && w.length !== m) throw new RangeError(`weights have ${w.length} entries, expected ${m}`);
+  let rows = 0;
+  for (let i = 0; i < m; i++) {
+    const yi = y[i]!;
+    if (logistic) {
+      if (yi !== 0 && yi !== 1) throw new RangeError(`outcome at row ${i} is ${yi}; logistic regression needs 0 or 1`);
+    } else if (!(Number.isInteger(yi) && yi >= 0 && yi < K)) throw new RangeError(`outcome at row ${i} is ${yi}; it must be a category index in 0..${K - 1}`);
+    const wi = w ? w[i]! : 1;
+    if (!(wi >= 0)) throw new RangeError(`weight at row ${i} is ${wi}; weights must be non-negative`);
+    if (wi > 0) rows++;
+  }
+  return rows;
+}
+export { checkOutcome as checkOutcomeAndWeights };
+
+/**
+ * The Newton–Raphson loop shared by the logistic and multinomial fits, with step halving and
+ * chord steps. `pass(beta, g, withInfo)` returns ℓ(β), writes the gradient into g and, when
+ * `withInfo`, keeps the information at β for `factor()`, which returns its Cholesky factor
+ * (undefined when singular); `factor()` is only called right after `accept()` of such a pass.
+ * `accept()` tells the caller that the last pass's point is the new iterate.
+ * Convergence: see the module comment.
+ */
+export function newtonLoop(
+  P: number, beta0: Float64Array<ArrayBuffer>, maxIter: number,
+  pass: (beta: Float64Array, g: Float64Array, withInfo: boolean) => number,
+  factor: () => Float64Array | undefined,
+  accept: () => void,
+): { beta: Float64Array<ArrayBuffer>; ll: number; iterations: number; status: FitStatus } {
+  let beta = beta0;
+  let betaNew = new Float64Array(P);
+  let g = new Float64Array(P);
+  let gNew = new Float64Array(P);
+  let ll = pass(beta, g, true);
+  accept();
+  let L = factor();
+  if (!L) return { beta, ll, iterations: 1, status: "singular" };
+  let fresh = true; // L is the information at β
+  let status: FitStatus = "not-converged";
+  let it = 0;
+  while (it < maxIter) {
+    it++;
+    const delta = choleskySolve(L, P, g);
+    let step = 1;
+    let llNew = -Infinity;
+    let withInfo = false;
+    let maxMove = 0;
+    for (let h = 0; h < 40; h++) {
+      maxMove = 0;
+      for (let j = 0; j < P; j++) {
+        betaNew[j] = beta[j]! + step * delta[j]!;
+        maxMove = Math.max(maxMove, Math.abs(step * delta[j]!) / Math.max(1, Math.abs(betaNew[j]!)));
+      }
+      withInfo = maxMove > CHORD_MOVE || step < 1;
+      llNew = pass(betaNew, gNew, withInfo);
+      if (llNew >= ll - 1e-12 * Math.abs(ll)) break;
+      step /= 2;
+    }
+    if (!(llNew >= ll - 1e-12 * Math.abs(ll))) {
+      if (!fresh) {
+        // retry with the information matrix at β before giving up
+        ll = pass(beta, g, true);
+        accept();
+        L = factor();
+        if (!L) {
+          status = "singular";
+          break;
+        }
+        fresh = true;
+        continue;
+      }
+      // No step improves ℓ to working precision: at the optimum when the Newton step is tiny.
+      let full = 0;
+      for (let j = 0; j < P; j++) full = Math.max(full, Math.abs(delta[j]!) / Math.max(1, Math.abs(beta[j]!)));
+      status = full <= 1e-5 ? "converged" : "not-converged";
+      break;
+    }
+    accept();
+    const change = Math.abs(llNew - ll);
+    [beta, betaNew, g, gNew] = [betaNew, beta, gNew, g];
+    ll = llNew;
+    if (change <= 1e-10 * (Math.abs(ll) + 0.1) && maxMove <= 1e-7) {
+      status = "converged";
+      break;
+    }
+    if (withInfo) {
+      const Lnew = factor();
+      if (!Lnew) {
+        it++;
+        status = "singular";
+        break;
+      }
+      L = Lnew;
+      fresh = true;
+    } else fresh = false;
+  }
+  return { beta, ll, iterations: it, status };
+}
+
+/**
+ * Maximum-likelihood logistic regression of y on the columns of X (row-major m × p; include an
+ * intercept column yourself), by Newton–Raphson with step halving. Never throws on separation
+ * or non-convergence: they are reported in `separation` and `status`. Same as
+ * `logisticRegressionDesign(designFromRowMajor(X, m, p), y, options)`.
+ * Cost: O(m·p²) per information matrix (renewed only while steps are large), O(m·p) per other
+ * pass, typically 4–8 iterations; O(p³) for each Cholesky factor.
  * Source: McCullagh & Nelder (1989), Generalized Linear Models, 2nd ed., Chapman & Hall, §4.4;
  * Albert & Anderson (1984), Biometrika 71:1–10 (separation).
  * @throws RangeError when array sizes disagree (design, outcome, weights, start), or an outcome is not 0 or 1, or a weight is negative
@@ -144,90 +433,45 @@ export function weightedCrossProduct(
  * logisticRegression(new Float64Array([1, 1, 1, 1]), 4, 1, [1, 0, 0, 0]).coef[0] // -1.0986…
  */
 export function logisticRegression(X: Float64Array, m: number, p: number, y: ArrayLike<number>, options: NewtonOptions = {}): LogisticFit {
-  if (X.length !== m * p) throw new RangeError(`design has ${X.length} entries, expected ${m}×${p}`);
-  if (y.length !== m) throw new RangeError(`outcome has ${y.length} entries, expected ${m}`);
+  return logisticRegressionDesign(designFromRowMajor(X, m, p), y, options);
+}
+
+/**
+ * Maximum-likelihood logistic regression on a design in factor form (parameters: indicator
+ * columns, then dense columns), by Newton–Raphson with step halving; see `logisticRegression`.
+ * One pass over the rows per trial point gives ℓ, the gradient and (while steps are large) the
+ * information matrix together.
+ * Cost: O(m·d²) per pass with the information, O(m·d) without, d dense columns, plus
+ * O(Σ_c k_c²) per information assembly and O(p³) per Cholesky factor.
+ * Source: McCullagh & Nelder (1989), §4.4; Albert & Anderson (1984), Biometrika 71:1–10.
+ * @throws RangeError when sizes or indices disagree, an outcome is not 0 or 1, or a weight is negative
+ * @example
+ * // intercept as an indicator column, no dense columns: coef[0] = ln(1/3)
+ * logisticRegressionDesign({ rows: 4, dense: new Float64Array(0), denseColumns: 0, factorColumns: 1,
+ *   cellOf: new Int32Array(4), cellStart: new Int32Array([0, 1]), cellColumns: new Int32Array([0]) }, [1, 0, 0, 0]).coef[0]
+ */
+export function logisticRegressionDesign(D: FactorDesign, y: ArrayLike<number>, options: NewtonOptions = {}): LogisticFit {
+  checkDesign(D);
+  const m = D.rows;
+  const p = D.factorColumns + D.denseColumns;
   const w = options.weights;
-  if (w && w.length !== m) throw new RangeError(`weights have ${w.length} entries, expected ${m}`);
-  let rows = 0;
-  for (let i = 0; i < m; i++) {
-    const yi = y[i]!;
-    if (yi !== 0 && yi !== 1) throw new RangeError(`outcome at row ${i} is ${yi}; logistic regression needs 0 or 1`);
-    const wi = w ? w[i]! : 1;
-    if (!(wi >= 0)) throw new RangeError(`weight at row ${i} is ${wi}; weights must be non-negative`);
-    if (wi > 0) rows++;
-  }
-  const maxIter = options.maxIter ?? 50;
-  let beta = options.start ? Float64Array.from(options.start) : new Float64Array(p);
+  const rows = checkOutcome(m, y, w, 2, true);
+  const beta = options.start ? Float64Array.from(options.start) : new Float64Array(p);
   if (beta.length !== p) throw new RangeError(`start has ${beta.length} coefficients, expected ${p}`);
-  let betaNew = new Float64Array(p);
-  let eta = new Float64Array(m);
-  let etaNew = new Float64Array(m);
-  let v = new Float64Array(m);
-  let vNew = new Float64Array(m);
-  let g = new Float64Array(p);
-  let gNew = new Float64Array(p);
+  const C = D.cellStart.length - 1;
+  const s: LogisticScratch = { cellEta: new Float64Array(C), R: new Float64Array(C), gd: new Float64Array(D.denseColumns), sums: createCellSums(D, 1), separated: 0 };
+  let separated = 0; // at the current iterate
   const H = new Float64Array(p * p);
-  const idx = new Int32Array(p);
-  const val = new Float64Array(p);
-  // A pass that tries a step also gives the gradient and working weights there, so an iteration
-  // costs one likelihood pass, plus one cross-product pass while the information matrix is renewed.
-  let ll = likelihoodPass(X, m, p, y, w, beta, eta, v, g);
-  let L: Float64Array | undefined;
-  let renew = true;
-  let status: FitStatus = "not-converged";
-  let it = 0;
-  while (it < maxIter) {
-    it++;
-    const fresh = renew || !L;
-    if (fresh) {
-      weightedCrossProduct(X, m, p, v, H, idx, val);
-      L = cholesky(H, p, 1e-13);
-      if (!L) {
-        status = "singular";
-        break;
-      }
-    }
-    const delta = choleskySolve(L!, p, g);
-    let step = 1;
-    let llNew = -Infinity;
-    for (let h = 0; h < 40; h++) {
-      for (let j = 0; j < p; j++) betaNew[j] = beta[j]! + step * delta[j]!;
-      llNew = likelihoodPass(X, m, p, y, w, betaNew, etaNew, vNew, gNew);
-      if (llNew >= ll - 1e-12 * Math.abs(ll)) break;
-      step /= 2;
-    }
-    if (!(llNew >= ll - 1e-12 * Math.abs(ll))) {
-      if (!fresh) {
-        renew = true; // retry with the information matrix at β before giving up
-        continue;
-      }
-      // No step improves ℓ to working precision: at the optimum when the Newton step is tiny.
-      let full = 0;
-      for (let j = 0; j < p; j++) full = Math.max(full, Math.abs(delta[j]!) / Math.max(1, Math.abs(beta[j]!)));
-      status = full <= 1e-5 ? "converged" : "not-converged";
-      break;
-    }
-    let maxMove = 0;
-    for (let j = 0; j < p; j++) maxMove = Math.max(maxMove, Math.abs(step * delta[j]!) / Math.max(1, Math.abs(betaNew[j]!)));
-    const change = Math.abs(llNew - ll);
-    [beta, betaNew, eta, etaNew, v, vNew, g, gNew] = [betaNew, beta, etaNew, eta, vNew, v, gNew, g];
-    ll = llNew;
-    if (change <= 1e-10 * (Math.abs(ll) + 0.1) && maxMove <= 1e-7) {
-      status = "converged";
-      break;
-    }
-    renew = maxMove > CHORD_MOVE || step < 1;
-  }
-  let separatedRows = 0;
-  for (let i = 0; i < m; i++) {
-    const wi = w ? w[i]! : 1;
-    if (wi === 0) continue;
-    const e = eta[i]!;
-    const logProbObserved = y[i] === 1 ? -log1pExp(-e) : -log1pExp(e);
-    if (logProbObserved > LOG_SEPARATED) separatedRows++;
-  }
+  // The information's cell sums are only read right after the pass that wrote them was accepted.
+  const fit = newtonLoop(
+    p, beta, options.maxIter ?? 50,
+    (b, g, withInfo) => logisticPass(D, y, w, b, g, withInfo, s),
+    () => cholesky(assembleCrossProduct(D, s.sums, 0, 1, H), p, 1e-13),
+    () => (separated = s.separated),
+  );
+  const separatedRows = fit.status === "converged" ? 0 : separated;
   // A converged fit has finite estimates: rows fitted near 0 or 1 there are extreme, not separated.
   const separation: Separation =
-    separatedRows === 0 || status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
-  return { coef: beta, logLik: ll, iterations: it, status, separation, separatedRows, rows };
+    separatedRows === 0 || fit.status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
+  return { coef: fit.beta, logLik: fit.ll, iterations: fit.iterations, status: fit.status, separation, separatedRows, rows };
 }

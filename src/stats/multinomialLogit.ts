@@ -9,10 +9,15 @@
  * Σ w_i (1{y_i = k} − π_ik) x_ij and the information matrix has blocks
  * Σ w_i π_ik (δ_kl − π_il) x_i x_iᵀ. Convergence and *separation* are defined as for binary
  * logistic regression (see `logisticRegression.ts`): a separated row's observed category is
- * fitted with probability above 1 − 1e-9 while the fit does not converge.
+ * fitted with probability above 1 − 1e-9 while the fit does not converge. Designs may be given
+ * in factor form (`FactorDesign`, see `logisticRegression.ts`): indicator columns grouped in
+ * cells and dense columns, so the information costs O(d²) per row and block pair.
  */
-import { cholesky, choleskySolve } from "./linalg.js";
-import type { FitStatus, NewtonOptions, Separation } from "./logisticRegression.js";
+import { cholesky } from "./linalg.js";
+import {
+  assembleCrossProduct, checkDesign, checkOutcomeAndWeights, createCellSums, designFromRowMajor, newtonLoop,
+  type CellSums, type FactorDesign, type FitStatus, type NewtonOptions, type Separation,
+} from "./logisticRegression.js";
 
 export interface MultinomialFit {
   /** (K − 1)·p coefficients, category 1's first. */
@@ -22,6 +27,7 @@ export interface MultinomialFit {
   iterations: number;
   status: FitStatus;
   separation: Separation;
+  /** Rows whose observed category is fitted with probability > 1 − 1e-9 (counted when the fit did not converge; 0 otherwise). */
   separatedRows: number;
   rows: number;
 }
@@ -29,115 +35,155 @@ export interface MultinomialFit {
 /** A row is separated when its observed category is fitted with probability above this. */
 const SEPARATED = 1 - 1e-9;
 
-/** See `CHORD_MOVE` in `logisticRegression.ts`: information matrices are renewed only while steps are larger. */
-const CHORD_MOVE = 1e-3;
+/** Running products of the row sums Σ_l e^{η_il} (each below 1e150) are turned into one logarithm past this. */
+const PRODUCT_FLUSH = 1e150;
+
+interface MultinomialScratch {
+  /** Cell parts of the linear predictors, cells × (K − 1). */
+  cellEta: Float64Array;
+  /** Cell sums of the residuals, cells × (K − 1). */
+  R: Float64Array;
+  /** Dense part of the gradient, (K − 1) × d. */
+  gd: Float64Array;
+  /** Information cell sums for the (K − 1)K/2 blocks k ≤ l. */
+  sums: CellSums;
+  eta: Float64Array;
+  ex: Float64Array;
+  separated: number;
+}
 
 /**
- * One pass over the rows at coefficients `beta`: writes the fitted probabilities π_ik of
- * categories 1..K−1 into `pi` (m × (K − 1)), accumulates the gradient into `g` (zeroed here) and
- * returns ℓ(β). K − 1 exponentials and one logarithm per row (the linear predictors are shifted by
- * their maximum only when it exceeds 700, where e^η would overflow). Cost: O(m·(K−1)·p).
+ * One pass over the rows at coefficients `beta`: returns ℓ(β), writes the gradient into `g`,
+ * the separated rows into `s.separated` and, when `withInfo`, the cell sums of the information
+ * blocks Σ w_i π_ik (δ_kl − π_il) z_i z_iᵀ (k ≤ l) into `s.sums`. K − 1 exponentials per row; the
+ * linear predictors are shifted by their maximum only when it exceeds 700, where e^η would
+ * overflow; logarithms of unweighted rows are taken of running products.
+ * Cost: O(m·(K−1)·d), plus O(m·K²·d²/4) with the information.
  */
-function likelihoodPass(
-  X: Float64Array, m: number, p: number, K: number, y: ArrayLike<number>, w: ArrayLike<number> | undefined,
-  beta: Float64Array, pi: Float64Array, g: Float64Array, eta: Float64Array,
+function multinomialPass(
+  D: FactorDesign, K: number, y: ArrayLike<number>, w: ArrayLike<number> | undefined,
+  beta: Float64Array, g: Float64Array, withInfo: boolean, s: MultinomialScratch,
 ): number {
+  const { rows: m, dense: X, denseColumns: d, factorColumns: pf, cellOf, cellStart, cellColumns } = D;
+  const C = cellStart.length - 1;
   const q = K - 1;
-  g.fill(0);
-  let ll = 0;
-  for (let i = 0, off = 0; i < m; i++, off += p) {
-    const wi = w ? w[i]! : 1;
-    if (wi === 0) {
-      for (let k = 0; k < q; k++) pi[i * q + k] = 0;
-      continue;
+  const p = pf + d;
+  const nb = (q * (q + 1)) / 2;
+  const dd = d * d;
+  const { cellEta, R, gd, eta, ex } = s;
+  const { T, S, DD } = s.sums;
+  for (let c = 0; c < C; c++) {
+    for (let k = 0; k < q; k++) {
+      let e = 0;
+      for (let u = cellStart[c]!; u < cellStart[c + 1]!; u++) e += beta[k * p + cellColumns[u]!]!;
+      cellEta[c * q + k] = e;
     }
+  }
+  R.fill(0);
+  gd.fill(0);
+  if (withInfo) {
+    T.fill(0);
+    S.fill(0);
+    DD.fill(0);
+  }
+  let ll = 0;
+  let prod = 1;
+  let separated = 0;
+  for (let i = 0, off = 0; i < m; i++, off += d) {
+    const wi = w ? w[i]! : 1;
+    if (wi === 0) continue;
+    const c = cellOf[i]!;
     let mx = 0;
-    for (let k = 0, b = 0; k < q; k++, b += p) {
-      let s = 0;
-      for (let j = 0; j < p; j++) s += X[off + j]! * beta[b + j]!;
-      eta[k] = s;
-      if (s > mx) mx = s;
+    for (let k = 0, b = pf; k < q; k++, b += p) {
+      let e = cellEta[c * q + k]!;
+      for (let a = 0; a < d; a++) e += X[off + a]! * beta[b + a]!;
+      eta[k] = e;
+      if (e > mx) mx = e;
     }
     if (mx < 700) mx = 0; // no overflow: skip the shift and the baseline's exponential
-    let se = mx === 0 ? 1 : Math.exp(-mx);
+    const base = mx === 0 ? 1 : Math.exp(-mx);
+    let se = base;
     for (let k = 0; k < q; k++) {
       const e = Math.exp(eta[k]! - mx);
-      pi[i * q + k] = e;
+      ex[k] = e;
       se += e;
     }
     const yi = y[i]!;
-    ll += wi * ((yi === 0 ? 0 : eta[yi - 1]!) - mx - Math.log(se));
+    ll += wi * ((yi === 0 ? 0 : eta[yi - 1]!) - mx);
+    if (w || !(se < PRODUCT_FLUSH)) ll -= wi * Math.log(se);
+    else {
+      prod *= se;
+      if (prod > PRODUCT_FLUSH) {
+        ll -= Math.log(prod);
+        prod = 1;
+      }
+    }
     const inv = 1 / se;
-    for (let k = 0, b = 0; k < q; k++, b += p) {
-      const pk = pi[i * q + k]! * inv;
-      pi[i * q + k] = pk;
+    if ((yi === 0 ? base : ex[yi - 1]!) * inv > SEPARATED) separated++;
+    for (let k = 0; k < q; k++) {
+      const pk = ex[k]! * inv;
+      ex[k] = pk;
       const r = wi * ((yi === k + 1 ? 1 : 0) - pk);
-      if (r === 0) continue;
-      for (let j = 0; j < p; j++) g[b + j] = g[b + j]! + r * X[off + j]!;
+      R[c * q + k] = R[c * q + k]! + r;
+      for (let a = 0, at = k * d; a < d; a++, at++) gd[at] = gd[at]! + r * X[off + a]!;
+    }
+    if (withInfo) {
+      for (let k = 0, b = 0; k < q; k++) {
+        const pk = wi * ex[k]!;
+        for (let l = k; l < q; l++, b++) {
+          const v = k === l ? pk * (1 - ex[k]!) : -pk * ex[l]!;
+          const cb = c * nb + b;
+          T[cb] = T[cb]! + v;
+          for (let a = 0, sa = cb * d; a < d; a++) {
+            const va = v * X[off + a]!;
+            S[sa + a] = S[sa + a]! + va;
+            for (let a2 = a, at = b * dd + a * d + a; a2 < d; a2++, at++) DD[at] = DD[at]! + va * X[off + a2]!;
+          }
+        }
+      }
     }
   }
+  ll -= Math.log(prod);
+  g.fill(0);
+  for (let c = 0; c < C; c++) {
+    for (let k = 0; k < q; k++) {
+      const r = R[c * q + k]!;
+      for (let u = cellStart[c]!; u < cellStart[c + 1]!; u++) g[k * p + cellColumns[u]!] = g[k * p + cellColumns[u]!]! + r;
+    }
+  }
+  for (let k = 0; k < q; k++) for (let a = 0; a < d; a++) g[k * p + pf + a] = gd[k * d + a]!;
+  s.separated = separated;
   return ll;
 }
 
-/**
- * The information matrix (row-major P × P, P = (K − 1)·p, both triangles) from the fitted
- * probabilities: block (k, l) is Σ w_i π_ik (δ_kl − π_il) x_i x_iᵀ, itself symmetric, so only the
- * upper triangle of the blocks k ≤ l is accumulated, over each row's non-zero entries.
- * `blocks` is scratch of (K−1)K/2 · p² entries, `idx` and `val` of p. Cost: O(m·K²·p²/4).
- */
-function informationMatrix(
-  X: Float64Array, m: number, p: number, K: number, w: ArrayLike<number> | undefined, pi: Float64Array,
-  H: Float64Array, blocks: Float64Array, idx: Int32Array, val: Float64Array,
-): void {
+/** The information matrix (P × P, P = (K − 1)·p, both triangles) from the blocks' cell sums. */
+function assembleInformation(D: FactorDesign, K: number, sums: CellSums, H: Float64Array, B: Float64Array): Float64Array {
   const q = K - 1;
+  const p = D.factorColumns + D.denseColumns;
   const P = q * p;
-  const pp = p * p;
-  blocks.fill(0);
-  for (let i = 0, off = 0; i < m; i++, off += p) {
-    const wi = w ? w[i]! : 1;
-    if (wi === 0) continue;
-    let nz = 0;
-    for (let j = 0; j < p; j++) {
-      const x = X[off + j]!;
-      if (x !== 0) {
-        idx[nz] = j;
-        val[nz] = x;
-        nz++;
-      }
-    }
-    for (let k = 0, blk = 0; k < q; k++) {
-      const pk = wi * pi[i * q + k]!;
-      for (let l = k; l < q; l++, blk += pp) {
-        const c = k === l ? pk * (1 - pi[i * q + k]!) : -pk * pi[i * q + l]!;
-        for (let a = 0; a < nz; a++) {
-          const ca = c * val[a]!;
-          const row = blk + idx[a]! * p;
-          for (let b = a; b < nz; b++) blocks[row + idx[b]!] = blocks[row + idx[b]!]! + ca * val[b]!;
-        }
-      }
-    }
-  }
-  for (let k = 0, blk = 0; k < q; k++) {
-    for (let l = k; l < q; l++, blk += pp) {
+  const nb = (q * (q + 1)) / 2;
+  for (let k = 0, b = 0; k < q; k++) {
+    for (let l = k; l < q; l++, b++) {
+      assembleCrossProduct(D, sums, b, nb, B);
+      // block (k, l) is symmetric; block (l, k) is its transpose, the same matrix
       for (let a = 0; a < p; a++) {
-        for (let b = a; b < p; b++) {
-          const v = blocks[blk + a * p + b]!;
-          // block (k, l) at (a, b) and (b, a), and its transpose block (l, k)
-          H[(k * p + a) * P + l * p + b] = v;
-          H[(k * p + b) * P + l * p + a] = v;
-          H[(l * p + a) * P + k * p + b] = v;
-          H[(l * p + b) * P + k * p + a] = v;
+        for (let a2 = 0; a2 < p; a2++) {
+          const v = B[a * p + a2]!;
+          H[(k * p + a) * P + l * p + a2] = v;
+          H[(l * p + a) * P + k * p + a2] = v;
         }
       }
     }
   }
+  return H;
 }
 
 /**
- * Maximum-likelihood multinomial logit of a K-category outcome on the columns of X (include an
- * intercept column yourself). Never throws on separation or non-convergence: they are reported.
- * Cost: one likelihood pass O(m·(K−1)·p) per iteration, plus O(m·K²·p²/4) for each renewed
- * information matrix (only while steps are large) and O(((K−1)p)³) for its Cholesky factor.
+ * Maximum-likelihood multinomial logit of a K-category outcome on the columns of X (row-major
+ * m × p; include an intercept column yourself). Never throws on separation or non-convergence:
+ * they are reported. Same as `multinomialLogitDesign(designFromRowMajor(X, m, p), y, K, options)`.
+ * Cost: one likelihood pass O(m·(K−1)·p) per trial point, O(m·K²·p²/4) while the information
+ * matrix is renewed (only while steps are large) and O(((K−1)p)³) for its Cholesky factor.
  * Source: Agresti (2013), Categorical Data Analysis, 3rd ed., Wiley, §8.1.
  * @throws RangeError when sizes disagree (design, outcome, weights, start), K < 2, an outcome is not an integer in 0..K−1 or a weight is negative
  * @example
@@ -147,96 +193,49 @@ function informationMatrix(
 export function multinomialLogit(
   X: Float64Array, m: number, p: number, y: ArrayLike<number>, K: number, options: NewtonOptions = {},
 ): MultinomialFit {
-  if (X.length !== m * p) throw new RangeError(`design has ${X.length} entries, expected ${m}×${p}`);
-  if (y.length !== m) throw new RangeError(`outcome has ${y.length} entries, expected ${m}`);
+  return multinomialLogitDesign(designFromRowMajor(X, m, p), y, K, options);
+}
+
+/**
+ * Maximum-likelihood multinomial logit on a design in factor form (parameters per category:
+ * indicator columns, then dense columns); see `multinomialLogit`. One pass per trial point gives
+ * ℓ, the gradient and (while steps are large) the information matrix together.
+ * Cost: O(m·(K−1)·d) per pass, O(m·K²·d²/4) with the information, d dense columns, plus
+ * O(K²·Σ_c k_c²) per assembly and O(((K−1)p)³) per Cholesky factor.
+ * Source: Agresti (2013), Categorical Data Analysis, 3rd ed., Wiley, §8.1.
+ * @throws RangeError when sizes or indices disagree, K < 2, an outcome is not an integer in 0..K−1 or a weight is negative
+ * @example
+ * // intercept as an indicator column: coef = [0, ln 2]
+ * multinomialLogitDesign({ rows: 4, dense: new Float64Array(0), denseColumns: 0, factorColumns: 1,
+ *   cellOf: new Int32Array(4), cellStart: new Int32Array([0, 1]), cellColumns: new Int32Array([0]) }, [0, 1, 2, 2], 3).coef
+ */
+export function multinomialLogitDesign(D: FactorDesign, y: ArrayLike<number>, K: number, options: NewtonOptions = {}): MultinomialFit {
+  checkDesign(D);
   if (!(Number.isInteger(K) && K >= 2)) throw new RangeError(`number of categories must be an integer ≥ 2, got ${K}`);
+  const m = D.rows;
   const w = options.weights;
-  if (w && w.length !== m) throw new RangeError(`weights have ${w.length} entries, expected ${m}`);
-  let rows = 0;
-  for (let i = 0; i < m; i++) {
-    const yi = y[i]!;
-    if (!(Number.isInteger(yi) && yi >= 0 && yi < K)) throw new RangeError(`outcome at row ${i} is ${yi}; it must be a category index in 0..${K - 1}`);
-    const wi = w ? w[i]! : 1;
-    if (!(wi >= 0)) throw new RangeError(`weight at row ${i} is ${wi}; weights must be non-negative`);
-    if (wi > 0) rows++;
-  }
+  const rows = checkOutcomeAndWeights(m, y, w, K, false);
   const q = K - 1;
+  const p = D.factorColumns + D.denseColumns;
   const P = q * p;
-  const maxIter = options.maxIter ?? 50;
-  let beta = options.start ? Float64Array.from(options.start) : new Float64Array(P);
+  const beta = options.start ? Float64Array.from(options.start) : new Float64Array(P);
   if (beta.length !== P) throw new RangeError(`start has ${beta.length} coefficients, expected ${P}`);
-  let betaNew = new Float64Array(P);
-  let pi = new Float64Array(m * q);
-  let piNew = new Float64Array(m * q);
-  let g = new Float64Array(P);
-  let gNew = new Float64Array(P);
+  const C = D.cellStart.length - 1;
+  const s: MultinomialScratch = {
+    cellEta: new Float64Array(C * q), R: new Float64Array(C * q), gd: new Float64Array(q * D.denseColumns),
+    sums: createCellSums(D, (q * (q + 1)) / 2), eta: new Float64Array(q), ex: new Float64Array(q), separated: 0,
+  };
+  let separated = 0;
   const H = new Float64Array(P * P);
-  const blocks = new Float64Array(((q * (q + 1)) / 2) * p * p);
-  const idx = new Int32Array(p);
-  const val = new Float64Array(p);
-  const etaRow = new Float64Array(q);
-  // As for binary logistic regression: a pass that tries a step also gives the gradient and
-  // fitted probabilities there; the information matrix is renewed while steps are large.
-  let ll = likelihoodPass(X, m, p, K, y, w, beta, pi, g, etaRow);
-  let L: Float64Array | undefined;
-  let renew = true;
-  let status: FitStatus = "not-converged";
-  let it = 0;
-  while (it < maxIter) {
-    it++;
-    const fresh = renew || !L;
-    if (fresh) {
-      informationMatrix(X, m, p, K, w, pi, H, blocks, idx, val);
-      L = cholesky(H, P, 1e-13);
-      if (!L) {
-        status = "singular";
-        break;
-      }
-    }
-    const delta = choleskySolve(L!, P, g);
-    let step = 1;
-    let llNew = -Infinity;
-    for (let h = 0; h < 40; h++) {
-      for (let j = 0; j < P; j++) betaNew[j] = beta[j]! + step * delta[j]!;
-      llNew = likelihoodPass(X, m, p, K, y, w, betaNew, piNew, gNew, etaRow);
-      if (llNew >= ll - 1e-12 * Math.abs(ll)) break;
-      step /= 2;
-    }
-    if (!(llNew >= ll - 1e-12 * Math.abs(ll))) {
-      if (!fresh) {
-        renew = true; // retry with the information matrix at β before giving up
-        continue;
-      }
-      let full = 0;
-      for (let j = 0; j < P; j++) full = Math.max(full, Math.abs(delta[j]!) / Math.max(1, Math.abs(beta[j]!)));
-      status = full <= 1e-5 ? "converged" : "not-converged";
-      break;
-    }
-    let maxMove = 0;
-    for (let j = 0; j < P; j++) maxMove = Math.max(maxMove, Math.abs(step * delta[j]!) / Math.max(1, Math.abs(betaNew[j]!)));
-    const change = Math.abs(llNew - ll);
-    [beta, betaNew, pi, piNew, g, gNew] = [betaNew, beta, piNew, pi, gNew, g];
-    ll = llNew;
-    if (change <= 1e-10 * (Math.abs(ll) + 0.1) && maxMove <= 1e-7) {
-      status = "converged";
-      break;
-    }
-    renew = maxMove > CHORD_MOVE || step < 1;
-  }
-  let separatedRows = 0;
-  for (let i = 0; i < m; i++) {
-    const wi = w ? w[i]! : 1;
-    if (wi === 0) continue;
-    // probability of the observed category: π_0 = 1 − Σ π_k
-    const yi = y[i]!;
-    let prob: number;
-    if (yi === 0) {
-      prob = 1;
-      for (let k = 0; k < q; k++) prob -= pi[i * q + k]!;
-    } else prob = pi[i * q + yi - 1]!;
-    if (prob > SEPARATED) separatedRows++;
-  }
+  const B = new Float64Array(p * p);
+  const fit = newtonLoop(
+    P, beta, options.maxIter ?? 50,
+    (b, g, withInfo) => multinomialPass(D, K, y, w, b, g, withInfo, s),
+    () => cholesky(assembleInformation(D, K, s.sums, H, B), P, 1e-13),
+    () => (separated = s.separated),
+  );
+  const separatedRows = fit.status === "converged" ? 0 : separated;
   const separation: Separation =
-    separatedRows === 0 || status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
-  return { coef: beta, categories: K, logLik: ll, iterations: it, status, separation, separatedRows, rows };
+    separatedRows === 0 || fit.status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
+  return { coef: fit.beta, categories: K, logLik: fit.ll, iterations: fit.iterations, status: fit.status, separation, separatedRows, rows };
 }
