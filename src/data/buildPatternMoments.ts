@@ -26,6 +26,7 @@
  */
 import { UnknownNodeError } from "../errors.js";
 import { rankColumns } from "./rankColumns.js";
+import { createSimdCrossProduct } from "./simdCrossProduct.js";
 import type { DesignColumn, Moments, PatternMoments } from "./Moments.js";
 import type { Table } from "./Table.js";
 
@@ -57,6 +58,8 @@ export interface PatternMomentsOptions {
    * are first sorted by pattern and read in that order (same moments, slower reads).
    */
   maxStagingBytes?: number;
+  /** Use the WebAssembly SIMD kernel where available (default true); false: scalar code, identical results. */
+  simd?: boolean;
 }
 
 /** A design column's values as the row pass reads them (plain data; may live in shared memory). */
@@ -89,6 +92,8 @@ export interface PatternPass {
   observed: number[][];
   /** Budget for the staging tiles, in bytes. */
   maxStagingBytes: number;
+  /** Use the SIMD kernel where available. */
+  simd: boolean;
 }
 
 /** The per-pattern statistics of a row range: shifted sums and lower-triangle cross-products. */
@@ -429,6 +434,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
     patternOfRow,
     observed,
     maxStagingBytes: options.maxStagingBytes ?? STAGING_BYTES,
+    simd: options.simd ?? true,
   };
   const finishWith = (parts: readonly PatternPart[]): PatternMoments => {
     if (parts.length === 0) throw new RangeError("patternMomentsFromParts needs at least one part; pass accumulatePatternRange(plan.pass, 0, plan.rows)");
@@ -513,7 +519,7 @@ export function accumulatePatternRange(pass: PatternPass, from: number, to: numb
     if (p >= 0) counts[p]!++;
   }
   const Z =
-    accumulateByPattern(pass.columns, pass.shift, pass.patternOfRow, from, to, counts, pass.observed, pass.maxStagingBytes) ??
+    accumulateByPattern(pass.columns, pass.shift, pass.patternOfRow, from, to, counts, pass.observed, pass.maxStagingBytes, pass.simd) ??
     accumulateSorted(new CrossProductKernel(pass.columns, pass.shift), pass.patternOfRow, from, to, counts, pass.observed);
   return { sums: Z.map((z) => z.sums), cross: Z.map((z) => z.cross) };
 }
@@ -573,8 +579,8 @@ function accumulateSorted(
 
 /**
  * One pass over the rows in file order. Each row's shifted design values (0 for a missing
- * variable) are appended to a column-major staging tile of its pattern; a full tile is
- * multiplied in 4 × 2 register blocks into the pattern's running
+ * variable) are appended to a row-major staging tile of its pattern; a full tile is multiplied
+ * (SIMD kernel, or 4 × 2 scalar register blocks) into the pattern's running
  * cross-product over all design columns (the zero entries add nothing), from which the observed
  * columns are taken at the end. Reads are sequential; the working set is the staging tiles.
  * Returns undefined when the tiles would need more than `budget` bytes.
@@ -589,6 +595,7 @@ function accumulateByPattern(
   counts: readonly number[],
   observed: readonly number[][],
   budget: number,
+  useSimd: boolean,
 ): PatternSums[] | undefined {
   const P = counts.length;
   const D = design.length;
@@ -613,26 +620,29 @@ function accumulateByPattern(
     total += capOf[p]! * dpad;
   }
   if (total > 2 ** 31 - 1) return undefined;
-  const stage = new Float64Array(total);
+  // The staging tiles and the cross-products live in the SIMD kernel's memory when there is one.
+  const zSize = dpad * dpad;
+  const simd = useSimd ? createSimdCrossProduct(total + P * zSize) : undefined;
+  const mem = simd ? simd.memory : new Float64Array(total + P * zSize);
+  const stage = mem;
+  const zBase = total;
   const fill = new Int32Array(P);
   const blockCount = new Int32Array(P);
-  const Z = Array.from({ length: P }, () => new Float64Array(dpad * dpad));
   const S = Array.from({ length: P }, () => new Float64Array(dpad));
   const rowBase = new Int32Array(BLOCK_ROWS);
-  const rowStride = new Int32Array(BLOCK_ROWS);
 
   const flush = (p: number): void => {
     const m = fill[p]!;
     if (m === 0) return;
     const off = offOf[p]!;
-    const cap = capOf[p]!;
     const sums = S[p]!;
     for (let k = 0; k < D; k++) {
       let s = 0;
-      for (let o = off + k * cap, e = o + m; o < e; o++) s += stage[o]!;
+      for (let t = 0, o = off + k; t < m; t++, o += dpad) s += stage[o]!;
       sums[k] += s;
     }
-    crossTile(stage, off, cap, m, dpad, Z[p]!);
+    if (simd) simd.cross(off, m, dpad, zBase + p * zSize);
+    else crossTile(mem, off, m, dpad, zBase + p * zSize);
     fill[p] = 0;
   };
 
@@ -654,8 +664,7 @@ function accumulateByPattern(
         if (fill[p]! + c > capOf[p]!) flush(p);
         blockCount[p] = 0;
       }
-      rowBase[r] = offOf[p]! + fill[p]!++;
-      rowStride[r] = capOf[p]!;
+      rowBase[r] = offOf[p]! + fill[p]!++ * dpad;
     }
     for (let k = 0; k < D; k++) {
       const c = shift[k]!;
@@ -665,7 +674,7 @@ function accumulateByPattern(
           const o = rowBase[r]!;
           if (o < 0) continue;
           const v = s[i0 + r]!;
-          stage[o + k * rowStride[r]!] = v === v ? v - c : 0;
+          stage[o + k] = v === v ? v - c : 0;
         }
       } else {
         const codes = design[k]!.codes!;
@@ -674,7 +683,7 @@ function accumulateByPattern(
           const o = rowBase[r]!;
           if (o < 0) continue;
           const code = codes[i0 + r]!;
-          stage[o + k * rowStride[r]!] = code < 0 ? 0 : (code === level ? 1 : 0) - c;
+          stage[o + k] = code < 0 ? 0 : (code === level ? 1 : 0) - c;
         }
       }
     }
@@ -686,57 +695,52 @@ function accumulateByPattern(
     const d = obs.length;
     const sums = new Float64Array(d);
     const cross = new Float64Array(d * d);
-    const z = Z[p]!;
+    const z = zBase + p * zSize;
     for (let a = 0; a < d; a++) {
       sums[a] = S[p]![obs[a]!]!;
-      for (let b = 0; b <= a; b++) cross[a * d + b] = z[obs[a]! * dpad + obs[b]!]!;
+      for (let b = 0; b <= a; b++) cross[a * d + b] = mem[z + obs[a]! * dpad + obs[b]!]!;
     }
     out.push({ sums, cross });
-    Z[p] = new Float64Array(0);
   }
   return out;
 }
 
 /**
- * Add the lower-triangle products of a column tile into Z (dpad × dpad, row-major): X holds,
- * from `base`, dpad columns of `stride` entries, of which the first m rows are used; dpad is a
- * multiple of 4. Runs in 4 × 2 register blocks (8 accumulators). Cost: O(m · dpad²).
+ * Add the lower-triangle products of a row-major tile into Z: X holds, from `base`, m rows of
+ * dpad entries (dpad a multiple of 4), Z is dpad × dpad row-major from `z` in the same array.
+ * Runs in 4 × 2 register blocks (8 accumulators); per entry the same operations in the same
+ * order as the SIMD kernel of `simdCrossProduct.ts`, which replaces it where available.
+ * Cost: O(m · dpad²).
  */
-function crossTile(X: Float64Array, base: number, stride: number, m: number, dpad: number, Z: Float64Array): void {
+function crossTile(X: Float64Array, base: number, m: number, dpad: number, z: number): void {
   for (let i = 0; i < dpad; i += 4) {
-    const o0 = base + i * stride;
-    const o1 = o0 + stride;
-    const o2 = o1 + stride;
-    const o3 = o2 + stride;
     for (let j = 0; j < i + 4; j += 2) {
-      const p0 = base + j * stride;
-      const p1 = p0 + stride;
       let s00 = 0, s01 = 0, s10 = 0, s11 = 0, s20 = 0, s21 = 0, s30 = 0, s31 = 0;
-      for (let t = 0; t < m; t++) {
-        const b0 = X[p0 + t]!;
-        const b1 = X[p1 + t]!;
-        const a0 = X[o0 + t]!;
+      for (let t = 0, a = base + i, b = base + j; t < m; t++, a += dpad, b += dpad) {
+        const b0 = X[b]!;
+        const b1 = X[b + 1]!;
+        const a0 = X[a]!;
         s00 += a0 * b0;
         s01 += a0 * b1;
-        const a1 = X[o1 + t]!;
+        const a1 = X[a + 1]!;
         s10 += a1 * b0;
         s11 += a1 * b1;
-        const a2 = X[o2 + t]!;
+        const a2 = X[a + 2]!;
         s20 += a2 * b0;
         s21 += a2 * b1;
-        const a3 = X[o3 + t]!;
+        const a3 = X[a + 3]!;
         s30 += a3 * b0;
         s31 += a3 * b1;
       }
-      const r = i * dpad + j;
-      Z[r] += s00;
-      Z[r + 1] += s01;
-      Z[r + dpad] += s10;
-      Z[r + dpad + 1] += s11;
-      Z[r + 2 * dpad] += s20;
-      Z[r + 2 * dpad + 1] += s21;
-      Z[r + 3 * dpad] += s30;
-      Z[r + 3 * dpad + 1] += s31;
+      const r = z + i * dpad + j;
+      X[r] += s00;
+      X[r + 1] += s01;
+      X[r + dpad] += s10;
+      X[r + dpad + 1] += s11;
+      X[r + 2 * dpad] += s20;
+      X[r + 2 * dpad + 1] += s21;
+      X[r + 3 * dpad] += s30;
+      X[r + 3 * dpad + 1] += s31;
     }
   }
 }

@@ -202,6 +202,21 @@ describe("buildPatternMoments", () => {
     expectClose(staged.momentsFor(["v55", "v3", "v20"]), ref.means, ref.cov, 1e-9);
   });
 
+  it("buildPatternMoments gives bit-identical moments with the SIMD kernel and with scalar code (simd: false)", async () => {
+    const table = await readTable(input);
+    for (const variables of [ALL, ["x1", "x2", "x3"]]) {
+      const a = buildPatternMoments(table, { variables });
+      const b = buildPatternMoments(table, { variables, simd: false });
+      for (const vars of [variables, variables.slice(0, 2)]) {
+        const ma = a.momentsFor(vars);
+        const mb = b.momentsFor(vars);
+        expect(mb.n).toBe(ma.n);
+        expect([...mb.cov].every((v, i) => Object.is(v, ma.cov[i]))).toBe(true);
+        expect([...mb.means].every((v, i) => Object.is(v, ma.means[i]))).toBe(true);
+      }
+    }
+  });
+
   it("buildPatternMoments keeps patterns apart when more than 31 variables are missing somewhere (two key words)", () => {
     const data: Record<string, (number | null)[]> = {};
     for (let j = 0; j < 45; j++) data[`v${j}`] = Array.from({ length: 90 }, (_, i) => (i % 45 === j ? null : i * (j + 1) + (i % 5) * (j % 3)));
