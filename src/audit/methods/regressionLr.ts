@@ -22,7 +22,15 @@
  *   Gram matrix) are dropped, given columns first, so the df counts only identifiable parameters.
  * - Grouping: when the response and every predictor are categorical, identical complete rows are
  *   grouped into weighted counts first and the models are fitted to the groups (a small weighted
- *   fit whatever the number of rows). Otherwise the fit is row by row.
+ *   fit whatever the number of rows). Otherwise the fit is row by row, on a design in factor form
+ *   (`FactorDesign`: rows with the same categorical predictors share a cell, so a pass costs
+ *   O(d²) per row for d continuous given whatever the number of dummies). The null model's
+ *   columns are the full model's without the added block (same rows, cells and dense buffer).
+ * - Warm start: with more than 60,000 fitting rows both models are first fitted to 20,000 rows
+ *   drawn at random (with replacement) from the stream of (`ctx.seed`, the claim); the fits on
+ *   all rows start there and stop by the same convergence criterion as from any start, so the
+ *   estimates, ℓ0, ℓ1 and LR are the maximum-likelihood ones of all rows (to that criterion),
+ *   only reached in fewer passes.
  * - Outcomes: complete separation in either model (every row predicted with probability → 1),
  *   a singular information matrix, an exact linear fit, a single observed level or constant
  *   added side, or too few rows for the parameters give `{ ok: false, reason }`; quasi-complete
@@ -37,14 +45,18 @@ import type { Column } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
 import { gaussianLRFromMoments } from "../../stats/gaussianLRFromMoments.js";
-import { logisticRegression, type LogisticFit } from "../../stats/logisticRegression.js";
-import { multinomialLogit, type MultinomialFit } from "../../stats/multinomialLogit.js";
+import { designCrossProduct, logisticRegressionDesign, type FactorDesign, type LogisticFit } from "../../stats/logisticRegression.js";
+import { multinomialLogitDesign, type MultinomialFit } from "../../stats/multinomialLogit.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
+import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import type { MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { Claim, TestOutcome } from "../types.js";
 import { groupRows } from "./groupRows.js";
 
 type ModelKind = "logistic" | "multinomial";
+
+/** Rows of the random subsample that gives the starting values of the fits on all rows. */
+const START_SUBSAMPLE = 20_000;
 
 function isCategorical(c: Column): boolean {
   return CATEGORICAL_TYPES.has(c.type) && c.codes !== undefined && c.levels !== undefined;
@@ -59,58 +71,12 @@ function observedLevels(codes: ArrayLike<number>, nLevels: number, weights: Arra
   return out;
 }
 
-/** One predictor's design columns over the m fitting rows. */
-interface Block {
-  name: string;
-  columns: Float64Array[];
-  labels: string[];
-}
-
-function categoricalBlock(name: string, codes: ArrayLike<number>, levels: readonly string[], weights: ArrayLike<number> | undefined, m: number): Block {
-  const obs = observedLevels(codes, levels.length, weights, m);
-  const columns: Float64Array[] = [];
-  const labels: string[] = [];
-  for (const l of obs.slice(1)) {
-    const col = new Float64Array(m);
-    for (let i = 0; i < m; i++) col[i] = codes[i] === l ? 1 : 0;
-    columns.push(col);
-    labels.push(`${name}=${levels[l]}`);
-  }
-  return { name, columns, labels };
-}
-
-function continuousBlock(name: string, values: Float64Array): Block {
-  const m = values.length;
-  let mean = 0;
-  for (let i = 0; i < m; i++) mean += (values[i]! - mean) / (i + 1);
-  let ss = 0;
-  for (let i = 0; i < m; i++) ss += (values[i]! - mean) ** 2;
-  const sd = Math.sqrt(ss / Math.max(1, m - 1));
-  if (!(sd > 0) || !Number.isFinite(sd)) return { name, columns: [], labels: [] };
-  const col = new Float64Array(m);
-  for (let i = 0; i < m; i++) col[i] = (values[i]! - mean) / sd;
-  return { name, columns: [col], labels: [name] };
-}
-
 /**
- * Keep the columns of a weighted Gram matrix that are not aliased with earlier ones: a Cholesky
+ * Keep the columns of a Gram matrix (p × p) that are not aliased with earlier ones: a Cholesky
  * sweep in column order that skips a column whose pivot falls below `tol` times its diagonal.
- * Cost: O(m·p²) for the Gram matrix plus O(p³).
+ * Cost: O(p³).
  */
-function independentColumns(cols: readonly Float64Array[], weights: ArrayLike<number> | undefined, m: number, tol = 1e-9): number[] {
-  const p = cols.length;
-  const G = new Float64Array(p * p);
-  for (let a = 0; a < p; a++) {
-    const ca = cols[a]!;
-    for (let b = a; b < p; b++) {
-      const cb = cols[b]!;
-      let s = 0;
-      if (weights) for (let i = 0; i < m; i++) s += weights[i]! * ca[i]! * cb[i]!;
-      else for (let i = 0; i < m; i++) s += ca[i]! * cb[i]!;
-      G[a * p + b] = s;
-      G[b * p + a] = s;
-    }
-  }
+function independentColumns(G: Float64Array, p: number, tol = 1e-9): number[] {
   // L rows for kept columns only (L[k] has entries for kept columns in order).
   const kept: number[] = [];
   const L: Float64Array[] = [];
@@ -131,14 +97,121 @@ function independentColumns(cols: readonly Float64Array[], weights: ArrayLike<nu
   return kept;
 }
 
-function toRowMajor(cols: readonly Float64Array[], m: number): Float64Array {
-  const p = cols.length;
-  const X = new Float64Array(m * p);
-  for (let j = 0; j < p; j++) {
-    const c = cols[j]!;
-    for (let i = 0, at = j; i < m; i++, at += p) X[at] = c[i]!;
+/**
+ * Cells of the rows: one id per distinct combination of the codes of the given factors, numbered
+ * densely in order of first appearance. Mixed-radix keys, renumbered whenever their range would
+ * pass 2^22 (a lookup array), or through a hash map when even the renumbered range is too wide.
+ * Cost: O(m·f) for f factors.
+ */
+function cellsOf(codes: readonly Int32Array[], levels: readonly number[], m: number): { cellOf: Int32Array; cells: number; firstRow: Int32Array } {
+  const LIMIT = 1 << 22;
+  const ids = new Int32Array(m);
+  let range = 1;
+  const renumber = (keys: Int32Array | Float64Array, r: number): number => {
+    let next = 0;
+    if (r <= LIMIT) {
+      const map = new Int32Array(r).fill(-1);
+      for (let i = 0; i < m; i++) {
+        const k = keys[i]!;
+        let id = map[k]!;
+        if (id < 0) map[k] = id = next++;
+        ids[i] = id;
+      }
+    } else {
+      const map = new Map<number, number>();
+      for (let i = 0; i < m; i++) {
+        const k = keys[i]!;
+        let id = map.get(k);
+        if (id === undefined) map.set(k, (id = next++));
+        ids[i] = id;
+      }
+    }
+    return next;
+  };
+  for (let f = 0; f < codes.length; f++) {
+    const L = Math.max(1, levels[f]!);
+    const cf = codes[f]!;
+    if (range * L > LIMIT && range > 1) range = renumber(ids, range);
+    if (range * L > LIMIT) {
+      const keys = new Float64Array(m);
+      for (let i = 0; i < m; i++) keys[i] = ids[i]! * L + cf[i]!;
+      range = renumber(keys, range * L);
+    } else {
+      for (let i = 0; i < m; i++) ids[i] = ids[i]! * L + cf[i]!;
+      range *= L;
+    }
   }
-  return X;
+  const cells = m === 0 ? 0 : renumber(ids, range);
+  const firstRow = new Int32Array(cells).fill(-1);
+  for (let i = 0; i < m; i++) if (firstRow[ids[i]!]! < 0) firstRow[ids[i]!] = i;
+  return { cellOf: ids, cells, firstRow };
+}
+
+/** A model column: an indicator (intercept or dummy) or a dense (continuous) column. */
+interface ModelColumn {
+  label: string;
+  /** Factor index (−1 for the intercept) and level code for an indicator; dense column for a continuous one. */
+  factor?: number;
+  level?: number;
+  dense?: number;
+}
+
+/**
+ * A factor design over kept model columns (indicators first in label order, then dense ones).
+ * `denseKept` lists the kept dense columns of the raw buffer `dense` (m × dAll).
+ */
+function buildDesign(
+  columns: readonly ModelColumn[], kept: readonly number[], factorCodes: readonly Int32Array[],
+  cells: { cellOf: Int32Array; cells: number; firstRow: Int32Array }, dense: Float64Array, dAll: number, m: number,
+): FactorDesign {
+  const indicators = kept.filter((j) => columns[j]!.dense === undefined).map((j) => columns[j]!);
+  const denseKept = kept.filter((j) => columns[j]!.dense !== undefined).map((j) => columns[j]!.dense!);
+  const d = denseKept.length;
+  let X = dense;
+  if (d !== dAll || denseKept.some((a, t) => a !== t)) {
+    X = new Float64Array(m * d);
+    for (let i = 0; i < m; i++) for (let t = 0; t < d; t++) X[i * d + t] = dense[i * dAll + denseKept[t]!]!;
+  }
+  const cellStart = new Int32Array(cells.cells + 1);
+  const list: number[] = [];
+  for (let c = 0; c < cells.cells; c++) {
+    const r = cells.firstRow[c]!;
+    indicators.forEach((col, j) => {
+      if (col.factor! < 0 || factorCodes[col.factor!]![r] === col.level) list.push(j);
+    });
+    cellStart[c + 1] = list.length;
+  }
+  return { rows: m, dense: X, denseColumns: d, factorColumns: indicators.length, cellOf: cells.cellOf, cellStart, cellColumns: Int32Array.from(list) };
+}
+
+/** The rows `pick` of a design (same cells), their outcomes and weights. */
+function subDesign(D: FactorDesign, y: Int32Array, w: Float64Array | undefined, pick: Int32Array): { D: FactorDesign; y: Int32Array; w: Float64Array | undefined } {
+  const s = pick.length;
+  const d = D.denseColumns;
+  const X = new Float64Array(s * d);
+  const cellOf = new Int32Array(s);
+  const ys = new Int32Array(s);
+  const ws = w ? new Float64Array(s) : undefined;
+  for (let t = 0; t < s; t++) {
+    const i = pick[t]!;
+    for (let a = 0; a < d; a++) X[t * d + a] = D.dense[i * d + a]!;
+    cellOf[t] = D.cellOf[i]!;
+    ys[t] = y[i]!;
+    if (ws) ws[t] = w![i]!;
+  }
+  return { D: { ...D, rows: s, dense: X, cellOf }, y: ys, w: ws };
+}
+
+/** Coefficients of the null model placed in the full model's layout (added coefficients 0). */
+function embedNull(coef: ArrayLike<number>, q: number, pf0: number, pf1: number, d: number): Float64Array {
+  const p0 = pf0 + d;
+  const p1 = pf1 + d;
+  const out = new Float64Array(q * p1);
+  for (let k = 0; k < q; k++) {
+    for (let j = 0; j < pf0; j++) out[k * p1 + j] = coef[k * p0 + j]!;
+    for (let a = 0; a < d; a++) out[k * p1 + pf1 + a] = coef[k * p0 + pf0 + a]!;
+  }
+  return out;
 }
 
 function quoted(names: readonly string[]): string {
@@ -147,8 +220,11 @@ function quoted(names: readonly string[]): string {
 
 /**
  * Regression likelihood-ratio test of one claim (see the module comment).
- * Cost: grouped categorical data O(rows·k + iterations·G·p²) for G groups; otherwise
- * O(rows·p²) per Newton iteration (about 5–8 iterations per model) or one Givens QR pass, O(rows·p²).
+ * Cost: linear models O(patterns) from the moments; logistic and multinomial models
+ * O(rows·k) to gather the complete rows, then per pass over them O(rows·q·d) (O(rows·q²·d²)
+ * while the information matrix is renewed), d continuous given, q = categories − 1; about 3–5
+ * passes per model on all rows after the warm start on a subsample (grouped data: O(G) per pass
+ * for G groups).
  * Source: Wilks (1938); McCullagh & Nelder (1989), Generalized Linear Models, 2nd ed.; Agresti
  * (2013), Categorical Data Analysis, 3rd ed., §8.1.
  * @example
@@ -171,99 +247,139 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   if (scoredResponse) return linearFromMoments(claim, scoredResponse, scoredResponse === yCol ? xCol : yCol, ctx);
 
   // Binary or nominal response (both sides are binary or nominal here): chosen below from the observed levels.
-  const cat = (c: Column) => isCategorical(c);
-  let [resp, added] = [yCol, xCol];
-
-  const allCategorical = cols.every(cat);
+  const isCat = cols.map(isCategorical);
+  for (const k of [0, 1]) {
+    if (!isCat[k]) return { ok: false, reason: `"${cols[k]!.name}" is ${cols[k]!.type} but has no level codes; declare it or re-read the data` };
+  }
+  const allCategorical = isCat.every(Boolean);
   const warnings: string[] = [];
 
-  // Fitting rows: groups of identical complete rows, or complete rows.
+  // Fitting rows: groups of identical complete rows, or complete rows. Per column: its codes
+  // (categorical) or its place among the continuous columns in the row-major buffer `raw`.
   let m: number;
   let n: number;
   let weights: Float64Array | undefined;
-  let codesOf: (c: Column) => ArrayLike<number>;
-  let valuesOf: (c: Column) => Float64Array;
+  const codes: (Int32Array | undefined)[] = [];
+  const contIndex = cols.map(() => -1);
+  let dAll = 0;
+  let raw = new Float64Array(0);
   if (allCategorical) {
     const g = groupRows(cols, rows, ctx.rowFilter);
     m = g.groups;
     n = g.n;
     weights = g.counts;
-    const index = new Map(cols.map((c, i) => [c, i] as const));
-    codesOf = (c) => g.codes[index.get(c)!]!;
-    valuesOf = () => new Float64Array(0);
+    cols.forEach((_, k) => codes.push(g.codes[k]!));
   } else {
     const keep = new Uint8Array(rows);
-    n = 0;
-    for (let r = 0; r < rows; r++) {
-      let ok = ctx.rowFilter ? ctx.rowFilter[r] !== 0 : true;
-      for (let k = 0; ok && k < cols.length; k++) {
-        const c = cols[k]!;
-        ok = isCategorical(c) ? c.codes![r]! >= 0 : Number.isFinite(c.values[r]!);
+    if (ctx.rowFilter) {
+      const f = ctx.rowFilter;
+      for (let r = 0; r < rows; r++) keep[r] = f[r] !== 0 ? 1 : 0;
+    } else keep.fill(1);
+    for (let k = 0; k < cols.length; k++) {
+      const c = cols[k]!;
+      if (isCat[k]) {
+        const cc = c.codes!;
+        for (let r = 0; r < rows; r++) if (cc[r]! < 0) keep[r] = 0;
+      } else {
+        const v = c.values;
+        for (let r = 0; r < rows; r++) if (!Number.isFinite(v[r]!)) keep[r] = 0;
       }
-      keep[r] = ok ? 1 : 0;
-      if (ok) n++;
     }
+    n = 0;
+    for (let r = 0; r < rows; r++) n += keep[r]!;
     m = n;
     const idx = new Int32Array(n);
     for (let r = 0, t = 0; r < rows; r++) if (keep[r]) idx[t++] = r;
-    const cacheC = new Map<Column, Int32Array>();
-    const cacheV = new Map<Column, Float64Array>();
-    codesOf = (c) => {
-      let a = cacheC.get(c);
-      if (!a) {
-        a = new Int32Array(n);
-        for (let t = 0; t < n; t++) a[t] = c.codes![idx[t]!]!;
-        cacheC.set(c, a);
+    cols.forEach((c, k) => {
+      if (!isCat[k]) contIndex[k] = dAll++;
+    });
+    raw = new Float64Array(n * dAll);
+    cols.forEach((c, k) => {
+      if (isCat[k]) {
+        const cc = c.codes!;
+        const out = new Int32Array(n);
+        for (let t = 0; t < n; t++) out[t] = cc[idx[t]!]!;
+        codes.push(out);
+      } else {
+        codes.push(undefined);
+        const v = c.values;
+        const a = contIndex[k]!;
+        for (let t = 0, at = a; t < n; t++, at += dAll) raw[at] = v[idx[t]!]!;
       }
-      return a;
-    };
-    valuesOf = (c) => {
-      let a = cacheV.get(c);
-      if (!a) {
-        a = new Float64Array(n);
-        for (let t = 0; t < n; t++) a[t] = c.values[idx[t]!]!;
-        cacheV.set(c, a);
-      }
-      return a;
-    };
+    });
   }
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
 
-  if (cat(xCol) && cat(yCol)) {
-    const ly = observedLevels(codesOf(yCol), yCol.levels!.length, weights, m).length;
-    const lx = observedLevels(codesOf(xCol), xCol.levels!.length, weights, m).length;
-    if (ly !== 2 && (lx === 2 || lx < ly)) [resp, added] = [xCol, yCol];
+  let [respK, addedK] = [1, 0];
+  {
+    const ly = observedLevels(codes[1]!, yCol.levels!.length, weights, m).length;
+    const lx = observedLevels(codes[0]!, xCol.levels!.length, weights, m).length;
+    if (ly !== 2 && (lx === 2 || lx < ly)) [respK, addedK] = [0, 1];
   }
-  const respLevels = observedLevels(codesOf(resp), resp.levels!.length, weights, m);
+  const resp = cols[respK]!;
+  const added = cols[addedK]!;
+  const respLevels = observedLevels(codes[respK]!, resp.levels!.length, weights, m);
   if (respLevels.length < 2) {
     return { ok: false, reason: `"${resp.name}" has a single observed level among the ${n} complete rows; the claim cannot be tested` };
   }
   const kind: ModelKind = respLevels.length === 2 ? "logistic" : "multinomial";
 
-  // Design blocks.
-  const blockOf = (c: Column): Block => cat(c) ? categoricalBlock(c.name, codesOf(c), c.levels!, weights, m) : continuousBlock(c.name, valuesOf(c));
-  const intercept = new Float64Array(m).fill(1);
-  const baseCols: Float64Array[] = [intercept];
-  const baseLabels = ["(intercept)"];
-  for (const c of givenCols) {
-    const b = blockOf(c);
-    if (b.columns.length === 0) warnings.push(`"${c.name}" is constant among the complete rows and was left out of the models`);
-    baseCols.push(...b.columns);
-    baseLabels.push(...b.labels);
+  // Model columns in label order: intercept, the given blocks, the added block. A continuous
+  // variable is one dense column (centred and scaled in `raw`); a categorical one gives a dummy
+  // per observed level but the first. Factors: the categorical given, then the added side.
+  const columns: ModelColumn[] = [{ label: "(intercept)", factor: -1 }];
+  const factorK: number[] = [];
+  const blockColumns = (k: number): number => {
+    const c = cols[k]!;
+    if (isCat[k]) {
+      const f = factorK.length;
+      factorK.push(k);
+      const obs = observedLevels(codes[k]!, c.levels!.length, weights, m);
+      for (const l of obs.slice(1)) columns.push({ label: `${c.name}=${c.levels![l]}`, factor: f, level: l });
+      return obs.length - 1;
+    }
+    const a = contIndex[k]!;
+    let mean = 0;
+    for (let i = 0, at = a; i < m; i++, at += dAll) mean += (raw[at]! - mean) / (i + 1);
+    let ss = 0;
+    for (let i = 0, at = a; i < m; i++, at += dAll) ss += (raw[at]! - mean) ** 2;
+    const sd = Math.sqrt(ss / Math.max(1, m - 1));
+    if (!(sd > 0) || !Number.isFinite(sd)) return 0;
+    for (let i = 0, at = a; i < m; i++, at += dAll) raw[at] = (raw[at]! - mean) / sd;
+    columns.push({ label: c.name, dense: a });
+    return 1;
+  };
+  for (let k = 2; k < cols.length; k++) {
+    if (blockColumns(k) === 0) warnings.push(`"${cols[k]!.name}" is constant among the complete rows and was left out of the models`);
   }
-  const addedBlock = blockOf(added);
-  if (addedBlock.columns.length === 0) {
+  const baseCount = columns.length;
+  if (blockColumns(addedK) === 0) {
     return { ok: false, reason: `"${added.name}" is constant among the ${n} complete rows; the claim cannot be tested` };
   }
-  const allCols = [...baseCols, ...addedBlock.columns];
-  const labels = [...baseLabels, ...addedBlock.labels];
-  const kept = independentColumns(allCols, weights, m);
-  const p0 = kept.filter((j) => j < baseCols.length).length;
+  const factorCodes = factorK.map((k) => codes[k]!);
+  const cells = cellsOf(factorCodes, factorK.map((k) => cols[k]!.levels!.length), m);
+
+  // Aliasing: Cholesky sweep of the Gram matrix in label order (one pass over the rows).
+  const all = columns.map((_, j) => j);
+  const provisional = buildDesign(columns, all, factorCodes, cells, raw, dAll, m);
+  const Gd = designCrossProduct(provisional, weights);
+  const pAll = columns.length;
+  const paramOf = new Int32Array(pAll);
+  {
+    let f = 0;
+    let dn = provisional.factorColumns;
+    columns.forEach((c, j) => (paramOf[j] = c.dense === undefined ? f++ : dn++));
+  }
+  const G = new Float64Array(pAll * pAll);
+  for (let a = 0; a < pAll; a++) for (let b = 0; b < pAll; b++) G[a * pAll + b] = Gd[paramOf[a]! * pAll + paramOf[b]!]!;
+  const kept = independentColumns(G, pAll);
+  const keptBase = kept.filter((j) => j < baseCount);
+  const p0 = keptBase.length;
   const p = kept.length;
   const q = kind === "multinomial" ? respLevels.length - 1 : 1;
   // Added parameters: one per added column, for each non-baseline response category.
   const df = (p - p0) * q;
-  const droppedBase = baseCols.length - p0;
+  const droppedBase = baseCount - p0;
   if (droppedBase > 0) warnings.push(`${droppedBase} column${droppedBase > 1 ? "s" : ""} of the given set aliased with others and dropped`);
   if (df === 0) {
     return { ok: false, reason: `"${added.name}" is determined by ${claim.given.length ? quoted(claim.given) : "the intercept"} among the complete rows (aliased); the claim cannot be tested` };
@@ -271,8 +387,11 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   if (n <= p * q + 1) {
     return { ok: false, reason: `${n} complete rows are too few for the ${p * q} parameters of the full model; collect more data or use a smaller set` };
   }
-  const X1 = toRowMajor(kept.map((j) => allCols[j]!), m);
-  const nullDesign = () => toRowMajor(kept.slice(0, p0).map((j) => allCols[j]!), m);
+  const D1 = buildDesign(columns, kept, factorCodes, cells, raw, dAll, m);
+  const D0 = buildDesign(columns, keptBase, factorCodes, cells, raw, dAll, m);
+  const d = D1.denseColumns;
+  const pf0 = D0.factorColumns;
+  const pf1 = D1.factorColumns;
 
   let lr: number;
   let addedCoef: number | undefined;
@@ -282,31 +401,49 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     added: added.name,
     parameters_null: p0 * q,
     parameters_full: p * q,
-    columns: kept.map((j) => labels[j]),
+    columns: kept.map((j) => columns[j]!.label),
     grouped: allCategorical,
     fitted_rows: m,
   };
   {
-    const codes = codesOf(resp);
+    const rc = codes[respK]!;
     const recode = new Int32Array(resp.levels!.length).fill(-1);
     respLevels.forEach((l, i) => (recode[l] = i));
     const y = new Int32Array(m);
-    for (let i = 0; i < m; i++) y[i] = recode[codes[i]!]!;
-    let f0: LogisticFit | MultinomialFit;
-    let f1: LogisticFit | MultinomialFit;
-    if (kind === "logistic") {
-      f0 = logisticRegression(nullDesign(), m, p0, y, { weights });
-      const start = new Float64Array(p);
-      start.set(f0.coef);
-      f1 = logisticRegression(X1, m, p, y, { weights, start });
-      addedCoef = f1.coef[p - 1];
-    } else {
-      const K = respLevels.length;
-      f0 = multinomialLogit(nullDesign(), m, p0, y, K, { weights });
-      const start = new Float64Array(q * p);
-      for (let k = 0; k < q; k++) for (let j = 0; j < p0; j++) start[k * p + j] = f0.coef[k * p0 + j]!;
-      f1 = multinomialLogit(X1, m, p, y, K, { weights, start });
+    for (let i = 0; i < m; i++) y[i] = recode[rc[i]!]!;
+    const K = respLevels.length;
+    const fit = (D: FactorDesign, yy: Int32Array, w: Float64Array | undefined, start?: Float64Array): LogisticFit | MultinomialFit =>
+      kind === "logistic" ? logisticRegressionDesign(D, yy, { weights: w, start }) : multinomialLogitDesign(D, yy, K, { weights: w, start });
+    const usable = (f: LogisticFit | MultinomialFit) => f.status === "converged" && Number.isFinite(f.logLik) && f.coef.every(Number.isFinite);
+    // Warm start: both models fitted first to a seeded random subsample of the rows; the fits on
+    // all rows start there and run to the same convergence criterion, so the estimates are the
+    // maximum-likelihood ones of all rows whatever the subsample.
+    let start0: Float64Array | undefined;
+    let start1: Float64Array | undefined;
+    let sub0: LogisticFit | MultinomialFit | undefined;
+    if (m > 3 * START_SUBSAMPLE) {
+      const rng = createRng(ctx.seed, `regression-lr start\u0000${streamKeyOfClaim(claim)}`);
+      const pick = new Int32Array(START_SUBSAMPLE);
+      for (let t = 0; t < pick.length; t++) pick[t] = rng.nextInt(m);
+      pick.sort();
+      const s1 = subDesign(D1, y, weights, pick);
+      const s0: FactorDesign = { ...D0, rows: s1.D.rows, dense: s1.D.dense, cellOf: s1.D.cellOf };
+      sub0 = fit(s0, s1.y, s1.w);
+      if (usable(sub0)) {
+        start0 = sub0.coef as Float64Array;
+        const sub1 = fit(s1.D, s1.y, s1.w, embedNull(sub0.coef, q, pf0, pf1, d));
+        if (usable(sub1)) start1 = sub1.coef as Float64Array;
+      }
     }
+    const f0 = fit(D0, y, weights, start0);
+    let s1 = embedNull(f0.coef, q, pf0, pf1, d);
+    if (start1 && sub0) {
+      // the subsample's added coefficients, and its other coefficients moved as the null model's moved
+      const shift = embedNull(f0.coef.map((v, j) => v - sub0!.coef[j]!), q, pf0, pf1, d);
+      s1 = start1.map((v, j) => v + shift[j]!);
+    }
+    const f1 = fit(D1, y, weights, s1);
+    if (kind === "logistic") addedCoef = f1.coef[pf1 - 1];
     for (const [label, f] of [["null", f0], ["full", f1]] as const) {
       if (f.separation === "complete") {
         return { ok: false, reason: `complete separation in the ${label} model: "${resp.name}" is predicted perfectly by ${label === "full" ? quoted([added.name, ...claim.given]) : claim.given.length ? quoted(claim.given) : "the intercept"}; the likelihood-ratio test does not apply` };
