@@ -15,8 +15,8 @@
  */
 import { cholesky } from "./linalg.js";
 import {
-  assembleCrossProduct, checkDesign, checkOutcomeAndWeights, createCellSums, designFromRowMajor, newtonLoop,
-  type CellSums, type FactorDesign, type FitStatus, type NewtonOptions, type Separation,
+  assembleCrossProduct, checkDesign, checkOutcomeAndWeights, createCellSums, designFromRowMajor, newtonLoop, rowKernel,
+  type CellSums, type RowKernel, type FactorDesign, type FitStatus, type NewtonOptions, type Separation,
 } from "./logisticRegression.js";
 
 export interface MultinomialFit {
@@ -50,6 +50,8 @@ interface MultinomialScratch {
   eta: Float64Array;
   ex: Float64Array;
   separated: number;
+  kernel: RowKernel | undefined;
+  out: Float64Array;
 }
 
 /**
@@ -64,7 +66,8 @@ function multinomialPass(
   D: FactorDesign, K: number, y: ArrayLike<number>, w: ArrayLike<number> | undefined,
   beta: Float64Array, g: Float64Array, withInfo: boolean, s: MultinomialScratch,
 ): number {
-  const { rows: m, dense: X, denseColumns: d, factorColumns: pf, cellOf, cellStart, cellColumns } = D;
+  const { dense: X, denseColumns: d, factorColumns: pf, cellOf, cellStart, cellColumns } = D;
+  let m = D.rows;
   const C = cellStart.length - 1;
   const q = K - 1;
   const p = pf + d;
@@ -89,6 +92,11 @@ function multinomialPass(
   let ll = 0;
   let prod = 1;
   let separated = 0;
+  if (s.kernel) {
+    ll = s.kernel(m, X, cellOf, y, w, beta, cellEta, R, gd, withInfo, T, S, DD, s.out);
+    separated = s.out[0]!;
+    m = 0; // the loop below has nothing left to do
+  }
   for (let i = 0, off = 0; i < m; i++, off += d) {
     const wi = w ? w[i]! : 1;
     if (wi === 0) continue;
@@ -224,6 +232,7 @@ export function multinomialLogitDesign(D: FactorDesign, y: ArrayLike<number>, K:
   const s: MultinomialScratch = {
     cellEta: new Float64Array(C * q), R: new Float64Array(C * q), gd: new Float64Array(q * D.denseColumns),
     sums: createCellSums(D, (q * (q + 1)) / 2), eta: new Float64Array(q), ex: new Float64Array(q), separated: 0,
+    kernel: options.kernel === "loop" ? undefined : rowKernel(q, D.denseColumns, D.factorColumns, w !== undefined), out: new Float64Array(1),
   };
   let separated = 0;
   const H = new Float64Array(P * P);

@@ -123,3 +123,76 @@ describe("logisticRegression", () => {
     expect(() => logisticRegression(X, m, p, yb, { start: [0, 0] })).toThrow(/start has 2/);
   });
 });
+
+// ---- designs in factor form (indicator cells + dense columns) ----
+import { designCrossProduct, designFromRowMajor, logisticRegressionDesign, type FactorDesign } from "../../src/stats/logisticRegression.js";
+
+/** The fixture with x3 (3 levels) as indicator cells: parameters [intercept, x3=1, x3=2, x1?, x2]. */
+function factorDesign(withX1: boolean, rows = data): FactorDesign {
+  const d = withX1 ? 2 : 1;
+  const dense = new Float64Array(rows.length * d);
+  rows.forEach(([x1, x2], i) => dense.set(withX1 ? [x1!, x2!] : [x2!], i * d));
+  return {
+    rows: rows.length, dense, denseColumns: d, factorColumns: 3,
+    cellOf: Int32Array.from(rows, (r) => r[2]!), // cell = level of x3
+    cellStart: new Int32Array([0, 1, 3, 5]), cellColumns: new Int32Array([0, 0, 1, 0, 2]),
+  };
+}
+
+describe("logisticRegressionDesign", () => {
+  it("logisticRegressionDesign with x3 as indicator cells matches statsmodels Logit (coefficients 1e-6 relative, ℓ 1e-8), both kernels", () => {
+    for (const kernel of ["unrolled", "loop"] as const) {
+      const f = logisticRegressionDesign(factorDesign(true), yb, { kernel });
+      expect(f.status).toBe("converged");
+      const [b0, b1, b2, b31, b32] = ref.logit.params as number[]; // statsmodels order: const, x1, x2, x3=1, x3=2
+      expectRelative(f.coef, [b0!, b31!, b32!, b1!, b2!], 1e-6);
+      expect(Math.abs(f.logLik - ref.logit.llf)).toBeLessThan(1e-8); // statsmodels Logit llf
+      const f0 = logisticRegressionDesign(factorDesign(false), yb, { kernel });
+      expect(Math.abs(f0.logLik - ref.logit.llf_null_without_x1)).toBeLessThan(1e-8);
+    }
+  });
+
+  it("the unrolled and loop kernels give the same fit bit for bit, weighted or not, and equal the row-major fit", () => {
+    const D = factorDesign(true);
+    const w = Float64Array.from({ length: m }, (_, i) => (i % 11 === 0 ? 0 : 1 + (i % 3)));
+    for (const weights of [undefined, w]) {
+      const a = logisticRegressionDesign(D, yb, { weights, kernel: "unrolled" });
+      const b = logisticRegressionDesign(D, yb, { weights, kernel: "loop" });
+      expect(a.logLik).toBe(b.logLik);
+      expect([...a.coef]).toEqual([...b.coef]);
+      expect(a.iterations).toBe(b.iterations);
+    }
+    const { X, p } = design(true);
+    const r = logisticRegression(X, m, p, yb, { weights: w });
+    const a = logisticRegressionDesign(D, yb, { weights: w });
+    expect(a.logLik).toBeCloseTo(r.logLik, 9);
+    // parameter orders: row-major [1, x1, x2, x3=1, x3=2], factor form [1, x3=1, x3=2, x1, x2]
+    [0, 3, 4, 1, 2].forEach((j, t) => expect(a.coef[t]).toBeCloseTo(r.coef[j]!, 7));
+  });
+
+  it("designCrossProduct equals Σ v_i z_i z_iᵀ of the dense equivalent (textbook definition), and the doc example", () => {
+    const D = factorDesign(true);
+    const v = Float64Array.from({ length: m }, (_, i) => (i % 7 === 0 ? 0 : 0.1 + (i % 5) / 10));
+    const H = designCrossProduct(D, v);
+    const z = (i: number) => [1, data[i]![2] === 1 ? 1 : 0, data[i]![2] === 2 ? 1 : 0, data[i]![0]!, data[i]![1]!];
+    for (let a = 0; a < 5; a++) {
+      for (let b = 0; b < 5; b++) {
+        let s = 0;
+        for (let i = 0; i < m; i++) s += v[i]! * z(i)[a]! * z(i)[b]!;
+        expect(H[a * 5 + b]).toBeCloseTo(s, 9);
+      }
+    }
+    const ex = designCrossProduct({ rows: 2, dense: new Float64Array([1, 2]), denseColumns: 1, factorColumns: 1, cellOf: new Int32Array(2), cellStart: new Int32Array([0, 1]), cellColumns: new Int32Array([0]) });
+    expect([...ex]).toEqual([2, 3, 3, 5]); // [[n, Σx], [Σx, Σx²]] by hand
+  });
+
+  it("designFromRowMajor keeps X as the dense part; bad designs throw RangeError naming the problem", () => {
+    const X = new Float64Array([1, 2, 1, 3]);
+    expect(designFromRowMajor(X, 2, 2).dense).toBe(X);
+    expect(() => designFromRowMajor(X, 3, 2)).toThrow(/expected 3×2/);
+    const D = factorDesign(false, data.slice(0, 4));
+    expect(() => logisticRegressionDesign({ ...D, cellOf: new Int32Array([0, 1, 2, 3]) }, [0, 1, 0, 1])).toThrow(/row 3 is in cell 3/);
+    expect(() => logisticRegressionDesign({ ...D, cellColumns: new Int32Array([0, 0, 1, 0, 7]) }, [0, 1, 0, 1])).toThrow(/cell column 7/);
+    expect(() => logisticRegressionDesign({ ...D, dense: new Float64Array(3) }, [0, 1, 0, 1])).toThrow(/dense part has 3/);
+  });
+});

@@ -70,3 +70,40 @@ describe("multinomialLogit", () => {
     expect(() => multinomialLogit(X, 6, 2, [0, 0, 1, 1, 2, 2], 3, { start: [0, 0, 0] })).toThrow(/start has 3/);
   });
 });
+
+import { multinomialLogitDesign } from "../../src/stats/multinomialLogit.js";
+import type { FactorDesign } from "../../src/stats/logisticRegression.js";
+
+describe("multinomialLogitDesign", () => {
+  // x3 (3 levels) as indicator cells, x1 and x2 dense: parameters per category [1, x3=1, x3=2, x1, x2]
+  const D: FactorDesign = {
+    rows: m, dense: Float64Array.from(data.flatMap(([x1, x2]) => [x1!, x2!])), denseColumns: 2, factorColumns: 3,
+    cellOf: Int32Array.from(data, (r) => r[2]!), cellStart: new Int32Array([0, 1, 3, 5]), cellColumns: new Int32Array([0, 0, 1, 0, 2]),
+  };
+  it("multinomialLogitDesign matches statsmodels MNLogit (coefficients 1e-6 relative, ℓ 1e-8) with both kernels, bit-identical", () => {
+    const fits = (["unrolled", "loop"] as const).map((kernel) => multinomialLogitDesign(D, ym, 3, { kernel }));
+    for (const f of fits) {
+      expect(f.status).toBe("converged");
+      expect(Math.abs(f.logLik - ref.mnlogit.llf)).toBeLessThan(1e-8); // statsmodels MNLogit llf
+      (ref.mnlogit.params as number[][]).forEach((row, k) => {
+        const [b0, b1, b2, b31, b32] = row; // statsmodels order: const, x1, x2, x3=1, x3=2
+        [b0!, b31!, b32!, b1!, b2!].forEach((e, j) => expect(Math.abs(f.coef[k * 5 + j]! - e)).toBeLessThanOrEqual(1e-6 * Math.max(Math.abs(e), 1e-3)));
+      });
+    }
+    expect(fits[0]!.logLik).toBe(fits[1]!.logLik);
+    expect([...fits[0]!.coef]).toEqual([...fits[1]!.coef]);
+  });
+
+  it("multinomialLogitDesign with weights equals repeated rows, with both kernels", () => {
+    const w = Float64Array.from({ length: m }, (_, i) => 1 + (i % 3));
+    const rep: number[] = [];
+    w.forEach((c, i) => { for (let t = 0; t < c; t++) rep.push(i); });
+    const Dr: FactorDesign = { ...D, rows: rep.length, dense: Float64Array.from(rep.flatMap((i) => [D.dense[2 * i]!, D.dense[2 * i + 1]!])), cellOf: Int32Array.from(rep, (i) => D.cellOf[i]!) };
+    const r = multinomialLogitDesign(Dr, rep.map((i) => ym[i]!), 3);
+    for (const kernel of ["unrolled", "loop"] as const) {
+      const f = multinomialLogitDesign(D, ym, 3, { weights: w, kernel });
+      expect(f.logLik).toBeCloseTo(r.logLik, 8);
+      for (let j = 0; j < 10; j++) expect(f.coef[j]).toBeCloseTo(r.coef[j]!, 7);
+    }
+  });
+});
