@@ -38,21 +38,26 @@ export function measure(cmd: string, args: string[], opts: { cwd?: string } = {}
   });
 }
 
-/** The I/O floor: read a file in 4 MiB chunks and count newlines. */
-export function ioFloor(path: string): Promise<{ seconds: number; lines: number }> {
-  return import("node:fs").then(
-    ({ createReadStream }) =>
-      new Promise((resolve, reject) => {
-        const t0 = process.hrtime.bigint();
-        let lines = 0;
-        createReadStream(path, { highWaterMark: 4 << 20 })
-          .on("data", (b) => {
-            const buf = b as Buffer;
-            let i = -1;
-            while ((i = buf.indexOf(10, i + 1)) !== -1) lines++;
-          })
-          .on("error", reject)
-          .on("end", () => resolve({ seconds: Number(process.hrtime.bigint() - t0) / 1e9, lines }));
-      }),
-  );
+/**
+ * The I/O floor as the issue and ../shared/STACK.md define it: Node reads the file in 4 MiB
+ * chunks and counts newlines with a byte loop (about 0.5 s for 390 MB here). `memchrSeconds`
+ * is the same read counting with Buffer.indexOf (a vectorised search), reported beside it.
+ */
+export async function ioFloor(path: string): Promise<{ seconds: number; memchrSeconds: number; lines: number }> {
+  const { createReadStream } = await import("node:fs");
+  const run = async (fast: boolean): Promise<[number, number]> => {
+    const t0 = process.hrtime.bigint();
+    let lines = 0;
+    for await (const chunk of createReadStream(path, { highWaterMark: 4 << 20 })) {
+      const buf = chunk as Buffer;
+      if (fast) {
+        let i = -1;
+        while ((i = buf.indexOf(10, i + 1)) !== -1) lines++;
+      } else for (let i = 0; i < buf.length; i++) if (buf[i] === 10) lines++;
+    }
+    return [Number(process.hrtime.bigint() - t0) / 1e9, lines];
+  };
+  const [seconds, lines] = await run(false);
+  const [memchrSeconds] = await run(true);
+  return { seconds, memchrSeconds, lines };
 }

@@ -44,6 +44,7 @@ async function endToEnd(name: string, categorical: number) {
     patterns: result.data.patterns,
     tests,
     io_floor_s: +floor.seconds.toFixed(2),
+    io_floor_memchr_s: +floor.memchrSeconds.toFixed(2),
     end_to_end_s: +run.seconds.toFixed(2),
     ratio_to_floor: +(run.seconds / floor.seconds).toFixed(1),
     peak_rss_mb: Math.round(run.peakRssMB),
