@@ -43,6 +43,8 @@ export interface LogisticFit {
   separatedRows: number;
   /** Rows with positive weight. */
   rows: number;
+  /** The last information matrix computed (P × P, at or near `coef`; zeros when none was). */
+  information: Float64Array;
 }
 
 export interface NewtonOptions {
@@ -58,6 +60,12 @@ export interface NewtonOptions {
    * variables; "loop" uses the generic loops. Both compute the same sums in the same order of rows.
    */
   kernel?: "unrolled" | "loop";
+  /**
+   * An approximation of the information matrix at `start` (P × P, e.g. a subsample's, scaled to
+   * the rows), used for the first Newton step instead of a pass that computes it. The estimates
+   * do not depend on it: the steps that follow use information computed on the rows.
+   */
+  information?: ArrayLike<number>;
 }
 
 /**
@@ -239,12 +247,13 @@ const PRODUCT_FLUSH = 1e280;
  * Row-pass kernels generated for fixed numbers of categories q (1: logistic) and dense columns d:
  * the loops over categories and columns are unrolled and the dense sums kept in local variables,
  * which halves the cost of a pass in V8. Arguments: (m, X, cellOf, y, w, beta, cellEta, R, gd,
- * withInfo, T, S, DD, out); returns ℓ and writes the separated rows into out[0]. The arithmetic is
+ * withInfo, T, S, DD, out, pf) with pf the indicator columns; returns ℓ and writes the separated rows into out[0]. The arithmetic is
  * that of `logisticPass` and `multinomialPass`, term by term.
  */
 export type RowKernel = (
   m: number, X: Float64Array, cellOf: Int32Array, y: ArrayLike<number>, w: ArrayLike<number> | undefined, beta: Float64Array,
   cellEta: Float64Array, R: Float64Array, gd: Float64Array, withInfo: boolean, T: Float64Array, S: Float64Array, DD: Float64Array, out: Float64Array,
+  pf: number,
 ) => number;
 
 const kernels = new Map<string, RowKernel>();
@@ -252,27 +261,27 @@ const kernels = new Map<string, RowKernel>();
 /** Largest unrolled body (statements per row, roughly) for which a kernel is generated. */
 const MAX_UNROLLED = 600;
 
-/** The generated kernel for (q, d, pf, weighted), or undefined when it would be too large. */
-export function rowKernel(q: number, d: number, pf: number, weighted: boolean): RowKernel | undefined {
+/** The generated kernel for (q, d, weighted), or undefined when it would be too large. Kernels are cached and shared by fits. */
+export function rowKernel(q: number, d: number, weighted: boolean): RowKernel | undefined {
   const nb = (q * (q + 1)) / 2;
   if (nb * (1 + d + (d * (d + 1)) / 2) + q * (2 * d + 4) > MAX_UNROLLED) return undefined;
-  const key = `${q},${d},${pf},${weighted}`;
+  const key = `${q},${d},${weighted}`;
   let k = kernels.get(key);
   if (!k) {
-    k = generateKernel(q, d, pf, weighted);
+    k = generateKernel(q, d, weighted);
     kernels.set(key, k);
   }
   return k;
 }
 
-function generateKernel(q: number, d: number, pf: number, weighted: boolean): RowKernel {
-  const p = pf + d;
+function generateKernel(q: number, d: number, weighted: boolean): RowKernel {
   const nb = (q * (q + 1)) / 2;
   const W = weighted ? "wi" : "1";
   const A = Array.from({ length: d }, (_, a) => a);
   const Q = Array.from({ length: q }, (_, k) => k);
   const L: string[] = [];
-  for (const k of Q) for (const a of A) L.push(`const b${k}_${a} = beta[${k * p + pf + a}];`);
+  L.push(`const p = pf + ${d};`);
+  for (const k of Q) for (const a of A) L.push(`const b${k}_${a} = beta[${k} * p + pf + ${a}];`);
   for (const k of Q) for (const a of A) L.push(`let g${k}_${a} = 0;`);
   const blocks: [number, number, number][] = [];
   for (let k = 0, b = 0; k < q; k++) for (let l = k; l < q; l++, b++) blocks.push([k, l, b]);
@@ -338,7 +347,7 @@ function generateKernel(q: number, d: number, pf: number, weighted: boolean): Ro
   for (const [, , b] of blocks) for (const a of A) for (let a2 = a; a2 < d; a2++) L.push(`DD[${b * d * d + a * d + a2}] = h${b}_${a}_${a2};`);
   L.push("}");
   L.push("out[0] = sep;", "return ll;");
-  return new Function("m", "X", "cellOf", "y", "w", "beta", "cellEta", "R", "gd", "withInfo", "T", "S", "DD", "out", L.join("\n")) as RowKernel;
+  return new Function("m", "X", "cellOf", "y", "w", "beta", "cellEta", "R", "gd", "withInfo", "T", "S", "DD", "out", "pf", L.join("\n")) as RowKernel;
 }
 
 /** Scratch of one logistic likelihood pass. */
@@ -383,7 +392,7 @@ function logisticPass(D: FactorDesign, y: ArrayLike<number>, w: ArrayLike<number
   let prod = 1;
   let separated = 0;
   if (s.kernel) {
-    ll = s.kernel(m, X, cellOf, y, w, beta, cellEta, R, gd, withInfo, T, S, DD, s.out);
+    ll = s.kernel(m, X, cellOf, y, w, beta, cellEta, R, gd, withInfo, T, S, DD, s.out, pf);
     separated = s.out[0]!;
     prod = 1;
     m = 0; // the loop below has nothing left to do
@@ -468,16 +477,19 @@ export function newtonLoop(
   pass: (beta: Float64Array, g: Float64Array, withInfo: boolean) => number,
   factor: () => Float64Array | undefined,
   accept: () => void,
+  initialInfo?: ArrayLike<number>,
 ): { beta: Float64Array<ArrayBuffer>; ll: number; iterations: number; status: FitStatus } {
   let beta = beta0;
   let betaNew = new Float64Array(P);
   let g = new Float64Array(P);
   let gNew = new Float64Array(P);
-  let ll = pass(beta, g, true);
+  if (initialInfo && initialInfo.length !== P * P) throw new RangeError(`information has ${initialInfo.length} entries, expected ${P}×${P}`);
+  let L = initialInfo ? cholesky(initialInfo, P, 1e-13) : undefined;
+  let ll = pass(beta, g, !L);
   accept();
-  let L = factor();
+  let fresh = !L; // L is the information at β (not an approximation given by the caller)
+  if (!L) L = factor();
   if (!L) return { beta, ll, iterations: 1, status: "singular" };
-  let fresh = true; // L is the information at β
   let status: FitStatus = "not-converged";
   let it = 0;
   while (it < maxIter) {
@@ -580,7 +592,7 @@ export function logisticRegressionDesign(D: FactorDesign, y: ArrayLike<number>, 
   const beta = options.start ? Float64Array.from(options.start) : new Float64Array(p);
   if (beta.length !== p) throw new RangeError(`start has ${beta.length} coefficients, expected ${p}`);
   const C = D.cellStart.length - 1;
-  const kernel = options.kernel === "loop" ? undefined : rowKernel(1, D.denseColumns, D.factorColumns, w !== undefined);
+  const kernel = options.kernel === "loop" ? undefined : rowKernel(1, D.denseColumns, w !== undefined);
   const s: LogisticScratch = { cellEta: new Float64Array(C), R: new Float64Array(C), gd: new Float64Array(D.denseColumns), sums: createCellSums(D, 1), separated: 0, kernel, out: new Float64Array(1) };
   let separated = 0; // at the current iterate
   const H = new Float64Array(p * p);
@@ -590,10 +602,11 @@ export function logisticRegressionDesign(D: FactorDesign, y: ArrayLike<number>, 
     (b, g, withInfo) => logisticPass(D, y, w, b, g, withInfo, s),
     () => cholesky(assembleCrossProduct(D, s.sums, 0, 1, H), p, 1e-13),
     () => (separated = s.separated),
+    options.information,
   );
   const separatedRows = fit.status === "converged" ? 0 : separated;
   // A converged fit has finite estimates: rows fitted near 0 or 1 there are extreme, not separated.
   const separation: Separation =
     separatedRows === 0 || fit.status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
-  return { coef: fit.beta, logLik: fit.ll, iterations: fit.iterations, status: fit.status, separation, separatedRows, rows };
+  return { coef: fit.beta, logLik: fit.ll, iterations: fit.iterations, status: fit.status, separation, separatedRows, rows, information: H };
 }

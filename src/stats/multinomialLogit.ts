@@ -30,6 +30,8 @@ export interface MultinomialFit {
   /** Rows whose observed category is fitted with probability > 1 − 1e-9 (counted when the fit did not converge; 0 otherwise). */
   separatedRows: number;
   rows: number;
+  /** The last information matrix computed (P × P, at or near `coef`; zeros when none was). */
+  information: Float64Array;
 }
 
 /** A row is separated when its observed category is fitted with probability above this. */
@@ -93,7 +95,7 @@ function multinomialPass(
   let prod = 1;
   let separated = 0;
   if (s.kernel) {
-    ll = s.kernel(m, X, cellOf, y, w, beta, cellEta, R, gd, withInfo, T, S, DD, s.out);
+    ll = s.kernel(m, X, cellOf, y, w, beta, cellEta, R, gd, withInfo, T, S, DD, s.out, pf);
     separated = s.out[0]!;
     m = 0; // the loop below has nothing left to do
   }
@@ -232,7 +234,7 @@ export function multinomialLogitDesign(D: FactorDesign, y: ArrayLike<number>, K:
   const s: MultinomialScratch = {
     cellEta: new Float64Array(C * q), R: new Float64Array(C * q), gd: new Float64Array(q * D.denseColumns),
     sums: createCellSums(D, (q * (q + 1)) / 2), eta: new Float64Array(q), ex: new Float64Array(q), separated: 0,
-    kernel: options.kernel === "loop" ? undefined : rowKernel(q, D.denseColumns, D.factorColumns, w !== undefined), out: new Float64Array(1),
+    kernel: options.kernel === "loop" ? undefined : rowKernel(q, D.denseColumns, w !== undefined), out: new Float64Array(1),
   };
   let separated = 0;
   const H = new Float64Array(P * P);
@@ -242,9 +244,10 @@ export function multinomialLogitDesign(D: FactorDesign, y: ArrayLike<number>, K:
     (b, g, withInfo) => multinomialPass(D, K, y, w, b, g, withInfo, s),
     () => cholesky(assembleInformation(D, K, s.sums, H, B), P, 1e-13),
     () => (separated = s.separated),
+    options.information,
   );
   const separatedRows = fit.status === "converged" ? 0 : separated;
   const separation: Separation =
     separatedRows === 0 || fit.status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
-  return { coef: fit.beta, categories: K, logLik: fit.ll, iterations: fit.iterations, status: fit.status, separation, separatedRows, rows };
+  return { coef: fit.beta, categories: K, logLik: fit.ll, iterations: fit.iterations, status: fit.status, separation, separatedRows, rows, information: H };
 }

@@ -147,6 +147,60 @@ function cellsOf(codes: readonly Int32Array[], levels: readonly number[], m: num
   return { cellOf: ids, cells, firstRow };
 }
 
+/** Indices of the rows where every column is observed (code ≥ 0 or a finite value) and the filter lets the row through. Cost: O(rows·k). */
+function completeRows(cols: readonly Column[], isCat: readonly boolean[], rows: number, rowFilter: Uint8Array | undefined): Int32Array {
+  const keep = new Uint8Array(rows);
+  if (rowFilter) copyFilter(keep, rowFilter, rows);
+  else keep.fill(1);
+  cols.forEach((c, k) => (isCat[k] ? maskMissingCodes(keep, c.codes!, rows) : maskMissingValues(keep, c.values, rows)));
+  let n = 0;
+  for (let r = 0; r < rows; r++) n += keep[r]!;
+  const idx = new Int32Array(n);
+  for (let r = 0, t = 0; r < rows; r++) if (keep[r]) idx[t++] = r;
+  return idx;
+}
+
+function copyFilter(keep: Uint8Array, filter: Uint8Array, rows: number): void {
+  for (let r = 0; r < rows; r++) keep[r] = filter[r] !== 0 ? 1 : 0;
+}
+
+function maskMissingCodes(keep: Uint8Array, codes: Int32Array, rows: number): void {
+  for (let r = 0; r < rows; r++) if (codes[r]! < 0) keep[r] = 0;
+}
+
+function maskMissingValues(keep: Uint8Array, values: Float64Array, rows: number): void {
+  for (let r = 0; r < rows; r++) if (!Number.isFinite(values[r]!)) keep[r] = 0;
+}
+
+function gatherCodes(codes: Int32Array, idx: Int32Array): Int32Array {
+  const n = idx.length;
+  const out = new Int32Array(n);
+  for (let t = 0; t < n; t++) out[t] = codes[idx[t]!]!;
+  return out;
+}
+
+/** raw[t·stride + a] = values[idx[t]]. */
+function gatherStrided(raw: Float64Array, values: Float64Array, idx: Int32Array, a: number, stride: number): void {
+  const n = idx.length;
+  for (let t = 0, at = a; t < n; t++, at += stride) raw[at] = values[idx[t]!]!;
+}
+
+/**
+ * Centre and scale column a of a row-major buffer (running mean, then the Bessel-corrected sum of
+ * squares); false, leaving it as it is, when it is constant. Cost: O(m).
+ */
+function standardizeStrided(raw: Float64Array, a: number, stride: number, m: number): boolean {
+  let mean = 0;
+  for (let i = 0, at = a; i < m; i++, at += stride) mean += (raw[at]! - mean) / (i + 1);
+  let ss = 0;
+  for (let i = 0, at = a; i < m; i++, at += stride) ss += (raw[at]! - mean) ** 2;
+  const sd = Math.sqrt(ss / Math.max(1, m - 1));
+  if (!(sd > 0) || !Number.isFinite(sd)) return false;
+  const inv = 1 / sd;
+  for (let i = 0, at = a; i < m; i++, at += stride) raw[at] = (raw[at]! - mean) * inv;
+  return true;
+}
+
 /** A model column: an indicator (intercept or dummy) or a dense (continuous) column. */
 interface ModelColumn {
   label: string;
@@ -270,41 +324,18 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     weights = g.counts;
     cols.forEach((_, k) => codes.push(g.codes[k]!));
   } else {
-    const keep = new Uint8Array(rows);
-    if (ctx.rowFilter) {
-      const f = ctx.rowFilter;
-      for (let r = 0; r < rows; r++) keep[r] = f[r] !== 0 ? 1 : 0;
-    } else keep.fill(1);
-    for (let k = 0; k < cols.length; k++) {
-      const c = cols[k]!;
-      if (isCat[k]) {
-        const cc = c.codes!;
-        for (let r = 0; r < rows; r++) if (cc[r]! < 0) keep[r] = 0;
-      } else {
-        const v = c.values;
-        for (let r = 0; r < rows; r++) if (!Number.isFinite(v[r]!)) keep[r] = 0;
-      }
-    }
-    n = 0;
-    for (let r = 0; r < rows; r++) n += keep[r]!;
+    const idx = completeRows(cols, isCat, rows, ctx.rowFilter);
+    n = idx.length;
     m = n;
-    const idx = new Int32Array(n);
-    for (let r = 0, t = 0; r < rows; r++) if (keep[r]) idx[t++] = r;
     cols.forEach((c, k) => {
       if (!isCat[k]) contIndex[k] = dAll++;
     });
     raw = new Float64Array(n * dAll);
     cols.forEach((c, k) => {
-      if (isCat[k]) {
-        const cc = c.codes!;
-        const out = new Int32Array(n);
-        for (let t = 0; t < n; t++) out[t] = cc[idx[t]!]!;
-        codes.push(out);
-      } else {
+      if (isCat[k]) codes.push(gatherCodes(c.codes!, idx));
+      else {
         codes.push(undefined);
-        const v = c.values;
-        const a = contIndex[k]!;
-        for (let t = 0, at = a; t < n; t++, at += dAll) raw[at] = v[idx[t]!]!;
+        gatherStrided(raw, c.values, idx, contIndex[k]!, dAll);
       }
     });
   }
@@ -339,13 +370,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
       return obs.length - 1;
     }
     const a = contIndex[k]!;
-    let mean = 0;
-    for (let i = 0, at = a; i < m; i++, at += dAll) mean += (raw[at]! - mean) / (i + 1);
-    let ss = 0;
-    for (let i = 0, at = a; i < m; i++, at += dAll) ss += (raw[at]! - mean) ** 2;
-    const sd = Math.sqrt(ss / Math.max(1, m - 1));
-    if (!(sd > 0) || !Number.isFinite(sd)) return 0;
-    for (let i = 0, at = a; i < m; i++, at += dAll) raw[at] = (raw[at]! - mean) / sd;
+    if (!standardizeStrided(raw, a, dAll, m)) return 0;
     columns.push({ label: c.name, dense: a });
     return 1;
   };
@@ -412,14 +437,17 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     const y = new Int32Array(m);
     for (let i = 0; i < m; i++) y[i] = recode[rc[i]!]!;
     const K = respLevels.length;
-    const fit = (D: FactorDesign, yy: Int32Array, w: Float64Array | undefined, start?: Float64Array): LogisticFit | MultinomialFit =>
-      kind === "logistic" ? logisticRegressionDesign(D, yy, { weights: w, start }) : multinomialLogitDesign(D, yy, K, { weights: w, start });
+    const fit = (D: FactorDesign, yy: Int32Array, w: Float64Array | undefined, start?: Float64Array, information?: Float64Array): LogisticFit | MultinomialFit =>
+      kind === "logistic" ? logisticRegressionDesign(D, yy, { weights: w, start, information }) : multinomialLogitDesign(D, yy, K, { weights: w, start, information });
     const usable = (f: LogisticFit | MultinomialFit) => f.status === "converged" && Number.isFinite(f.logLik) && f.coef.every(Number.isFinite);
     // Warm start: both models fitted first to a seeded random subsample of the rows; the fits on
-    // all rows start there and run to the same convergence criterion, so the estimates are the
-    // maximum-likelihood ones of all rows whatever the subsample.
+    // all rows start there (with the subsample's information, scaled to all rows, for their first
+    // step) and run to the same convergence criterion, so the estimates are the maximum-likelihood
+    // ones of all rows whatever the subsample.
     let start0: Float64Array | undefined;
     let start1: Float64Array | undefined;
+    let info0: Float64Array | undefined;
+    let info1: Float64Array | undefined;
     let sub0: LogisticFit | MultinomialFit | undefined;
     if (m > 3 * START_SUBSAMPLE) {
       const rng = createRng(ctx.seed, `regression-lr start\u0000${streamKeyOfClaim(claim)}`);
@@ -428,21 +456,33 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
       pick.sort();
       const s1 = subDesign(D1, y, weights, pick);
       const s0: FactorDesign = { ...D0, rows: s1.D.rows, dense: s1.D.dense, cellOf: s1.D.cellOf };
+      let scale = m / pick.length;
+      if (weights && s1.w) {
+        let all = 0;
+        let part = 0;
+        for (let i = 0; i < m; i++) all += weights[i]!;
+        for (let t = 0; t < pick.length; t++) part += s1.w[t]!;
+        scale = all / part;
+      }
       sub0 = fit(s0, s1.y, s1.w);
       if (usable(sub0)) {
         start0 = sub0.coef as Float64Array;
+        info0 = sub0.information.map((v) => v * scale);
         const sub1 = fit(s1.D, s1.y, s1.w, embedNull(sub0.coef, q, pf0, pf1, d));
-        if (usable(sub1)) start1 = sub1.coef as Float64Array;
+        if (usable(sub1)) {
+          start1 = sub1.coef as Float64Array;
+          info1 = sub1.information.map((v) => v * scale);
+        }
       }
     }
-    const f0 = fit(D0, y, weights, start0);
+    const f0 = fit(D0, y, weights, start0, info0);
     let s1 = embedNull(f0.coef, q, pf0, pf1, d);
     if (start1 && sub0) {
       // the subsample's added coefficients, and its other coefficients moved as the null model's moved
       const shift = embedNull(f0.coef.map((v, j) => v - sub0!.coef[j]!), q, pf0, pf1, d);
       s1 = start1.map((v, j) => v + shift[j]!);
     }
-    const f1 = fit(D1, y, weights, s1);
+    const f1 = fit(D1, y, weights, s1, start1 ? info1 : undefined);
     if (kind === "logistic") addedCoef = f1.coef[pf1 - 1];
     for (const [label, f] of [["null", f0], ["full", f1]] as const) {
       if (f.separation === "complete") {
