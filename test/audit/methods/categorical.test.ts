@@ -331,3 +331,58 @@ describe("regressionLr", () => {
     expect(regressionLr.accepts({ x: "continuous", y: "nominal", given: [] })).toBe(true);
   });
 });
+
+describe("regressionLr warm start (more than 60,000 rows)", () => {
+  // seeded data: continuous c, nominal z (3 levels), nominal x (3 levels), binary yb and nominal ym (3 levels) depending on c and z
+  const m = 70_000;
+  const rng = createRng(2024, "warm-start test");
+  const normal = () => Math.sqrt(-2 * Math.log(1 - rng.nextFloat())) * Math.cos(2 * Math.PI * rng.nextFloat());
+  const c = Array.from({ length: m }, () => 10 + 3 * normal());
+  const z = c.map((v) => (v + normal() > 11 ? 2 : rng.nextFloat() < 0.5 ? 1 : 0));
+  const x = z.map((v) => (rng.nextFloat() < 0.6 ? v : rng.nextInt(3)));
+  const yb = c.map((v, i) => (rng.nextFloat() < 1 / (1 + Math.exp(-(0.3 * (v - 10) + 0.5 * z[i]! - 0.2))) ? 1 : 0));
+  const ym = c.map((v, i) => {
+    const e = [0, 0.2 * (v - 10) + 0.3 * z[i]!, -0.1 * (v - 10) + 0.1 * (x[i] === 2 ? 1 : 0)].map(Math.exp);
+    const u = rng.nextFloat() * (e[0]! + e[1]! + e[2]!);
+    return u < e[0]! ? 0 : u < e[0]! + e[1]! ? 1 : 2;
+  });
+  const t = table([
+    num("c", c), cat("z", z.map(String), "nominal", ["0", "1", "2"]), cat("x", x.map(String), "nominal", ["0", "1", "2"]),
+    cat("yb", yb.map(String), "binary", ["0", "1"]), cat("ym", ym.map(String), "nominal", ["0", "1", "2"]),
+  ]);
+  // the same models fitted from zero on the row-major design [1, c, z=1, z=2, (x=1, x=2)]
+  const design = (withX: boolean) => {
+    const p = withX ? 6 : 4;
+    const X = new Float64Array(m * p);
+    for (let i = 0; i < m; i++) X.set([1, c[i]!, z[i] === 1 ? 1 : 0, z[i] === 2 ? 1 : 0, ...(withX ? [x[i] === 1 ? 1 : 0, x[i] === 2 ? 1 : 0] : [])], i * p);
+    return { X, p };
+  };
+
+  it("regressionLr.run on 70,000 rows: logistic log-likelihoods equal the cold-start fits on all rows (1e-12 relative), whatever the seed", () => {
+    const d0 = design(false);
+    const d1 = design(true);
+    const l0 = logisticRegression(d0.X, m, d0.p, yb).logLik;
+    const l1 = logisticRegression(d1.X, m, d1.p, yb).logLik;
+    for (const seed of [1, 77]) {
+      const r = ok(regressionLr.run({ x: "x", y: "yb", given: ["c", "z"] }, ctx(t, { seed })));
+      expect(r.details).toMatchObject({ model: "logistic", fitted_rows: m, grouped: false });
+      expect(Math.abs((r.details!.loglik_null as number) - l0)).toBeLessThanOrEqual(1e-12 * Math.abs(l0));
+      expect(Math.abs((r.details!.loglik_full as number) - l1)).toBeLessThanOrEqual(1e-12 * Math.abs(l1));
+      expect(r.statistic).toBeCloseTo(2 * (l1 - l0), 6);
+      expect(r.df).toBe(2);
+    }
+  });
+
+  it("regressionLr.run on 70,000 rows: multinomial log-likelihoods equal the cold-start fits on all rows (1e-12 relative)", () => {
+    const d0 = design(false);
+    const d1 = design(true);
+    const l0 = multinomialLogit(d0.X, m, d0.p, ym, 3).logLik;
+    const l1 = multinomialLogit(d1.X, m, d1.p, ym, 3).logLik;
+    const r = ok(regressionLr.run({ x: "x", y: "ym", given: ["c", "z"] }, ctx(t)));
+    expect(r.details).toMatchObject({ model: "multinomial", response: "ym", fitted_rows: m });
+    expect(Math.abs((r.details!.loglik_null as number) - l0)).toBeLessThanOrEqual(1e-12 * Math.abs(l0));
+    expect(Math.abs((r.details!.loglik_full as number) - l1)).toBeLessThanOrEqual(1e-12 * Math.abs(l1));
+    expect(r.df).toBe(4);
+    expect(r.p).toBeLessThan(1e-3); // ym depends on x = 2 given c and z (the other side)
+  });
+});
