@@ -181,19 +181,46 @@ export function designCrossProduct(D: FactorDesign, v?: ArrayLike<number>): Floa
   const { rows: m, dense: X, denseColumns: d, cellOf } = D;
   const sums = createCellSums(D, 1);
   const { T, S, DD } = sums;
-  for (let i = 0, off = 0; i < m; i++, off += d) {
-    const vi = v ? v[i]! : 1;
-    if (vi === 0) continue;
-    const c = cellOf[i]!;
-    T[c] = T[c]! + vi;
-    for (let a = 0, sa = c * d; a < d; a++) {
-      const va = vi * X[off + a]!;
-      S[sa + a] = S[sa + a]! + va;
-      for (let a2 = a, at = a * d + a; a2 < d; a2++, at++) DD[at] = DD[at]! + va * X[off + a2]!;
+  const kernel = d <= 12 ? crossProductKernel(d, v !== undefined) : undefined;
+  if (kernel) kernel(m, X, cellOf, v, T, S, DD);
+  else {
+    for (let i = 0, off = 0; i < m; i++, off += d) {
+      const vi = v ? v[i]! : 1;
+      if (vi === 0) continue;
+      const c = cellOf[i]!;
+      T[c] = T[c]! + vi;
+      for (let a = 0, sa = c * d; a < d; a++) {
+        const va = vi * X[off + a]!;
+        S[sa + a] = S[sa + a]! + va;
+        for (let a2 = a, at = a * d + a; a2 < d; a2++, at++) DD[at] = DD[at]! + va * X[off + a2]!;
+      }
     }
   }
   const p = D.factorColumns + d;
   return assembleCrossProduct(D, sums, 0, 1, new Float64Array(p * p));
+}
+
+type CrossProductKernel = (m: number, X: Float64Array, cellOf: Int32Array, v: ArrayLike<number> | undefined, T: Float64Array, S: Float64Array, DD: Float64Array) => void;
+const crossProductKernels = new Map<string, CrossProductKernel>();
+
+/** The cell sums of `designCrossProduct` with the loops over d dense columns unrolled and the dense sums in local variables (same arithmetic). */
+function crossProductKernel(d: number, weighted: boolean): CrossProductKernel {
+  const key = `${d},${weighted}`;
+  let k = crossProductKernels.get(key);
+  if (k) return k;
+  const A = Array.from({ length: d }, (_, a) => a);
+  const L: string[] = [];
+  for (const a of A) for (let a2 = a; a2 < d; a2++) L.push(`let h${a}_${a2} = 0;`);
+  L.push(`for (let i = 0, off = 0; i < m; i++, off += ${d}) {`);
+  L.push(weighted ? "const vi = v[i]; if (vi === 0) continue;" : "const vi = 1;");
+  L.push("const c = cellOf[i];", "T[c] += vi;");
+  for (const a of A) L.push(`const x${a} = X[off + ${a}];`, `const v${a} = vi * x${a};`, `S[c * ${d} + ${a}] += v${a};`);
+  for (const a of A) for (let a2 = a; a2 < d; a2++) L.push(`h${a}_${a2} += v${a} * x${a2};`);
+  L.push("}");
+  for (const a of A) for (let a2 = a; a2 < d; a2++) L.push(`DD[${a * d + a2}] = h${a}_${a2};`);
+  k = new Function("m", "X", "cellOf", "v", "T", "S", "DD", L.join("\n")) as CrossProductKernel;
+  crossProductKernels.set(key, k);
+  return k;
 }
 
 /**
@@ -450,13 +477,22 @@ function logisticPass(D: FactorDesign, y: ArrayLike<number>, w: ArrayLike<number
 function checkOutcome(m: number, y: ArrayLike<number>, w: ArrayLike<number> | undefined, K: number, logistic: boolean): number {
   if (y.length !== m) throw new RangeError(`outcome has ${y.length} entries, expected ${m}`);
   if (w && w.length !== m) throw new RangeError(`weights have ${w.length} entries, expected ${m}`);
+  const bad = (i: number, yi: number) =>
+    new RangeError(logistic ? `outcome at row ${i} is ${yi}; logistic regression needs 0 or 1` : `outcome at row ${i} is ${yi}; it must be a category index in 0..${K - 1}`);
+  if (y instanceof Int32Array) {
+    // integers already: one unsigned comparison per row (negative codes wrap above the bound)
+    const bound = logistic ? 2 : K;
+    for (let i = 0; i < m; i++) if (y[i]! >>> 0 >= bound) throw bad(i, y[i]!);
+  } else {
+    for (let i = 0; i < m; i++) {
+      const yi = y[i]!;
+      if (logistic ? yi !== 0 && yi !== 1 : !(Number.isInteger(yi) && yi >= 0 && yi < K)) throw bad(i, yi);
+    }
+  }
+  if (!w) return m;
   let rows = 0;
   for (let i = 0; i < m; i++) {
-    const yi = y[i]!;
-    if (logistic) {
-      if (yi !== 0 && yi !== 1) throw new RangeError(`outcome at row ${i} is ${yi}; logistic regression needs 0 or 1`);
-    } else if (!(Number.isInteger(yi) && yi >= 0 && yi < K)) throw new RangeError(`outcome at row ${i} is ${yi}; it must be a category index in 0..${K - 1}`);
-    const wi = w ? w[i]! : 1;
+    const wi = w[i]!;
     if (!(wi >= 0)) throw new RangeError(`weight at row ${i} is ${wi}; weights must be non-negative`);
     if (wi > 0) rows++;
   }

@@ -62,13 +62,18 @@ function isCategorical(c: Column): boolean {
   return CATEGORICAL_TYPES.has(c.type) && c.codes !== undefined && c.levels !== undefined;
 }
 
-/** Observed levels (codes with at least one complete row, weighted) in code order. */
-function observedLevels(codes: ArrayLike<number>, nLevels: number, weights: ArrayLike<number> | undefined, m: number): number[] {
+/** Observed levels (codes with at least one complete row, weighted) in code order. Cost: O(m). */
+function observedLevels(codes: Int32Array, nLevels: number, weights: Float64Array | undefined, m: number): number[] {
   const seen = new Float64Array(nLevels);
-  for (let i = 0; i < m; i++) seen[codes[i]!] = seen[codes[i]!]! + (weights ? weights[i]! : 1);
+  if (weights) for (let i = 0; i < m; i++) seen[codes[i]!] = seen[codes[i]!]! + weights[i]!;
+  else countCodes(codes, seen, m);
   const out: number[] = [];
   for (let l = 0; l < nLevels; l++) if (seen[l]! > 0) out.push(l);
   return out;
+}
+
+function countCodes(codes: Int32Array, seen: Float64Array, m: number): void {
+  for (let i = 0; i < m; i++) seen[codes[i]!]++;
 }
 
 /**
@@ -179,19 +184,23 @@ function gatherCodes(codes: Int32Array, idx: Int32Array): Int32Array {
   return out;
 }
 
-/** raw[t·stride + a] = values[idx[t]]. */
-function gatherStrided(raw: Float64Array, values: Float64Array, idx: Int32Array, a: number, stride: number): void {
+/** raw[t·stride + a] = values[idx[t]]; returns their running mean. */
+function gatherStrided(raw: Float64Array, values: Float64Array, idx: Int32Array, a: number, stride: number): number {
   const n = idx.length;
-  for (let t = 0, at = a; t < n; t++, at += stride) raw[at] = values[idx[t]!]!;
+  let mean = 0;
+  for (let t = 0, at = a; t < n; t++, at += stride) {
+    const v = values[idx[t]!]!;
+    raw[at] = v;
+    mean += (v - mean) / (t + 1);
+  }
+  return mean;
 }
 
 /**
- * Centre and scale column a of a row-major buffer (running mean, then the Bessel-corrected sum of
- * squares); false, leaving it as it is, when it is constant. Cost: O(m).
+ * Centre and scale column a of a row-major buffer, given its (running) mean, by the
+ * Bessel-corrected sum of squares; false, leaving it as it is, when it is constant. Cost: O(m).
  */
-function standardizeStrided(raw: Float64Array, a: number, stride: number, m: number): boolean {
-  let mean = 0;
-  for (let i = 0, at = a; i < m; i++, at += stride) mean += (raw[at]! - mean) / (i + 1);
+function standardizeStrided(raw: Float64Array, a: number, stride: number, m: number, mean: number): boolean {
   let ss = 0;
   for (let i = 0, at = a; i < m; i++, at += stride) ss += (raw[at]! - mean) ** 2;
   const sd = Math.sqrt(ss / Math.max(1, m - 1));
@@ -317,6 +326,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   const contIndex = cols.map(() => -1);
   let dAll = 0;
   let raw = new Float64Array(0);
+  let means = new Float64Array(0);
   if (allCategorical) {
     const g = groupRows(cols, rows, ctx.rowFilter);
     m = g.groups;
@@ -331,25 +341,32 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
       if (!isCat[k]) contIndex[k] = dAll++;
     });
     raw = new Float64Array(n * dAll);
+    means = new Float64Array(dAll);
     cols.forEach((c, k) => {
       if (isCat[k]) codes.push(gatherCodes(c.codes!, idx));
       else {
         codes.push(undefined);
-        gatherStrided(raw, c.values, idx, contIndex[k]!, dAll);
+        means[contIndex[k]!] = gatherStrided(raw, c.values, idx, contIndex[k]!, dAll);
       }
     });
   }
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
 
+  const levelMemo = new Map<number, number[]>();
+  const levelsOf = (k: number): number[] => {
+    let l = levelMemo.get(k);
+    if (!l) levelMemo.set(k, (l = observedLevels(codes[k]!, cols[k]!.levels!.length, weights, m)));
+    return l;
+  };
   let [respK, addedK] = [1, 0];
   {
-    const ly = observedLevels(codes[1]!, yCol.levels!.length, weights, m).length;
-    const lx = observedLevels(codes[0]!, xCol.levels!.length, weights, m).length;
+    const ly = levelsOf(1).length;
+    const lx = levelsOf(0).length;
     if (ly !== 2 && (lx === 2 || lx < ly)) [respK, addedK] = [0, 1];
   }
   const resp = cols[respK]!;
   const added = cols[addedK]!;
-  const respLevels = observedLevels(codes[respK]!, resp.levels!.length, weights, m);
+  const respLevels = levelsOf(respK);
   if (respLevels.length < 2) {
     return { ok: false, reason: `"${resp.name}" has a single observed level among the ${n} complete rows; the claim cannot be tested` };
   }
@@ -365,12 +382,12 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     if (isCat[k]) {
       const f = factorK.length;
       factorK.push(k);
-      const obs = observedLevels(codes[k]!, c.levels!.length, weights, m);
+      const obs = levelsOf(k);
       for (const l of obs.slice(1)) columns.push({ label: `${c.name}=${c.levels![l]}`, factor: f, level: l });
       return obs.length - 1;
     }
     const a = contIndex[k]!;
-    if (!standardizeStrided(raw, a, dAll, m)) return 0;
+    if (!standardizeStrided(raw, a, dAll, m, means[a]!)) return 0;
     columns.push({ label: c.name, dense: a });
     return 1;
   };
