@@ -15,7 +15,7 @@
  */
 import { cholesky } from "./linalg.js";
 import {
-  assembleCrossProduct, checkDesign, checkOutcomeAndWeights, createCellSums, designFromRowMajor, newtonLoop, rowKernel,
+  assembleCrossProduct, checkDesign, expByTable, checkOutcomeAndWeights, createCellSums, designFromRowMajor, newtonLoop, rowKernel,
   type CellSums, type RowKernel, type FactorDesign, type FitStatus, type NewtonOptions, type Separation,
 } from "./logisticRegression.js";
 
@@ -111,10 +111,10 @@ function multinomialPass(
       if (e > mx) mx = e;
     }
     if (mx < 700) mx = 0; // no overflow: skip the shift and the baseline's exponential
-    const base = mx === 0 ? 1 : Math.exp(-mx);
+    const base = mx === 0 ? 1 : expByTable(-mx);
     let se = base;
     for (let k = 0; k < q; k++) {
-      const e = Math.exp(eta[k]! - mx);
+      const e = expByTable(eta[k]! - mx);
       ex[k] = e;
       se += e;
     }

@@ -196,3 +196,27 @@ describe("logisticRegressionDesign", () => {
     expect(() => logisticRegressionDesign({ ...D, dense: new Float64Array(3) }, [0, 1, 0, 1])).toThrow(/dense part has 3/);
   });
 });
+
+import { expByTable } from "../../src/stats/logisticRegression.js";
+import { createRng } from "../../src/stats/rng.js";
+
+describe("expByTable", () => {
+  it("expByTable(x) is within 2 ulp of Math.exp(x) over (−745, 709) (Math.exp itself is within 1 ulp of e^x), with the edge cases", () => {
+    const rng = createRng(3, "exp");
+    for (let i = 0; i < 200_000; i++) {
+      const x = i % 2 ? -745 + 1454 * rng.nextFloat() : -30 + 60 * rng.nextFloat();
+      const ref = Math.exp(x);
+      const ulp = 2 ** (Math.floor(Math.log2(ref)) - 52);
+      if (ref >= 2 ** -1022) expect(Math.abs(expByTable(x) - ref)).toBeLessThanOrEqual(2 * ulp);
+      else expect(expByTable(x)).toBe(ref); // subnormal results: Math.exp is used
+    }
+    expect(expByTable(0)).toBe(1);
+    expect(expByTable(1)).toBe(Math.E); // e, correctly rounded (common practice)
+    expect(expByTable(Math.LN2 * 10)).toBeCloseTo(1024, 12);
+    expect(expByTable(-Infinity)).toBe(0);
+    expect(expByTable(Infinity)).toBe(Infinity);
+    expect(expByTable(800)).toBe(Infinity);
+    expect(Number.isNaN(expByTable(NaN))).toBe(true);
+    expect(expByTable(-1e-300)).toBe(1);
+  });
+});
