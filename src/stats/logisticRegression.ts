@@ -333,9 +333,33 @@ export function rowKernel(q: number, d: number, weighted: boolean): RowKernel | 
   let k = kernels.get(key);
   if (!k) {
     k = generateKernel(q, d, weighted);
+    warmUp(k, q, d, weighted);
     kernels.set(key, k);
   }
   return k;
+}
+
+/**
+ * Run a new kernel once on a small synthetic input that takes every branch (exponentials out of
+ * the table's range, the overflow shift, separated rows, product flushes, zero weights, with and
+ * without the information), so that V8 optimises it with complete type feedback instead of
+ * de-optimising in the middle of a pass over a million rows. Cost: O(4000·d²·q²), once per kernel.
+ */
+function warmUp(k: RowKernel, q: number, d: number, weighted: boolean): void {
+  const m = 4000;
+  const C = 8;
+  const nb = (q * (q + 1)) / 2;
+  const levels = [-800, 0, 0, 40, 750, 0, 400, -40];
+  const cellEta = new Float64Array(C * q);
+  for (let c = 0; c < C; c++) for (let j = 0; j < q; j++) cellEta[c * q + j] = levels[c]! * (j % 2 ? -1 : 1);
+  const cellOf = Int32Array.from({ length: m }, (_, i) => i % C);
+  const y = Int32Array.from({ length: m }, (_, i) => (i >> 3) % (q + 1));
+  const w = weighted ? Float64Array.from({ length: m }, (_, i) => (i % 7 === 0 ? 0 : 1)) : undefined;
+  const T = new Float64Array(C * nb);
+  const S = new Float64Array(C * nb * d);
+  for (const withInfo of [true, false, true, false]) {
+    k(m, new Float64Array(m * d), cellOf, y, w, new Float64Array(q * d), cellEta, new Float64Array(C * q), new Float64Array(q * d), withInfo, T, S, new Float64Array(nb * d * d), new Float64Array(1), 0);
+  }
 }
 
 function generateKernel(q: number, d: number, weighted: boolean): RowKernel {
