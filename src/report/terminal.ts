@@ -36,6 +36,7 @@ export function middleEllipsis(s: string, max: number, ascii = false): string {
 }
 
 const len = (s: string): number => [...s].length;
+const count = (n: number, noun: string): string => `${formatCount(n)} ${noun}${n === 1 ? "" : "s"}`;
 const pad = (s: string, w: number): string => s + " ".repeat(Math.max(0, w - len(s)));
 const padLeft = (s: string, w: number): string => " ".repeat(Math.max(0, w - len(s))) + s;
 
@@ -91,7 +92,7 @@ export function renderClaimsText(r: ClaimsListing, opts: TextOptions = {}): stri
   const missing = pairsWithoutEdge(r);
   const lines: string[] = [];
   lines.push(
-    `${r.graph.nodes.length} nodes (${m} measured), ${r.graph.arrows.length} arrows, ${missing} missing arrows among measured nodes: ${r.claims.length} claims, ${r.untestable.length} untestable`,
+    `${count(r.graph.nodes.length, "node")} (${m} measured), ${count(r.graph.arrows.length, "arrow")}, ${count(missing, "missing arrow")} among measured nodes: ${count(r.claims.length, "claim")}, ${r.untestable.length} untestable`,
   );
   if (r.claims.length) lines.push("");
   const w = String(r.claims.length).length;
