@@ -34,15 +34,13 @@ export const DEFAULT_SETTINGS: AuditSettings = {
   seed: 1,
 };
 
+/** With --sets all-minimal, the most separating sets tested per pair. */
+export const MAX_SETS_PER_PAIR = 100;
+
 export interface AuditOptions {
   settings?: Partial<AuditSettings>;
   /** Tool version written into the result. */
   version?: string;
-  /**
-   * Moments built by the caller (e.g. over several threads) with `buildPatternMoments(table,
-   * { variables: measured nodes in graph order, rowFilter: listwiseFilter(...) when listwise })`.
-   */
-  moments?: PatternMoments;
   /** Called after each claim is tested (done, total), e.g. for a progress bar. */
   onProgress?: (done: number, total: number) => void;
 }
@@ -69,11 +67,11 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
     );
   }
   const warnings: string[] = [...table.warnings];
-  const { claims, untestable: graphUntestable, truncatedPairs } = deriveClaims(graph, { sets: settings.sets });
-  if (truncatedPairs > 0) warnings.push(`${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than 100 minimal separating sets; only 100 of each were tested`);
+  const { claims, untestable: graphUntestable, truncatedPairs } = deriveClaims(graph, { sets: settings.sets, cap: MAX_SETS_PER_PAIR });
+  if (truncatedPairs > 0) warnings.push(`${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than ${MAX_SETS_PER_PAIR} minimal separating sets; only ${MAX_SETS_PER_PAIR} of each were tested`);
 
   const rowFilter = settings.listwise ? listwiseFilter(table, measured) : undefined;
-  const moments = options.moments ?? buildPatternMoments(table, { variables: measured, rowFilter });
+  const moments = buildPatternMoments(table, { variables: measured, rowFilter });
   let ranks: PatternMoments | undefined;
   const ctx: TestContext = {
     table,
@@ -129,7 +127,7 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
   const contradicted = result.filter((c) => c.verdict === "contradicted").length;
   if (untestable.length > 0) warnings.push(`${untestable.length} missing arrow${untestable.length > 1 ? "s were" : " was"} not tested (see untestable): untested is not the same as consistent`);
 
-  const rowsUsed = usedRows(moments, [...result, ...untestable.filter((u) => u.given)].map((c) => [c.x, c.y, ...(c.given ?? [])]));
+  const rowsUsed = usedRows(moments, result.map((c) => [c.x, c.y, ...c.given]));
   return {
     tool: { name: "arrowaudit", version: options.version ?? "0.0.0" },
     data: { file: table.file, rows: table.rows, rows_used: rowsUsed, patterns: moments.patterns },
