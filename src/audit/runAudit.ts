@@ -123,6 +123,10 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
   const fc = result.length ? fisherC(result.map((c) => c.log_p)) : { statistic: 0, df: 0, p: 1 };
   if (result.length === 0) notes.push("no claim could be tested, so the global test has nothing to combine");
   if (settings.sets !== "union-parents") notes.push(`Fisher's C assumes mutually independent tests, which Shipley's basis set (--sets union-parents) provides; with --sets ${settings.sets} the claims overlap, so read the global p-value as descriptive only`);
+  if (settings.sets === "union-parents") {
+    const fallback = result.filter((c) => !sameSet(c.given, [...graph.parents(c.x), ...graph.parents(c.y)].filter((v) => v !== c.x && v !== c.y))).length;
+    if (fallback > 0) notes.push(`${fallback} claim${fallback > 1 ? "s use" : " uses"} a smallest measured separating set instead of the parents' union (a parent is unmeasured or shares an unmeasured cause), so the independence of the combined tests is approximate`);
+  }
   if (result.some((c) => c.p_method === "permutation")) notes.push("some p-values are Monte-Carlo permutation estimates (bounded below by 1/(B+1)), which makes Fisher's C conservative");
   const contradicted = result.filter((c) => c.verdict === "contradicted").length;
   if (untestable.length > 0) warnings.push(`${untestable.length} missing arrow${untestable.length > 1 ? "s were" : " was"} not tested (see untestable): untested is not the same as consistent`);
@@ -156,6 +160,13 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
     },
     warnings,
   };
+}
+
+/** Whether two lists hold the same names (ignoring order and repeats). */
+function sameSet(a: readonly string[], b: readonly string[]): boolean {
+  const sa = new Set(a);
+  const sb = new Set(b);
+  return sa.size === sb.size && [...sa].every((v) => sb.has(v));
 }
 
 /** Reasons a claim cannot be tested before any method runs (constant variables). */
