@@ -100,6 +100,24 @@ describe("arrowaudit CLI (golden)", () => {
     expect(readdirSync(work).filter((f: string) => f.endsWith(".tmp"))).toEqual([]);
   });
 
+  it("arrowaudit draw --results marks every contradicted claim on the drawing (one node per graph node, one connector per arrow)", async () => {
+    const t = await cli(["test", "demo-graph.txt", "demo-cohort.csv", ...DEMO_OPTS, "--json"]);
+    writeFileSync(join(work, "result.json"), t.stdout);
+    const result = JSON.parse(t.stdout);
+    const r = await cli(["draw", "demo-graph.txt", "--results", "result.json", "--out", "graph.svg"]);
+    expect(r.code).toBe(0);
+    const svg = readFileSync(join(work, "graph.svg"), "utf8");
+    const count = (re: RegExp) => (svg.match(re) ?? []).length;
+    expect(count(/<g class="node (measured|unmeasured)"/g)).toBe(result.graph.nodes.length);
+    expect(count(/class="arrow"/g)).toBe(result.graph.arrows.length);
+    expect(count(/<g class="contradiction" /g)).toBe(result.claims.filter((c: { verdict: string }) => c.verdict === "contradicted").length);
+    expect(svg).not.toMatch(/https?:\/\/(?!www\.w3\.org)/);
+    // a result from another graph is refused with a message naming the node
+    const bad = await cli(["draw", "chain.txt", "--results", "result.json"]);
+    expect(bad.code).toBe(2);
+    expect(bad.stderr).toMatch(/not in chain\.txt/);
+  });
+
   it("arrowaudit report --out x.pdf is a usage error (exit 1)", async () => {
     const r = await cli(["report", "chain.txt", "stray.csv", "--out", "x.pdf"]);
     expect(r.code).toBe(1);
