@@ -81,7 +81,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
   ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
     if (opts.json && opts.csv) throw new UsageError("choose one of --json and --csv");
-    state.code = await runTest(io, graph, data, opts, argv);
+    state.code = await runTest(io, graph, data, opts);
   });
 
   auditOptions(

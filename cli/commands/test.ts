@@ -3,12 +3,11 @@ import type { AuditResult, AuditSettings } from "../../src/audit/types.js";
 import { renderTestText } from "../../src/report/terminal.js";
 import { readHeader } from "../../src/data/readHeader.js";
 import { checkColumns } from "../../src/graph/checkColumns.js";
-import { readHead } from "../io.js";
 import { renderCsv } from "../../src/report/csv.js";
 import { EXIT } from "../exitCodes.js";
-import { type Io, toolVersion } from "../io.js";
+import { type Io, readHead, toolVersion } from "../io.js";
 import { loadGraph } from "../loadGraph.js";
-import { loadTable } from "../loadTable.js";
+import { loadTable, readOptionsFrom } from "../loadTable.js";
 import { progressBar } from "../progress.js";
 
 /** Audit settings from parsed command-line options. */
@@ -30,8 +29,8 @@ export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettin
 export async function audit(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<AuditResult> {
   const graph = loadGraph(io, graphPath, opts);
   const measured = graph.nodes.filter((n) => graph.isMeasured(n));
-  const d = opts.delimiter as string | undefined;
-  const header = readHeader(readHead(dataPath, io.cwd), { file: dataPath, ...(d ? { delimiter: d === "tab" || d === "\\t" ? "\t" : d } : {}) });
+  const { delimiter } = readOptionsFrom(opts, dataPath);
+  const header = readHeader(readHead(dataPath, io.cwd), { file: dataPath, ...(delimiter ? { delimiter } : {}) });
   checkColumns(graph, header, { file: dataPath });
   const table = await loadTable(io, dataPath, opts, measured);
   const bar = progressBar(io, !!opts.quiet);
@@ -43,7 +42,7 @@ export async function audit(io: Io, graphPath: string, dataPath: string, opts: R
 }
 
 /** `arrowaudit test <graph> <data>`. */
-export async function runTest(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>, _argv: string[]): Promise<number> {
+export async function runTest(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<number> {
   const result = await audit(io, graphPath, dataPath, opts);
   if (opts.json) io.stdout(JSON.stringify(result, null, 2) + "\n");
   else if (opts.csv) io.stdout(renderCsv(result));
