@@ -9,7 +9,11 @@
  * Xᵀ diag(w μ (1 − μ)) X (McCullagh & Nelder 1989, Generalized Linear Models, 2nd ed., §4.4).
  * A Newton step δ solves I δ = gradient (Cholesky); it is halved until ℓ does not decrease.
  * *Convergence*: the change of ℓ is below 1e-10·(|ℓ| + 0.1) and every coefficient moved by less
- * than 1e-7·max(1, |β_j|). *Separation* (Albert & Anderson 1984, Biometrika 71:1–10): the
+ * than 1e-7·max(1, |β_j|); or, without a further pass, the next step δ (from the information
+ * computed on the rows at this or a nearby iterate) would move every coefficient by less than
+ * 1e-7·max(1, |β_j|) and its predicted gain gᵀδ is below 1e-12·(|ℓ| + 0.1): for concave ℓ the
+ * gap to the maximum is ½ gᵀH⁻¹g ≈ ½ gᵀδ, so ℓ at the current iterate (already computed) is
+ * within far less than 1e-10 relative of the maximum. *Separation* (Albert & Anderson 1984, Biometrika 71:1–10): the
  * maximum likelihood estimate does not exist because a combination of predictors classifies
  * some rows perfectly; the coefficients then grow without bound while ℓ approaches its supremum.
  * A *separated row* is one whose observed outcome is fitted with probability above 1 − 1e-9;
@@ -266,6 +270,13 @@ export function weightedCrossProduct(
  * rate proportional to the distance moved since it was computed.
  */
 export const CHORD_MOVE = 1e-3;
+
+/**
+ * Newton's loop stops without a further pass when the predicted gain gᵀδ of the next step is
+ * below this (relative to |ℓ| + 0.1) and the step is below the coefficient tolerance: the gap
+ * to the maximum, ≈ ½ gᵀδ, is then a hundredth of the ℓ tolerance 1e-10 or less.
+ */
+export const CONVERGED_GAIN = 1e-12;
 
 /** Products of the factors 1 + t (each in (1, 2]) are turned into one logarithm when they pass this. */
 const PRODUCT_FLUSH = 1e280;
@@ -590,9 +601,25 @@ export function newtonLoop(
   if (!L) return { beta, ll, iterations: 1, status: "singular" };
   let status: FitStatus = "not-converged";
   let it = 0;
+  let ownInfo = fresh; // L was computed on the rows (at this or an earlier, nearby iterate)
   while (it < maxIter) {
     it++;
     const delta = choleskySolve(L, P, g);
+    if (ownInfo) {
+      // Converged without a further pass: the step is within the tolerance on the coefficients
+      // and its predicted gain gᵀδ (twice the quadratic model's ½ gᵀI⁻¹g) is negligible.
+      let move = 0;
+      let gain = 0;
+      for (let j = 0; j < P; j++) {
+        move = Math.max(move, Math.abs(delta[j]!) / Math.max(1, Math.abs(beta[j]! + delta[j]!)));
+        gain += g[j]! * delta[j]!;
+      }
+      if (move <= 1e-7 && gain >= 0 && gain <= CONVERGED_GAIN * (Math.abs(ll) + 0.1)) {
+        it--;
+        status = "converged";
+        break;
+      }
+    }
     let step = 1;
     let llNew = -Infinity;
     let withInfo = false;
@@ -619,6 +646,7 @@ export function newtonLoop(
           break;
         }
         fresh = true;
+        ownInfo = true;
         continue;
       }
       // No step improves ℓ to working precision: at the optimum when the Newton step is tiny.
@@ -644,6 +672,7 @@ export function newtonLoop(
       }
       L = Lnew;
       fresh = true;
+      ownInfo = true;
     } else fresh = false;
   }
   return { beta, ll, iterations: it, status };

@@ -220,3 +220,39 @@ describe("expByTable", () => {
     expect(expByTable(-1e-300)).toBe(1);
   });
 });
+
+describe("convergence without a further pass", () => {
+  // Starts at the statsmodels optimum perturbed by a relative ε (deterministic signs), with and
+  // without an approximate information matrix; every fit must reach the cold-start log-likelihood
+  // and the statsmodels one within 1e-10 relative, however the loop decided to stop.
+  const { X, p } = design(true);
+  const cold = logisticRegression(X, m, p, yb);
+  const params = ref.logit.params as number[]; // statsmodels Logit.fit(tol=1e-12)
+  const llf = ref.logit.llf as number; // statsmodels Logit llf
+
+  it("warm starts at every distance from the optimum give the cold-start ℓ within 1e-10 relative (and statsmodels' llf)", () => {
+    expect(cold.status).toBe("converged");
+    expect(Math.abs(cold.logLik - llf)).toBeLessThanOrEqual(1e-10 * Math.abs(llf));
+    for (const eps of [0.3, 1e-2, 1e-4, 1e-6, 1e-8, 1e-10, 0]) {
+      const start = params.map((b, j) => b * (1 + eps * (j % 2 ? 1 : -1)) + eps * 0.1);
+      for (const information of [undefined, cold.information]) {
+        const f = logisticRegression(X, m, p, yb, { start, information });
+        expect(f.status).toBe("converged");
+        expect(Math.abs(f.logLik - cold.logLik)).toBeLessThanOrEqual(1e-10 * Math.abs(cold.logLik));
+        expect(Math.abs(f.logLik - llf)).toBeLessThanOrEqual(1e-10 * Math.abs(llf));
+        expectRelative(f.coef, params, 1e-6);
+        expect(f.logLik).toBeLessThanOrEqual(llf + 1e-9 * Math.abs(llf)); // never above the maximum
+      }
+    }
+  });
+
+  it("a start at a converged fit stops after its first pass (0 steps) with the same ℓ; a far start still takes its steps", () => {
+    const again = logisticRegression(X, m, p, yb, { start: cold.coef });
+    expect(again.status).toBe("converged");
+    expect(again.iterations).toBe(0);
+    expect(Math.abs(again.logLik - cold.logLik)).toBeLessThanOrEqual(1e-10 * Math.abs(cold.logLik));
+    expect([...again.coef]).toEqual([...cold.coef]);
+    const far = logisticRegression(X, m, p, yb, { start: params.map((b) => b + 0.5) });
+    expect(far.iterations).toBeGreaterThanOrEqual(3);
+  });
+});

@@ -107,3 +107,27 @@ describe("multinomialLogitDesign", () => {
     }
   });
 });
+
+describe("multinomialLogit: convergence without a further pass", () => {
+  it("warm starts at every distance from the optimum give the cold-start ℓ within 1e-10 relative (and statsmodels' llf)", () => {
+    const { X, p } = design(true);
+    const cold = multinomialLogit(X, m, p, ym, 3);
+    const llf = ref.mnlogit.llf as number; // statsmodels MNLogit llf
+    const params = (ref.mnlogit.params as number[][]).flat(); // statsmodels MNLogit params, category by category
+    expect(cold.status).toBe("converged");
+    expect(Math.abs(cold.logLik - llf)).toBeLessThanOrEqual(1e-10 * Math.abs(llf));
+    for (const eps of [0.3, 1e-2, 1e-4, 1e-6, 1e-8, 0]) {
+      const start = params.map((b, j) => b * (1 + eps * (j % 3 ? 1 : -1)) - eps * 0.1);
+      for (const information of [undefined, cold.information]) {
+        const f = multinomialLogit(X, m, p, ym, 3, { start, information });
+        expect(f.status).toBe("converged");
+        expect(Math.abs(f.logLik - cold.logLik)).toBeLessThanOrEqual(1e-10 * Math.abs(cold.logLik));
+        expect(Math.abs(f.logLik - llf)).toBeLessThanOrEqual(1e-10 * Math.abs(llf));
+        params.forEach((e, j) => expect(Math.abs(f.coef[j]! - e)).toBeLessThanOrEqual(1e-6 * Math.max(Math.abs(e), 1e-3)));
+      }
+    }
+    const again = multinomialLogit(X, m, p, ym, 3, { start: cold.coef });
+    expect(again.iterations).toBe(0);
+    expect(Math.abs(again.logLik - cold.logLik)).toBeLessThanOrEqual(1e-10 * Math.abs(cold.logLik));
+  });
+});

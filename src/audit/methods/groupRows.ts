@@ -6,7 +6,10 @@
  * among the complete cases; its *count* is the number of complete cases with that combination.
  * Groups are built one variable at a time: the running group id of a row times the next
  * variable's number of levels plus its code is renumbered densely, so keys never exceed
- * (number of groups so far) × (levels), whatever the number of variables.
+ * (number of groups so far) × (levels), whatever the number of variables. When the product of
+ * the numbers of levels is at most 2^22 (the usual case) the codes are instead encoded in one
+ * pass per variable into a single mixed-radix key per row, renumbered in one pass through a
+ * reused lookup array; both ways number the groups in order of first appearance.
  */
 import type { Column } from "../../data/Table.js";
 
@@ -56,6 +59,61 @@ function renumber(keys: Int32Array | Float64Array, rows: number, range: number, 
   return next;
 }
 
+/** Widest mixed-radix key range served by the reused lookup array. */
+const DIRECT_LIMIT = 1 << 22;
+/** Reused lookup from key to group (−1 when unused; entries reset after each use). */
+let directMap = new Int32Array(0);
+/** Reused per-row keys. */
+let keyScratch = new Int32Array(0);
+
+/**
+ * One-key grouping: key = Σ code·radix per row (−1 for rows that are not complete cases), then
+ * dense renumbering in row order. Returns the group of each row and, per group, its key.
+ */
+function groupByDirectKey(columns: readonly Column[], rows: number, rowFilter: Uint8Array | undefined, range: number): { rowGroup: Int32Array; groupKey: Int32Array; groups: number; n: number } {
+  if (keyScratch.length < rows) keyScratch = new Int32Array(rows);
+  const key = keyScratch;
+  if (rowFilter) for (let r = 0; r < rows; r++) key[r] = rowFilter[r] ? 0 : -1;
+  else key.fill(0, 0, rows);
+  let radix = 1;
+  for (const c of columns) {
+    addCodes(key, c.codes!, rows, radix);
+    radix *= Math.max(1, c.levels!.length);
+  }
+  if (directMap.length < range) directMap = new Int32Array(Math.max(range, 1024)).fill(-1);
+  const map = directMap;
+  const rowGroup = new Int32Array(rows);
+  const firstKey: number[] = [];
+  let n = 0;
+  for (let r = 0; r < rows; r++) {
+    const k = key[r]!;
+    if (k < 0) {
+      rowGroup[r] = -1;
+      continue;
+    }
+    n++;
+    let id = map[k]!;
+    if (id < 0) {
+      id = firstKey.length;
+      map[k] = id;
+      firstKey.push(k);
+    }
+    rowGroup[r] = id;
+  }
+  const groupKey = Int32Array.from(firstKey);
+  for (let g = 0; g < groupKey.length; g++) map[groupKey[g]!] = -1;
+  return { rowGroup, groupKey, groups: groupKey.length, n };
+}
+
+/** key[r] += radix·codes[r] where both are non-negative; key[r] = −1 where the code is missing. */
+function addCodes(key: Int32Array, codes: Int32Array, rows: number, radix: number): void {
+  for (let r = 0; r < rows; r++) {
+    const c = codes[r]!;
+    const k = key[r]!;
+    key[r] = c < 0 || k < 0 ? -1 : k + c * radix;
+  }
+}
+
 /**
  * Group the complete cases of categorical columns into distinct code combinations with counts.
  * Cost: O(rows · k) time for k columns, O(rows) memory.
@@ -67,6 +125,27 @@ function renumber(keys: Int32Array | Float64Array, rows: number, range: number, 
 export function groupRows(columns: readonly Column[], rows: number, rowFilter?: Uint8Array): GroupedRows {
   for (const c of columns) {
     if (!c.codes || !c.levels) throw new TypeError(`column "${c.name}" is ${c.type}, not categorical; group only binary, ordinal or nominal columns`);
+  }
+  let range = 1;
+  for (const c of columns) range *= Math.max(1, c.levels!.length);
+  if (range <= DIRECT_LIMIT) {
+    const direct = groupByDirectKey(columns, rows, rowFilter, range);
+    const groups = direct.n === 0 ? 0 : direct.groups;
+    const counts = new Float64Array(groups);
+    const rg = direct.rowGroup;
+    for (let r = 0; r < rows; r++) {
+      const g = rg[r]!;
+      if (g >= 0) counts[g]++;
+    }
+    const codesOut = columns.map(() => new Int32Array(groups));
+    let radix = 1;
+    columns.forEach((c, v) => {
+      const L = Math.max(1, c.levels!.length);
+      const out = codesOut[v]!;
+      for (let g = 0; g < groups; g++) out[g] = Math.floor(direct.groupKey[g]! / radix) % L;
+      radix *= L;
+    });
+    return { n: direct.n, groups, counts, codes: codesOut, levels: columns.map((c) => c.levels!.length), rowGroup: rg };
   }
   const rowGroup = new Int32Array(rows);
   if (rowFilter) for (let r = 0; r < rows; r++) rowGroup[r] = rowFilter[r] ? 0 : -1;

@@ -73,7 +73,7 @@ function observedLevels(codes: Int32Array, nLevels: number, weights: Float64Arra
 }
 
 /** The levels with a positive count, in code order. */
-function presentLevels(counts: Float64Array): number[] {
+function presentLevels(counts: Float64Array | Uint8Array): number[] {
   const out: number[] = [];
   for (let l = 0; l < counts.length; l++) if (counts[l]! > 0) out.push(l);
   return out;
@@ -109,112 +109,170 @@ function independentColumns(G: Float64Array, p: number, tol = 1e-9): number[] {
   return kept;
 }
 
+/** Widest mixed-radix key range served by the reused lookup array of `cellsOf`. */
+const CELL_LIMIT = 1 << 22;
+/** Reused lookup from key to dense id, −1 where unused (entries reset after each use). */
+let cellMap = new Int32Array(0);
+
+/**
+ * Renumber keys in [0, range) densely in order of first appearance, in place in `ids` (range at
+ * most CELL_LIMIT: the reused lookup array, reset through the list of keys met). Cost: O(m + ids).
+ */
+function renumberInPlace(ids: Int32Array, m: number, range: number): number {
+  if (cellMap.length < range) cellMap = new Int32Array(Math.max(range, 1024)).fill(-1);
+  const map = cellMap;
+  const firstKey: number[] = [];
+  for (let i = 0; i < m; i++) {
+    const k = ids[i]!;
+    let id = map[k]!;
+    if (id < 0) {
+      id = firstKey.length;
+      map[k] = id;
+      firstKey.push(k);
+    }
+    ids[i] = id;
+  }
+  for (const k of firstKey) map[k] = -1;
+  return firstKey.length;
+}
+
+/** Renumber wide keys densely in order of first appearance through a hash map, into `ids`. Cost: O(m). */
+function renumberWide(keys: Float64Array, m: number, ids: Int32Array): number {
+  const map = new Map<number, number>();
+  for (let i = 0; i < m; i++) {
+    const k = keys[i]!;
+    let id = map.get(k);
+    if (id === undefined) map.set(k, (id = map.size));
+    ids[i] = id;
+  }
+  return map.size;
+}
+
+/** ids[i] = ids[i]·L + codes[i]. */
+function mixIn(ids: Int32Array, codes: Int32Array, L: number, m: number): void {
+  for (let i = 0; i < m; i++) ids[i] = ids[i]! * L + codes[i]!;
+}
+
 /**
  * Cells of the rows: one id per distinct combination of the codes of the given factors, numbered
  * densely in order of first appearance. Mixed-radix keys, renumbered whenever their range would
- * pass 2^22 (a lookup array), or through a hash map when even the renumbered range is too wide.
- * Cost: O(m·f) for f factors.
+ * pass 2^22 (a reused lookup array), or through a hash map when even the renumbered range is too
+ * wide. Cost: O(m·f) for f factors.
  */
 function cellsOf(codes: readonly Int32Array[], levels: readonly number[], m: number): { cellOf: Int32Array; cells: number; firstRow: Int32Array } {
-  const LIMIT = 1 << 22;
   const ids = new Int32Array(m);
   let range = 1;
-  const renumber = (keys: Int32Array | Float64Array, r: number): number => {
-    let next = 0;
-    if (r <= LIMIT) {
-      const map = new Int32Array(r).fill(-1);
-      for (let i = 0; i < m; i++) {
-        const k = keys[i]!;
-        let id = map[k]!;
-        if (id < 0) map[k] = id = next++;
-        ids[i] = id;
-      }
-    } else {
-      const map = new Map<number, number>();
-      for (let i = 0; i < m; i++) {
-        const k = keys[i]!;
-        let id = map.get(k);
-        if (id === undefined) map.set(k, (id = next++));
-        ids[i] = id;
-      }
-    }
-    return next;
-  };
   for (let f = 0; f < codes.length; f++) {
     const L = Math.max(1, levels[f]!);
     const cf = codes[f]!;
-    if (range * L > LIMIT && range > 1) range = renumber(ids, range);
-    if (range * L > LIMIT) {
+    if (range * L > CELL_LIMIT && range > 1) range = renumberInPlace(ids, m, range);
+    if (range * L > CELL_LIMIT) {
       const keys = new Float64Array(m);
       for (let i = 0; i < m; i++) keys[i] = ids[i]! * L + cf[i]!;
-      range = renumber(keys, range * L);
+      range = renumberWide(keys, m, ids);
     } else {
-      for (let i = 0; i < m; i++) ids[i] = ids[i]! * L + cf[i]!;
+      mixIn(ids, cf, L, m);
       range *= L;
     }
   }
-  const cells = m === 0 ? 0 : renumber(ids, range);
+  const cells = m === 0 ? 0 : renumberInPlace(ids, m, range);
   const firstRow = new Int32Array(cells).fill(-1);
   for (let i = 0; i < m; i++) if (firstRow[ids[i]!]! < 0) firstRow[ids[i]!] = i;
   return { cellOf: ids, cells, firstRow };
 }
 
-/** Indices of the rows where every column is observed (code ≥ 0 or a finite value) and the filter lets the row through. Cost: O(rows·k). */
+/** Reused row mask and row index of `completeRows`. */
+let keepScratch = new Uint8Array(0);
+let idxScratch = new Int32Array(0);
+/** Per column, the rows where it is missing (found once per column and table length). */
+const missingRowsMemo = new WeakMap<Column, { rows: number; missing: Int32Array }>();
+
+/** The rows (below `rows`) where a column is missing: code < 0, or a value that is not finite. Cost: O(rows) the first time. */
+function missingRowsOf(col: Column, isCat: boolean, rows: number): Int32Array {
+  const memo = missingRowsMemo.get(col);
+  if (memo && memo.rows === rows) return memo.missing;
+  const found: number[] = [];
+  if (isCat) {
+    const codes = col.codes!;
+    for (let r = 0; r < rows; r++) if (codes[r]! < 0) found.push(r);
+  } else {
+    const values = col.values;
+    for (let r = 0; r < rows; r++) if (!Number.isFinite(values[r]!)) found.push(r);
+  }
+  const missing = Int32Array.from(found);
+  missingRowsMemo.set(col, { rows, missing });
+  return missing;
+}
+
+/**
+ * Indices of the rows where every column is observed (code ≥ 0 or a finite value) and the filter
+ * lets the row through: a view of a reused buffer, valid until the next call. Cost: O(rows·k) the
+ * first time a column is met, then O(rows + its missing rows).
+ */
 function completeRows(cols: readonly Column[], isCat: readonly boolean[], rows: number, rowFilter: Uint8Array | undefined): Int32Array {
-  const keep = new Uint8Array(rows);
+  if (keepScratch.length < rows) {
+    keepScratch = new Uint8Array(rows);
+    idxScratch = new Int32Array(rows);
+  }
+  const keep = keepScratch;
   if (rowFilter) copyFilter(keep, rowFilter, rows);
-  else keep.fill(1);
-  cols.forEach((c, k) => (isCat[k] ? maskMissingCodes(keep, c.codes!, rows) : maskMissingValues(keep, c.values, rows)));
-  let n = 0;
-  for (let r = 0; r < rows; r++) n += keep[r]!;
-  const idx = new Int32Array(n);
-  for (let r = 0, t = 0; r < rows; r++) if (keep[r]) idx[t++] = r;
-  return idx;
+  else keep.fill(1, 0, rows);
+  for (let k = 0; k < cols.length; k++) {
+    const missing = missingRowsOf(cols[k]!, isCat[k]!, rows);
+    for (let t = 0; t < missing.length; t++) keep[missing[t]!] = 0;
+  }
+  const idx = idxScratch;
+  let t = 0;
+  for (let r = 0; r < rows; r++) {
+    idx[t] = r;
+    t += keep[r]!;
+  }
+  return idx.subarray(0, t);
 }
 
 function copyFilter(keep: Uint8Array, filter: Uint8Array, rows: number): void {
   for (let r = 0; r < rows; r++) keep[r] = filter[r] !== 0 ? 1 : 0;
 }
 
-function maskMissingCodes(keep: Uint8Array, codes: Int32Array, rows: number): void {
-  for (let r = 0; r < rows; r++) if (codes[r]! < 0) keep[r] = 0;
-}
-
-function maskMissingValues(keep: Uint8Array, values: Float64Array, rows: number): void {
-  for (let r = 0; r < rows; r++) if (!Number.isFinite(values[r]!)) keep[r] = 0;
-}
-
-/** codes[idx[t]] for every t, and the count of each code among them into `counts`. */
-function gatherCodes(codes: Int32Array, idx: Int32Array, counts: Float64Array): Int32Array {
+/** codes[idx[t]] for every t; seen[c] set to 1 for each code c met. */
+function gatherCodes(codes: Int32Array, idx: Int32Array, seen: Uint8Array): Int32Array {
   const n = idx.length;
   const out = new Int32Array(n);
   for (let t = 0; t < n; t++) {
     const c = codes[idx[t]!]!;
     out[t] = c;
-    counts[c]++;
+    if (seen[c] === 0) seen[c] = 1;
   }
   return out;
 }
 
-/** raw[t·stride + a] = values[idx[t]]; returns their running mean. */
-function gatherStrided(raw: Float64Array, values: Float64Array, idx: Int32Array, a: number, stride: number): number {
+/**
+ * raw[t·stride + a] = values[idx[t]]; returns their mean and their sum of squared deviations,
+ * from sums shifted by the first value (no division per row). Cost: O(n).
+ */
+function gatherStrided(raw: Float64Array, values: Float64Array, idx: Int32Array, a: number, stride: number): [number, number] {
   const n = idx.length;
-  let mean = 0;
+  if (n === 0) return [0, 0];
+  const shift = values[idx[0]!]!;
+  let s = 0;
+  let ss = 0;
   for (let t = 0, at = a; t < n; t++, at += stride) {
     const v = values[idx[t]!]!;
     raw[at] = v;
-    mean += (v - mean) / (t + 1);
+    const e = v - shift;
+    s += e;
+    ss += e * e;
   }
-  return mean;
+  const meanShift = s / n;
+  return [shift + meanShift, Math.max(0, ss - s * meanShift)];
 }
 
 /**
- * Centre and scale column a of a row-major buffer, given its (running) mean, by the
- * Bessel-corrected sum of squares; false, leaving it as it is, when it is constant. Cost: O(m).
+ * Centre and scale column a of a row-major buffer, given its mean and sum of squared deviations,
+ * by the Bessel-corrected standard deviation; false, leaving it as it is, when it is constant.
+ * Cost: O(m).
  */
-function standardizeStrided(raw: Float64Array, a: number, stride: number, m: number, mean: number): boolean {
-  let ss = 0;
-  for (let i = 0, at = a; i < m; i++, at += stride) ss += (raw[at]! - mean) ** 2;
+function standardizeStrided(raw: Float64Array, a: number, stride: number, m: number, mean: number, ss: number): boolean {
   const sd = Math.sqrt(ss / Math.max(1, m - 1));
   if (!(sd > 0) || !Number.isFinite(sd)) return false;
   const inv = 1 / sd;
@@ -339,6 +397,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   let dAll = 0;
   let raw = new Float64Array(0);
   let means = new Float64Array(0);
+  let sumSquares = new Float64Array(0);
   const levelMemo = new Map<number, number[]>(); // observed levels of categorical columns
   if (allCategorical) {
     const g = groupRows(cols, rows, ctx.rowFilter);
@@ -355,17 +414,18 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     });
     raw = new Float64Array(n * dAll);
     means = new Float64Array(dAll);
-    cols.forEach((c, k) => {
+    sumSquares = new Float64Array(dAll);
+    for (let k = 0; k < cols.length; k++) {
+      const c = cols[k]!;
       if (isCat[k]) {
-        const counts = new Float64Array(c.levels!.length);
+        const counts = new Uint8Array(c.levels!.length);
         codes.push(gatherCodes(c.codes!, idx, counts));
         levelMemo.set(k, presentLevels(counts));
-      }
-      else {
+      } else {
         codes.push(undefined);
-        means[contIndex[k]!] = gatherStrided(raw, c.values, idx, contIndex[k]!, dAll);
+        [means[contIndex[k]!], sumSquares[contIndex[k]!]] = gatherStrided(raw, c.values, idx, contIndex[k]!, dAll);
       }
-    });
+    }
   }
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
 
@@ -403,7 +463,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
       return obs.length - 1;
     }
     const a = contIndex[k]!;
-    if (!standardizeStrided(raw, a, dAll, m, means[a]!)) return 0;
+    if (!standardizeStrided(raw, a, dAll, m, means[a]!, sumSquares[a]!)) return 0;
     columns.push({ label: c.name, dense: a });
     return 1;
   };
