@@ -157,12 +157,15 @@ function mixIn(ids: Int32Array, codes: Int32Array, L: number, m: number): void {
  * Cells of the rows: one id per distinct combination of the codes of the given factors, numbered
  * densely in order of first appearance. Mixed-radix keys, renumbered whenever their range would
  * pass 2^22 (a reused lookup array), or through a hash map when even the renumbered range is too
- * wide. Cost: O(m·f) for f factors.
+ * wide. `premixed`: the keys of the first `factors` factors, already mixed into `ids` (range
+ * at most 2^22). Cost: O(m·f) for f factors.
  */
-function cellsOf(codes: readonly Int32Array[], levels: readonly number[], m: number): { cellOf: Int32Array; cells: number; firstRow: Int32Array } {
-  const ids = new Int32Array(m);
-  let range = 1;
-  for (let f = 0; f < codes.length; f++) {
+function cellsOf(
+  codes: readonly Int32Array[], levels: readonly number[], m: number, premixed?: { ids: Int32Array; range: number; factors: number },
+): { cellOf: Int32Array; cells: number; firstRow: Int32Array } {
+  const ids = premixed ? premixed.ids : new Int32Array(m);
+  let range = premixed ? premixed.range : 1;
+  for (let f = premixed ? premixed.factors : 0; f < codes.length; f++) {
     const L = Math.max(1, levels[f]!);
     const cf = codes[f]!;
     if (range * L > CELL_LIMIT && range > 1) range = renumberInPlace(ids, m, range);
@@ -234,16 +237,45 @@ function copyFilter(keep: Uint8Array, filter: Uint8Array, rows: number): void {
   for (let r = 0; r < rows; r++) keep[r] = filter[r] !== 0 ? 1 : 0;
 }
 
-/** codes[idx[t]] for every t; seen[c] set to 1 for each code c met. */
-function gatherCodes(codes: Int32Array, idx: Int32Array, seen: Uint8Array): Int32Array {
+/**
+ * codes[idx[t]] for every t, and the codes met (in code order). When `mix` is given, also
+ * mix.ids[t] = mix.ids[t]·L + code (mixed-radix cell keys, L the column's number of levels).
+ * Cost: O(n).
+ */
+function gatherCodes(codes: Int32Array, idx: Int32Array, nLevels: number, mix?: { ids: Int32Array; L: number }): { out: Int32Array; present: number[] } {
   const n = idx.length;
   const out = new Int32Array(n);
+  if (nLevels <= 31) {
+    // the codes met as bits of one integer: no memory traffic per row
+    let bits = 0;
+    if (mix) {
+      const ids = mix.ids;
+      const L = mix.L;
+      for (let t = 0; t < n; t++) {
+        const c = codes[idx[t]!]!;
+        out[t] = c;
+        ids[t] = ids[t]! * L + c;
+        bits |= 1 << c;
+      }
+    } else {
+      for (let t = 0; t < n; t++) {
+        const c = codes[idx[t]!]!;
+        out[t] = c;
+        bits |= 1 << c;
+      }
+    }
+    const present: number[] = [];
+    for (let l = 0; l < nLevels; l++) if ((bits >>> l) & 1) present.push(l);
+    return { out, present };
+  }
+  const seen = new Uint8Array(nLevels);
   for (let t = 0; t < n; t++) {
     const c = codes[idx[t]!]!;
     out[t] = c;
     if (seen[c] === 0) seen[c] = 1;
   }
-  return out;
+  if (mix) mixIn(mix.ids, out, mix.L, n);
+  return { out, present: presentLevels(seen) };
 }
 
 /**
@@ -398,6 +430,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   let raw = new Float64Array(0);
   let means = new Float64Array(0);
   let sumSquares = new Float64Array(0);
+  let premixed: { ids: Int32Array; range: number; factors: number } | undefined;
   const levelMemo = new Map<number, number[]>(); // observed levels of categorical columns
   if (allCategorical) {
     const g = groupRows(cols, rows, ctx.rowFilter);
@@ -415,12 +448,23 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     raw = new Float64Array(n * dAll);
     means = new Float64Array(dAll);
     sumSquares = new Float64Array(dAll);
+    // The given categorical columns (the first factors of the cells) are mixed into cell keys
+    // as they are gathered, while the keys' range stays within the lookup array's.
+    premixed = { ids: new Int32Array(n), range: 1, factors: 0 };
+    let mixing = true;
     for (let k = 0; k < cols.length; k++) {
       const c = cols[k]!;
       if (isCat[k]) {
-        const counts = new Uint8Array(c.levels!.length);
-        codes.push(gatherCodes(c.codes!, idx, counts));
-        levelMemo.set(k, presentLevels(counts));
+        const L = Math.max(1, c.levels!.length);
+        const mix = k >= 2 && mixing && premixed.range * L <= CELL_LIMIT ? { ids: premixed.ids, L } : undefined;
+        if (k >= 2 && !mix) mixing = false;
+        const got = gatherCodes(c.codes!, idx, c.levels!.length, mix);
+        if (mix) {
+          premixed.range *= L;
+          premixed.factors++;
+        }
+        codes.push(got.out);
+        levelMemo.set(k, got.present);
       } else {
         codes.push(undefined);
         [means[contIndex[k]!], sumSquares[contIndex[k]!]] = gatherStrided(raw, c.values, idx, contIndex[k]!, dAll);
@@ -475,7 +519,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     return { ok: false, reason: `"${added.name}" is constant among the ${n} complete rows; the claim cannot be tested` };
   }
   const factorCodes = factorK.map((k) => codes[k]!);
-  const cells = cellsOf(factorCodes, factorK.map((k) => cols[k]!.levels!.length), m);
+  const cells = cellsOf(factorCodes, factorK.map((k) => cols[k]!.levels!.length), m, premixed);
 
   // Aliasing: Cholesky sweep of the Gram matrix in label order (one pass over the rows).
   const all = columns.map((_, j) => j);
