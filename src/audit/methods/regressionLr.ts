@@ -31,7 +31,7 @@
  *   all rows start there (the first Newton step with the subsample's information matrix scaled
  *   to all rows) and stop by the same convergence criterion as from any start, so the estimates,
  *   ℓ0, ℓ1 and LR are the maximum-likelihood ones of all rows (to that criterion), only reached
- *   in fewer passes (about 4 per model instead of 5–8). The full model starts at the subsample's
+ *   in fewer passes (about 3–4 per model instead of 5–8). The full model starts at the subsample's
  *   full fit, its shared coefficients moved by as much as the null model's moved on all rows.
  * - Outcomes: complete separation in either model (every row predicted with probability → 1),
  *   a singular information matrix, an exact linear fit, a single observed level or constant
@@ -387,7 +387,7 @@ function quoted(names: readonly string[]): string {
  * Regression likelihood-ratio test of one claim (see the module comment).
  * Cost: linear models O(patterns) from the moments; logistic and multinomial models
  * O(rows·k) to gather the complete rows, then per pass over them O(rows·q·d) (O(rows·q²·d²)
- * while the information matrix is renewed), d continuous given, q = categories − 1; about 3–5
+ * while the information matrix is renewed), d continuous given, q = categories − 1; about 3–4
  * passes per model on all rows after the warm start on a subsample (grouped data: O(G) per pass
  * for G groups).
  * Source: Wilks (1938); McCullagh & Nelder (1989), Generalized Linear Models, 2nd ed.; Agresti
