@@ -66,8 +66,9 @@ export interface NewtonOptions {
   kernel?: "unrolled" | "loop";
   /**
    * An approximation of the information matrix at `start` (P × P, e.g. a subsample's, scaled to
-   * the rows), used for the first Newton step instead of a pass that computes it. The estimates
-   * do not depend on it: the steps that follow use information computed on the rows.
+   * the rows), used for the first Newton step instead of a pass that computes it, and kept for
+   * the following (chord) steps while the coefficients move by less than 1e-3. The estimates do
+   * not depend on it: convergence is judged on the log-likelihood and gradient of the rows.
    */
   information?: ArrayLike<number>;
 }
