@@ -68,7 +68,7 @@ export interface NewtonOptions {
    * An approximation of the information matrix at `start` (P × P, e.g. a subsample's, scaled to
    * the rows), used for the first Newton step instead of a pass that computes it, and kept for
    * the following (chord) steps while the coefficients move by less than 1e-3. The estimates do
-   * not depend on it: convergence is judged on the log-likelihood and gradient of the rows.
+   * not depend on it: convergence is judged on the change of the rows' log-likelihood and the steps.
    */
   information?: ArrayLike<number>;
 }
