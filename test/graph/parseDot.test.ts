@@ -148,8 +148,9 @@ describe("parseDot accepted subset", () => {
   });
 
   it("parseDot reads back any name written as a quoted DOT ID with \\\" escapes (property)", () => {
-    // a trailing backslash cannot be written in a DOT string before the closing quote, so none here
-    const anyName = fc.string({ unit: "grapheme", minLength: 1, maxLength: 8 }).filter((s) => !/[\r\n]|\\$/u.test(s));
+    // a trailing backslash cannot be written in a DOT string before the closing quote, so none here;
+    // a name of white space only is refused by design (see "empty node name" below), so none here either
+    const anyName = fc.string({ unit: "grapheme", minLength: 1, maxLength: 8 }).filter((s) => !/[\r\n]|\\$/u.test(s) && s.trim() !== "");
     const quote = (s: string) => `"${s.replace(/"/gu, '\\"')}"`;
     fc.assert(
       fc.property(anyName, anyName, (a, b) => {
