@@ -7,6 +7,7 @@ import { DataError } from "../../src/errors.js";
 import { readTable } from "../../src/data/readTable.js";
 import type { ReadOptions } from "../../src/data/readOptions.js";
 import type { Table } from "../../src/data/Table.js";
+import { tableSnapshot } from "../helpers/tableSnapshot.js";
 
 // The reference is the one-thread reader (readTable), itself checked against pandas in readTable.test.ts:
 // the two-thread reader must give the identical table (values bit for bit, NaN and -0 apart) or the identical error.
@@ -18,22 +19,6 @@ function writeCsv(text: string): string {
   const path = join(dir, `t${fileNo++}.csv`);
   writeFileSync(path, text);
   return path;
-}
-
-function snapshot(t: Table) {
-  return {
-    rows: t.rows,
-    warnings: t.warnings,
-    columns: t.columns.map((c) => ({
-      name: c.name,
-      type: c.type,
-      typeSource: c.typeSource,
-      values: [...c.values].map((v) => (Object.is(v, -0) ? "-0" : Number.isNaN(v) ? "NaN" : v)),
-      codes: c.codes ? [...c.codes] : undefined,
-      levels: c.levels,
-      missing: c.missing,
-    })),
-  };
 }
 
 /** A seeded table: continuous (some with 17 digits, exponents, -0, empty cells), binary, ordinal, nominal text, blank lines. */
@@ -86,7 +71,7 @@ describe("parallelReadTable", () => {
     for (const [, t, opts] of variants) {
       const { one, two, threads } = await bothWays(t, opts);
       expect(threads).toBe(2);
-      expect(snapshot(two)).toEqual(snapshot(one));
+      expect(tableSnapshot(two)).toEqual(tableSnapshot(one));
     }
     const { two } = await bothWays(text);
     expect(two.rows).toBe(3000);
@@ -102,7 +87,7 @@ describe("parallelReadTable", () => {
     const { one, two, threads } = await bothWays(lines.join("\n") + "\n", { types: { note: "nominal" } });
     expect(threads).toBe(2);
     expect(two.rows).toBe(20000);
-    expect(snapshot(two)).toEqual(snapshot(one));
+    expect(tableSnapshot(two)).toEqual(tableSnapshot(one));
   });
 
   it("parallelReadTable falls back to one thread at a quote in the second half and still matches readTable", async () => {
@@ -111,7 +96,7 @@ describe("parallelReadTable", () => {
     const { one, two, threads, reason } = await bothWays(lines.join("\n"));
     expect(threads).toBe(1);
     expect(reason).toContain("second half");
-    expect(snapshot(two)).toEqual(snapshot(one));
+    expect(tableSnapshot(two)).toEqual(tableSnapshot(one));
     expect(two.column("region")!.levels).toContain("north, upper");
   });
 
@@ -146,8 +131,8 @@ describe("parallelReadTable", () => {
     for (const text of ["a,b\n", "a,b\n1,2\n", "a\n1\n\n2\n", generated(50, 3)]) {
       const path = writeCsv(text);
       const one = await readTable(new TextEncoder().encode(text), { file: path });
-      expect(snapshot(await parallelReadTable(path, { file: path }))).toEqual(snapshot(one)); // default: one thread below 16 MiB
-      expect(snapshot(await parallelReadTable(path, { file: path }, { minBytes: 0 }))).toEqual(snapshot(one));
+      expect(tableSnapshot(await parallelReadTable(path, { file: path }))).toEqual(tableSnapshot(one)); // default: one thread below 16 MiB
+      expect(tableSnapshot(await parallelReadTable(path, { file: path }, { minBytes: 0 }))).toEqual(tableSnapshot(one));
     }
   });
 });

@@ -4,7 +4,7 @@ import { describe, expect, it } from "vitest";
 import { DataError, UsageError } from "../../src/errors.js";
 import { readTable } from "../../src/data/readTable.js";
 import type { ReadOptions } from "../../src/data/readOptions.js";
-import type { Table } from "../../src/data/Table.js";
+import { tableSnapshot } from "../helpers/tableSnapshot.js";
 
 const fixture = (name: string) => new Uint8Array(readFileSync(new URL(`../fixtures/data/${name}`, import.meta.url)));
 const enc = new TextEncoder();
@@ -22,24 +22,6 @@ const fixtureOptions: Record<string, ReadOptions> = {
   "unicode.csv": {},
   "codes.csv": { missing: ["-9", "999"] },
 };
-
-/** Everything a Table holds, in a form toEqual compares exactly (NaN and -0 kept apart). */
-function snapshot(t: Table) {
-  return {
-    file: t.file,
-    rows: t.rows,
-    warnings: t.warnings,
-    columns: t.columns.map((c) => ({
-      name: c.name,
-      type: c.type,
-      typeSource: c.typeSource,
-      values: [...c.values].map((v) => (Object.is(v, -0) ? "-0" : Number.isNaN(v) ? "NaN" : v)),
-      codes: c.codes ? [...c.codes] : undefined,
-      levels: c.levels,
-      missing: c.missing,
-    })),
-  };
-}
 
 async function* chunked(data: Uint8Array, size: number): AsyncIterable<Uint8Array> {
   for (let i = 0; i < data.length; i += size) yield data.slice(i, i + size);
@@ -134,9 +116,9 @@ describe("readTable", () => {
         const data = variant(fixture(name));
         const frozen = data.slice();
         const opts = { ...fixtureOptions[name], file: name };
-        const ref = snapshot(await readTable(data, { ...opts, engine: "papaparse" }));
-        expect(snapshot(await readTable(data, opts))).toEqual(ref);
-        for (const size of [1, 7, 64]) expect(snapshot(await readTable(chunked(data, size), opts))).toEqual(ref);
+        const ref = tableSnapshot(await readTable(data, { ...opts, engine: "papaparse" }));
+        expect(tableSnapshot(await readTable(data, opts))).toEqual(ref);
+        for (const size of [1, 7, 64]) expect(tableSnapshot(await readTable(chunked(data, size), opts))).toEqual(ref);
         expect(data).toEqual(frozen); // input bytes not mutated
         expect(ref.columns[0]!.name.charCodeAt(0)).not.toBe(0xfeff); // BOM stripped
       });
@@ -163,20 +145,20 @@ describe("readTable", () => {
           const text = ["a", "b", "c"].join(delimiter) + nl + rows.map((r) => r.map(fix).join(delimiter)).join(nl) + nl;
           const data = bytes(text);
           const opts: ReadOptions = { decimalComma, missing: ["-9", "999"], types: { a: "nominal", b: "nominal", c: "nominal" } };
-          const viaPapa = snapshot(await readTable(data, { ...opts, engine: "papaparse" }));
-          const viaScan = snapshot(await readTable(data, opts));
+          const viaPapa = tableSnapshot(await readTable(data, { ...opts, engine: "papaparse" }));
+          const viaScan = tableSnapshot(await readTable(data, opts));
           expect(viaScan).toEqual(viaPapa);
           // numbers read by value: every level that is a number equals Number(text) of some cell
           const contOpts: ReadOptions = { decimalComma, missing: ["-9", "999"] };
           let a: unknown;
           let b: unknown;
           try {
-            a = snapshot(await readTable(data, { ...contOpts, engine: "papaparse" }));
+            a = tableSnapshot(await readTable(data, { ...contOpts, engine: "papaparse" }));
           } catch (e) {
             a = String(e);
           }
           try {
-            b = snapshot(await readTable(chunked(data, 5), contOpts));
+            b = tableSnapshot(await readTable(chunked(data, 5), contOpts));
           } catch (e) {
             b = String(e);
           }
@@ -233,9 +215,9 @@ describe("readTable", () => {
     for (let i = 1; i <= 3000; i++) lines.push(`${i},${(i * 0.37 - 500).toFixed(3)},${i === 2500 ? '"Doe, J"' : "n" + (i % 5)}`);
     const data = bytes(lines.join("\n") + "\n");
     const opts = { types: { name: "nominal" as const } };
-    const ref = snapshot(await readTable(data, { ...opts, engine: "papaparse" }));
-    expect(snapshot(await readTable(data, opts))).toEqual(ref);
-    expect(snapshot(await readTable(chunked(data, 4096), opts))).toEqual(ref);
+    const ref = tableSnapshot(await readTable(data, { ...opts, engine: "papaparse" }));
+    expect(tableSnapshot(await readTable(data, opts))).toEqual(ref);
+    expect(tableSnapshot(await readTable(chunked(data, 4096), opts))).toEqual(ref);
     expect(ref.rows).toBe(3000);
   });
 
