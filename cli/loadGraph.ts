@@ -13,14 +13,3 @@ export function loadGraph(io: Io, path: string, opts: Record<string, unknown>): 
   if (!opts.quiet) for (const w of parsed.warnings) io.stderr(`warning: ${w}\n`);
   return withUnmeasured(parsed.graph, splitList(opts.unmeasured));
 }
-
-/** The graph part of a result document. */
-export function graphJson(graph: Graph) {
-  return {
-    nodes: [...graph.nodes],
-    measured: graph.nodes.filter((n) => graph.isMeasured(n)),
-    unmeasured: graph.nodes.filter((n) => !graph.isMeasured(n)),
-    arrows: graph.arrows.map(([a, b]) => [a, b] as [string, string]),
-    bidirected: graph.bidirected.map(([a, b]) => [a, b] as [string, string]),
-  };
-}

@@ -4,7 +4,8 @@ import { readHeader } from "../../src/data/readHeader.js";
 import { renderClaimsText } from "../../src/report/terminal.js";
 import { EXIT } from "../exitCodes.js";
 import { type Io, readHead } from "../io.js";
-import { graphJson, loadGraph } from "../loadGraph.js";
+import { loadGraph } from "../loadGraph.js";
+import { graphSummary } from "../../src/graph/graphSummary.js";
 
 /** `arrowaudit claims <graph>`: list the implied independencies. */
 export async function runClaims(io: Io, graphPath: string, opts: Record<string, unknown>): Promise<number> {
@@ -18,7 +19,7 @@ export async function runClaims(io: Io, graphPath: string, opts: Record<string, 
   const cap = opts.maxSets as number;
   const { claims, untestable, truncatedPairs } = deriveClaims(graph, { sets, cap });
   const doc = {
-    graph: graphJson(graph),
+    graph: graphSummary(graph),
     claims,
     untestable,
     ...(ignored ? { ignored_columns: ignored } : {}),

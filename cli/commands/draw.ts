@@ -4,7 +4,8 @@ import { contradictionMarks, layoutGraph } from "../../src/report/layoutGraph.js
 import { renderGraphSvg } from "../../src/report/renderGraphSvg.js";
 import { EXIT } from "../exitCodes.js";
 import { type Io, readInput, writeAtomic } from "../io.js";
-import { graphJson, loadGraph } from "../loadGraph.js";
+import { loadGraph } from "../loadGraph.js";
+import { graphSummary } from "../../src/graph/graphSummary.js";
 
 /** `arrowaudit draw <graph> [--out graph.svg] [--results result.json]`. */
 export async function runDraw(io: Io, graphPath: string, opts: Record<string, unknown>): Promise<number> {
@@ -23,7 +24,7 @@ export async function runDraw(io: Io, graphPath: string, opts: Record<string, un
     if (unknown.length) throw new InputError(`${opts.results}: the result names ${unknown.map((n) => `"${n}"`).join(", ")}, not in ${graphPath}; draw the graph the result was computed on`, { file: opts.results });
     contradictions = contradictionMarks(result);
   }
-  const layout = await layoutGraph(graphJson(graph), { contradictions: contradictions ?? [] });
+  const layout = await layoutGraph(graphSummary(graph), { contradictions: contradictions ?? [] });
   const svg = renderGraphSvg(layout, { title: "Causal graph", standalone: true });
   if (typeof opts.out === "string") {
     const path = writeAtomic(opts.out, io.cwd, svg);

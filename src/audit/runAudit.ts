@@ -12,6 +12,7 @@
 import { UnknownNodeError } from "../errors.js";
 import type { Graph } from "../graph/Graph.js";
 import { deriveClaims } from "../graph/deriveClaims.js";
+import { graphSummary } from "../graph/graphSummary.js";
 import type { Table, VariableType } from "../data/Table.js";
 import { buildPatternMoments } from "../data/buildPatternMoments.js";
 import type { PatternMoments } from "../data/Moments.js";
@@ -138,13 +139,7 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
     variables: table.columns
       .filter((c) => measured.includes(c.name))
       .map((c) => ({ name: c.name, type: c.type, type_source: c.typeSource, missing: c.missing, ...(c.levels && c.type !== "continuous" ? { levels: [...c.levels] } : {}) })),
-    graph: {
-      nodes: [...graph.nodes],
-      measured,
-      unmeasured: graph.nodes.filter((n) => !graph.isMeasured(n)),
-      arrows: graph.arrows.map(([a, b]) => [a, b] as [string, string]),
-      bidirected: graph.bidirected.map(([a, b]) => [a, b] as [string, string]),
-    },
+    graph: graphSummary(graph),
     settings,
     claims: result,
     untestable,

@@ -4,6 +4,7 @@
  * JSON field names are a public contract: add fields, never rename.
  */
 import type { VariableType } from "../data/Table.js";
+import type { GraphSummary } from "../graph/graphSummary.js";
 
 /** An implied independence x ⫫ y | given, derived from a missing arrow. */
 export interface Claim {
@@ -97,7 +98,7 @@ export interface AuditResult {
   tool: { name: "arrowaudit"; version: string };
   data: { file?: string; rows: number; rows_used: number; patterns: number };
   variables: VariableSummary[];
-  graph: { nodes: string[]; measured: string[]; unmeasured: string[]; arrows: [string, string][]; bidirected: [string, string][] };
+  graph: GraphSummary;
   settings: AuditSettings;
   claims: TestedClaim[];
   untestable: UntestableClaim[];

@@ -5,6 +5,7 @@ export { parseDot, type ParseDotOptions } from "./parseDot.js";
 export { readGraphSource, looksLikeDot, type GraphFormat, type ReadGraphSourceOptions } from "./readGraphSource.js";
 export { checkColumns, findClosestNames, type CheckColumnsOptions, type ColumnCheck } from "./checkColumns.js";
 export { withUnmeasured } from "./withUnmeasured.js";
+export { graphSummary, type GraphSummary } from "./graphSummary.js";
 export { ancestors } from "./ancestors.js";
 export { dSeparated } from "./dSeparated.js";
 export { findMinimalSeparator, type SeparatorOptions } from "./findMinimalSeparator.js";
