@@ -11,25 +11,11 @@ import { stratifiedChisq } from "../../../src/audit/methods/stratifiedChisq.js";
 import type { TestContext, TestMethod } from "../../../src/audit/TestMethod.js";
 import type { Claim, TestOutcome } from "../../../src/audit/types.js";
 import { createRng, type Rng } from "../../../src/stats/rng.js";
+import { binomialInterval } from "../../helpers/simulate.js";
 
 const R = 500;
 const ALPHA = 0.05;
 
-/** Exact central 99% interval [lo, hi] of Binomial(n, p): P(X < lo) ≤ 0.005 and P(X > hi) ≤ 0.005. */
-function binomialInterval(n: number, p: number, level = 0.99): [number, number] {
-  const tail = (1 - level) / 2;
-  const pmf: number[] = [];
-  let logC = 0;
-  for (let k = 0; k <= n; k++) {
-    if (k > 0) logC += Math.log(n - k + 1) - Math.log(k);
-    pmf.push(Math.exp(logC + k * Math.log(p) + (n - k) * Math.log(1 - p)));
-  }
-  let lo = 0, acc = 0;
-  while (acc + pmf[lo]! <= tail) acc += pmf[lo++]!;
-  let hi = n; acc = 0;
-  while (acc + pmf[hi]! <= tail) acc += pmf[hi--]!;
-  return [lo, hi];
-}
 const [LO, HI] = binomialInterval(R, ALPHA);
 
 function cat(name: string, codes: Int32Array, L: number, type: VariableType = "nominal"): Column {
