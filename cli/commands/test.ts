@@ -1,9 +1,10 @@
-import { runAudit } from "../../src/audit/runAudit.js";
+import { runAuditParallel } from "../../src/audit/runAudit.js";
 import type { AuditResult, AuditSettings } from "../../src/audit/types.js";
 import { renderTestText } from "../../src/report/terminal.js";
 import { readHeader } from "../../src/data/readHeader.js";
 import { checkColumns } from "../../src/graph/checkColumns.js";
 import { renderCsv } from "../../src/report/csv.js";
+import { claimHelper } from "../claimHelper.js";
 import { EXIT } from "../exitCodes.js";
 import { type Io, readHead, toolVersion } from "../io.js";
 import { loadGraph } from "../loadGraph.js";
@@ -35,7 +36,7 @@ export async function audit(io: Io, graphPath: string, dataPath: string, opts: R
   const table = await loadTable(io, dataPath, opts, measured);
   const bar = progressBar(io, !!opts.quiet);
   try {
-    return runAudit(graph, table, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update });
+    return await runAuditParallel(graph, table, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update, helper: claimHelper });
   } finally {
     bar.done();
   }

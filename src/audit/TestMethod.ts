@@ -35,4 +35,11 @@ export interface TestMethod {
   /** Whether the method can test a claim with these variable types. */
   accepts(types: ClaimTypes): boolean;
   run(claim: Claim, ctx: TestContext): MethodResult;
+  /**
+   * Rough work of a claim that reads the rows rather than the moments (rows × operations per
+   * row; only its order of magnitude matters), or 0 (or no such function) when the method works
+   * from the moments alone. Claims with work may be tested on a helper thread, whose context has
+   * no moments, so a method must not touch `ctx.moments` or `ctx.rankMoments` for them.
+   */
+  rowWork?(claim: Claim, table: Table): number;
 }

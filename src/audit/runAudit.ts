@@ -21,7 +21,7 @@ import { fisherC } from "../stats/fisherC.js";
 import { chooseMethod } from "./methods/index.js";
 import { repairArrows } from "./repairArrows.js";
 import { compareClaims } from "./rankClaims.js";
-import type { TestContext } from "./TestMethod.js";
+import type { MethodResult, TestContext, TestMethod } from "./TestMethod.js";
 import type { AuditResult, AuditSettings, Claim, TestedClaim, TestOutcome, UntestableClaim } from "./types.js";
 
 export const DEFAULT_SETTINGS: AuditSettings = {
@@ -46,6 +46,51 @@ export interface AuditOptions {
   onProgress?: (done: number, total: number) => void;
 }
 
+/** What a helper thread needs to test claims that read the rows (see {@link runAuditParallel}). */
+export interface HelperJob {
+  table: Table;
+  /** The claims to share out, heaviest first. */
+  claims: readonly Claim[];
+  /**
+   * Shared between the threads (an Int32Array over a SharedArrayBuffer): [0] the index of the
+   * next claim to take (each thread takes one with `Atomics.add(counter, 0, 1)`), [1] the
+   * claims the helper has finished.
+   */
+  counter: Int32Array;
+  settings: AuditSettings;
+  rowFilter?: Uint8Array;
+}
+
+/**
+ * Tests claims of a job on another thread: takes indices from the shared counter, runs
+ * {@link testClaimMethod} with {@link helperContext}, calls `onResult` as results arrive and
+ * resolves with them by index. An index it took but left out of the map (the helper failed) is
+ * tested again by the caller.
+ */
+export type ClaimHelper = (job: HelperJob, onResult: () => void) => Promise<Map<number, MethodResult>>;
+
+export interface ParallelAuditOptions extends AuditOptions {
+  /** The helper thread; without one the audit runs on this thread alone. */
+  helper?: ClaimHelper;
+  /** Least total row work (see `TestMethod.rowWork`) for which the helper is started (default 5·10⁷). */
+  helperMinWork?: number;
+}
+
+/** Default least row work worth a helper thread (about a second of row passes). */
+export const HELPER_MIN_WORK = 5e7;
+
+/** Everything the claims share: derived once per audit. */
+interface AuditPlan {
+  settings: AuditSettings;
+  measured: string[];
+  claims: Claim[];
+  graphUntestable: UntestableClaim[];
+  warnings: string[];
+  moments: PatternMoments;
+  ctx: TestContext;
+  constant: Map<string, string>;
+}
+
 /**
  * Run the whole audit of `graph` against `table`.
  * Cost: O(rows · d²) once for the pattern moments, then per claim a cost independent of the
@@ -57,6 +102,141 @@ export interface AuditOptions {
  * result.claims[0].verdict; // "contradicted" | "consistent"
  */
 export function runAudit(graph: Graph, table: Table, options: AuditOptions = {}): AuditResult {
+  const plan = planAudit(graph, table, options);
+  const results = plan.claims.map((claim, i) => {
+    const r = precheck(claim, plan.constant) ?? testClaimMethod(claim, plan.ctx, plan.settings);
+    options.onProgress?.(i + 1, plan.claims.length);
+    return r;
+  });
+  return finishAudit(graph, table, plan, results, options);
+}
+
+/**
+ * {@link runAudit} with the claims that read the rows (logistic and multinomial fits, grouped
+ * tables: `TestMethod.rowWork` > 0) shared with a helper thread when their total work reaches
+ * `helperMinWork`: both threads take the next of them, heaviest first, from a shared counter,
+ * and this thread first tests the claims that work from the moments. Each claim's result does
+ * not depend on the thread that computed it (methods draw their random numbers from the stream
+ * of (seed, claim)), so the result equals `runAudit`'s.
+ * Cost: as `runAudit`, with the row work divided between two threads.
+ * @throws UnknownNodeError when a measured node of the graph is not a column of the table.
+ */
+export async function runAuditParallel(graph: Graph, table: Table, options: ParallelAuditOptions = {}): Promise<AuditResult> {
+  const plan = planAudit(graph, table, options);
+  const total = plan.claims.length;
+  const results: (MethodResult | undefined)[] = new Array(total);
+  const heavy: { i: number; work: number }[] = [];
+  let workSum = 0;
+  plan.claims.forEach((claim, i) => {
+    const pre = precheck(claim, plan.constant);
+    if (pre) {
+      results[i] = pre;
+      return;
+    }
+    const work = methodOf(claim, table, plan.settings).rowWork?.(claim, table) ?? 0;
+    if (work > 0) {
+      heavy.push({ i, work });
+      workSum += work;
+    }
+  });
+  let done = 0;
+  let helperDone = 0;
+  const progress = () => options.onProgress?.(done + helperDone, total);
+  const shared = options.helper !== undefined && workSum >= (options.helperMinWork ?? HELPER_MIN_WORK);
+  if (!shared) heavy.length = 0;
+  const isHeavy = new Uint8Array(total);
+  for (const h of heavy) isHeavy[h.i] = 1;
+  heavy.sort((a, b) => b.work - a.work || a.i - b.i);
+  const queue = heavy.map((h) => h.i);
+  const counter = new Int32Array(new SharedArrayBuffer(8));
+  const job: HelperJob = { table, claims: queue.map((i) => plan.claims[i]!), counter, settings: plan.settings, ...(plan.ctx.rowFilter ? { rowFilter: plan.ctx.rowFilter } : {}) };
+  const fromHelper = shared
+    ? options.helper!(job, () => {
+        helperDone = Atomics.load(counter, 1);
+        progress();
+      })
+    : Promise.resolve(new Map<number, MethodResult>());
+  // This thread: the claims that work from the moments first, then its share of the others.
+  for (let i = 0; i < total; i++) {
+    if (results[i] !== undefined || isHeavy[i]) continue;
+    results[i] = testClaimMethod(plan.claims[i]!, plan.ctx, plan.settings);
+    done++;
+    helperDone = Atomics.load(counter, 1);
+    progress();
+  }
+  const mine = new Set<number>();
+  for (;;) {
+    const k = Atomics.add(counter, 0, 1);
+    if (k >= queue.length) break;
+    mine.add(k);
+    results[queue[k]!] = testClaimMethod(plan.claims[queue[k]!]!, plan.ctx, plan.settings);
+    done++;
+    helperDone = Atomics.load(counter, 1);
+    progress();
+  }
+  const theirs = await fromHelper.catch(() => new Map<number, MethodResult>());
+  for (let k = 0; k < queue.length; k++) {
+    if (mine.has(k)) continue;
+    const got = theirs.get(k);
+    results[queue[k]!] = got ?? testClaimMethod(plan.claims[queue[k]!]!, plan.ctx, plan.settings);
+  }
+  options.onProgress?.(total, total);
+  return finishAudit(graph, table, plan, results as MethodResult[], options);
+}
+
+/** The method the settings choose for a claim. */
+function methodOf(claim: Claim, table: Table, settings: AuditSettings): TestMethod {
+  const types = {
+    x: table.column(claim.x)!.type,
+    y: table.column(claim.y)!.type,
+    given: claim.given.map((g) => table.column(g)!.type),
+  };
+  return chooseMethod(settings.method, types);
+}
+
+/**
+ * Test one claim with the method the settings choose for its variable types (the same on every
+ * thread). A non-finite statistic, df, p-value, effect or interval makes the claim untestable.
+ * Cost: that of the method.
+ */
+export function testClaimMethod(claim: Claim, ctx: TestContext, settings: AuditSettings): MethodResult {
+  const res = methodOf(claim, ctx.table, settings).run(claim, ctx);
+  if (!res.ok) return res;
+  const bad = nonFinite(res.outcome);
+  if (bad) return { ok: false, reason: `the ${res.outcome.test} test gave a non-finite ${bad}; the data may be degenerate for this claim` };
+  return res;
+}
+
+/** Thrown by the moments of a helper's context: a claim with row work touched them. */
+export class MomentsUnavailableError extends Error {
+  constructor() {
+    super("internal: moments are not available on a helper thread");
+    this.name = "MomentsUnavailableError";
+  }
+}
+
+/**
+ * The test context of a helper thread: the table, row filter and settings of the audit, and
+ * moments that throw {@link MomentsUnavailableError} (claims sent to a helper read the rows).
+ */
+export function helperContext(table: Table, settings: AuditSettings, rowFilter?: Uint8Array): TestContext {
+  const unavailable = new Proxy({} as PatternMoments, {
+    get() {
+      throw new MomentsUnavailableError();
+    },
+  });
+  return {
+    table,
+    moments: unavailable,
+    rankMoments: () => unavailable,
+    ...(rowFilter ? { rowFilter } : {}),
+    seed: settings.seed,
+    ...(settings.permutations !== undefined ? { permutations: settings.permutations } : {}),
+  };
+}
+
+/** Claims, moments and context of an audit. */
+function planAudit(graph: Graph, table: Table, options: AuditOptions): AuditPlan {
   const settings: AuditSettings = { ...DEFAULT_SETTINGS, ...options.settings };
   const measured = graph.nodes.filter((n) => graph.isMeasured(n));
   const missingCols = measured.filter((n) => !table.column(n));
@@ -82,33 +262,20 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
     seed: settings.seed,
     permutations: settings.permutations,
   };
-
-  const untestable: UntestableClaim[] = graphUntestable.map((u) => ({ ...u }));
-  const tested: Array<Claim & TestOutcome> = [];
   const constant = constantColumns(table, measured, rowFilter);
-  const total = claims.length;
-  let done = 0;
-  for (const claim of claims) {
-    const reason = precheck(claim, constant);
-    if (reason) {
-      untestable.push({ ...claim, reason });
-    } else {
-      const types = {
-        x: table.column(claim.x)!.type,
-        y: table.column(claim.y)!.type,
-        given: claim.given.map((g) => table.column(g)!.type),
-      };
-      const method = chooseMethod(settings.method, types);
-      const res = method.run(claim, ctx);
-      if (!res.ok) untestable.push({ ...claim, reason: res.reason });
-      else {
-        const bad = nonFinite(res.outcome);
-        if (bad) untestable.push({ ...claim, reason: `the ${res.outcome.test} test gave a non-finite ${bad}; the data may be degenerate for this claim` });
-        else tested.push({ ...claim, ...res.outcome });
-      }
-    }
-    options.onProgress?.(++done, total);
-  }
+  return { settings, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, moments, ctx, constant };
+}
+
+/** Adjust, decide, rank, repair and combine the claims' results (in claim order). */
+function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: readonly MethodResult[], options: AuditOptions): AuditResult {
+  const { settings, measured, moments, warnings } = plan;
+  const untestable: UntestableClaim[] = plan.graphUntestable;
+  const tested: Array<Claim & TestOutcome> = [];
+  plan.claims.forEach((claim, i) => {
+    const res = results[i]!;
+    if (!res.ok) untestable.push({ ...claim, reason: res.reason });
+    else tested.push({ ...claim, ...res.outcome });
+  });
 
   const padj = adjustPValues(tested.map((t) => t.p), settings.adjust);
   const result: TestedClaim[] = tested.map((t, i) => {
@@ -164,11 +331,11 @@ function sameSet(a: readonly string[], b: readonly string[]): boolean {
   return sa.size === sb.size && [...sa].every((v) => sb.has(v));
 }
 
-/** Reasons a claim cannot be tested before any method runs (constant variables). */
-function precheck(claim: Claim, constant: Map<string, string>): string | undefined {
+/** Why a claim cannot be tested before any method runs (constant variables), as an untestable result. */
+function precheck(claim: Claim, constant: Map<string, string>): MethodResult | undefined {
   for (const v of [claim.x, claim.y, ...claim.given]) {
     const why = constant.get(v);
-    if (why) return why;
+    if (why) return { ok: false, reason: why };
   }
   return undefined;
 }

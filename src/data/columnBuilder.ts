@@ -409,7 +409,7 @@ export class ColumnBuilder {
   private gather(c: number): { values: Float64Array; texts?: Int32Array } {
     const n = this.rows;
     const exact = <T extends Float64Array | Int32Array>(a: T): T =>
-      (a.length === n ? a : 8 * (a.length - n) <= a.length ? a.subarray(0, n) : a.slice(0, n)) as T;
+      (a.length === n ? a : 8 * (a.length - n) <= a.length ? a.subarray(0, n) : copyLike(a, n)) as T;
     const values = exact(this.vals[c]!);
     if (this.textCount[c] === 0) return { values };
     return { values, texts: exact(this.textCodes[c]!) };
@@ -533,8 +533,10 @@ export class ColumnBuilder {
       if (numericLevels !== undefined) return -1;
       return levelIndex.get(t) ?? -1;
     });
-    const codes = new Int32Array(n);
-    const out = new Float64Array(n);
+    // The values become level scores in place (each is read before it is written); the codes go
+    // into the same kind of memory as the values, so a table read into shared memory stays shareable.
+    const codes = values.buffer instanceof SharedArrayBuffer ? new Int32Array(new SharedArrayBuffer(4 * n)) : new Int32Array(n);
+    const out = values;
     for (let i = 0; i < n; i++) {
       const v = values[i]!;
       let code: number;
@@ -565,6 +567,14 @@ export class ColumnBuilder {
       { file: this.file, line, column: this.header.indexOf(name) + 1 },
     );
   }
+}
+
+/** The first n entries of a typed array in a new array of the same kind of memory (shared or not). */
+function copyLike<T extends Float64Array | Int32Array>(a: T, n: number): T {
+  if (!(a.buffer instanceof SharedArrayBuffer)) return a.slice(0, n) as T;
+  const out = (a instanceof Float64Array ? new Float64Array(new SharedArrayBuffer(8 * n)) : new Int32Array(new SharedArrayBuffer(4 * n))) as T;
+  out.set(a.subarray(0, n));
+  return out;
 }
 
 function listLevels(levels: readonly string[]): string {

@@ -72,6 +72,11 @@ describe("parallelReadTable", () => {
       const { one, two, threads } = await bothWays(t, opts);
       expect(threads).toBe(2);
       expect(tableSnapshot(two)).toEqual(tableSnapshot(one));
+      // the columns stay in shared memory (a helper thread of the audit then shares them instead of copying)
+      for (const c of two.columns) {
+        expect(c.values.buffer).toBeInstanceOf(SharedArrayBuffer);
+        if (c.codes) expect(c.codes.buffer).toBeInstanceOf(SharedArrayBuffer);
+      }
     }
     const { two } = await bothWays(text);
     expect(two.rows).toBe(3000);

@@ -43,7 +43,7 @@
  *   √(1 − exp(−max(0, LR − df)/n)) (`lrEffect`); 95% interval by noncentral chi-square inversion
  *   (Steiger 1990).
  */
-import type { Column } from "../../data/Table.js";
+import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
 import { gaussianLRFromMoments } from "../../stats/gaussianLRFromMoments.js";
@@ -709,6 +709,25 @@ function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, detail
   };
 }
 
+/**
+ * Rough work of a claim on the rows (see `TestMethod.rowWork`): 0 for the linear models fitted
+ * from the moments (a continuous or ordinal side); the grouping of the rows when every variable
+ * is categorical; else the gathering of the rows and about six Newton passes (q categories − 1,
+ * d continuous given). Cost: O(k).
+ */
+export function regressionRowWork(claim: Claim, table: Table): number {
+  const cols = [claim.y, claim.x, ...claim.given].map((name) => table.column(name));
+  if (cols.some((c) => c === undefined)) return 0;
+  const [yCol, xCol] = cols as [Column, Column];
+  if ([yCol, xCol].some((c) => c.type === "continuous" || c.type === "ordinal")) return 0;
+  const k = cols.length;
+  const d = cols.slice(2).filter((c) => c!.type === "continuous").length;
+  if (d === 0) return table.rows * k;
+  const levels = (c: Column) => Math.max(2, c.levels?.length ?? 2);
+  const q = yCol.type === "binary" || xCol.type === "binary" ? 1 : Math.min(levels(yCol), levels(xCol)) - 1;
+  return table.rows * (k + 6 * q * (d + 2) + (q * (q + 1) * (d + 1) * (d + 2)) / 2);
+}
+
 /** The `regression-lr` test method: accepts every mix of variable types. */
 export const regressionLr: TestMethod = {
   name: "regression-lr",
@@ -716,4 +735,5 @@ export const regressionLr: TestMethod = {
     return true;
   },
   run: runRegressionLr,
+  rowWork: regressionRowWork,
 };

@@ -1,0 +1,81 @@
+/**
+ * The helper thread of {@link runAuditParallel}: a worker that tests the claims which read the
+ * rows, taking them one at a time from the counter it shares with the main thread.
+ * The table's columns travel by structured clone: columns in shared memory (as the two-thread
+ * reader leaves them) are shared, not copied; only the columns the claims use are sent.
+ */
+import type { ClaimHelper, HelperJob } from "../src/audit/runAudit.js";
+import type { MethodResult } from "../src/audit/TestMethod.js";
+import type { AuditSettings, Claim } from "../src/audit/types.js";
+import type { Column } from "../src/data/Table.js";
+import { startWorker } from "./startWorker.js";
+
+/** What the main thread hands to the worker (see claimWorker.ts). */
+export interface ClaimTask {
+  file?: string;
+  rows: number;
+  columns: Column[];
+  claims: readonly Claim[];
+  counter: Int32Array;
+  settings: AuditSettings;
+  rowFilter?: Uint8Array;
+}
+
+/** A message from the worker: one claim's result (by index in the job), or the end. */
+export type ClaimReply = { k: number; result: MethodResult } | { done: true };
+
+/**
+ * Start a worker on `job`; resolves with the results it posted, by index (a failed or crashed
+ * worker resolves with what it finished: the caller tests the rest). Cost: one thread start and
+ * the worker's share of the claims.
+ */
+export const claimHelper: ClaimHelper = (job: HelperJob, onResult: () => void) => {
+  const names = new Set<string>();
+  for (const c of job.claims) for (const v of [c.x, c.y, ...c.given]) names.add(v);
+  const columns = [...names].map((n) => plainColumn(job.table.column(n)!));
+  const task: ClaimTask = {
+    ...(job.table.file !== undefined ? { file: job.table.file } : {}),
+    rows: job.table.rows,
+    columns,
+    claims: job.claims,
+    counter: job.counter,
+    settings: job.settings,
+    ...(job.rowFilter ? { rowFilter: job.rowFilter } : {}),
+  };
+  const results = new Map<number, MethodResult>();
+  return new Promise((resolve) => {
+    let worker: ReturnType<typeof startWorker>;
+    try {
+      worker = startWorker(import.meta.url, "claimWorker", { kind: "claims", task });
+    } catch {
+      resolve(results);
+      return;
+    }
+    const end = () => {
+      void worker.terminate();
+      resolve(results);
+    };
+    worker.on("message", (m: ClaimReply) => {
+      if ("done" in m) end();
+      else {
+        results.set(m.k, m.result);
+        onResult();
+      }
+    });
+    worker.once("error", end);
+    worker.once("exit", () => resolve(results));
+  });
+};
+
+/** A column as a plain object (structured clone keeps its typed arrays, sharing shared ones). */
+function plainColumn(c: Column): Column {
+  return {
+    name: c.name,
+    type: c.type,
+    typeSource: c.typeSource,
+    values: c.values,
+    ...(c.codes ? { codes: c.codes } : {}),
+    ...(c.levels ? { levels: [...c.levels] } : {}),
+    missing: c.missing,
+  };
+}
