@@ -13,7 +13,12 @@
  * computed on the rows at this or a nearby iterate) would move every coefficient by less than
  * 1e-7·max(1, |β_j|) and its predicted gain gᵀδ is below 1e-12·(|ℓ| + 0.1): for concave ℓ the
  * gap to the maximum is ½ gᵀH⁻¹g ≈ ½ gᵀδ, so ℓ at the current iterate (already computed) is
- * within far less than 1e-10 relative of the maximum. *Separation* (Albert & Anderson 1984, Biometrika 71:1–10): the
+ * within far less than 1e-10 relative of the maximum. On request (`finalStep`), a fit may also
+ * end with its last Newton step taken on paper: from an information computed at the current
+ * iterate, a step moving no coefficient by more than 1e-3 relative and predicting a gain below
+ * the threshold ends the fit at β + δ with ℓ + ½gᵀδ, the maximum of the quadratic model; Newton
+ * steps converge quadratically, so the error of that value is of the order of the next step's
+ * gain. *Separation* (Albert & Anderson 1984, Biometrika 71:1–10): the
  * maximum likelihood estimate does not exist because a combination of predictors classifies
  * some rows perfectly; the coefficients then grow without bound while ℓ approaches its supremum.
  * A *separated row* is one whose observed outcome is fitted with probability above 1 − 1e-9;
@@ -41,6 +46,8 @@ export interface LogisticFit {
   /** Log-likelihood at `coef` (at the supremum's approach under separation). */
   logLik: number;
   iterations: number;
+  /** Passes over the rows (each gives ℓ and the gradient at one point, and the information while steps are large). */
+  passes: number;
   status: FitStatus;
   separation: Separation;
   /** Rows (with positive weight) whose observed outcome is fitted with probability > 1 − 1e-9 (counted when the fit did not converge; 0 otherwise). */
@@ -71,6 +78,14 @@ export interface NewtonOptions {
    * not depend on it: convergence is judged on the change of the rows' log-likelihood and the steps.
    */
   information?: ArrayLike<number>;
+  /**
+   * Finish with a last Newton step taken on paper: when the information was just computed at
+   * the current iterate β and the step δ it gives has a predicted gain gᵀδ below this (relative
+   * to |ℓ| + 0.1) and moves every coefficient by less than 1e-3·max(1, |β_j|), the fit ends at
+   * β + δ with ℓ(β) + ½gᵀδ, the maximum of the quadratic model, instead of making the pass that
+   * would confirm it (see `newtonLoop`). Off by default.
+   */
+  finalStep?: number;
 }
 
 /**
@@ -278,6 +293,9 @@ export const CHORD_MOVE = 1e-3;
  * to the maximum, ≈ ½ gᵀδ, is then a hundredth of the ℓ tolerance 1e-10 or less.
  */
 export const CONVERGED_GAIN = 1e-12;
+
+/** Largest relative coefficient move of a final step taken on paper (`NewtonOptions.finalStep`). */
+export const FINAL_STEP_MOVE = 1e-3;
 
 /** Products of the factors 1 + t (each in (1, 2]) are turned into one logarithm when they pass this. */
 const PRODUCT_FLUSH = 1e280;
@@ -588,7 +606,11 @@ export function newtonLoop(
   factor: () => Float64Array | undefined,
   accept: () => void,
   initialInfo?: ArrayLike<number>,
-): { beta: Float64Array<ArrayBuffer>; ll: number; iterations: number; status: FitStatus } {
+  finalStep?: number,
+): { beta: Float64Array<ArrayBuffer>; ll: number; iterations: number; passes: number; status: FitStatus } {
+  let passes = 0;
+  const rowPass = pass;
+  pass = (b, g, withInfo) => (passes++, rowPass(b, g, withInfo));
   let beta = beta0;
   let betaNew = new Float64Array(P);
   let g = new Float64Array(P);
@@ -599,7 +621,7 @@ export function newtonLoop(
   accept();
   let fresh = !L; // L is the information at β (not an approximation given by the caller)
   if (!L) L = factor();
-  if (!L) return { beta, ll, iterations: 1, status: "singular" };
+  if (!L) return { beta, ll, iterations: 1, passes, status: "singular" };
   let status: FitStatus = "not-converged";
   let it = 0;
   let ownInfo = fresh; // L was computed on the rows (at this or an earlier, nearby iterate)
@@ -617,6 +639,14 @@ export function newtonLoop(
       }
       if (move <= 1e-7 && gain >= 0 && gain <= CONVERGED_GAIN * (Math.abs(ll) + 0.1)) {
         it--;
+        status = "converged";
+        break;
+      }
+      if (finalStep !== undefined && fresh && move <= FINAL_STEP_MOVE && gain >= 0 && gain <= finalStep * (Math.abs(ll) + 0.1)) {
+        // The last step on paper (see NewtonOptions.finalStep): the maximum of the quadratic model at β.
+        for (let j = 0; j < P; j++) betaNew[j] = beta[j]! + delta[j]!;
+        [beta, betaNew] = [betaNew, beta];
+        ll += gain / 2;
         status = "converged";
         break;
       }
@@ -676,7 +706,7 @@ export function newtonLoop(
       ownInfo = true;
     } else fresh = false;
   }
-  return { beta, ll, iterations: it, status };
+  return { beta, ll, iterations: it, passes, status };
 }
 
 /**
@@ -731,10 +761,11 @@ export function logisticRegressionDesign(D: FactorDesign, y: ArrayLike<number>, 
     () => cholesky(assembleCrossProduct(D, s.sums, 0, 1, H), p, 1e-13),
     () => (separated = s.separated),
     options.information,
+    options.finalStep,
   );
   const separatedRows = fit.status === "converged" ? 0 : separated;
   // A converged fit has finite estimates: rows fitted near 0 or 1 there are extreme, not separated.
   const separation: Separation =
     separatedRows === 0 || fit.status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
-  return { coef: fit.beta, logLik: fit.ll, iterations: fit.iterations, status: fit.status, separation, separatedRows, rows, information: H };
+  return { coef: fit.beta, logLik: fit.ll, iterations: fit.iterations, passes: fit.passes, status: fit.status, separation, separatedRows, rows, information: H };
 }

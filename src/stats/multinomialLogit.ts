@@ -25,6 +25,8 @@ export interface MultinomialFit {
   categories: number;
   logLik: number;
   iterations: number;
+  /** Passes over the rows (each gives ℓ and the gradient at one point, and the information while steps are large). */
+  passes: number;
   status: FitStatus;
   separation: Separation;
   /** Rows whose observed category is fitted with probability > 1 − 1e-9 (counted when the fit did not converge; 0 otherwise). */
@@ -245,9 +247,10 @@ export function multinomialLogitDesign(D: FactorDesign, y: ArrayLike<number>, K:
     () => cholesky(assembleInformation(D, K, s.sums, H, B), P, 1e-13),
     () => (separated = s.separated),
     options.information,
+    options.finalStep,
   );
   const separatedRows = fit.status === "converged" ? 0 : separated;
   const separation: Separation =
     separatedRows === 0 || fit.status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
-  return { coef: fit.beta, categories: K, logLik: fit.ll, iterations: fit.iterations, status: fit.status, separation, separatedRows, rows, information: H };
+  return { coef: fit.beta, categories: K, logLik: fit.ll, iterations: fit.iterations, passes: fit.passes, status: fit.status, separation, separatedRows, rows, information: H };
 }

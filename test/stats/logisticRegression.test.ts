@@ -246,6 +246,21 @@ describe("convergence without a further pass", () => {
     }
   });
 
+  it("finalStep: the last step taken on paper gives statsmodels' ℓ (1e-12 relative) and coefficients (1e-6), in fewer passes", () => {
+    for (const eps of [0.3, 1e-2, 1e-3, 1e-4]) {
+      const start = params.map((b, j) => b * (1 + eps * (j % 2 ? 1 : -1)) + eps * 0.1);
+      for (const information of [undefined, cold.information]) {
+        const plain = logisticRegression(X, m, p, yb, { start, information });
+        const f = logisticRegression(X, m, p, yb, { start, information, finalStep: 1e-7 });
+        expect(f.status).toBe("converged");
+        expect(Math.abs(f.logLik - llf)).toBeLessThanOrEqual(1e-12 * Math.abs(llf)); // statsmodels Logit llf
+        expectRelative(f.coef, params, 1e-6); // statsmodels Logit params
+        expect(f.passes).toBeLessThanOrEqual(plain.passes);
+        if (eps >= 1e-3) expect(f.passes).toBe(plain.passes - 1); // the confirming pass is saved
+      }
+    }
+  });
+
   it("a start at a converged fit stops after its first pass (0 steps) with the same ℓ; a far start still takes its steps", () => {
     const again = logisticRegression(X, m, p, yb, { start: cold.coef });
     expect(again.status).toBe("converged");

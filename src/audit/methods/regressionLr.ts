@@ -26,13 +26,17 @@
  *   (`FactorDesign`: rows with the same categorical predictors share a cell, so a pass costs
  *   O(d²) per row for d continuous given whatever the number of dummies). The null model's
  *   columns are the full model's without the added block (same rows, cells and dense buffer).
- * - Warm start: with more than 60,000 fitting rows both models are first fitted to 20,000 rows
- *   drawn at random (with replacement) from the stream of (`ctx.seed`, the claim); the fits on
- *   all rows start there (the first Newton step with the subsample's information matrix scaled
- *   to all rows) and stop by the same convergence criterion as from any start, so the estimates,
- *   ℓ0, ℓ1 and LR are the maximum-likelihood ones of all rows (to that criterion), only reached
- *   in fewer passes (about 3–4 per model instead of 5–8). The full model starts at the subsample's
- *   full fit, its shared coefficients moved by as much as the null model's moved on all rows.
+ * - Warm start: with more than 60,000 fitting rows both models are first fitted to a tenth of
+ *   the rows (at least 20,000, at most 100,000) drawn at random (with replacement) from the
+ *   stream of (`ctx.seed`, the claim); the fits on all rows start there (the first Newton step
+ *   with the subsample's information matrix scaled to all rows) and stop by the same convergence
+ *   criterion as from any start, or, once the information computed at the current iterate
+ *   predicts a gain below 1e-7 relative, with that last Newton step taken on paper (ℓ + ½gᵀδ, the
+ *   maximum of the quadratic model; `NewtonOptions.finalStep`), whose error, of the order of the
+ *   next step's gain, is far below 1e-12 relative. So the estimates, ℓ0, ℓ1 and LR are the
+ *   maximum-likelihood ones of all rows (to that criterion), only reached in fewer passes (about
+ *   2 per model instead of 5–8). The full model starts at the subsample's full fit, its shared
+ *   coefficients moved by as much as the null model's moved on all rows.
  * - Outcomes: complete separation in either model (every row predicted with probability → 1),
  *   a singular information matrix, an exact linear fit, a single observed level or constant
  *   added side, or too few rows for the parameters give `{ ok: false, reason }`; quasi-complete
@@ -57,8 +61,17 @@ import { groupRows } from "./groupRows.js";
 
 type ModelKind = "logistic" | "multinomial";
 
-/** Rows of the random subsample that gives the starting values of the fits on all rows. */
-const START_SUBSAMPLE = 20_000;
+/** Fits on more rows than this start from a fit on a random subsample of them. */
+const WARM_START_ROWS = 60_000;
+/** Rows of that subsample: a tenth of the rows, within these bounds. */
+const START_SUBSAMPLE_MIN = 20_000;
+const START_SUBSAMPLE_MAX = 100_000;
+/**
+ * Predicted gain (relative to |ℓ| + 0.1) below which a fit on all rows ends with its last Newton
+ * step taken on paper (`NewtonOptions.finalStep`): the error of ℓ there, of the order of the
+ * next step's gain, is then far below 1e-12 relative.
+ */
+const FINAL_STEP_GAIN = 1e-7;
 
 function isCategorical(c: Column): boolean {
   return CATEGORICAL_TYPES.has(c.type) && c.codes !== undefined && c.levels !== undefined;
@@ -387,7 +400,7 @@ function quoted(names: readonly string[]): string {
  * Regression likelihood-ratio test of one claim (see the module comment).
  * Cost: linear models O(patterns) from the moments; logistic and multinomial models
  * O(rows·k) to gather the complete rows, then per pass over them O(rows·q·d) (O(rows·q²·d²)
- * while the information matrix is renewed), d continuous given, q = categories − 1; about 3–4
+ * while the information matrix is renewed), d continuous given, q = categories − 1; about 2
  * passes per model on all rows after the warm start on a subsample (grouped data: O(G) per pass
  * for G groups).
  * Source: Wilks (1938); McCullagh & Nelder (1989), Generalized Linear Models, 2nd ed.; Agresti
@@ -574,8 +587,10 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     const y = new Int32Array(m);
     for (let i = 0; i < m; i++) y[i] = recode[rc[i]!]!;
     const K = respLevels.length;
-    const fit = (D: FactorDesign, yy: Int32Array, w: Float64Array | undefined, start?: Float64Array, information?: Float64Array): LogisticFit | MultinomialFit =>
-      kind === "logistic" ? logisticRegressionDesign(D, yy, { weights: w, start, information }) : multinomialLogitDesign(D, yy, K, { weights: w, start, information });
+    const fit = (D: FactorDesign, yy: Int32Array, w: Float64Array | undefined, start?: Float64Array, information?: Float64Array): LogisticFit | MultinomialFit => {
+      const opts = { weights: w, start, information, ...(start && D.rows === m ? { finalStep: FINAL_STEP_GAIN } : {}) };
+      return kind === "logistic" ? logisticRegressionDesign(D, yy, opts) : multinomialLogitDesign(D, yy, K, opts);
+    };
     const usable = (f: LogisticFit | MultinomialFit) => f.status === "converged" && Number.isFinite(f.logLik) && f.coef.every(Number.isFinite);
     // Warm start: both models fitted first to a seeded random subsample of the rows; the fits on
     // all rows start there (with the subsample's information, scaled to all rows, for their first
@@ -586,9 +601,9 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     let info0: Float64Array | undefined;
     let info1: Float64Array | undefined;
     let sub0: LogisticFit | MultinomialFit | undefined;
-    if (m > 3 * START_SUBSAMPLE) {
+    if (m > WARM_START_ROWS) {
       const rng = createRng(ctx.seed, `regression-lr start\u0000${streamKeyOfClaim(claim)}`);
-      const pick = new Int32Array(START_SUBSAMPLE);
+      const pick = new Int32Array(Math.min(START_SUBSAMPLE_MAX, Math.max(START_SUBSAMPLE_MIN, Math.round(m / 10))));
       for (let t = 0; t < pick.length; t++) pick[t] = rng.nextInt(m);
       pick.sort();
       const s1 = subDesign(D1, y, weights, pick);
@@ -634,7 +649,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
       }
     }
     lr = 2 * (f1.logLik - f0.logLik);
-    Object.assign(details, { loglik_null: f0.logLik, loglik_full: f1.logLik, iterations: [f0.iterations, f1.iterations] });
+    Object.assign(details, { loglik_null: f0.logLik, loglik_full: f1.logLik, iterations: [f0.iterations, f1.iterations], row_passes: [f0.passes, f1.passes] });
   }
   if (!Number.isFinite(lr)) return { ok: false, reason: `the likelihood-ratio statistic of "${added.name}" is not finite; the claim cannot be tested with these data` };
   let sign: -1 | 0 | 1 = 1;
