@@ -122,7 +122,8 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
  * @throws UnknownNodeError when a measured node of the graph is not a column of the table.
  */
 export async function runAuditParallel(graph: Graph, table: Table, options: ParallelAuditOptions = {}): Promise<AuditResult> {
-  const plan = planAudit(graph, table, options);
+  const claimPlan = planClaims(graph, table, options);
+  const plan = claimPlan as AuditPlan; // the moments are added below, once the helper has started
   const total = plan.claims.length;
   const results: (MethodResult | undefined)[] = new Array(total);
   const heavy: { i: number; work: number }[] = [];
@@ -149,13 +150,14 @@ export async function runAuditParallel(graph: Graph, table: Table, options: Para
   heavy.sort((a, b) => b.work - a.work || a.i - b.i);
   const queue = heavy.map((h) => h.i);
   const counter = new Int32Array(new SharedArrayBuffer(8));
-  const job: HelperJob = { table, claims: queue.map((i) => plan.claims[i]!), counter, settings: plan.settings, ...(plan.ctx.rowFilter ? { rowFilter: plan.ctx.rowFilter } : {}) };
+  const job: HelperJob = { table, claims: queue.map((i) => plan.claims[i]!), counter, settings: plan.settings, ...(claimPlan.rowFilter ? { rowFilter: claimPlan.rowFilter } : {}) };
   const fromHelper = shared
     ? options.helper!(job, () => {
         helperDone = Atomics.load(counter, 1);
         progress();
       })
     : Promise.resolve(new Map<number, MethodResult>());
+  addMoments(claimPlan, table); // while the helper starts and takes its first claims
   // This thread: the claims that work from the moments first, then its share of the others.
   for (let i = 0; i < total; i++) {
     if (results[i] !== undefined || isHeavy[i]) continue;
@@ -237,6 +239,16 @@ export function helperContext(table: Table, settings: AuditSettings, rowFilter?:
 
 /** Claims, moments and context of an audit. */
 function planAudit(graph: Graph, table: Table, options: AuditOptions): AuditPlan {
+  const plan = planClaims(graph, table, options);
+  addMoments(plan, table);
+  return plan as AuditPlan;
+}
+
+/** An audit plan before its moments: the claims, settings and row filter. */
+type ClaimPlan = Omit<AuditPlan, "moments" | "ctx"> & { rowFilter?: Uint8Array; moments?: PatternMoments; ctx?: TestContext };
+
+/** The claims, settings, row filter and constant columns of an audit (no pass over the rows but the constant-column check). */
+function planClaims(graph: Graph, table: Table, options: AuditOptions): ClaimPlan {
   const settings: AuditSettings = { ...DEFAULT_SETTINGS, ...options.settings };
   const measured = graph.nodes.filter((n) => graph.isMeasured(n));
   const missingCols = measured.filter((n) => !table.column(n));
@@ -252,9 +264,17 @@ function planAudit(graph: Graph, table: Table, options: AuditOptions): AuditPlan
   if (truncatedPairs > 0) warnings.push(`${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than ${MAX_SETS_PER_PAIR} minimal separating sets; only ${MAX_SETS_PER_PAIR} of each were tested`);
 
   const rowFilter = settings.listwise ? listwiseFilter(table, measured) : undefined;
+  const constant = constantColumns(table, measured, rowFilter);
+  return { settings, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, constant, ...(rowFilter ? { rowFilter } : {}) };
+}
+
+/** Build the pattern moments of the measured variables and the test context, into the plan. Cost: O(rows · d²). */
+function addMoments(plan: ClaimPlan, table: Table): void {
+  const { measured, rowFilter, settings } = plan;
   const moments = buildPatternMoments(table, { variables: measured, rowFilter });
   let ranks: PatternMoments | undefined;
-  const ctx: TestContext = {
+  plan.moments = moments;
+  plan.ctx = {
     table,
     moments,
     rankMoments: () => (ranks ??= buildPatternMoments(table, { variables: measured, rowFilter, useRanks: true })),
@@ -262,8 +282,6 @@ function planAudit(graph: Graph, table: Table, options: AuditOptions): AuditPlan
     seed: settings.seed,
     permutations: settings.permutations,
   };
-  const constant = constantColumns(table, measured, rowFilter);
-  return { settings, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, moments, ctx, constant };
 }
 
 /** Adjust, decide, rank, repair and combine the claims' results (in claim order). */
