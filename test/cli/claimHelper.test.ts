@@ -70,6 +70,14 @@ describe("runAuditParallel with the worker helper", () => {
     expect(shared).toEqual(alone);
   });
 
+  it("runAuditParallel equals runAudit with --listwise (the row filter travels to the worker), forced permutations and another seed", async () => {
+    for (const settings of [{ listwise: true }, { permutations: 199, seed: 5 }, { method: "regression" as const, seed: 9 }]) {
+      const alone = runAudit(graph, table, { settings });
+      const shared = await runAuditParallel(graph, table, { settings, helper: claimHelper, helperMinWork: 0 });
+      expect(shared).toEqual(alone);
+    }
+  });
+
   it("tests again on the main thread the claims a failed helper took but did not answer", async () => {
     const alone = runAudit(graph, table);
     let took: number[] = [];
