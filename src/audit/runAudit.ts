@@ -157,24 +157,31 @@ export async function runAuditParallel(graph: Graph, table: Table, options: Para
         progress();
       })
     : Promise.resolve(new Map<number, MethodResult>());
-  addMoments(claimPlan, table); // while the helper starts and takes its first claims
-  // This thread: the claims that work from the moments first, then its share of the others.
-  for (let i = 0; i < total; i++) {
-    if (results[i] !== undefined || isHeavy[i]) continue;
-    results[i] = testClaimMethod(plan.claims[i]!, plan.ctx, plan.settings);
-    done++;
-    helperDone = Atomics.load(counter, 1);
-    progress();
-  }
   const mine = new Set<number>();
-  for (;;) {
-    const k = Atomics.add(counter, 0, 1);
-    if (k >= queue.length) break;
-    mine.add(k);
-    results[queue[k]!] = testClaimMethod(plan.claims[queue[k]!]!, plan.ctx, plan.settings);
-    done++;
-    helperDone = Atomics.load(counter, 1);
-    progress();
+  try {
+    addMoments(claimPlan, table); // while the helper starts and takes its first claims
+    // This thread: the claims that work from the moments first, then its share of the others.
+    for (let i = 0; i < total; i++) {
+      if (results[i] !== undefined || isHeavy[i]) continue;
+      results[i] = testClaimMethod(plan.claims[i]!, plan.ctx, plan.settings);
+      done++;
+      helperDone = Atomics.load(counter, 1);
+      progress();
+    }
+    for (;;) {
+      const k = Atomics.add(counter, 0, 1);
+      if (k >= queue.length) break;
+      mine.add(k);
+      results[queue[k]!] = testClaimMethod(plan.claims[queue[k]!]!, plan.ctx, plan.settings);
+      done++;
+      helperDone = Atomics.load(counter, 1);
+      progress();
+    }
+  } catch (e) {
+    // leave the helper nothing more to take, let it finish its claim, then report the error
+    Atomics.store(counter, 0, queue.length);
+    await fromHelper.catch(() => undefined);
+    throw e;
   }
   const theirs = await fromHelper.catch(() => new Map<number, MethodResult>());
   for (let k = 0; k < queue.length; k++) {

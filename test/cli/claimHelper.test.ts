@@ -91,6 +91,23 @@ describe("runAuditParallel with the worker helper", () => {
     expect(shared).toEqual(alone);
   });
 
+  it("an error on the main thread leaves the helper nothing more to take, waits for it, then is reported", async () => {
+    let failing = false;
+    const c1 = table.column("c1")!;
+    const trap = { ...c1, get values() { if (failing) throw new Error("disk gone"); return c1.values; } };
+    const trapped = { ...table, columns: table.columns.map((c) => (c.name === "c1" ? trap : c)), column: (n: string) => (n === "c1" ? trap : table.column(n)) };
+    let left = -1;
+    let queued = 0;
+    const slow: ClaimHelper = (job) => {
+      failing = true; // the moments, built next on the main thread, now fail
+      queued = job.claims.length;
+      return new Promise((resolve) => setTimeout(() => { left = Atomics.load(job.counter, 0); resolve(new Map()); }, 20));
+    };
+    await expect(runAuditParallel(graph, trapped, { helper: slow, helperMinWork: 0 })).rejects.toThrow("disk gone");
+    expect(queued).toBeGreaterThan(0);
+    expect(left).toBe(queued); // the counter was moved to the end before the helper was awaited
+  });
+
   it("does not start the helper below the work threshold", async () => {
     let started = false;
     const spy: ClaimHelper = async () => { started = true; return new Map(); };
