@@ -16,9 +16,9 @@
  * within far less than 1e-10 relative of the maximum. On request (`finalStep`), a fit may also
  * end with its last Newton step taken on paper: from an information computed at the current
  * iterate, a step moving no coefficient by more than 1e-3 relative and predicting a gain below
- * the threshold ends the fit at β + δ with ℓ + ½gᵀδ, the maximum of the quadratic model; Newton
- * steps converge quadratically, so the error of that value is of the order of the next step's
- * gain. *Separation* (Albert & Anderson 1984, Biometrika 71:1–10): the
+ * the threshold ends the fit at β + δ with ℓ + ½gᵀδ, the maximum of the quadratic model; the error of
+ * that value comes from the terms beyond the quadratic and is of the order of the gain times
+ * the step's size. *Separation* (Albert & Anderson 1984, Biometrika 71:1–10): the
  * maximum likelihood estimate does not exist because a combination of predictors classifies
  * some rows perfectly; the coefficients then grow without bound while ℓ approaches its supremum.
  * A *separated row* is one whose observed outcome is fitted with probability above 1 − 1e-9;

@@ -251,7 +251,7 @@ describe("convergence without a further pass", () => {
       const start = params.map((b, j) => b * (1 + eps * (j % 2 ? 1 : -1)) + eps * 0.1);
       for (const information of [undefined, cold.information]) {
         const plain = logisticRegression(X, m, p, yb, { start, information });
-        const f = logisticRegression(X, m, p, yb, { start, information, finalStep: 1e-7 });
+        const f = logisticRegression(X, m, p, yb, { start, information, finalStep: 1e-8 });
         expect(f.status).toBe("converged");
         expect(Math.abs(f.logLik - llf)).toBeLessThanOrEqual(1e-12 * Math.abs(llf)); // statsmodels Logit llf
         expectRelative(f.coef, params, 1e-6); // statsmodels Logit params
