@@ -34,8 +34,8 @@
  *   predicts a gain below 1e-8 relative, with that last Newton step taken on paper (ℓ + ½gᵀδ, the
  *   maximum of the quadratic model; `NewtonOptions.finalStep`), whose error, of the order of the
  *   gain times the step, stays near 1e-13 relative. So the estimates, ℓ0, ℓ1 and LR are the
- *   maximum-likelihood ones of all rows (to that criterion), only reached in fewer passes (about
- *   2 per model instead of 5–8). The full model starts at the subsample's full fit, its shared
+ *   maximum-likelihood ones of all rows (to that criterion), only reached in fewer passes (2–3
+ *   per model instead of 5–8). The full model starts at the subsample's full fit, its shared
  *   coefficients moved by as much as the null model's moved on all rows.
  * - Outcomes: complete separation in either model (every row predicted with probability → 1),
  *   a singular information matrix, an exact linear fit, a single observed level or constant
@@ -401,7 +401,7 @@ function quoted(names: readonly string[]): string {
  * Regression likelihood-ratio test of one claim (see the module comment).
  * Cost: linear models O(patterns) from the moments; logistic and multinomial models
  * O(rows·k) to gather the complete rows, then per pass over them O(rows·q·d) (O(rows·q²·d²)
- * while the information matrix is renewed), d continuous given, q = categories − 1; about 2
+ * while the information matrix is renewed), d continuous given, q = categories − 1; 2–3
  * passes per model on all rows after the warm start on a subsample (grouped data: O(G) per pass
  * for G groups).
  * Source: Wilks (1938); McCullagh & Nelder (1989), Generalized Linear Models, 2nd ed.; Agresti
