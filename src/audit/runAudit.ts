@@ -122,19 +122,19 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
  * @throws UnknownNodeError when a measured node of the graph is not a column of the table.
  */
 export async function runAuditParallel(graph: Graph, table: Table, options: ParallelAuditOptions = {}): Promise<AuditResult> {
-  const claimPlan = planClaims(graph, table, options);
-  const plan = claimPlan as AuditPlan; // the moments are added below, once the helper has started
-  const total = plan.claims.length;
+  const claimPlan = planClaims(graph, table, options); // the moments come below, once the helper has started
+  const { claims, constant, settings, rowFilter } = claimPlan;
+  const total = claims.length;
   const results: (MethodResult | undefined)[] = new Array(total);
   const heavy: { i: number; work: number }[] = [];
   let workSum = 0;
-  plan.claims.forEach((claim, i) => {
-    const pre = precheck(claim, plan.constant);
+  claims.forEach((claim, i) => {
+    const pre = precheck(claim, constant);
     if (pre) {
       results[i] = pre;
       return;
     }
-    const work = methodOf(claim, table, plan.settings).rowWork?.(claim, table) ?? 0;
+    const work = methodOf(claim, table, settings).rowWork?.(claim, table) ?? 0;
     if (work > 0) {
       heavy.push({ i, work });
       workSum += work;
@@ -150,32 +150,34 @@ export async function runAuditParallel(graph: Graph, table: Table, options: Para
   heavy.sort((a, b) => b.work - a.work || a.i - b.i);
   const queue = heavy.map((h) => h.i);
   const counter = new Int32Array(new SharedArrayBuffer(8));
-  const job: HelperJob = { table, claims: queue.map((i) => plan.claims[i]!), counter, settings: plan.settings, ...(claimPlan.rowFilter ? { rowFilter: claimPlan.rowFilter } : {}) };
+  const job: HelperJob = { table, claims: queue.map((i) => claims[i]!), counter, settings, ...(rowFilter ? { rowFilter } : {}) };
   const fromHelper = shared
     ? options.helper!(job, () => {
         helperDone = Atomics.load(counter, 1);
         progress();
       })
     : Promise.resolve(new Map<number, MethodResult>());
+  const tick = () => {
+    done++;
+    helperDone = Atomics.load(counter, 1);
+    progress();
+  };
   const mine = new Set<number>();
+  let plan: AuditPlan;
   try {
-    addMoments(claimPlan, table); // while the helper starts and takes its first claims
+    plan = withMoments(claimPlan, table); // while the helper starts and takes its first claims
     // This thread: the claims that work from the moments first, then its share of the others.
     for (let i = 0; i < total; i++) {
       if (results[i] !== undefined || isHeavy[i]) continue;
-      results[i] = testClaimMethod(plan.claims[i]!, plan.ctx, plan.settings);
-      done++;
-      helperDone = Atomics.load(counter, 1);
-      progress();
+      results[i] = testClaimMethod(claims[i]!, plan.ctx, settings);
+      tick();
     }
     for (;;) {
       const k = Atomics.add(counter, 0, 1);
       if (k >= queue.length) break;
       mine.add(k);
-      results[queue[k]!] = testClaimMethod(plan.claims[queue[k]!]!, plan.ctx, plan.settings);
-      done++;
-      helperDone = Atomics.load(counter, 1);
-      progress();
+      results[queue[k]!] = testClaimMethod(claims[queue[k]!]!, plan.ctx, settings);
+      tick();
     }
   } catch (e) {
     // leave the helper nothing more to take, let it finish its claim, then report the error
@@ -187,7 +189,7 @@ export async function runAuditParallel(graph: Graph, table: Table, options: Para
   for (let k = 0; k < queue.length; k++) {
     if (mine.has(k)) continue;
     const got = theirs.get(k);
-    results[queue[k]!] = got ?? testClaimMethod(plan.claims[queue[k]!]!, plan.ctx, plan.settings);
+    results[queue[k]!] = got ?? testClaimMethod(claims[queue[k]!]!, plan.ctx, settings);
   }
   options.onProgress?.(total, total);
   return finishAudit(graph, table, plan, results as MethodResult[], options);
@@ -246,13 +248,11 @@ export function helperContext(table: Table, settings: AuditSettings, rowFilter?:
 
 /** Claims, moments and context of an audit. */
 function planAudit(graph: Graph, table: Table, options: AuditOptions): AuditPlan {
-  const plan = planClaims(graph, table, options);
-  addMoments(plan, table);
-  return plan as AuditPlan;
+  return withMoments(planClaims(graph, table, options), table);
 }
 
-/** An audit plan before its moments: the claims, settings and row filter. */
-type ClaimPlan = Omit<AuditPlan, "moments" | "ctx"> & { rowFilter?: Uint8Array; moments?: PatternMoments; ctx?: TestContext };
+/** An audit plan before its moments: the claims, settings, row filter and constant columns. */
+type ClaimPlan = Omit<AuditPlan, "moments" | "ctx"> & { rowFilter?: Uint8Array };
 
 /** The claims, settings, row filter and constant columns of an audit (no pass over the rows but the constant-column check). */
 function planClaims(graph: Graph, table: Table, options: AuditOptions): ClaimPlan {
@@ -275,13 +275,12 @@ function planClaims(graph: Graph, table: Table, options: AuditOptions): ClaimPla
   return { settings, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, constant, ...(rowFilter ? { rowFilter } : {}) };
 }
 
-/** Build the pattern moments of the measured variables and the test context, into the plan. Cost: O(rows · d²). */
-function addMoments(plan: ClaimPlan, table: Table): void {
+/** The plan with the pattern moments of the measured variables and the test context. Cost: O(rows · d²). */
+function withMoments(plan: ClaimPlan, table: Table): AuditPlan {
   const { measured, rowFilter, settings } = plan;
   const moments = buildPatternMoments(table, { variables: measured, rowFilter });
   let ranks: PatternMoments | undefined;
-  plan.moments = moments;
-  plan.ctx = {
+  const ctx: TestContext = {
     table,
     moments,
     rankMoments: () => (ranks ??= buildPatternMoments(table, { variables: measured, rowFilter, useRanks: true })),
@@ -289,6 +288,7 @@ function addMoments(plan: ClaimPlan, table: Table): void {
     seed: settings.seed,
     permutations: settings.permutations,
   };
+  return { ...plan, moments, ctx };
 }
 
 /** Adjust, decide, rank, repair and combine the claims' results (in claim order). */
