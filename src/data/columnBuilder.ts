@@ -208,16 +208,7 @@ export class ColumnBuilder {
       this.missingCount[c]! += s.missingCount[c]!;
       const theirs = s.textCodes[c];
       if (theirs !== undefined && s.textCount[c]! > 0) {
-        const remap = s.labels[c]!.map((t) => {
-          const dict = this.dict[c]!;
-          let code = dict.get(t);
-          if (code === undefined) {
-            code = dict.size;
-            dict.set(t, code);
-            this.labels[c]!.push(t);
-          }
-          return code;
-        });
+        const remap = s.labels[c]!.map((t) => this.textCode(c, t));
         let codes = this.textCodes[c];
         if (codes === undefined || codes.length < total) {
           const grown = new Int32Array(Math.max(total, this.capacity)).fill(-1);
@@ -336,13 +327,7 @@ export class ColumnBuilder {
     }
     this.vals[c]![this.rows] = NaN;
     this.textCount[c]!++;
-    const dict = this.dict[c]!;
-    let code = dict.get(t);
-    if (code === undefined) {
-      code = dict.size;
-      dict.set(t, code);
-      this.labels[c]!.push(t);
-    }
+    const code = this.textCode(c, t);
     let codes = this.textCodes[c];
     if (codes === undefined) {
       codes = new Int32Array(this.capacity).fill(-1);
@@ -351,6 +336,18 @@ export class ColumnBuilder {
     codes[this.rows] = code;
     const ft = this.firstTexts[c]!;
     if (ft.length < 3) ft.push({ line: this.line, text: t });
+  }
+
+  /** Column c's code of text t, a new one (the next in order of first appearance) when t is new. Cost: O(1). */
+  private textCode(c: number, t: string): number {
+    const dict = this.dict[c]!;
+    let code = dict.get(t);
+    if (code === undefined) {
+      code = dict.size;
+      dict.set(t, code);
+      this.labels[c]!.push(t);
+    }
+    return code;
   }
 
   private track(c: number, v: number): void {
