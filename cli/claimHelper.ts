@@ -19,6 +19,7 @@ export interface ClaimTask {
   counter: Int32Array;
   settings: AuditSettings;
   rowFilter?: Uint8Array;
+  decisionFloor: number;
 }
 
 /** A message from the worker: one claim's result (by index in the job), or the end. */
@@ -40,6 +41,7 @@ export const claimHelper: ClaimHelper = (job: HelperJob, onResult: () => void) =
     claims: job.claims,
     counter: job.counter,
     settings: job.settings,
+    decisionFloor: job.decisionFloor,
     ...(job.rowFilter ? { rowFilter: job.rowFilter } : {}),
   };
   const results = new Map<number, MethodResult>();

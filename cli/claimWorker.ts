@@ -12,7 +12,7 @@ import type { ClaimReply, ClaimTask } from "./claimHelper.js";
 if (parentPort && workerData && (workerData as { kind?: string }).kind === "claims") {
   const task = (workerData as { task: ClaimTask }).task;
   const table = assembleTable(task.file, task.rows, task.columns, []);
-  const ctx = helperContext(table, task.settings, task.rowFilter);
+  const ctx = helperContext(table, task.settings, task.rowFilter, task.decisionFloor);
   const port = parentPort;
   for (;;) {
     const k = Atomics.add(task.counter, 0, 1);

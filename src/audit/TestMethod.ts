@@ -19,6 +19,13 @@ export interface TestContext {
   seed: number;
   /** Monte-Carlo permutations forced by the user (--permutations), if any. */
   permutations?: number;
+  /**
+   * The smallest threshold a claim's unadjusted p-value can be compared with once adjusted for
+   * the number of claims (alpha/k for Holm and Benjamini–Hochberg with k claims, alpha without
+   * adjustment). Monte-Carlo methods draw enough samples that their p-value can fall below it.
+   * Absent: 0.05.
+   */
+  decisionFloor?: number;
 }
 
 export interface ClaimTypes {

@@ -59,6 +59,8 @@ export interface HelperJob {
   counter: Int32Array;
   settings: AuditSettings;
   rowFilter?: Uint8Array;
+  /** See `TestContext.decisionFloor`. */
+  decisionFloor: number;
 }
 
 /**
@@ -82,6 +84,8 @@ export const HELPER_MIN_WORK = 5e7;
 /** Everything the claims share: derived once per audit. */
 interface AuditPlan {
   settings: AuditSettings;
+  /** See `TestContext.decisionFloor`. */
+  decisionFloor: number;
   measured: string[];
   claims: Claim[];
   graphUntestable: UntestableClaim[];
@@ -123,7 +127,7 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
  */
 export async function runAuditParallel(graph: Graph, table: Table, options: ParallelAuditOptions = {}): Promise<AuditResult> {
   const claimPlan = planClaims(graph, table, options); // the moments come below, once the helper has started
-  const { claims, constant, settings, rowFilter } = claimPlan;
+  const { claims, constant, settings, rowFilter, decisionFloor } = claimPlan;
   const total = claims.length;
   const results: (MethodResult | undefined)[] = new Array(total);
   const heavy: { i: number; work: number }[] = [];
@@ -150,7 +154,7 @@ export async function runAuditParallel(graph: Graph, table: Table, options: Para
   heavy.sort((a, b) => b.work - a.work || a.i - b.i);
   const queue = heavy.map((h) => h.i);
   const counter = new Int32Array(new SharedArrayBuffer(8));
-  const job: HelperJob = { table, claims: queue.map((i) => claims[i]!), counter, settings, ...(rowFilter ? { rowFilter } : {}) };
+  const job: HelperJob = { table, claims: queue.map((i) => claims[i]!), counter, settings, decisionFloor, ...(rowFilter ? { rowFilter } : {}) };
   const fromHelper = shared
     ? options.helper!(job, () => {
         helperDone = Atomics.load(counter, 1);
@@ -230,7 +234,7 @@ export class MomentsUnavailableError extends Error {
  * The test context of a helper thread: the table, row filter and settings of the audit, and
  * moments that throw {@link MomentsUnavailableError} (claims sent to a helper read the rows).
  */
-export function helperContext(table: Table, settings: AuditSettings, rowFilter?: Uint8Array): TestContext {
+export function helperContext(table: Table, settings: AuditSettings, rowFilter?: Uint8Array, decisionFloor?: number): TestContext {
   const unavailable = new Proxy({} as PatternMoments, {
     get() {
       throw new MomentsUnavailableError();
@@ -243,6 +247,7 @@ export function helperContext(table: Table, settings: AuditSettings, rowFilter?:
     ...(rowFilter ? { rowFilter } : {}),
     seed: settings.seed,
     ...(settings.permutations !== undefined ? { permutations: settings.permutations } : {}),
+    decisionFloor: decisionFloor ?? settings.alpha,
   };
 }
 
@@ -272,7 +277,8 @@ function planClaims(graph: Graph, table: Table, options: AuditOptions): ClaimPla
 
   const rowFilter = settings.listwise ? listwiseFilter(table, measured) : undefined;
   const constant = constantColumns(table, measured, rowFilter);
-  return { settings, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, constant, ...(rowFilter ? { rowFilter } : {}) };
+  const decisionFloor = settings.adjust === "none" ? settings.alpha : settings.alpha / Math.max(1, claims.length);
+  return { settings, decisionFloor, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, constant, ...(rowFilter ? { rowFilter } : {}) };
 }
 
 /** The plan with the pattern moments of the measured variables and the test context. Cost: O(rows · d²). */
@@ -287,6 +293,7 @@ function withMoments(plan: ClaimPlan, table: Table): AuditPlan {
     rowFilter,
     seed: settings.seed,
     permutations: settings.permutations,
+    decisionFloor: plan.decisionFloor,
   };
   return { ...plan, moments, ctx };
 }

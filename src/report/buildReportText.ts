@@ -62,6 +62,21 @@ const REFERENCES: Record<RefKey, string> = {
 
 /** How each test is described in the methods, which variable types it served, and what it cites. */
 const TEST_TEXT: Record<TestName, { name: string; text: string; refs: RefKey[] }> = {
+  gcm: {
+    name: "generalised covariance measure",
+    text: "the generalised covariance measure (Shah & Peters 2020): both variables are regressed on the conditioning set with flexible adjustment, and the normalised mean of the products of their residuals is tested",
+    refs: [],
+  },
+  "gcm-rank": {
+    name: "generalised covariance measure on ranks",
+    text: "the generalised covariance measure (Shah & Peters 2020) applied to the mid-ranks of both variables",
+    refs: [],
+  },
+  "linear-by-linear": {
+    name: "stratified linear-by-linear",
+    text: "the generalised Cochran–Mantel–Haenszel correlation statistic for two ordinal variables within the strata of the conditioning set (Landis, Heyman & Koch 1978; Agresti 2013)",
+    refs: ["agresti2013"],
+  },
   "pearson-partial": {
     name: "Pearson partial r",
     text: "the partial Pearson correlation r, tested with the t statistic on n − 2 − |Z| degrees of freedom (|Z| the size of the conditioning set), with a 95% confidence interval from Fisher's z transformation (Fisher 1921; Fisher 1924)",

@@ -150,10 +150,13 @@ export function claimLabel(claim: Pick<Claim, "x" | "y" | "given">, ascii = fals
 export function effectSymbol(test: TestName, ascii = false): string {
   switch (test) {
     case "pearson-partial":
+    case "gcm":
       return "r";
     case "spearman-partial":
+    case "gcm-rank":
       return ascii ? "rho" : "ρ";
     case "stratified-chisq":
+    case "linear-by-linear":
     case "regression-lr":
       return "e";
   }

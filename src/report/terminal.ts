@@ -14,6 +14,9 @@ export interface TextOptions {
 }
 
 const SHORT_TEST: Record<TestName, string> = {
+  gcm: "GCM",
+  "gcm-rank": "GCM-rank",
+  "linear-by-linear": "lin×lin",
   "pearson-partial": "pearson",
   "spearman-partial": "spearman",
   "stratified-chisq": "chisq",

@@ -53,7 +53,7 @@ describe("runAuditParallel with the worker helper", () => {
     const claims = deriveClaims(graph).claims.filter((c) => (chooseMethod("auto", typesOf(c)).rowWork?.(c, table) ?? 0) > 0);
     const counter = new Int32Array(new SharedArrayBuffer(8));
     let answered = 0;
-    const got = await claimHelper({ table, claims, counter, settings: DEFAULT_SETTINGS }, () => answered++);
+    const got = await claimHelper({ table, claims, counter, settings: DEFAULT_SETTINGS, decisionFloor: 0.05 }, () => answered++);
     expect(got.size).toBe(claims.length);
     expect(answered).toBe(claims.length);
     expect(Atomics.load(counter, 1)).toBe(claims.length);
