@@ -2,7 +2,8 @@
  * Read a large delimited file with two threads: the main thread reads the first half of the
  * data records and a worker thread the second half (split at a line feed), both writing
  * numbers straight into the same shared column buffers; the halves are then joined in place
- * and typed once, exactly as a single reader would (same values, types, warnings and errors).
+ * and typed once, exactly as a single reader would (same values, types, declared levels and
+ * scores, warnings and errors).
  *
  * Falls back to one thread (the ordinary streaming reader) for small files, files that end
  * lines with a lone CR, the papaparse engine, a quote character anywhere in the data, a

@@ -11,6 +11,18 @@
  * so the peak is the data plus at most one column. Number cells are classified by {@link ColumnBuilder.num},
  * text cells by {@link ColumnBuilder.text}; both paths of the reader go through these two
  * methods, which is what makes them produce identical tables.
+ *
+ * Levels and scores of categorical columns (done once, in {@link ColumnBuilder.finish}, after
+ * the two-thread reader has joined its halves, so both readers apply the same rule). The
+ * *levels* are the declared ones (`--levels`, in the declared order), else the distinct numbers
+ * ascending followed by the text labels in code-unit order; `codes` holds each row's level index
+ * in that order. A number cell matches a level by value (`1.0` is the level `1`), a text cell by
+ * label; a value outside declared levels is an error that names it. The *score* of a binary or
+ * ordinal level (the column's `values`) is its number when all levels are numbers listed in
+ * increasing order (the spacing of numeric codes is meaningful), otherwise its position in the
+ * level order, 0 to k − 1. So a declared order sets the scores: declaring numeric codes out of
+ * increasing order (`pain=3|1|2`) scores them by position, and a warning says so; see
+ * {@link scoreLevels}. Nominal values are the level positions.
  */
 import { DataError, UsageError } from "../errors.js";
 import { inferType, MAX_INFERRED_ORDINAL_LEVELS } from "./inferType.js";
@@ -109,6 +121,7 @@ export class ColumnBuilder {
     checkNamesExist(options.columns ?? [], headerSet, "--columns", header);
     checkNamesExist(Object.keys(options.types ?? {}), headerSet, "--types", header);
     checkNamesExist(Object.keys(options.levels ?? {}), headerSet, "--levels", header);
+    checkLevelDeclarations(options.levels ?? {}, options.types ?? {}, this.decimalComma);
     this.fieldToColumn = new Int32Array(header.length).fill(-1);
     this.names = [];
     header.forEach((name, f) => {
@@ -428,7 +441,7 @@ export class ColumnBuilder {
       return { name, type: "continuous", typeSource: "declared", values, missing };
     }
     if (declared !== undefined) {
-      return this.categorical(c, name, declared, "declared", values, texts, missing, declaredLevels);
+      return this.categorical(c, name, declared, "declared", values, texts, missing, declaredLevels, warnings);
     }
     const inferred = inferType({
       name,
@@ -444,7 +457,7 @@ export class ColumnBuilder {
     if (inferred.type === "continuous") {
       return { name, type: "continuous", typeSource: "inferred", values, missing };
     }
-    return this.categorical(c, name, inferred.type, "inferred", values, texts, missing, undefined);
+    return this.categorical(c, name, inferred.type, "inferred", values, texts, missing, undefined, warnings);
   }
 
   private strayTextError(c: number, declared: boolean): never {
@@ -468,6 +481,14 @@ export class ColumnBuilder {
     );
   }
 
+  /**
+   * Finish a binary, ordinal or nominal column: its levels (declared, else numbers ascending
+   * then text labels in code-unit order), the level index of every row (`codes`) and the
+   * values, which become scores by {@link scoreLevels} (nominal: the level index). Cost: O(rows)
+   * plus a sort of the distinct values.
+   * @throws DataError for text levels of an ordinal column without --levels, more than two levels
+   *   of a binary column, and values outside the declared levels
+   */
   private categorical(
     c: number,
     name: string,
@@ -477,6 +498,7 @@ export class ColumnBuilder {
     texts: Int32Array | undefined,
     missing: number,
     declaredLevels: readonly string[] | undefined,
+    warnings: string[],
   ): Column {
     const n = this.rows;
     const textLabels = this.labels[c]!;
@@ -488,23 +510,21 @@ export class ColumnBuilder {
     }
     const nums = [...numSet].sort((a, b) => a - b);
     let levels: string[];
-    let numericLevels: number[] | undefined;
+    // The number each level stands for, undefined for a text level.
+    let levelNumbers: (number | undefined)[];
     if (declaredLevels !== undefined) {
       levels = [...declaredLevels];
-      const parsed = levels.map((l) => parseNumberText(l, this.decimalComma));
-      if (parsed.every((v) => v !== undefined)) numericLevels = parsed as number[];
-    } else if (textLabels.length === 0) {
-      numericLevels = nums;
-      levels = nums.map((v) => numberLabel(v, this.decimalComma));
+      levelNumbers = levels.map((l) => parseNumberText(l.trim(), this.decimalComma));
     } else {
-      if (type === "ordinal") {
-        const all = [...nums.map((v) => numberLabel(v, this.decimalComma)), ...[...textLabels].sort(compareText)];
+      const textSorted = [...textLabels].sort(compareText);
+      levels = [...nums.map((v) => numberLabel(v, this.decimalComma)), ...textSorted];
+      if (type === "ordinal" && textSorted.length > 0) {
         throw new DataError(
-          `${this.where()}column "${name}" is ordinal but its levels are text (${listLevels(all)}); give their order low to high with --levels "${name}=${all.join("|")}"`,
+          `${this.where()}column "${name}" is ordinal but its levels are text (${listLevels(levels)}); give their order low to high with --levels "${name}=${levels.join("|")}"`,
           { file: this.file, column: this.header.indexOf(name) + 1 },
         );
       }
-      levels = [...nums.map((v) => numberLabel(v, this.decimalComma)), ...[...textLabels].sort(compareText)];
+      levelNumbers = [...nums, ...textSorted.map(() => undefined)];
     }
     if (type === "binary" && levels.length > 2) {
       throw new DataError(
@@ -512,35 +532,36 @@ export class ColumnBuilder {
         { file: this.file, column: this.header.indexOf(name) + 1 },
       );
     }
-    // Map numbers and text codes to level indices.
-    const levelIndex = new Map<string, number>();
-    levels.forEach((l, i) => levelIndex.set(l, i));
-    const numIndex = new Map<number, number>();
-    for (const v of nums) {
-      let idx: number | undefined;
-      if (numericLevels !== undefined) {
-        const j = numericLevels.indexOf(v);
-        idx = j >= 0 ? j : undefined;
-      } else {
-        idx = levelIndex.get(numberLabel(v, this.decimalComma));
-      }
-      if (idx !== undefined) numIndex.set(v, idx);
+    const { scores, byPosition } = scoreLevels(levelNumbers, type, declaredLevels !== undefined);
+    if (byPosition) {
+      warnings.push(
+        `column "${name}": --levels lists its numeric codes out of increasing order (${levels.join("|")}), so each level scores its position in that order (0 to ${levels.length - 1}), not its code`,
+      );
     }
-    const textIndex = textLabels.map((t) => {
-      if (numericLevels !== undefined) return -1;
-      return levelIndex.get(t) ?? -1;
+    // Number cells match a level by value (so 1.0 in the file is the declared level 1), text
+    // cells by label; -1 marks a value outside the levels.
+    const byNumber = new Map<number, number>();
+    levelNumbers.forEach((v, i) => {
+      if (v !== undefined && !byNumber.has(v)) byNumber.set(v, i);
     });
+    const byLabel = new Map<string, number>();
+    levels.forEach((l, i) => byLabel.set(l, i));
+    const textIndex = textLabels.map((t) => byLabel.get(t) ?? -1);
     // The values become level scores in place (each is read before it is written); the codes go
     // into the same kind of memory as the values, so a table read into shared memory stays shareable.
     const codes = values.buffer instanceof SharedArrayBuffer ? new Int32Array(new SharedArrayBuffer(4 * n)) : new Int32Array(n);
     const out = values;
+    let outside: Map<string, number> | undefined; // value → its first row, made at the first value outside the levels
+    const noteOutside = (value: string, row: number): void => {
+      outside ??= new Map();
+      if (!outside.has(value)) outside.set(value, row);
+    };
     for (let i = 0; i < n; i++) {
       const v = values[i]!;
       let code: number;
       if (v === v) {
-        const idx = numIndex.get(Object.is(v, -0) ? 0 : v);
-        if (idx === undefined) this.outsideLevels(name, numberLabel(v, this.decimalComma), i, levels);
-        code = idx;
+        code = byNumber.get(v) ?? -1;
+        if (code < 0) noteOutside(numberLabel(v, this.decimalComma), i);
       } else {
         const t = texts === undefined ? -1 : texts[i]!;
         if (t < 0) {
@@ -549,21 +570,68 @@ export class ColumnBuilder {
           continue;
         }
         code = textIndex[t]!;
-        if (code < 0) this.outsideLevels(name, textLabels[t]!, i, levels);
+        if (code < 0) noteOutside(textLabels[t]!, i);
       }
       codes[i] = code;
-      out[i] = numericLevels !== undefined && (type === "binary" || type === "ordinal") ? numericLevels[code]! : code;
+      out[i] = code < 0 ? NaN : scores[code]!;
     }
+    if (outside !== undefined) this.outsideLevels(name, outside, levels);
     return { name, type, typeSource: source, values: out, codes, levels, missing };
   }
 
-  private outsideLevels(name: string, value: string, row: number, levels: readonly string[]): never {
-    const line = this.lineOf(row);
+  /**
+   * Report the values of a column that are not among its declared levels (every such value is
+   * found by a declaration, as inferred levels hold all values): the first by line, and up to
+   * five in all with the line where each first appears.
+   */
+  private outsideLevels(name: string, outside: ReadonlyMap<string, number>, levels: readonly string[]): never {
+    const found = [...outside].sort((a, b) => a[1] - b[1]);
+    const [firstValue, firstRow] = found[0]!;
+    const line = this.lineOf(firstRow);
+    const where = { file: this.file, line, column: this.header.indexOf(name) + 1 };
+    if (found.length === 1) {
+      throw new DataError(
+        `${this.where(line)}column "${name}" has "${firstValue}", which is not among its levels (${listLevels(levels)}); add it to --levels or declare it with --missing "${firstValue}"`,
+        where,
+      );
+    }
+    const shown = found.slice(0, 5);
+    const rest = found.length - shown.length;
+    const listed = shown.map(([v, row]) => `"${v}" (line ${this.lineOf(row)})`).join(", ") + (rest > 0 ? `, ${rest} more` : "");
     throw new DataError(
-      `${this.where(line)}column "${name}" has "${value}", which is not among its levels (${listLevels(levels)}); add it to --levels or declare it with --missing "${value}"`,
-      { file: this.file, line, column: this.header.indexOf(name) + 1 },
+      `${this.where(line)}column "${name}" has ${found.length} values that are not among its levels (${listLevels(levels)}): ${listed}; add them to --levels or declare them with --missing "${shown.map(([v]) => v).join(",")}"`,
+      where,
     );
   }
+}
+
+/**
+ * Level scores of a binary or ordinal column (the `values` of its rows), by this rule:
+ * - levels that are all numbers (a numeric-coded column) in increasing numeric order score
+ *   their numbers, because the spacing of the codes is meaningful (1, 2, 5 stay 1, 2, 5).
+ *   Inferred levels are always in that order (they are sorted); declared ones when the
+ *   declaration lists them increasing;
+ * - a declared order of numeric codes that is not increasing sets the scores: each level scores
+ *   its position in the declared order, 0, 1, …, k − 1 (`3|1|2` scores 3 as 0, 1 as 1, 2 as 2),
+ *   and `byPosition` is true so the reader can say so;
+ * - levels that are not all numbers (text labels) score their position, 0, 1, …, k − 1.
+ * Nominal levels are unordered: their "scores" are the level indices, which the tests never
+ * use as numbers. Cost: O(levels).
+ * @example scoreLevels([3, 1, 2], "ordinal", true) // { scores: [0, 1, 2], byPosition: true }
+ */
+export function scoreLevels(
+  levelNumbers: readonly (number | undefined)[],
+  type: VariableType,
+  declared: boolean,
+): { scores: Float64Array; byPosition: boolean } {
+  const k = levelNumbers.length;
+  const positions = Float64Array.from({ length: k }, (_, i) => i);
+  if (type !== "binary" && type !== "ordinal") return { scores: positions, byPosition: false };
+  if (!levelNumbers.every((v): v is number => v !== undefined)) return { scores: positions, byPosition: false };
+  let increasing = true;
+  for (let i = 1; i < k; i++) if (!(levelNumbers[i]! > levelNumbers[i - 1]!)) increasing = false;
+  if (increasing) return { scores: Float64Array.from(levelNumbers, (v) => (Object.is(v, -0) ? 0 : v)), byPosition: false };
+  return { scores: positions, byPosition: declared };
 }
 
 /** The first n entries of a typed array in a new array of the same kind of memory (shared or not). */
@@ -589,6 +657,37 @@ function checkNamesExist(names: readonly string[], header: Set<string>, flag: st
     if (!header.has(name)) {
       const shown = all.slice(0, 12).join(", ") + (all.length > 12 ? ", ..." : "");
       throw new UsageError(`${flag}: column "${name}" is not in the file header (${shown}); check the spelling`);
+    }
+  }
+}
+
+/**
+ * Check declared levels before reading: a column declared continuous has no levels, and no
+ * level is listed twice, as the same label or as the same number (`1` and `1.0`), since a cell
+ * could then belong to either. Cost: O(declared levels).
+ * @throws UsageError naming the column and the clashing declarations
+ */
+function checkLevelDeclarations(
+  levels: Readonly<Record<string, readonly string[]>>,
+  types: Readonly<Record<string, VariableType>>,
+  decimalComma: boolean,
+): void {
+  for (const [name, list] of Object.entries(levels)) {
+    if (types[name] === "continuous") {
+      throw new UsageError(`--levels: column "${name}" is declared continuous with --types, and continuous columns have no levels; drop one of the two declarations`);
+    }
+    const labels = new Set<string>();
+    const numbers = new Map<number, string>();
+    for (const level of list) {
+      if (labels.has(level)) throw new UsageError(`--levels: column "${name}" lists the level "${level}" twice; list each level once`);
+      labels.add(level);
+      const v = parseNumberText(level.trim(), decimalComma);
+      if (v === undefined) continue;
+      const same = numbers.get(v);
+      if (same !== undefined) {
+        throw new UsageError(`--levels: column "${name}" lists "${same}" and "${level}", which are the same number; list each level once`);
+      }
+      numbers.set(v, level);
     }
   }
 }

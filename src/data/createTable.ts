@@ -16,10 +16,12 @@ export type CreateTableOptions = Pick<ReadOptions, "file" | "decimalComma" | "mi
 /**
  * Create a table from in-memory columns keyed by name (insertion order is column order).
  * Numbers are taken as they are (NaN, null and undefined are missing; numeric missing codes
- * apply); strings are read like file cells (trimmed, missing codes, numbers parsed).
+ * apply); strings are read like file cells (trimmed, missing codes, numbers parsed). Declared
+ * levels set the level order and the scores as in a file (see `columnBuilder`).
  * Cost: O(rows · columns).
  * @throws DataError when columns differ in length, a name is empty, or a number is infinite;
- *   and the reader's typing errors (stray text among numbers, ...)
+ *   and the reader's typing errors (stray text among numbers, values outside declared levels, ...)
+ * @throws UsageError for declarations that name no column or contradict themselves
  * @example createTable({ x: [1, 2, 3.5], smoker: ["yes", "no", null] }).column("smoker")?.type // "binary"
  */
 export function createTable(data: Readonly<Record<string, ArrayLike<CellValue>>>, options: CreateTableOptions = {}): Table {

@@ -24,7 +24,14 @@ export interface ReadOptions {
   missing?: string[];
   /** Declared variable types by column name; undeclared columns are inferred. */
   types?: Record<string, VariableType>;
-  /** Declared level order by column name (low to high for ordinal; the first is the reference for nominal). */
+  /**
+   * Declared level order by column name (low to high for ordinal; the first is the reference for
+   * nominal). A column with declared levels is binary when two are given, else ordinal, unless
+   * `types` says otherwise; every value in the column must be one of them (numbers by value).
+   * The order sets the scores of a binary or ordinal column: numeric levels listed in increasing
+   * order keep their numbers as scores, any other order scores each level by its position
+   * (0 to k − 1), with a warning when the levels are numbers (see `scoreLevels` in columnBuilder.ts).
+   */
   levels?: Record<string, string[]>;
   /** Keep only these columns (file order is kept); the others are skipped but still counted for ragged rows. */
   columns?: string[];
@@ -70,7 +77,8 @@ export function parseTypeDeclarations(text: string): Record<string, VariableType
 
 /**
  * Parse level declarations `name=a|b|c,name=x|y`, as given to `--levels`: levels are
- * separated by `|`, declarations by `,`. Cost: O(length).
+ * separated by `|`, declarations by `,`; the order is kept (it sets the codes and, for binary
+ * and ordinal columns, the scores; see {@link ReadOptions.levels}). Cost: O(length).
  * @throws UsageError when an item has no `=`, fewer than two levels, an empty or repeated level, or a name twice
  * @example parseLevelDeclarations("education=low|mid|high") // { education: ["low", "mid", "high"] }
  */

@@ -39,12 +39,15 @@ export interface ReadHints {
  * Read a table from the bytes of a delimited text file (UTF-8, optional BOM), given whole or
  * as a stream of chunks. Cells are parsed once into typed columns (Float64Array values,
  * Int32Array codes for categorical columns); types are inferred unless declared (see
- * `inferType`), missing codes are described in `readOptions`. Never mutates the input bytes.
+ * `inferType`), missing codes are described in `readOptions`, declared levels set the level
+ * order and the scores as described in `columnBuilder`. Never mutates the input bytes.
  * Cost: O(bytes) time; memory O(rows · columns) for the columns plus one chunk.
  * Source: RFC 4180 (Shafranovich 2005) for the dialect.
  * @throws DataError for an empty file, empty or duplicate column names, ragged rows, bad quoting,
- *   stray text among numbers, text levels of an ordinal column without --levels
- * @throws UsageError for contradictory options or option names not in the header
+ *   stray text among numbers, text levels of an ordinal column without --levels, values outside
+ *   declared levels
+ * @throws UsageError for contradictory options (a level listed twice, levels for a continuous
+ *   column, --decimal-comma with a comma delimiter) or option names not in the header
  * @example await readTable(new TextEncoder().encode("a,b\n1,x\n2,y\n"), { file: "t.csv" }) // 2 rows, a binary, b binary
  */
 export async function readTable(

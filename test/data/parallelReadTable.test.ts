@@ -132,6 +132,68 @@ describe("parallelReadTable", () => {
     }
   });
 
+  it("parallelReadTable gives the same table as readTable (byte scanner and papaparse) with declared levels: numeric and text codes, binary, ordinal and nominal", async () => {
+    const text = generated(3000, 17);
+    const variants: [string, ReadOptions][] = [
+      // numeric codes out of increasing order (scored by position), a text ordinal whose level "far" only the second half sees
+      ["reversed", { levels: { ord: ["4", "3", "2", "1", "0"], bin: ["1", "0"], region: ["south", "north", "east", "far"] } }],
+      // numeric codes in increasing order, with a level that never occurs (the codes stay the scores)
+      ["increasing", { levels: { ord: ["0", "1", "2", "3", "4", "9"], bin: ["0", "1"] } }],
+      // nominal columns, numeric and text, the first declared level as the reference
+      ["nominal", { types: { ord: "nominal", bin: "nominal", region: "nominal" }, levels: { ord: ["2", "0", "4", "1", "3"], bin: ["1", "0"], region: ["far", "east", "north", "south"] } }],
+      // a declaration that is not kept and kept columns
+      ["kept columns", { levels: { ord: ["4", "3", "2", "1", "0"], bin: ["1", "0"] }, columns: ["ord", "region"] }],
+    ];
+    for (const [label, opts] of variants) {
+      const { one, two, threads } = await bothWays(text, opts);
+      const viaPapa = await readTable(new TextEncoder().encode(text), { ...opts, file: one.file, engine: "papaparse" });
+      expect([label, threads]).toEqual([label, 2]);
+      expect(tableSnapshot(two)).toEqual(tableSnapshot(one));
+      expect(tableSnapshot(viaPapa)).toEqual(tableSnapshot(one));
+      for (const [name, declared] of Object.entries(opts.levels!)) {
+        const col = two.column(name);
+        if (!col) continue; // not kept
+        expect(col.levels).toEqual(declared);
+        expect(col.typeSource).toBe("declared");
+      }
+    }
+    // the declared order is what the scores follow, in both halves of the file
+    const { two } = await bothWays(text, variants[0]![1]);
+    const lines = text.trimEnd().split("\n").slice(1).filter((l) => l !== "");
+    const ord = two.column("ord")!;
+    const bin = two.column("bin")!;
+    const region = two.column("region")!;
+    expect(two.rows).toBe(lines.length);
+    lines.forEach((l, i) => {
+      const [, , b, o, r] = l.split(",");
+      expect(ord.values[i]).toBe(4 - Number(o)); // position in 4|3|2|1|0
+      expect(ord.codes![i]).toBe(4 - Number(o));
+      expect(bin.values[i]).toBe(1 - Number(b)); // position in 1|0
+      if (r === "") expect(region.codes![i]).toBe(-1);
+      else expect(region.levels![region.codes![i]!]).toBe(r);
+    });
+    expect(two.warnings.filter((w) => w.includes("--levels lists its numeric codes out of increasing order"))).toHaveLength(2);
+  });
+
+  it("parallelReadTable reports values outside declared levels in both halves with readTable's message and first line", async () => {
+    const lines = generated(2000, 19).split("\n");
+    lines[300] = "1,1,0,7,north,2";
+    lines[1900] = "1,1,0,8,north,2";
+    lines[1950] = "1,1,0,7,north,2";
+    const text = lines.join("\n");
+    const opts: ReadOptions = { levels: { ord: ["0", "1", "2", "3", "4"] } };
+    const path = writeCsv(text);
+    const a = await errorOf(readTable(new TextEncoder().encode(text), { ...opts, file: path }));
+    let threads = 0;
+    const b = await errorOf(parallelReadTable(path, { ...opts, file: path }, { minBytes: 0, onRead: (t) => (threads = t) }));
+    expect(threads).toBe(2);
+    expect(b).toBeInstanceOf(DataError);
+    expect(b.message).toBe(a.message);
+    expect(b.message).toContain('column "ord" has 2 values that are not among its levels (0, 1, 2, 3, 4): "7" (line 301), "8" (line 1901)');
+    expect((b as DataError).line).toBe(301);
+    expect((a as DataError).line).toBe(301);
+  });
+
   it("parallelReadTable reads small files, a header-only file and a one-row file like readTable", async () => {
     for (const text of ["a,b\n", "a,b\n1,2\n", "a\n1\n\n2\n", generated(50, 3)]) {
       const path = writeCsv(text);

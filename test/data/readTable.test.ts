@@ -371,10 +371,16 @@ describe("readTable", () => {
     const cont = await readError(data, { types: { sex: "continuous" } });
     expect(cont.message).toContain('column "sex" has text "f" among numbers');
     await expect(readTable(data, { types: { nope: "binary" } })).rejects.toBeInstanceOf(UsageError);
-    // numeric levels declared: values are the numbers, codes follow the declared order
+    // numeric levels declared out of increasing order: codes and scores follow the declared order
+    // (regression: the scores used to stay the numeric codes 3, 1, 2, so the declaration changed nothing)
     const num = await readTable(bytes("s\n3\n1\n2\n"), { levels: { s: ["3", "2", "1"] } });
     expect([...num.column("s")!.codes!]).toEqual([0, 2, 1]);
-    expect([...num.column("s")!.values]).toEqual([3, 1, 2]);
+    expect([...num.column("s")!.values]).toEqual([0, 2, 1]);
+    expect(num.warnings).toContain('column "s": --levels lists its numeric codes out of increasing order (3|2|1), so each level scores its position in that order (0 to 2), not its code');
+    // ... and in increasing order they keep the numbers as scores
+    const inc = await readTable(bytes("s\n3\n1\n2\n"), { levels: { s: ["1", "2", "3"] } });
+    expect([...inc.column("s")!.values]).toEqual([3, 1, 2]);
+    expect(inc.warnings).toEqual([]);
   });
 
   it("readTable warns that a text column with mostly distinct values looks like an identifier", async () => {
