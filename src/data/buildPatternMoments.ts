@@ -27,7 +27,8 @@
 import { UnknownNodeError } from "../errors.js";
 import { rankColumns } from "./rankColumns.js";
 import { createSimdCrossProduct } from "./simdCrossProduct.js";
-import type { DesignColumn, Moments, PatternMoments } from "./Moments.js";
+import { basisTermLabel, basisValue, fillBasisValues, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
+import type { DesignColumn, IndexedDesignColumn, Moments, PatternMoments } from "./Moments.js";
 import type { Table } from "./Table.js";
 
 const TILE = 1024;
@@ -60,12 +61,26 @@ export interface PatternMomentsOptions {
   maxStagingBytes?: number;
   /** Use the WebAssembly SIMD kernel where available (default true); false: scalar code, identical results. */
   simd?: boolean;
+  /** Further design columns per variable (see `Moments.ts`); the default columns are always built. */
+  expansions?: MomentExpansions;
+}
+
+/** Which variables get which further design columns. */
+export interface MomentExpansions {
+  /** Binary or ordinal variables that also get 0/1 indicators of their levels but the first. */
+  indicators?: readonly string[];
+  /** Scored variables that also get a column of their mid-ranks. */
+  ranks?: readonly string[];
+  /** Continuous variables that also get the basis terms of levels 1 and above of this basis. */
+  basis?: ReadonlyMap<string, VariableBasis>;
 }
 
 /** A design column's values as the row pass reads them (plain data; may live in shared memory). */
 export interface PassColumn {
   /** Scores (NaN missing), or undefined for a dummy. */
   scores?: Float64Array;
+  /** A basis term applied to the scores (see `stats/flexibleBasis.ts`), if any. */
+  term?: BasisTerm;
   /** Level codes for a dummy (-1 missing). */
   codes?: Int32Array;
   /** The dummy's level (1 where codes equal it, 0 elsewhere); -1 for a scored column. */
@@ -177,25 +192,55 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
       )
     : undefined;
 
-  // Design columns and per-variable observation tests.
+  // Design columns and per-variable observation tests. The first design column of a scored
+  // variable is its score (its missingness defines the variable's); `defaultOf` lists the
+  // columns `momentsFor` returns (the score, or a nominal variable's dummies).
+  const exp = options.expansions ?? {};
+  const wantIndicators = new Set(exp.indicators ?? []);
+  const wantRanks = new Set(exp.ranks ?? []);
+  const extraRanks = wantRanks.size > 0 ? rankColumns(table, variables.filter((v) => wantRanks.has(v) && table.column(v)!.type !== "nominal"), filter) : undefined;
   const design: DesignSource[] = [];
   const designOf: number[][] = [];
+  const defaultOf: number[][] = [];
   variables.forEach((name, vi) => {
     const col = table.column(name)!;
     const idx: number[] = [];
-    if (col.type === "nominal") {
+    const defaults: number[] = [];
+    const indicatorsOf = (): void => {
       const codes = col.codes!;
       const levels = col.levels!;
       for (let l = 1; l < levels.length; l++) {
         idx.push(design.length);
-        design.push({ column: { name: `${name}=${levels[l]}`, source: name }, variable: vi, codes, level: l });
+        design.push({ column: { name: `${name}=${levels[l]}`, source: name, kind: "indicator", code: l }, variable: vi, codes, level: l });
       }
+    };
+    if (col.type === "nominal") {
+      indicatorsOf();
+      defaults.push(...idx);
     } else {
       const scores = ranks?.get(name) ?? col.values;
       idx.push(design.length);
-      design.push({ column: { name, source: name }, variable: vi, scores, level: -1 });
+      defaults.push(design.length);
+      design.push({ column: { name, source: name, kind: "score" }, variable: vi, scores, level: -1 });
+      if (wantIndicators.has(name) && col.codes && col.levels) indicatorsOf();
+      const r = extraRanks?.get(name);
+      if (r) {
+        idx.push(design.length);
+        design.push({ column: { name: `${name}:rank`, source: name, kind: "rank" }, variable: vi, scores: r, level: -1 });
+      }
+      const basis = exp.basis?.get(name);
+      if (basis && col.type === "continuous") {
+        basis.levels.forEach((terms, basisLevel) => {
+          if (basisLevel === 0) return; // the linear term is the score itself
+          for (const term of terms) {
+            idx.push(design.length);
+            design.push({ column: { name: basisTermLabel(name, term), source: name, kind: "basis", term, basisLevel }, variable: vi, scores: col.values, term, level: -1 });
+          }
+        });
+      }
     }
     designOf.push(idx);
+    defaultOf.push(defaults);
   });
   const D = design.length;
   const V = variables.length;
@@ -211,8 +256,30 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   // A scored variable's key bits are set in its shift pass (its bit is the next free one, kept
   // only when it is missing somewhere); `keyed` marks the variables whose bits are written.
   const keyed = new Uint8Array(V);
+  const firstOfVariable = new Uint8Array(D);
+  for (const idx of designOf) if (idx.length > 0) firstOfVariable[idx[0]!] = 1;
+  let basisScratch = new Float64Array(0);
   for (let j = 0; j < D; j++) {
     const src = design[j]!;
+    if (src.scores && firstOfVariable[j] === 0) {
+      // a further column of a scored variable (rank or basis term): its mean only
+      let vals: ArrayLike<number> = src.scores;
+      if (src.term) {
+        if (basisScratch.length < n) basisScratch = new Float64Array(n);
+        vals = fillBasisValues(src.term, src.scores, basisScratch);
+      }
+      let sum = 0;
+      let cnt = 0;
+      for (let i = 0; i < n; i++) {
+        const v = vals[i]!;
+        if (v === v && (!filter || filter[i] !== 0)) {
+          sum += v;
+          cnt++;
+        }
+      }
+      shift[j] = cnt > 0 ? sum / cnt : 0;
+      continue;
+    }
     let sum = 0;
     let cnt = 0;
     let missing = 0;
@@ -374,21 +441,28 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   }
 
   const kernel = new CrossProductKernel(design, shift);
-  const designIndexOf = (vars: readonly string[]): { designIdx: number[]; req: Uint32Array } => {
-    const vIdx = vars.map((name) => {
-      const vi = variables.indexOf(name);
-      if (vi < 0) {
-        throw new UnknownNodeError(
-          `variable "${name}" was not among the variables the moments were built over (${variables.join(", ")}); include it when building them`,
-          [name],
-          { file: table.file },
-        );
-      }
-      return vi;
-    });
-    return { designIdx: vIdx.flatMap((vi) => designOf[vi]!), req: maskOf(vIdx, words) };
+  const variableIndex = (name: string): number => {
+    const vi = variables.indexOf(name);
+    if (vi < 0) {
+      throw new UnknownNodeError(
+        `variable "${name}" was not among the variables the moments were built over (${variables.join(", ")}); include it when building them`,
+        [name],
+        { file: table.file },
+      );
+    }
+    return vi;
   };
-
+  const designIndexOf = (vars: readonly string[]): { designIdx: number[]; req: Uint32Array } => {
+    const vIdx = vars.map(variableIndex);
+    return { designIdx: vIdx.flatMap((vi) => defaultOf[vi]!), req: maskOf(vIdx, words) };
+  };
+  const columnsRequest = (indices: readonly number[]): { designIdx: number[]; req: Uint32Array } => {
+    for (const j of indices) {
+      if (!(Number.isInteger(j) && j >= 0 && j < D)) throw new RangeError(`design column ${j} is not among the ${D} columns; take indices from columnsOf`);
+    }
+    return { designIdx: [...indices], req: maskOf([...new Set(indices.map((j) => design[j]!.variable))], words) };
+  };
+  const columnsOf = (name: string): IndexedDesignColumn[] => designOf[variableIndex(name)]!.map((j) => ({ index: j, column: { ...design[j]!.column } }));
   const finish = (designIdx: number[], count: number, S: Float64Array, C: Float64Array): Moments => {
     const d = designIdx.length;
     const means = new Float64Array(d);
@@ -406,30 +480,32 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
 
   if (bytes > (options.maxPatternBytes ?? DEFAULT_MAX_PATTERN_BYTES)) {
     // Too many patterns to keep: answer each request from the rows.
+    const fromRows = ({ designIdx, req }: { designIdx: number[]; req: Uint32Array }): Moments => {
+      const rows: number[] = [];
+      for (let i = 0; i < n; i++) {
+        const p = patternOfRow[i]!;
+        if (p >= 0 && containsMask(masks[p]!, req)) rows.push(i);
+      }
+      const d = designIdx.length;
+      const S = new Float64Array(d);
+      const C = new Float64Array(d * d);
+      kernel.accumulate(Int32Array.from(rows), 0, rows.length, designIdx, S, C);
+      return finish(designIdx, rows.length, S, C);
+    };
     const rowMoments: PatternMoments = {
       patterns: P,
       completeRows,
       patternList,
-      momentsFor(vars: readonly string[]): Moments {
-        const { designIdx, req } = designIndexOf(vars);
-        const rows: number[] = [];
-        for (let i = 0; i < n; i++) {
-          const p = patternOfRow[i]!;
-          if (p >= 0 && containsMask(masks[p]!, req)) rows.push(i);
-        }
-        const d = designIdx.length;
-        const S = new Float64Array(d);
-        const C = new Float64Array(d * d);
-        kernel.accumulate(Int32Array.from(rows), 0, rows.length, designIdx, S, C);
-        return finish(designIdx, rows.length, S, C);
-      },
+      momentsFor: (vars: readonly string[]): Moments => fromRows(designIndexOf(vars)),
+      columnsOf,
+      momentsForColumns: (indices: readonly number[]): Moments => fromRows(columnsRequest(indices)),
     };
     return { rows: n, pass: undefined, finishWith: () => rowMoments };
   }
 
   const observed = masks.map((m) => observedDesign(m));
   const pass: PatternPass = {
-    columns: design.map((src) => ({ ...(src.scores ? { scores: src.scores } : { codes: src.codes! }), level: src.level })),
+    columns: design.map((src) => ({ ...(src.scores ? { scores: src.scores } : { codes: src.codes! }), ...(src.term ? { term: src.term } : {}), level: src.level })),
     shift,
     patternOfRow,
     observed,
@@ -462,12 +538,8 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
     return momentsFromPatterns(patterns);
   };
 
-  const momentsFromPatterns = (patterns: Pattern[]): PatternMoments => ({
-    patterns: P,
-    completeRows,
-    patternList,
-    momentsFor(vars: readonly string[]): Moments {
-      const { designIdx, req } = designIndexOf(vars);
+  const momentsFromPatterns = (patterns: Pattern[]): PatternMoments => {
+    const fromPatterns = ({ designIdx, req }: { designIdx: number[]; req: Uint32Array }): Moments => {
       const d = designIdx.length;
       const S = new Float64Array(d);
       const C = new Float64Array(d * d);
@@ -491,8 +563,16 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
         }
       }
       return finish(designIdx, count, S, C);
-    },
-  });
+    };
+    return {
+      patterns: P,
+      completeRows,
+      patternList,
+      momentsFor: (vars: readonly string[]): Moments => fromPatterns(designIndexOf(vars)),
+      columnsOf,
+      momentsForColumns: (indices: readonly number[]): Moments => fromPatterns(columnsRequest(indices)),
+    };
+  };
   return { rows: n, pass, finishWith };
 }
 
@@ -647,6 +727,7 @@ function accumulateByPattern(
   };
 
   const scores: (Float64Array | undefined)[] = design.map((src) => src.scores);
+  const terms: (BasisTerm | undefined)[] = design.map((src) => src.term);
   for (let i0 = from; i0 < to; i0 += BLOCK_ROWS) {
     const len = Math.min(BLOCK_ROWS, to - i0);
     for (let r = 0; r < len; r++) {
@@ -669,7 +750,9 @@ function accumulateByPattern(
     for (let k = 0; k < D; k++) {
       const c = shift[k]!;
       const s = scores[k];
-      if (s !== undefined) {
+      const term = terms[k];
+      if (term !== undefined) stageBasis(stage, rowBase, s!, i0, len, k, c, term);
+      else if (s !== undefined) {
         for (let r = 0; r < len; r++) {
           const o = rowBase[r]!;
           if (o < 0) continue;
@@ -703,6 +786,37 @@ function accumulateByPattern(
     out.push({ sums, cross });
   }
   return out;
+}
+
+/**
+ * Stage basis-term values of one design column for a block of rows: stage[rowBase[r] + k] =
+ * term(s[i0 + r]) − c, 0 where s is missing; rows with rowBase −1 are skipped. Hinges and
+ * spline terms have their own loops (no call per row). Cost: O(len).
+ */
+function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, i0: number, len: number, k: number, c: number, term: BasisTerm): void {
+  if (term.kind === "hinge") {
+    const t = term.knot;
+    for (let r = 0; r < len; r++) {
+      const o = rowBase[r]!;
+      if (o < 0) continue;
+      const v = s[i0 + r]!;
+      stage[o + k] = v === v ? (v > t ? v - t : 0) - c : 0;
+    }
+  } else if (term.kind === "linear") {
+    for (let r = 0; r < len; r++) {
+      const o = rowBase[r]!;
+      if (o < 0) continue;
+      const v = s[i0 + r]!;
+      stage[o + k] = v === v ? v - c : 0;
+    }
+  } else {
+    for (let r = 0; r < len; r++) {
+      const o = rowBase[r]!;
+      if (o < 0) continue;
+      const v = s[i0 + r]!;
+      stage[o + k] = v === v ? basisValue(term, v) - c : 0;
+    }
+  }
 }
 
 /**
@@ -776,7 +890,10 @@ class CrossProductKernel {
         const src = this.design[cols[k]!]!;
         const c = this.shift[cols[k]!]!;
         const off = k * TILE;
-        if (src.scores) {
+        if (src.term) {
+          const s = src.scores!;
+          for (let t = 0; t < m; t++) X[off + t] = basisValue(src.term, s[rows[t0 + t]!]!) - c;
+        } else if (src.scores) {
           const s = src.scores;
           for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]! - c;
         } else {

@@ -264,9 +264,9 @@ describe("buildPatternMoments", () => {
     expect(Number.isNaN(none.means[0]!)).toBe(true);
     const ag = pm.momentsFor(["g", "a"]);
     expect(ag.design).toEqual([
-      { name: "g=y", source: "g" },
-      { name: "g=z", source: "g" },
-      { name: "a", source: "a" },
+      { name: "g=y", source: "g", kind: "indicator", code: 1 },
+      { name: "g=z", source: "g", kind: "indicator", code: 2 },
+      { name: "a", source: "a", kind: "score" },
     ]);
     expect(ag.n).toBe(3);
     expect(ag.means[0]).toBeCloseTo(1 / 3, 15); // share of "y", by hand

@@ -2,26 +2,29 @@
  * The registry of test methods and the rule that picks one per claim.
  *
  * `auto` (default):
- * - x, y and every member of the conditioning set categorical (binary, ordinal, nominal)
- *   → stratified chi-square (ordinal levels treated as categories);
- * - otherwise x and y both scored (continuous, binary, ordinal) → Pearson partial correlation
- *   (nominal members of the set enter as dummy columns);
- * - otherwise (a nominal x or y beside continuous variables) → regression likelihood-ratio test.
- * A forced method (`linear`, `rank`, `chisq`, `regression`) is used for every claim it accepts;
- * the others fall back to `auto`.
+ * - x, y and every member of the conditioning set categorical (binary, ordinal, nominal) →
+ *   stratified chi-square (the exact stratification needs no model of S; ordinal levels are
+ *   treated as categories);
+ * - otherwise (a continuous variable anywhere in the claim) → the generalised covariance measure
+ *   with flexible adjustment (`gcm`): categorical members of S as indicators of their levels,
+ *   continuous ones by splines whose flexibility is chosen by cross-validation, each side by
+ *   least squares on that adjustment, and a variance that does not assume equal variances.
+ * A forced method (`linear` → Pearson partial correlation, `rank` → the generalised covariance
+ * measure on mid-ranks, `chisq`, `regression`) is used for every claim it accepts; the others
+ * fall back to `auto`.
  */
 import type { AuditSettings } from "../types.js";
 import type { ClaimTypes, TestMethod } from "../TestMethod.js";
 import { pearsonPartial } from "./pearsonPartial.js";
-import { spearmanPartial } from "./spearmanPartial.js";
 import { stratifiedChisq } from "./stratifiedChisq.js";
 import { regressionLr } from "./regressionLr.js";
+import { gcm, gcmRank } from "./gcm.js";
 
-export const METHODS: readonly TestMethod[] = [pearsonPartial, spearmanPartial, stratifiedChisq, regressionLr];
+export const METHODS: readonly TestMethod[] = [gcm, gcmRank, pearsonPartial, stratifiedChisq, regressionLr];
 
 const FORCED: Record<Exclude<AuditSettings["method"], "auto">, TestMethod> = {
   linear: pearsonPartial,
-  rank: spearmanPartial,
+  rank: gcmRank,
   chisq: stratifiedChisq,
   regression: regressionLr,
 };
@@ -33,6 +36,5 @@ export function chooseMethod(setting: AuditSettings["method"], types: ClaimTypes
     if (forced.accepts(types)) return forced;
   }
   if (stratifiedChisq.accepts(types)) return stratifiedChisq;
-  if (pearsonPartial.accepts(types)) return pearsonPartial;
-  return regressionLr;
+  return gcm;
 }

@@ -1,0 +1,734 @@
+/**
+ * Test methods `gcm` and `gcm-rank`: x ⫫ y | S by the generalised covariance measure with
+ * flexible adjustment for the conditioning set.
+ *
+ * Terms (see `stats/generalisedCovariance.ts`, `stats/nestedAdjustment.ts` and
+ * `stats/flexibleBasis.ts`).
+ * - *Sides.* x and y each enter as one column (continuous, binary or ordinal: the score; `gcm-rank`:
+ *   the mid-rank of the value among the variable's observed values) or, when nominal, as 0/1
+ *   indicators of their levels but the first. Each side is regressed on S by least squares, which
+ *   for a binary side is a linear-probability model on the flexible adjustment below: the test
+ *   needs the conditional mean of each side, not a linear model of it.
+ * - *Adjustment.* A categorical member of S (binary, ordinal or nominal) enters as indicators of
+ *   its levels, never as a score. A continuous member enters through its nested basis: the linear
+ *   term (level 0), natural cubic spline terms at its minimum, quartiles and maximum (level 1), and
+ *   hinges at ever finer quantiles (levels 2 to 5). The level used for a claim is chosen by
+ *   generalised cross-validation: the level minimising GCV for x and the one for y are found, and
+ *   the higher of the two is used for both sides (the same projection for both, so the sum of the
+ *   residual products is x'(I − H)y).
+ * - *Two ways to the same statistic.* In tables of at most `ROW_PATH_MAX_ROWS` rows the claim's
+ *   complete rows are read (the *row path*): the adjustment columns' covariances are computed
+ *   level by level, up to a level cap that keeps at least 20 rows per parameter (level 5 at most),
+ *   and the search stops two levels past the best level of both sides. In larger tables the
+ *   covariances come from the pattern moments (the *moment path*; the audit builds the indicator
+ *   and basis columns it needs, up to a level set by a compute budget), so the regressions cost
+ *   nothing per row; the variance of the residual products then needs a pass over rows: all the
+ *   claim's complete rows up to `VARIANCE_SAMPLE_ROWS`, else those among a seeded random sample of
+ *   that many rows of the table (the same sample for every claim, drawn from the stream of
+ *   (`ctx.seed`, "gcm variance rows")).
+ * - *Effect.* For one residual product, the residual correlation r (the partial correlation
+ *   after flexible adjustment), with the interval of `gcmCorrelationInterval`; for several (a
+ *   nominal side), √(1 − exp(−max(0, W − q)/n)) on the common scale (`lrEffect`).
+ * - *Linear check.* The details also carry the classic test with linear adjustment (continuous
+ *   members of S as straight lines, equal variances assumed: the partial-correlation t test, or for
+ *   a nominal side its chi-square analogue n·Σ canonical correlations² on q df), so that the audit
+ *   can say where the verdict depends on the adjustment.
+ */
+import type { Column, Table } from "../../data/Table.js";
+import { CATEGORICAL_TYPES } from "../../data/Table.js";
+import type { IndexedDesignColumn } from "../../data/Moments.js";
+import { midRanks } from "../../data/rankColumns.js";
+import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
+import { basisValue, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
+import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
+import { gramMatrix } from "../../stats/gramMatrix.js";
+import { bestLevel, NestedAdjustment } from "../../stats/nestedAdjustment.js";
+import { chiSquareUpper, logChiSquareUpper, logStudentTTwoSided, studentTTwoSided } from "../../stats/pvalues.js";
+import { createRng } from "../../stats/rng.js";
+import { cholesky, choleskySolve } from "../../stats/linalg.js";
+import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
+import type { Claim, TestName, TestOutcome } from "../types.js";
+
+/** Tables with at most this many rows (after any row filter) are tested on the rows. */
+export const ROW_PATH_MAX_ROWS = 20_000;
+/** Rows behind the variance of the residual products on the moment path (all when fewer). */
+export const VARIANCE_SAMPLE_ROWS = 50_000;
+/** At least this many complete rows per parameter of the adjustment on the row path. */
+export const ROWS_PER_PARAMETER = 20;
+
+/** How a member of S entered the regressions (for the claim's details). */
+export interface AdjustmentEntry {
+  variable: string;
+  entered: "indicators" | "spline" | "linear";
+  /** Columns it contributed at the chosen level (before aliased ones were dropped). */
+  columns: number;
+}
+
+/** One adjustment or side column of a claim: how to read its value in a row. */
+interface ClaimColumn {
+  variable: string;
+  label: string;
+  /** Level of the hierarchy (0 for indicators and linear terms). */
+  level: number;
+  column: Column;
+  /** Indicator of this level code, if an indicator. */
+  code?: number;
+  /** Basis term applied to the values, if a spline or hinge term. */
+  term?: BasisTerm;
+  /** Values to read instead of the column's (mid-ranks), if any. */
+  values?: Float64Array;
+  /** Design column in the pattern moments (moment path). */
+  index?: number;
+}
+
+function quoted(names: readonly string[]): string {
+  return names.map((s) => `"${s}"`).join(", ");
+}
+
+/** Value of a claim column in row i (the row is complete on its variable). */
+function valueAt(c: ClaimColumn, i: number): number {
+  if (c.code !== undefined) return c.column.codes![i] === c.code ? 1 : 0;
+  const v = (c.values ?? c.column.values)[i]!;
+  return c.term ? basisValue(c.term, v) : v;
+}
+
+function isMissing(c: Column, i: number): boolean {
+  if (c.codes && CATEGORICAL_TYPES.has(c.type)) return c.codes[i]! < 0;
+  const v = c.values[i]!;
+  return v !== v;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Per-column caches: the nested basis (knots from all observed values within the row filter) and
+// whole-column mid-ranks. Keyed by the column object and the row filter.
+
+const basisMemo = new WeakMap<Column, { filter: Uint8Array | undefined; basis: VariableBasis }>();
+const rankMemo = new WeakMap<Column, { filter: Uint8Array | undefined; ranks: Float64Array }>();
+
+/**
+ * The nested basis of a continuous column up to level 5, knots from its observed values (within
+ * the row filter). Cached per column and filter. Cost: O(n log n) the first time.
+ */
+export function columnBasis(col: Column, rowFilter?: Uint8Array): VariableBasis {
+  const memo = basisMemo.get(col);
+  if (memo && memo.filter === rowFilter) return memo.basis;
+  const vals: number[] = [];
+  const v = col.values;
+  for (let i = 0; i < v.length; i++) if (v[i] === v[i] && (!rowFilter || rowFilter[i] !== 0)) vals.push(v[i]!);
+  const sorted = Float64Array.from(vals).sort();
+  const basis = flexibleBasis(sorted, MAX_BASIS_LEVEL);
+  basisMemo.set(col, { filter: rowFilter, basis });
+  return basis;
+}
+
+/** Whole-column mid-ranks (within the row filter), cached per column and filter. Cost: O(n log n) the first time. */
+function columnRanks(col: Column, rowFilter?: Uint8Array): Float64Array {
+  const memo = rankMemo.get(col);
+  if (memo && memo.filter === rowFilter) return memo.ranks;
+  const ranks = midRanks(col.values, rowFilter);
+  rankMemo.set(col, { filter: rowFilter, ranks });
+  return ranks;
+}
+
+/** Number of basis columns of a continuous member up to `level` (linear term included). */
+function basisColumnsUpTo(basis: VariableBasis, level: number): number {
+  let k = 0;
+  for (let l = 0; l <= level && l < basis.levels.length; l++) k += basis.levels[l]!.length;
+  return k;
+}
+
+/**
+ * Highest level of the hierarchy whose adjustment keeps at least ROWS_PER_PARAMETER complete rows
+ * per parameter: 1 + categorical indicators + Σ basis columns ≤ n / ROWS_PER_PARAMETER.
+ */
+export function rowPathLevelCap(n: number, indicatorColumns: number, bases: readonly VariableBasis[]): number {
+  if (bases.length === 0) return 0;
+  let level = 0;
+  for (let l = 1; l <= MAX_BASIS_LEVEL; l++) {
+    const cols = 1 + indicatorColumns + bases.reduce((s, b) => s + basisColumnsUpTo(b, l), 0);
+    if (cols > n / ROWS_PER_PARAMETER) break;
+    level = l;
+  }
+  return level;
+}
+
+// ---------------------------------------------------------------------------------------------
+
+interface Layout {
+  /** Adjustment columns of every level up to the cap, in level order. */
+  adjustment: ClaimColumn[];
+  /** x then y side columns (one, or one per level but the first of a nominal side). */
+  sides: [ClaimColumn[], ClaimColumn[]];
+  entered: Array<{ variable: string; entered: AdjustmentEntry["entered"]; levelCounts: number[] }>;
+  cap: number;
+}
+
+/** Columns of a side: the score (or rank), or indicators of the observed levels but the first. */
+function sideColumns(col: Column, present: readonly number[] | undefined, rank: boolean, rowFilter?: Uint8Array): ClaimColumn[] {
+  if (col.type === "nominal") {
+    return present!.slice(1).map((code) => ({ variable: col.name, label: `${col.name}=${col.levels![code]}`, level: 0, column: col, code }));
+  }
+  return [{ variable: col.name, label: rank ? `${col.name}:rank` : col.name, level: 0, column: col, ...(rank ? { values: columnRanks(col, rowFilter) } : {}) }];
+}
+
+/** The adjustment columns of the given members up to `cap` (categorical: indicators of the present levels but the first). */
+function adjustmentColumns(given: readonly Column[], present: ReadonlyMap<Column, readonly number[]>, cap: number, rowFilter?: Uint8Array): Pick<Layout, "adjustment" | "entered"> {
+  const adjustment: ClaimColumn[] = [];
+  const entered: Layout["entered"] = [];
+  const byLevel: ClaimColumn[][] = Array.from({ length: cap + 1 }, () => []);
+  for (const col of given) {
+    if (CATEGORICAL_TYPES.has(col.type) && col.codes) {
+      const codes = present.get(col)!.slice(1);
+      for (const code of codes) byLevel[0]!.push({ variable: col.name, label: `${col.name}=${col.levels![code]}`, level: 0, column: col, code });
+      entered.push({ variable: col.name, entered: "indicators", levelCounts: [codes.length] });
+      continue;
+    }
+    const basis = columnBasis(col, rowFilter);
+    const counts: number[] = [];
+    for (let l = 0; l <= cap; l++) {
+      const terms = basis.levels[l] ?? [];
+      counts.push(terms.length);
+      for (const term of terms) {
+        byLevel[l]!.push(term.kind === "linear" ? { variable: col.name, label: col.name, level: 0, column: col } : { variable: col.name, label: `${col.name}:${term.kind}`, level: l, column: col, term });
+      }
+    }
+    entered.push({ variable: col.name, entered: cap > 0 ? "spline" : "linear", levelCounts: counts });
+  }
+  for (const cols of byLevel) adjustment.push(...cols);
+  return { adjustment, entered };
+}
+
+/** Complete rows of the columns (code ≥ 0, or a value that is not NaN) within the filter. Cost: O(rows · k). */
+function completeRows(cols: readonly Column[], rows: number, rowFilter?: Uint8Array): Int32Array {
+  const keep = new Uint8Array(rows);
+  if (rowFilter) for (let i = 0; i < rows; i++) keep[i] = rowFilter[i] !== 0 ? 1 : 0;
+  else keep.fill(1);
+  for (const c of cols) for (let i = 0; i < rows; i++) if (keep[i] && isMissing(c, i)) keep[i] = 0;
+  let m = 0;
+  for (let i = 0; i < rows; i++) m += keep[i]!;
+  const idx = new Int32Array(m);
+  for (let i = 0, t = 0; i < rows; i++) if (keep[i]) idx[t++] = i;
+  return idx;
+}
+
+/** Codes present among the rows, in code order. */
+function presentCodes(col: Column, idx: Int32Array): number[] {
+  const seen = new Uint8Array(col.levels!.length);
+  const codes = col.codes!;
+  for (let t = 0; t < idx.length; t++) seen[codes[idx[t]!]!] = 1;
+  const out: number[] = [];
+  seen.forEach((s, c) => {
+    if (s) out.push(c);
+  });
+  return out;
+}
+
+// ---------------------------------------------------------------------------------------------
+
+interface Fitted {
+  fit: NestedAdjustment;
+  n: number;
+  /** Response columns kept (side columns that vary), x first. */
+  qx: number;
+  qy: number;
+  level: number;
+  bestX: number;
+  bestY: number;
+  /** Kept adjustment columns at the chosen level. */
+  params: number;
+  /** Adjustment columns (index into the layout's adjustment list) of the kept columns, in order. */
+  keptColumns: number[];
+}
+
+/** Level choice from the snapshots: the higher of the two sides' GCV minima. */
+function chooseLevel(fit: NestedAdjustment, qx: number, q: number): { level: number; bestX: number; bestY: number } {
+  const bestX = bestLevel(fit, 0, qx);
+  const bestY = bestLevel(fit, qx, q);
+  return { level: Math.max(bestX, bestY), bestX, bestY };
+}
+
+/**
+ * The residual-product statistic from a fitted nested adjustment and the rows that give the
+ * variance: `rowsForVariance` yields row indices (complete on the claim), `centre` the means
+ * (per adjustment column and per side column) used to centre the columns.
+ */
+function outcomeOf(
+  name: TestName,
+  claim: Claim,
+  layout: Layout,
+  sides: ClaimColumn[],
+  f: Fitted,
+  adjMeans: Float64Array,
+  sideMeans: Float64Array,
+  varianceRows: Int32Array,
+  pathDetails: Record<string, unknown>,
+): MethodResult {
+  const { fit, n, qx, qy, level } = f;
+  const q = qx + qy;
+  const snap = fit.snapshots[level]!;
+  const kept = snap.kept;
+  const keptCols = f.keptColumns.slice(0, kept).map((j) => layout.adjustment[j]!);
+  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
+  const keptMeans = f.keptColumns.slice(0, kept).map((j) => adjMeans[j]!);
+  // Σ R over the n rows from the residual covariances (Bessel scale × (n − 1)).
+  const qq = qx * qy;
+  const sumR = new Float64Array(qq);
+  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = (n - 1) * snap.residual[a * q + qx + b]!;
+  const meanR = sumR.map((s) => s / n);
+  // Variance of the residual products over the variance rows.
+  const sigma = new Float64Array(qq * qq);
+  const e = new Float64Array(q);
+  const R = new Float64Array(qq);
+  const xval = new Float64Array(kept);
+  for (let t = 0; t < varianceRows.length; t++) {
+    const i = varianceRows[t]!;
+    for (let k = 0; k < kept; k++) xval[k] = valueAt(keptCols[k]!, i) - keptMeans[k]!;
+    for (let r = 0; r < q; r++) {
+      let v = valueAt(sides[r]!, i) - sideMeans[r]!;
+      const br = beta[r]!;
+      for (let k = 0; k < kept; k++) v -= br[k]! * xval[k]!;
+      e[r] = v;
+    }
+    for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) R[a * qy + b] = e[a]! * e[qx + b]! - meanR[a * qy + b]!;
+    for (let a = 0; a < qq; a++) {
+      const ra = R[a]!;
+      for (let b = 0; b <= a; b++) sigma[a * qq + b] += ra * R[b]!;
+    }
+  }
+  const m = varianceRows.length;
+  for (let a = 0; a < qq; a++) {
+    for (let b = 0; b <= a; b++) {
+      const v = sigma[a * qq + b]! / m;
+      sigma[a * qq + b] = v;
+      sigma[b * qq + a] = v;
+    }
+  }
+  const test = gcmStatistic({ n, params: kept, sumR, sigma });
+  if ("reason" in test) return { ok: false, reason: test.reason };
+
+  // Effect: the residual correlation (one product) or the common LR-type scale (several).
+  let effect: number;
+  let ci: [number, number];
+  let r: number | undefined;
+  if (qq === 1 && test.components === 1) {
+    const vx = snap.residual[0]!;
+    const vy = snap.residual[q * q - 1]!;
+    r = Math.max(-1, Math.min(1, snap.residual[1]! / Math.sqrt(vx * vy)));
+    effect = r;
+    ci = gcmCorrelationInterval(r, test.statistic, test.df, n, kept);
+  } else {
+    effect = lrEffect(test.statistic, test.df, n);
+    ci = lrEffectCI(test.statistic, test.df, n, 0.95);
+  }
+
+  // Linear check: the level-0 fit with equal variances assumed.
+  const lin = fit.snapshots[0]!;
+  const linear = linearCheck(lin.residual, qx, qy, n, lin.kept);
+
+  const entered: AdjustmentEntry[] = layout.entered.map((en) => ({
+    variable: en.variable,
+    entered: en.entered === "spline" && level === 0 ? "linear" : en.entered,
+    columns: en.levelCounts.slice(0, level + 1).reduce((s, c) => s + c, 0),
+  }));
+  const details: Record<string, unknown> = {
+    ...(r !== undefined ? { r } : {}),
+    adjustment: entered,
+    flexibility: { level, max_level: layout.cap, level_x: f.bestX, level_y: f.bestY, parameters: kept },
+    sides: [claim.x, claim.y].map((v, s) => ({ variable: v, model: sideModel(layout.sides[s]![0]!.column, name) })),
+    ...(test.f !== undefined ? { f: test.f, df_f: [test.df, test.df2] } : {}),
+    components: test.components,
+    variance_rows: m,
+    linear_adjustment: linear,
+    ...pathDetails,
+  };
+  const warnings: string[] = [];
+  const dropped = layout.adjustment.filter((c) => c.level <= level).length - kept;
+  if (dropped > 0) warnings.push(`${dropped} adjustment column${dropped > 1 ? "s" : ""} of ${quoted(claim.given)} aliased with others (or constant among the complete rows) and dropped`);
+  if (test.components < qq) warnings.push(`${qq - test.components} of ${qq} residual products are redundant with the others and were left out`);
+  const outcome: TestOutcome = {
+    test: name,
+    n,
+    statistic: test.statistic,
+    df: test.df,
+    p: test.p,
+    log_p: test.log_p,
+    effect,
+    ci,
+    p_method: "asymptotic",
+    details,
+    ...(warnings.length ? { warnings } : {}),
+  };
+  return { ok: true, outcome };
+}
+
+function sideModel(col: Column, name: TestName): string {
+  const what = name === "gcm-rank" && col.type !== "nominal" ? "mid-ranks" : col.type === "nominal" ? "level indicators" : col.type === "binary" ? "0/1 outcome (linear probability)" : "scores";
+  return `least squares of the ${what} on the adjustment`;
+}
+
+/**
+ * The classic test with the level-0 (linear) adjustment and equal variances: the partial
+ * correlation t test on n − 2 − p df for one product; for several, n·Σ canonical correlations²
+ * (the score statistic of multivariate normal regression) on qx·qy df. Cost: O(q³).
+ */
+function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, p: number): { statistic: number; df: number; p: number; log_p: number } | undefined {
+  const q = qx + qy;
+  const nu = n - 2 - p;
+  if (!(nu >= 1)) return undefined;
+  if (qx === 1 && qy === 1) {
+    const vx = residual[0]!;
+    const vy = residual[3]!;
+    if (!(vx > 0 && vy > 0)) return undefined;
+    const r = Math.max(-1 + 1e-16, Math.min(1 - 1e-16, residual[1]! / Math.sqrt(vx * vy)));
+    const t = r * Math.sqrt(nu / (1 - r * r));
+    return { statistic: t, df: nu, p: studentTTwoSided(t, nu), log_p: logStudentTTwoSided(t, nu) };
+  }
+  const Sx = new Float64Array(qx * qx);
+  const Sy = new Float64Array(qy * qy);
+  for (let a = 0; a < qx; a++) for (let b = 0; b < qx; b++) Sx[a * qx + b] = residual[a * q + b]!;
+  for (let a = 0; a < qy; a++) for (let b = 0; b < qy; b++) Sy[a * qy + b] = residual[(qx + a) * q + qx + b]!;
+  const Lx = cholesky(Sx, qx, 1e-12);
+  const Ly = cholesky(Sy, qy, 1e-12);
+  if (!Lx || !Ly) return undefined;
+  // tr(Sx⁻¹ Cxy Sy⁻¹ Cyx)
+  let tr = 0;
+  const Cxy = (a: number, b: number) => residual[a * q + qx + b]!;
+  const SyInvCyx: Float64Array[] = [];
+  for (let a = 0; a < qx; a++) SyInvCyx.push(choleskySolve(Ly, qy, Array.from({ length: qy }, (_, b) => Cxy(a, b))));
+  for (let b = 0; b < qx; b++) {
+    // column b of Cxy Sy⁻¹ Cyx, then Sx⁻¹ of it, diagonal entry b
+    const col = Array.from({ length: qx }, (_, a) => {
+      let s = 0;
+      for (let c = 0; c < qy; c++) s += Cxy(a, c) * SyInvCyx[b]![c]!;
+      return s;
+    });
+    tr += choleskySolve(Lx, qx, col)[b]!;
+  }
+  const w = (n - 1) * tr;
+  const df = qx * qy;
+  return { statistic: w, df, p: chiSquareUpper(w, df), log_p: logChiSquareUpper(w, df) };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Row path
+
+/** Dot product of two vectors of equal length. */
+function dot(a: Float64Array, b: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < a.length; i++) s += a[i]! * b[i]!;
+  return s;
+}
+
+/**
+ * Values of a claim column on the rows, centred; returns the mean too. `gathered` caches each
+ * variable's values (or codes) on the rows, so the terms of one variable read the rows once.
+ * Cost: O(n).
+ */
+function centredColumn(c: ClaimColumn, idx: Int32Array, gathered: Map<Float64Array | Int32Array, Float64Array>): { v: Float64Array; mean: number } {
+  const n = idx.length;
+  const src: Float64Array | Int32Array = c.code !== undefined ? c.column.codes! : (c.values ?? c.column.values);
+  let raw = gathered.get(src);
+  if (!raw) {
+    raw = new Float64Array(n);
+    for (let t = 0; t < n; t++) raw[t] = src[idx[t]!]!;
+    gathered.set(src, raw);
+  }
+  const v = new Float64Array(n);
+  if (c.code !== undefined) {
+    const code = c.code;
+    for (let t = 0; t < n; t++) v[t] = raw[t] === code ? 1 : 0;
+  } else if (c.term) fillBasisValues(c.term, raw, v);
+  else v.set(raw);
+  return centreInPlace(v);
+}
+
+/** Centre a vector in place by its mean, with one correction pass (two-pass mean); returns the mean. Cost: O(n). */
+function centreInPlace(v: Float64Array): { v: Float64Array; mean: number } {
+  const n = v.length;
+  let s = 0;
+  for (let t = 0; t < n; t++) s += v[t]!;
+  const mean = s / n;
+  let corr = 0;
+  for (let t = 0; t < n; t++) {
+    const d = v[t]! - mean;
+    v[t] = d;
+    corr += d;
+  }
+  const shift = corr / n;
+  if (shift !== 0) for (let t = 0; t < n; t++) v[t] = v[t]! - shift;
+  return { v, mean: mean + shift };
+}
+
+function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult {
+  const [xCol, yCol, ...given] = cols as [Column, Column, ...Column[]];
+  const idx = completeRows(cols, ctx.table.rows, ctx.rowFilter);
+  const n = idx.length;
+  if (n === 0) return { ok: false, reason: `no row has all of ${quoted([claim.x, claim.y, ...claim.given])} observed` };
+  const present = new Map<Column, number[]>();
+  for (const c of cols) if (CATEGORICAL_TYPES.has(c.type) && c.codes) present.set(c, presentCodes(c, idx));
+  const rank = name === "gcm-rank";
+  const sides: [ClaimColumn[], ClaimColumn[]] = [sideColumns(xCol, present.get(xCol), rank, ctx.rowFilter), sideColumns(yCol, present.get(yCol), rank, ctx.rowFilter)];
+  const indicatorCount = given.reduce((s, c) => s + (present.has(c) ? present.get(c)!.length - 1 : 0), 0);
+  const bases = given.filter((c) => !present.has(c)).map((c) => columnBasis(c, ctx.rowFilter));
+  const cap = rowPathLevelCap(n, indicatorCount, bases);
+  const { adjustment, entered } = adjustmentColumns(given, present, cap, ctx.rowFilter);
+  const layout: Layout = { adjustment, sides, entered, cap };
+
+  // Side columns that vary (a nominal side keeps the indicators with variance).
+  const gathered = new Map<Float64Array | Int32Array, Float64Array>();
+  const sideCentred: { c: ClaimColumn; v: Float64Array; mean: number }[][] = sides.map((s) => s.map((c) => ({ c, ...centredColumn(c, idx, gathered) })).filter((s) => dot(s.v, s.v) > 0));
+  for (const [k, s] of sideCentred.entries()) {
+    if (s.length === 0) return { ok: false, reason: `"${k === 0 ? claim.x : claim.y}" is constant among the ${n} complete rows; the claim cannot be tested` };
+  }
+  const respList = [...sideCentred[0]!, ...sideCentred[1]!];
+  const qx = sideCentred[0]!.length;
+  const q = respList.length;
+  // Every adjustment column up to the cap, centred, then one Gram matrix of them and the sides.
+  const A = adjustment.length;
+  const adjMeans = new Float64Array(A);
+  const vectors: Float64Array[] = [];
+  adjustment.forEach((c, j) => {
+    const { v, mean } = centredColumn(c, idx, gathered);
+    vectors.push(v);
+    adjMeans[j] = mean;
+  });
+  for (const r of respList) vectors.push(r.v);
+  const G = gramMatrix(vectors);
+  const d = A + q;
+  const cov = (a: number, b: number) => G[a * d + b]! / (n - 1);
+  const respCov = new Float64Array(q * q);
+  for (let a = 0; a < q; a++) for (let b = 0; b < q; b++) respCov[a * q + b] = cov(A + a, A + b);
+  const fit = new NestedAdjustment(n, respCov, q);
+  let j = 0;
+  let bestX = 0;
+  let bestY = 0;
+  for (let level = 0; level <= cap; level++) {
+    for (; j < A && adjustment[j]!.level === level; j++) {
+      const prev = new Float64Array(j);
+      for (const k of fit.keptColumns) prev[k] = cov(j, k);
+      const withResp = new Float64Array(q);
+      for (let r = 0; r < q; r++) withResp[r] = cov(j, A + r);
+      fit.addColumn(prev, cov(j, j), withResp);
+    }
+    fit.endLevel();
+    ({ bestX, bestY } = chooseLevel(fit, qx, q));
+    if (level >= bestX + 2 && level >= bestY + 2) break; // two levels past both sides' best: stop
+  }
+  const { level } = chooseLevel(fit, qx, q);
+  const f: Fitted = { fit, n, qx, qy: q - qx, level, bestX, bestY, params: fit.snapshots[level]!.kept, keptColumns: fit.keptColumns };
+  const sidesKept = respList.map((r) => r.c);
+  const sideMeans = Float64Array.from(respList.map((r) => r.mean));
+  return outcomeOf(name, claim, layout, sidesKept, f, adjMeans, sideMeans, idx, { path: "rows" });
+}
+
+// ---------------------------------------------------------------------------------------------
+// Moment path
+
+/** The seeded sample of rows behind the variance on the moment path (sorted), per table, seed and filter. */
+const sampleMemo = new WeakMap<Table, { seed: number; filter: Uint8Array | undefined; rows: Int32Array }>();
+
+/**
+ * Rows of the table (within the filter) that give the variance of the residual products: all of
+ * them when there are at most VARIANCE_SAMPLE_ROWS, else a uniform random sample of that many
+ * (without replacement; selection sampling, Knuth 1997, TAOCP vol. 2, 3rd ed., §3.4.2 Algorithm S)
+ * from the stream of (seed, "gcm variance rows"). Cost: O(rows).
+ */
+export function varianceSample(table: Table, seed: number, rowFilter?: Uint8Array): Int32Array {
+  const memo = sampleMemo.get(table);
+  if (memo && memo.seed === seed && memo.filter === rowFilter) return memo.rows;
+  const all: number[] = [];
+  let N = 0;
+  for (let i = 0; i < table.rows; i++) if (!rowFilter || rowFilter[i] !== 0) N++;
+  let out: Int32Array;
+  if (N <= VARIANCE_SAMPLE_ROWS) {
+    for (let i = 0; i < table.rows; i++) if (!rowFilter || rowFilter[i] !== 0) all.push(i);
+    out = Int32Array.from(all);
+  } else {
+    const rng = createRng(seed, "gcm variance rows");
+    out = new Int32Array(VARIANCE_SAMPLE_ROWS);
+    let chosen = 0;
+    let seen = 0;
+    for (let i = 0; i < table.rows && chosen < VARIANCE_SAMPLE_ROWS; i++) {
+      if (rowFilter && rowFilter[i] === 0) continue;
+      if ((N - seen) * rng.nextFloat() < VARIANCE_SAMPLE_ROWS - chosen) out[chosen++] = i;
+      seen++;
+    }
+  }
+  sampleMemo.set(table, { seed, filter: rowFilter, rows: out });
+  return out;
+}
+
+/** The moment columns of a claim, or undefined when the moments lack a column the claim needs. */
+function momentLayout(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): { layout: Layout; sides: [ClaimColumn[], ClaimColumn[]] } | undefined {
+  const [xCol, yCol, ...given] = cols as [Column, Column, ...Column[]];
+  const of = (c: Column): readonly IndexedDesignColumn[] => ctx.moments.columnsOf(c.name);
+  const rank = name === "gcm-rank";
+  const side = (c: Column): ClaimColumn[] | undefined => {
+    const list = of(c);
+    if (c.type === "nominal") {
+      return list.filter((d) => d.column.kind === "indicator").map((d) => ({ variable: c.name, label: d.column.name, level: 0, column: c, code: d.column.code!, index: d.index }));
+    }
+    const want = rank ? "rank" : "score";
+    const d = list.find((d) => d.column.kind === want);
+    if (!d) return undefined;
+    return [{ variable: c.name, label: d.column.name, level: 0, column: c, index: d.index, ...(rank ? { values: columnRanks(c, ctx.rowFilter) } : {}) }];
+  };
+  const sx = side(xCol);
+  const sy = side(yCol);
+  if (!sx || !sy) return undefined;
+  const byLevel: ClaimColumn[][] = Array.from({ length: MAX_BASIS_LEVEL + 1 }, () => []);
+  const entered: Layout["entered"] = [];
+  let cap = 0;
+  for (const c of given) {
+    const list = of(c);
+    if (CATEGORICAL_TYPES.has(c.type) && c.codes) {
+      let ind: ClaimColumn[];
+      if (c.type === "binary") {
+        const d = list.find((d) => d.column.kind === "score");
+        if (!d) return undefined;
+        ind = [{ variable: c.name, label: c.name, level: 0, column: c, index: d.index }];
+      } else {
+        ind = list.filter((d) => d.column.kind === "indicator").map((d) => ({ variable: c.name, label: d.column.name, level: 0, column: c, code: d.column.code!, index: d.index }));
+        if (ind.length === 0 && c.levels!.length > 1) return undefined;
+      }
+      byLevel[0]!.push(...ind);
+      entered.push({ variable: c.name, entered: "indicators", levelCounts: [ind.length] });
+      continue;
+    }
+    const score = list.find((d) => d.column.kind === "score");
+    if (!score) return undefined;
+    byLevel[0]!.push({ variable: c.name, label: c.name, level: 0, column: c, index: score.index });
+    const counts = [1];
+    for (const d of list) {
+      if (d.column.kind !== "basis") continue;
+      const l = d.column.basisLevel!;
+      byLevel[l]!.push({ variable: c.name, label: d.column.name, level: l, column: c, term: d.column.term!, index: d.index });
+      counts[l] = (counts[l] ?? 0) + 1;
+      cap = Math.max(cap, l);
+    }
+    entered.push({ variable: c.name, entered: "spline", levelCounts: counts });
+  }
+  for (const e of entered) {
+    if (e.entered === "spline") {
+      for (let l = 0; l <= cap; l++) e.levelCounts[l] = e.levelCounts[l] ?? 0;
+      if (cap === 0) e.entered = "linear";
+    }
+  }
+  const adjustment = byLevel.slice(0, cap + 1).flat();
+  const sides: [ClaimColumn[], ClaimColumn[]] = [sx, sy];
+  return { layout: { adjustment, sides, entered, cap }, sides };
+}
+
+function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult | undefined {
+  const found = momentLayout(name, claim, cols, ctx);
+  if (!found) return undefined;
+  const { layout } = found;
+  const { adjustment } = layout;
+  const sideList = [...layout.sides[0], ...layout.sides[1]];
+  const idx = [...adjustment.map((c) => c.index!), ...sideList.map((c) => c.index!)];
+  const m = ctx.moments.momentsForColumns(idx);
+  const n = m.n;
+  if (n === 0) return { ok: false, reason: `no row has all of ${quoted([claim.x, claim.y, ...claim.given])} observed` };
+  const A = adjustment.length;
+  const d = idx.length;
+  const cov = (a: number, b: number) => m.cov[a * d + b]!;
+  // Side columns that vary among the complete rows.
+  const keepSide = sideList.map((_, r) => cov(A + r, A + r) > 0);
+  const qx = layout.sides[0].filter((_, r) => keepSide[r]).length;
+  const qy = layout.sides[1].filter((_, r) => keepSide[layout.sides[0].length + r]).length;
+  if (qx === 0) return { ok: false, reason: `"${claim.x}" is constant among the ${n} complete rows; the claim cannot be tested` };
+  if (qy === 0) return { ok: false, reason: `"${claim.y}" is constant among the ${n} complete rows; the claim cannot be tested` };
+  const respPos = sideList.map((_, r) => A + r).filter((_, r) => keepSide[r]);
+  const q = respPos.length;
+  const respCov = new Float64Array(q * q);
+  for (let a = 0; a < q; a++) for (let b = 0; b < q; b++) respCov[a * q + b] = cov(respPos[a]!, respPos[b]!);
+  const fit = new NestedAdjustment(n, respCov, q);
+  let j = 0;
+  for (let level = 0; level <= layout.cap; level++) {
+    for (; j < A && adjustment[j]!.level === level; j++) {
+      const prev = new Float64Array(j);
+      for (let k = 0; k < j; k++) prev[k] = cov(j, k);
+      fit.addColumn(prev, cov(j, j), respPos.map((r) => cov(j, r)));
+    }
+    fit.endLevel();
+  }
+  const { level, bestX, bestY } = chooseLevel(fit, qx, q);
+  const f: Fitted = { fit, n, qx, qy, level, bestX, bestY, params: fit.snapshots[level]!.kept, keptColumns: fit.keptColumns };
+  const adjMeans = Float64Array.from(adjustment.map((_, a) => m.means[a]!));
+  const sidesKept = sideList.filter((_, r) => keepSide[r]);
+  const sideMeans = Float64Array.from(respPos.map((r) => m.means[r]!));
+  // Variance rows: the sample's rows complete on the claim.
+  const sample = varianceSample(ctx.table, ctx.seed, ctx.rowFilter);
+  const rows: number[] = [];
+  for (let t = 0; t < sample.length; t++) {
+    const i = sample[t]!;
+    if (!cols.some((c) => isMissing(c, i))) rows.push(i);
+  }
+  if (rows.length < 3) return { ok: false, reason: `too few sampled rows (${rows.length}) have all of ${quoted([claim.x, claim.y, ...claim.given])} observed to estimate the variance` };
+  return outcomeOf(name, claim, layout, sidesKept, f, adjMeans, sideMeans, Int32Array.from(rows), { path: "moments", variance_sample: rows.length < n });
+}
+
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * Generalised covariance measure test of one claim (see the module comment): the row path for
+ * tables of at most ROW_PATH_MAX_ROWS rows (or when the moments lack a column it needs), else the
+ * moment path.
+ * Cost: row path O(n · p²) for n complete rows and p adjustment columns reached; moment path
+ * O(P · d²) for P missing-data patterns, plus O(min(n, VARIANCE_SAMPLE_ROWS) · p) for the variance.
+ * Source: Shah & Peters (2020), Annals of Statistics 48:1514–1538; Harrell (2015), Regression
+ * Modeling Strategies, 2nd ed., §2.4; Craven & Wahba (1979), Numerische Mathematik 31:377–403.
+ * @example
+ * const r = runGcm("gcm", { x: "crp", y: "smoker", given: ["age", "sex"] }, ctx);
+ * if (r.ok) r.outcome.details.flexibility; // the adjustment level chosen
+ */
+export function runGcm(name: TestName, claim: Claim, ctx: TestContext): MethodResult {
+  const cols: Column[] = [];
+  for (const v of [claim.x, claim.y, ...claim.given]) {
+    const col = ctx.table.column(v);
+    if (!col) return { ok: false, reason: `variable "${v}" is not a column of the data` };
+    if (CATEGORICAL_TYPES.has(col.type) && (!col.codes || !col.levels)) return { ok: false, reason: `"${v}" is ${col.type} but has no level codes; declare it or re-read the data` };
+    cols.push(col);
+  }
+  if (!usesRowPath(ctx.table, ctx.rowFilter)) {
+    const viaMoments = runMomentPath(name, claim, cols, ctx);
+    if (viaMoments) return viaMoments;
+  }
+  return runRowPath(name, claim, cols, ctx);
+}
+
+/** Whether claims of this table are tested on the rows (at most ROW_PATH_MAX_ROWS rows within the filter). */
+export function usesRowPath(table: Table, rowFilter?: Uint8Array): boolean {
+  if (table.rows <= ROW_PATH_MAX_ROWS) return true;
+  if (!rowFilter) return false;
+  let k = 0;
+  for (let i = 0; i < rowFilter.length; i++) if (rowFilter[i] !== 0 && ++k > ROW_PATH_MAX_ROWS) return false;
+  return true;
+}
+
+/** Rough row work of a claim on the row path (see `TestMethod.rowWork`); 0 on the moment path. */
+function gcmRowWork(claim: Claim, table: Table): number {
+  if (table.rows > ROW_PATH_MAX_ROWS) return 0;
+  const p = 1 + 8 * claim.given.length;
+  return table.rows * (claim.given.length + 2 + (p * p) / 2);
+}
+
+function acceptsAny(_types: ClaimTypes): boolean {
+  return true;
+}
+
+/** The `gcm` test method: every mix of variable types (the default for claims with a continuous variable). */
+export const gcm: TestMethod = {
+  name: "gcm",
+  accepts: acceptsAny,
+  run: (claim, ctx) => runGcm("gcm", claim, ctx),
+  rowWork: gcmRowWork,
+};
+
+/** The `gcm-rank` test method (`--method rank`): the same test on the mid-ranks of scored sides. */
+export const gcmRank: TestMethod = {
+  name: "gcm-rank",
+  accepts: acceptsAny,
+  run: (claim, ctx) => runGcm("gcm-rank", claim, ctx),
+  rowWork: gcmRowWork,
+};
