@@ -14,8 +14,33 @@
  * The bounds are mapped to the effect scale by the same map, e = √(1 − exp(−λ/n)) (λ in place
  * of LR), which is monotone, so the mapped interval keeps its coverage to the extent the
  * noncentral approximation holds.
+ *
+ * Two variants serve tests whose null distribution is not the asymptotic χ²(df):
+ * - *Signed root* (1-df score statistics such as the linear-by-linear Q): Z = sign·√Q is
+ *   approximately N(δ, 1), δ = sign·√λ, near the null (Agresti 2013, Categorical Data Analysis,
+ *   3rd ed., §3.4: M = r√(n − 1) is approximately standard normal under independence), so the
+ *   test-inversion interval for δ is Z ± z_{(1+level)/2} (Casella & Berger 2002, Statistical
+ *   Inference, 2nd ed., §9.2.1), mapped by δ ↦ sign(δ)·√(1 − exp(−δ²/n)). Its lower end
+ *   excludes 0 exactly when Q > z², i.e. when the χ²(1) p-value is below 1 − level. When the
+ *   p-value came from permutations, the standard error of Z is instead recovered from that
+ *   p-value, SE = |Z| / z_p with z_p = Φ⁻¹(1 − p/2) (Altman & Bland 2011, BMJ 343:d2090), and
+ *   the interval is Z ± z_{(1+level)/2}·SE: it excludes 0 exactly when p < 1 − level, and it is
+ *   the asymptotic interval whenever the permutation p equals the χ²(1) p.
+ * - *Permutation-calibrated* (G² with a permutation p-value): in sparse tables the permutation
+ *   null distribution of G² is not χ²(df) (its mean m is often well above df and its variance
+ *   v well below 2m), so it is matched in its first two moments by a scaled chi-square
+ *   a·χ²(ν), a = v/(2m), ν = 2m²/v (Satterthwaite 1946, Biometrics Bulletin 2:110–114; Box 1954,
+ *   Annals of Mathematical Statistics 25:290–302), with m and v the mean and variance of the
+ *   permuted G². The noncentrality is estimated by the mean shift, λ̂ = max(0, G² − m) (G²
+ *   itself for 1 df, as above), and its interval comes from the noncentral chi-square
+ *   inversion above applied to G²/a on ν df, mapped back by λ = a·λ′. With m = df and v = 2df
+ *   (dense tables) this is the asymptotic construction. The interval's lower end is set to 0
+ *   whenever the p-value actually used is ≥ (1 − level)/2 — the rule the asymptotic interval
+ *   follows with its own p-value — so no interval excludes 0 for a claim that its test does not
+ *   reject at that level.
  */
 import { noncentralChiSquareUpper } from "./noncentralChiSquare.js";
+import { normalQuantile } from "./quantiles.js";
 
 /**
  * Likelihood-ratio effect: sign·√(1 − exp(−LR/n)), the effect scale shared by all tests; equal
@@ -90,4 +115,97 @@ export function lrEffectCI(lr: number, df: number, n: number, level = 0.95): [nu
   const lambdaU = solveNoncentrality(lr, df, (1 + level) / 2);
   const map = (lambda: number): number => (lambda === Infinity ? 1 : Math.sqrt(-Math.expm1(-lambda / n)));
   return [map(lambdaL), map(lambdaU)];
+}
+
+/**
+ * Signed-root interval of a 1-df statistic on the effect scale: with Z = sign·√Q and
+ * half-width h = z_{(1+level)/2}·SE, returns [m(Z − h), m(Z + h)] where
+ * m(δ) = sign(δ)·√(1 − exp(−δ²/n)) maps the normal deviate to the effect scale (so that
+ * m(Z) = {@link lrToEffect}(Q, n, sign), the point effect). SE = 1 for an asymptotic p-value
+ * (`p` omitted); for a p-value from elsewhere (permutations) SE = √Q / Φ⁻¹(1 − p/2), the standard
+ * error implied by that p-value (Altman & Bland 2011), so the interval excludes 0 exactly when
+ * p < 1 − level. When p = 1 or Q = 0 no standard error can be implied and h = max(z, √Q), an
+ * interval that contains 0.
+ * Cost: O(1).
+ * Sources: Agresti (2013), Categorical Data Analysis, 3rd ed., §3.4 (the signed root M of the
+ * 1-df trend statistic); Casella & Berger (2002), Statistical Inference, 2nd ed., §9.2.1 (test
+ * inversion); Altman & Bland (2011), BMJ 343:d2090 (standard error from a p-value).
+ * @throws {RangeError} when Q is negative or not finite, n is not positive, sign is not −1, 0
+ * or 1, level is not in (0, 1), or p is given and not in (0, 1]
+ * @example signedRootEffectCI(3.841458820694124 * 1.2, 100, 1) // lower end > 0: p ≈ 0.032 < 0.05
+ * @example signedRootEffectCI(4, 100, -1, 0.95, 0.08)        // contains 0: the permutation p is 0.08
+ */
+export function signedRootEffectCI(q: number, n: number, sign: -1 | 0 | 1, level = 0.95, p?: number): [number, number] {
+  if (!(q >= 0 && Number.isFinite(q))) throw new RangeError(`1-df statistic must be a finite number ≥ 0, got ${q}`);
+  if (!(n > 0)) throw new RangeError(`sample size must be positive, got ${n}`);
+  if (sign !== -1 && sign !== 0 && sign !== 1) throw new RangeError(`sign must be -1, 0 or 1, got ${String(sign)}`);
+  if (!(level > 0 && level < 1)) throw new RangeError(`confidence level must be between 0 and 1, got ${level}`);
+  if (p !== undefined && !(p > 0 && p <= 1)) throw new RangeError(`p-value must be in (0, 1], got ${p}`);
+  const root = Math.sqrt(q);
+  const z = sign < 0 ? -root : root;
+  const zc = normalQuantile((1 + level) / 2);
+  let half: number;
+  if (p === undefined) half = zc;
+  else {
+    const zp = -normalQuantile(p / 2); // Φ⁻¹(1 − p/2), accurate for small p
+    half = zp > 0 && root > 0 ? (zc * root) / zp : Math.max(zc, root);
+  }
+  const map = (delta: number): number => (delta === 0 ? 0 : Math.sign(delta) * Math.sqrt(-Math.expm1(-(delta * delta) / n)));
+  return [map(z - half), map(z + half)];
+}
+
+/** Mean and variance of a statistic's permutation distribution (from Monte-Carlo draws). */
+export interface NullMoments {
+  mean: number;
+  variance: number;
+}
+
+/** Effect, interval and calibration of {@link permutationLrEffect}. */
+export interface PermutationLrEffect {
+  effect: number;
+  ci: [number, number];
+  /** The scale a and degrees of freedom ν of the scaled chi-square a·χ²(ν) matched to the null (1 and df when the moments are unusable). */
+  scale: number;
+  dfMatched: number;
+}
+
+/**
+ * Likelihood-ratio effect for a statistic tested against its permutation distribution (see the
+ * module comment): the null is matched by a·χ²(ν) with a = v/(2m), ν = 2m²/v from its mean m and
+ * variance v; the point is λ̂ = max(0, LR − m) (LR itself for df = 1) mapped by
+ * sign·√(1 − exp(−λ̂/n)); the interval maps a·λ′ for the noncentralities λ′ with
+ * P(χ²(ν, λ′) ≥ LR/a) = (1 ∓ level)/2, mirrored for a negative sign, and its end nearer 0 is 0
+ * whenever the p-value actually used is ≥ (1 − level)/2. The interval is widened to the point
+ * if rounding in the bisection left it outside. When m or v is not a positive finite number,
+ * a = 1, ν = df and m = df (the asymptotic construction, with the same rule for the lower end).
+ * Cost: that of {@link lrEffectCI}.
+ * Sources: Satterthwaite (1946), Biometrics Bulletin 2:110–114 and Box (1954), Annals of
+ * Mathematical Statistics 25:290–302 (two-moment scaled chi-square); Steiger (1990),
+ * Multivariate Behavioral Research 25:173–180 (the interval).
+ * @throws {RangeError} when LR is negative or not finite, df or n is not positive, sign is not
+ * −1, 0 or 1, p is not in (0, 1], or level is not in (0, 1)
+ * @example permutationLrEffect(69, 44, 100, { mean: 70, variance: 42 }, 0.55) // { effect: 0, ci: [0, …], … }: G² is at its null mean
+ */
+export function permutationLrEffect(lr: number, df: number, n: number, nullMoments: NullMoments, p: number, sign: -1 | 0 | 1 = 1, level = 0.95): PermutationLrEffect {
+  if (!(lr >= 0 && Number.isFinite(lr))) throw new RangeError(`likelihood-ratio statistic must be a finite number ≥ 0, got ${lr}`);
+  if (!(df > 0)) throw new RangeError(`df must be positive, got ${df}`);
+  if (!(n > 0)) throw new RangeError(`sample size must be positive, got ${n}`);
+  if (sign !== -1 && sign !== 0 && sign !== 1) throw new RangeError(`sign must be -1, 0 or 1, got ${String(sign)}`);
+  if (!(p > 0 && p <= 1)) throw new RangeError(`p-value must be in (0, 1], got ${p}`);
+  if (!(level > 0 && level < 1)) throw new RangeError(`confidence level must be between 0 and 1, got ${level}`);
+  const { mean, variance } = nullMoments;
+  const usable = mean > 0 && variance > 0 && Number.isFinite(mean) && Number.isFinite(variance);
+  const m = usable ? mean : df;
+  const a = usable ? variance / (2 * mean) : 1;
+  const nu = usable ? (2 * mean * mean) / variance : df;
+  const point = df === 1 ? lr : Math.max(0, lr - m);
+  let lo = a * solveNoncentrality(lr / a, nu, (1 - level) / 2);
+  let hi = a * solveNoncentrality(lr / a, nu, (1 + level) / 2);
+  if (p >= (1 - level) / 2) lo = 0;
+  if (lo > point) lo = point;
+  if (hi < point) hi = point;
+  const map = (lambda: number): number => (lambda === Infinity ? 1 : Math.sqrt(-Math.expm1(-lambda / n)));
+  const effect = sign === 0 ? 0 : sign * map(point);
+  const ci: [number, number] = sign < 0 ? [-map(hi), -map(lo)] : [map(lo), map(hi)];
+  return { effect: effect === 0 ? 0 : effect, ci, scale: a, dfMatched: nu };
 }

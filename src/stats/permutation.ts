@@ -458,3 +458,195 @@ export function createTableStatisticSampler(
     return stat;
   };
 }
+
+/**
+ * Σ_i a_i Σ_j b_j n_ij of a row-major r × c table (r = a.length, c = b.length), summed in one
+ * fixed order, so equal tables give bitwise equal sums (ties in a Monte-Carlo p-value stay ties).
+ * Cost: O(r·c).
+ * @example scoredTableSum([1, 2, 3, 4], [0, 1], [0, 1]) // 4
+ */
+export function scoredTableSum(counts: ArrayLike<number>, a: ArrayLike<number>, b: ArrayLike<number>): number {
+  const r = a.length;
+  const c = b.length;
+  let sum = 0;
+  for (let i = 0; i < r; i++) {
+    let row = 0;
+    for (let j = 0; j < c; j++) row += b[j]! * counts[i * c + j]!;
+    sum += a[i]! * row;
+  }
+  return sum;
+}
+
+/** One stratum for {@link createScoredTableSampler}: its margins and a score per row and per column. */
+export interface ScoredMargins {
+  rowMargins: ArrayLike<number>;
+  colMargins: ArrayLike<number>;
+  rowScores: ArrayLike<number>;
+  colScores: ArrayLike<number>;
+}
+
+/**
+ * Sampler of the permutation distribution of a stratified score statistic Σ_s Σ_ij a_i b_j n_ij:
+ * each call draws, independently for every stratum, a random table with that stratum's margins
+ * (multivariate hypergeometric, the table of x permuted within the stratum, drawn cell by cell
+ * as {@link randomTableWithMargins}) and returns the sum of {@link scoredTableSum} over strata.
+ * Pass scores centred within each stratum to get Σ_s (T_s − E_s) of the linear-by-linear
+ * statistic directly. The random numbers come from a stream forked from `rng` ({@link forkRng}).
+ * Cost: O(Σ_s n_s) to set up; per call O(Σ_s r_s·c_s) plus the spread of the draws (O(sd + 1)
+ * each), independent of the number of rows behind the tables.
+ * Source: conditional decomposition of Patefield (1981), Applied Statistics 30:91–97.
+ * @throws RangeError when a stratum's margins do not agree, a margin is not a non-negative
+ * integer, or the scores do not match the margins in length
+ * @example
+ * const draw = createScoredTableSampler([{ rowMargins: [5, 15], colMargins: [8, 12], rowScores: [-0.75, 0.25], colScores: [-0.6, 0.4] }], createRng(1));
+ * draw(); // Σ (T − E) of one random 2 × 2 table with margins (5, 15) × (8, 12)
+ */
+export function createScoredTableSampler(strata: readonly ScoredMargins[], rng: Rng): () => number {
+  let maxN = 0;
+  let maxC = 0;
+  let maxCells = 0;
+  strata.forEach((s, k) => {
+    if (s.rowScores.length !== s.rowMargins.length || s.colScores.length !== s.colMargins.length) {
+      throw new RangeError(`stratum ${k}: ${s.rowScores.length} row scores for ${s.rowMargins.length} rows and ${s.colScores.length} column scores for ${s.colMargins.length} columns; pass one score per level`);
+    }
+    let a = 0;
+    let b = 0;
+    for (let i = 0; i < s.rowMargins.length; i++) {
+      const v = s.rowMargins[i]!;
+      if (!(Number.isInteger(v) && v >= 0)) throw new RangeError(`stratum ${k}: margin ${v} must be a non-negative integer; pass counts`);
+      a += v;
+    }
+    for (let j = 0; j < s.colMargins.length; j++) {
+      const v = s.colMargins[j]!;
+      if (!(Number.isInteger(v) && v >= 0)) throw new RangeError(`stratum ${k}: margin ${v} must be a non-negative integer; pass counts`);
+      b += v;
+    }
+    if (a !== b) throw new RangeError(`stratum ${k}: row margins total ${a} but column margins total ${b}; they must agree`);
+    maxN = Math.max(maxN, a);
+    maxC = Math.max(maxC, s.colMargins.length);
+    maxCells = Math.max(maxCells, s.rowMargins.length * s.colMargins.length);
+  });
+  const lf = logFactorialTable(maxN);
+  const out = new Float64Array(maxCells);
+  const colLeft = new Float64Array(maxC);
+  const fast = forkRng(rng);
+  return (): number => {
+    let sum = 0;
+    for (const s of strata) {
+      if (s.rowMargins.length === 0 || s.colMargins.length === 0) continue;
+      randomTableWithMargins(s.rowMargins, s.colMargins, fast, lf, out, colLeft);
+      sum += scoredTableSum(out, s.rowScores, s.colScores);
+    }
+    return sum;
+  };
+}
+
+/** The sequential Monte-Carlo p-value with the mean and variance of the null draws ({@link sequentialMonteCarloNull}). */
+export interface MonteCarloNull {
+  /** Sequential Monte-Carlo p-value, as {@link sequentialMonteCarloPValue}. */
+  p: number;
+  /** Draws the p-value used. */
+  draws: number;
+  /** Mean of all null draws made (at least `nullDraws`). */
+  mean: number;
+  /** Their sample variance (denominator count − 1; 0 with one draw). */
+  variance: number;
+  /** Number of draws in the mean and variance. */
+  nullDraws: number;
+}
+
+/**
+ * Sequential Monte-Carlo p-value ({@link sequentialMonteCarloPValue}, stopping after `h` hits or
+ * `B` draws) together with the mean and variance of the null distribution estimated from the
+ * same draws, continued to at least `nullDraws` draws when the test stopped earlier. The extra
+ * draws come after the test's own from the same stream, so the p-value is the one the test alone
+ * gives. Mean and variance are accumulated by Welford's updates (Welford 1962, Technometrics
+ * 4:419–420), which stay accurate when the draws are large and close together.
+ * Cost: O(max(nullDraws, draws of the test)) calls of `draw`.
+ * Sources: Besag & Clifford (1991), Biometrika 78:301–304 (the p-value); Welford (1962).
+ * @throws RangeError as sequentialMonteCarloPValue; when nullDraws is not a non-negative integer
+ * @example sequentialMonteCarloNull(0, 1000, 10, () => 1, 200) // { p: 1, draws: 10, mean: 1, variance: 0, nullDraws: 200 }
+ */
+export function sequentialMonteCarloNull(observed: number, B: number, h: number, draw: () => number, nullDraws: number): MonteCarloNull {
+  if (!Number.isInteger(nullDraws) || nullDraws < 0) throw new RangeError(`draws for the null moments must be a non-negative integer, got ${nullDraws}`);
+  let mean = 0;
+  let m2 = 0;
+  let count = 0;
+  const counted = (): number => {
+    const v = draw();
+    count++;
+    const d = v - mean;
+    mean += d / count;
+    m2 += d * (v - mean);
+    return v;
+  };
+  const test = sequentialMonteCarloPValue(observed, B, h, counted);
+  while (count < nullDraws) counted();
+  return { p: test.p, draws: test.draws, mean, variance: count > 1 ? m2 / (count - 1) : 0, nullDraws: count };
+}
+
+/** Monte-Carlo draws when no floor asks for more (the default of the stratified chi-square test). */
+export const BASE_PERMUTATIONS = 2000;
+/**
+ * Resolution factor c of {@link permutationsForFloor}: B ≥ c / floor, so that the smallest
+ * reachable p-value 1/(B + 1) is about a tenth of the floor.
+ */
+export const FLOOR_RESOLUTION = 10;
+/** Most draws {@link permutationsForFloor} asks for (a floor below 1e-6 is reported as unreachable instead). */
+export const MAX_PERMUTATIONS = 10_000_000;
+
+/**
+ * Monte-Carlo draws for a p-value that must be able to fall below `floor` (the smallest
+ * threshold an adjusted p-value can face): B = max(2000, ⌈c / floor⌉) with c = 10, at most 10⁷.
+ * With B draws a Monte-Carlo p-value (1 + hits)/(1 + B) is at least 1/(B + 1), so a claim can
+ * only be called below the floor when floor·(B + 1) > 1. With c = 10 the smallest reachable
+ * p-value is about floor/10 and the Monte-Carlo test at the floor loses little power against
+ * the exact permutation test (Jöckel 1986, Annals of Statistics 14:336–347, on the power of
+ * Monte-Carlo tests as a function of α(B + 1)): it rejects when at most 9 of the B draws reach
+ * the observed statistic, so a claim whose exact permutation p-value is floor/2 (expected
+ * 5 hits) is called below the floor with probability P(Poisson(5) ≤ 9) ≈ 0.968, and one at
+ * floor/4 with P(Poisson(2.5) ≤ 9) ≈ 0.9997 (Poisson limit of the binomial; scipy.stats.poisson.cdf).
+ * The sequential stop after 20 hits still ends ordinary claims early: it can only stop at
+ * p = 20/L ≥ 20/B ≥ 2·floor, above any threshold, so claims near or below the floor draw all B.
+ * A floor that is missing, not a number, ≤ 0 or > 1 counts as 0.05. Cost: O(1).
+ * @example permutationsForFloor(0.05 / 120) // 24000
+ * @example permutationsForFloor(0.05)       // 2000
+ */
+export function permutationsForFloor(floor: number | undefined): number {
+  const f = floor !== undefined && floor > 0 && floor <= 1 ? floor : 0.05;
+  return Math.min(MAX_PERMUTATIONS, Math.max(BASE_PERMUTATIONS, Math.ceil(FLOOR_RESOLUTION / f - 1e-9)));
+}
+
+/**
+ * The fewest Monte-Carlo draws B with 1/(B + 1) < floor, i.e. ⌊1/floor⌋ (a floor equal to
+ * 1/(B + 1) up to rounding is not reached: p-values must fall strictly below it).
+ * Cost: O(1).
+ * @throws RangeError when floor is not in (0, 1]
+ * @example permutationsToReach(0.05 / 120) // 2400
+ */
+export function permutationsToReach(floor: number): number {
+  if (!(floor > 0 && floor <= 1)) throw new RangeError(`floor must be in (0, 1], got ${floor}`);
+  let b = Math.max(1, Math.floor(1 / floor) - 1);
+  while (!reachesFloor(b, floor)) b++;
+  return b;
+}
+
+/** Whether 1/(B + 1) < floor, a floor equal to 1/(B + 1) up to rounding counting as not reached. */
+function reachesFloor(B: number, floor: number): boolean {
+  return 1 / (B + 1) < floor * (1 - 1e-12);
+}
+
+/**
+ * A warning for a claim whose Monte-Carlo p-value cannot fall below the floor with B draws
+ * (1/(B + 1) ≥ floor), naming the smallest reachable p-value, the draws that can reach the floor
+ * and those {@link permutationsForFloor} would draw; `undefined` when B is enough. A missing or
+ * invalid floor counts as 0.05. Cost: O(1).
+ * @example permutationFloorWarning(2000, 0.05 / 120) // "with 2000 permutations the smallest reachable p-value is …"
+ */
+export function permutationFloorWarning(B: number, floor: number | undefined): string | undefined {
+  const f = floor !== undefined && floor > 0 && floor <= 1 ? floor : 0.05;
+  if (reachesFloor(B, f)) return undefined;
+  const need = permutationsToReach(f);
+  const advised = permutationsForFloor(f);
+  return `with ${B} permutations the smallest reachable p-value is 1/${B + 1} = ${(1 / (B + 1)).toPrecision(3)}, not below ${f.toPrecision(3)}, the smallest threshold an adjusted p-value faces here; at least ${need} permutations are needed to go below it (${advised} advised)`;
+}

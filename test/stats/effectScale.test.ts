@@ -1,6 +1,9 @@
+import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { lrEffect, lrEffectCI, lrToEffect } from "../../src/stats/effectScale.js";
+import { lrEffect, lrEffectCI, lrToEffect, permutationLrEffect, signedRootEffectCI } from "../../src/stats/effectScale.js";
+import { chiSquareUpper } from "../../src/stats/pvalues.js";
 import { noncentralChiSquareUpper } from "../../src/stats/noncentralChiSquare.js";
 import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
 
@@ -95,5 +98,169 @@ describe("lrEffect", () => {
       }),
       { numRuns: 150, seed: 7 },
     );
+  });
+});
+
+describe("signedRootEffectCI", () => {
+  // Φ⁻¹(0.975) = 1.959963984540054 (scipy.stats.norm.ppf(0.975); NIST/SEMATECH e-Handbook table 1.96)
+  const Z975 = 1.959963984540054;
+  const map = (d: number, n: number) => Math.sign(d) * Math.sqrt(1 - Math.exp(-(d * d) / n));
+
+  it("signedRootEffectCI(Q, n, sign) is sign·√Q ± 1.96 mapped by √(1 − exp(−δ²/n)), around lrToEffect(Q, n, sign)", () => {
+    const [lo, hi] = signedRootEffectCI(20, 100, 1);
+    expect(lo).toBeCloseTo(map(Math.sqrt(20) - Z975, 100), 12);
+    expect(hi).toBeCloseTo(map(Math.sqrt(20) + Z975, 100), 12);
+    const [nlo, nhi] = signedRootEffectCI(20, 100, -1);
+    expect(nlo).toBeCloseTo(-hi, 12);
+    expect(nhi).toBeCloseTo(-lo, 12);
+    // Q = 1: √Q − 1.96 < 0, so the interval crosses 0 and its lower end is negative
+    const [a, b] = signedRootEffectCI(1, 50, 1);
+    expect(a).toBeCloseTo(map(1 - Z975, 50), 12);
+    expect(a).toBeLessThan(0);
+    expect(b).toBeGreaterThan(lrToEffect(1, 50));
+    const [z0, z1] = signedRootEffectCI(0, 50, 0);
+    expect(z0).toBeCloseTo(map(-Z975, 50), 12);
+    expect(z1).toBeCloseTo(map(Z975, 50), 12);
+  });
+
+  it("the asymptotic interval excludes 0 exactly when P(χ²₁ ≥ Q) < 0.05, and contains the point (property)", () => {
+    fc.assert(
+      fc.property(fc.double({ min: 0, max: 60, noNaN: true }), fc.integer({ min: 5, max: 100000 }), fc.constantFrom(-1 as const, 1 as const), (q, n, sign) => {
+        const [lo, hi] = signedRootEffectCI(q, n, sign);
+        const p = chiSquareUpper(q, 1);
+        const e = lrToEffect(q, n, sign);
+        expect(lo).toBeLessThanOrEqual(e + 1e-15);
+        expect(hi).toBeGreaterThanOrEqual(e - 1e-15);
+        if (Math.abs(p - 0.05) > 1e-9) expect(lo > 0 || hi < 0).toBe(p < 0.05);
+      }),
+      { numRuns: 400, seed: 21 },
+    );
+    // doc examples: Q = 1.2 × the χ²₁ 0.95 point (p ≈ 0.032) excludes 0; a permutation p of 0.08 does not
+    expect(signedRootEffectCI(3.841458820694124 * 1.2, 100, 1)[0]).toBeGreaterThan(0);
+    const [dlo, dhi] = signedRootEffectCI(4, 100, -1, 0.95, 0.08);
+    expect(dlo).toBeLessThan(0);
+    expect(dhi).toBeGreaterThan(0);
+    // boundary: χ²₁ 0.95 point 3.841458820694124 (NIST/SEMATECH e-Handbook §1.3.6.7.4: 3.841; scipy.stats.chi2.ppf)
+    expect(signedRootEffectCI(3.8415, 100, 1)[0]).toBeGreaterThan(0);
+    expect(signedRootEffectCI(3.8414, 100, 1)[0]).toBeLessThan(0);
+  });
+
+  it("with a permutation p-value the interval excludes 0 exactly when p < 0.05, and equals the asymptotic one at the χ²₁ p-value (property)", () => {
+    fc.assert(
+      fc.property(fc.double({ min: 0.01, max: 60, noNaN: true }), fc.double({ min: 1e-6, max: 1, noNaN: true }), fc.integer({ min: 5, max: 100000 }), fc.constantFrom(-1 as const, 1 as const), (q, p, n, sign) => {
+        const [lo, hi] = signedRootEffectCI(q, n, sign, 0.95, p);
+        const e = lrToEffect(q, n, sign);
+        expect(lo).toBeLessThanOrEqual(e + 1e-15);
+        expect(hi).toBeGreaterThanOrEqual(e - 1e-15);
+        if (Math.abs(p - 0.05) > 1e-9) expect(lo > 0 || hi < 0).toBe(p < 0.05);
+        const asym = signedRootEffectCI(q, n, sign);
+        const same = signedRootEffectCI(q, n, sign, 0.95, chiSquareUpper(q, 1));
+        expect(same[0]).toBeCloseTo(asym[0], 8);
+        expect(same[1]).toBeCloseTo(asym[1], 8);
+      }),
+      { numRuns: 400, seed: 22 },
+    );
+    // p = 1 (every permuted statistic reached the observed one): an interval around 0
+    const [lo, hi] = signedRootEffectCI(0.3, 100, 1, 0.95, 1);
+    expect(lo).toBeLessThan(0);
+    expect(hi).toBeGreaterThan(0);
+  });
+
+  it("the standard error implied by the p-value reproduces the Altman & Bland (2011) worked example", () => {
+    // BMJ 343:d2090: estimate 17, P = 0.032 → 95% CI 1.4 to 32.6 (their z = 2.141 from an approximation;
+    // the exact Φ⁻¹(1 − 0.016) = 2.1444 moves the ends by 0.024, and they print one decimal: tolerance 0.07).
+    // On a huge n the map is linear, δ/√n, so the δ scale is read off as the bounds × √n.
+    const n = 1e14;
+    const [lo, hi] = signedRootEffectCI(17 * 17, n, 1, 0.95, 0.032);
+    expect(Math.abs(lo * Math.sqrt(n) - 1.4)).toBeLessThan(0.07);
+    expect(Math.abs(hi * Math.sqrt(n) - 32.6)).toBeLessThan(0.07);
+  });
+
+  it("signedRootEffectCI rejects bad input", () => {
+    expect(() => signedRootEffectCI(-1, 10, 1)).toThrow(/finite number ≥ 0/);
+    expect(() => signedRootEffectCI(1, 0, 1)).toThrow(/sample size/);
+    expect(() => signedRootEffectCI(1, 10, 2 as never)).toThrow(/sign/);
+    expect(() => signedRootEffectCI(1, 10, 1, 1)).toThrow(/confidence level/);
+    expect(() => signedRootEffectCI(1, 10, 1, 0.95, 0)).toThrow(/p-value/);
+  });
+});
+
+interface CalRef { intervals: { g2: number; df: number; n: number; mean: number; variance: number; scale: number; nu: number; ci: [number, number]; effect: number; central_tail: number }[] }
+function calibratedReference(): { ref: CalRef; from: string } {
+  const script = new URL("../../scripts/calibrated_effect_reference.py", import.meta.url).pathname;
+  if (!process.env.ARROWAUDIT_FIXTURES_ONLY) {
+    const run = spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 60_000 });
+    if (run.status === 0) return { ref: JSON.parse(run.stdout) as CalRef, from: "python3 scipy (live)" };
+  }
+  return { ref: JSON.parse(readFileSync(new URL("../fixtures/calibrated-effect/reference.json", import.meta.url), "utf8")) as CalRef, from: "committed fixture" };
+}
+const cal = calibratedReference();
+
+describe(`permutationLrEffect [reference: ${cal.from}]`, () => {
+  it("permutationLrEffect matches scipy's noncentral inversion on the scaled chi-square matched to the null (1e-8)", () => {
+    for (const r of cal.ref.intervals) {
+      // scipy.optimize.brentq on scipy.stats.ncx2.sf, scripts/calibrated_effect_reference.py
+      const e = permutationLrEffect(r.g2, r.df, r.n, { mean: r.mean, variance: r.variance }, r.central_tail);
+      const where = `G²=${r.g2} df=${r.df} m=${r.mean} v=${r.variance}`;
+      expect(relErr(e.scale, r.scale), where).toBeLessThan(1e-12);
+      expect(relErr(e.dfMatched, r.nu), where).toBeLessThan(1e-12);
+      expect(relErr(e.effect, r.effect), where).toBeLessThan(1e-12);
+      if (r.ci[0] === 0) expect(e.ci[0], where).toBe(0);
+      else expect(relErr(e.ci[0], r.ci[0]), where).toBeLessThan(1e-8);
+      expect(relErr(e.ci[1], r.ci[1]), where).toBeLessThan(1e-8);
+    }
+  });
+
+  it("permutationLrEffect with the asymptotic null moments (mean df, variance 2df) is lrEffect with lrEffectCI", () => {
+    for (const [lr, df, n] of [[26, 6, 500], [20, 1, 100], [3, 6, 500], [80, 12, 300]] as const) {
+      const e = permutationLrEffect(lr, df, n, { mean: df, variance: 2 * df }, 1e-4);
+      expect(e.effect).toBeCloseTo(lrEffect(lr, df, n), 14);
+      const [lo, hi] = lrEffectCI(lr, df, n);
+      expect(e.ci[0]).toBeCloseTo(lo, 12);
+      expect(e.ci[1]).toBeCloseTo(hi, 12);
+    }
+    const neg = permutationLrEffect(20, 1, 100, { mean: 1, variance: 2 }, 1e-5, -1);
+    expect(neg.effect).toBe(lrEffect(20, 1, 100, -1));
+    expect(neg.ci[1]).toBeLessThan(0);
+    // unusable moments fall back to the asymptotic construction
+    expect(permutationLrEffect(26, 6, 500, { mean: NaN, variance: 3 }, 1e-4).effect).toBe(lrEffect(26, 6, 500));
+  });
+
+  it("permutationLrEffect: a G² at its permutation null mean has effect 0 and an interval from 0 (doc example); the unadjusted effect would not", () => {
+    const e = permutationLrEffect(69, 44, 100, { mean: 70, variance: 42 }, 0.55);
+    expect(e.effect).toBe(0);
+    expect(e.ci[0]).toBe(0);
+    expect(e.ci[1]).toBeGreaterThan(0);
+    // the pinned bug: the df-based construction calls the same numbers clearly non-null
+    expect(lrEffect(69, 44, 100)).toBeGreaterThan(0.4);
+    expect(lrEffectCI(69, 44, 100)[0]).toBeGreaterThan(0);
+  });
+
+  it("permutationLrEffect: the point lies in its interval, and no interval excludes 0 when p ≥ 0.025 (property)", () => {
+    fc.assert(
+      fc.property(
+        fc.double({ min: 0, max: 300, noNaN: true }), fc.integer({ min: 1, max: 40 }), fc.integer({ min: 10, max: 20000 }),
+        fc.double({ min: 0.3, max: 3, noNaN: true }), fc.double({ min: 0.1, max: 2, noNaN: true }), fc.double({ min: 1e-5, max: 1, noNaN: true }),
+        fc.constantFrom(-1 as const, 0 as const, 1 as const),
+        (lr, df, n, meanRatio, varRatio, p, sign) => {
+          const s = df === 1 ? sign : 1;
+          const mean = meanRatio * df;
+          const e = permutationLrEffect(lr, df, n, { mean, variance: varRatio * 2 * mean }, p, s);
+          expect(e.ci[0]).toBeLessThanOrEqual(e.effect);
+          expect(e.ci[1]).toBeGreaterThanOrEqual(e.effect);
+          if (p >= 0.025) expect(e.ci[0] <= 0 && e.ci[1] >= 0).toBe(true);
+        },
+      ),
+      { numRuns: 150, seed: 23 },
+    );
+  });
+
+  it("permutationLrEffect rejects bad input", () => {
+    const m = { mean: 5, variance: 8 };
+    expect(() => permutationLrEffect(-1, 4, 10, m, 0.5)).toThrow(/finite number ≥ 0/);
+    expect(() => permutationLrEffect(1, 0, 10, m, 0.5)).toThrow(/df must be positive/);
+    expect(() => permutationLrEffect(1, 4, 0, m, 0.5)).toThrow(/sample size/);
+    expect(() => permutationLrEffect(1, 4, 10, m, 0)).toThrow(/p-value/);
+    expect(() => permutationLrEffect(1, 4, 10, m, 0.5, 1, 2)).toThrow(/confidence level/);
   });
 });

@@ -1,7 +1,8 @@
 import { gammaln } from "simple-statistics";
 import { describe, expect, it } from "vitest";
 import {
-  createTableStatisticSampler, forkRng, hypergeometricDraw, logFactorialTable, monteCarloPValue, randomTableWithMargins, sequentialMonteCarloPValue, shuffleInPlace,
+  createScoredTableSampler, createTableStatisticSampler, forkRng, hypergeometricDraw, logFactorialTable, monteCarloPValue, permutationFloorWarning, permutationsForFloor,
+  permutationsToReach, randomTableWithMargins, scoredTableSum, sequentialMonteCarloNull, sequentialMonteCarloPValue, shuffleInPlace,
 } from "../../src/stats/permutation.js";
 import { chiSquareUpper } from "../../src/stats/pvalues.js";
 import { createRng, hashString32, streamKeyOfClaim } from "../../src/stats/rng.js";
@@ -294,5 +295,121 @@ describe("createTableStatisticSampler", () => {
     expect(mn).toBeGreaterThanOrEqual(0);
     expect(mx).toBeLessThan(1);
     expect(() => a.nextInt(0)).toThrow(/1\.\.2\^21/);
+  });
+});
+
+describe("createScoredTableSampler", () => {
+  /** Exact distribution of Σ_s Σ_ij a_i b_j n_ij over independent strata, keyed by the value to 1e-6. */
+  function exactScored(strata: { rm: number[]; cm: number[]; a: number[]; b: number[] }[]): Map<string, number> {
+    let dist = new Map<number, number>([[0, 1]]);
+    for (const { rm, cm, a, b } of strata) {
+      const next = new Map<number, number>();
+      for (const { cells, prob } of enumerateTables(rm, cm)) {
+        const t = scoredTableSum(cells, a, b);
+        for (const [v, p] of dist) {
+          const k = Math.round((v + t) * 1e9) / 1e9;
+          next.set(k, (next.get(k) ?? 0) + p * prob);
+        }
+      }
+      dist = next;
+    }
+    return new Map([...dist].map(([v, p]) => [v.toFixed(6), p]));
+  }
+
+  it("scoredTableSum is Σ a_i b_j n_ij (doc example)", () => {
+    expect(scoredTableSum([1, 2, 3, 4], [0, 1], [0, 1])).toBe(4);
+    expect(scoredTableSum([1, 2, 3, 4, 5, 6], [1, 2], [1, 0, -1])).toBe(1 - 3 + 2 * (4 - 6)); // hand computation
+  });
+
+  it("createScoredTableSampler draws Σ a_i b_j n_ij with its exact permutation distribution (two strata, exact convolution)", () => {
+    const strata = [
+      { rm: [3, 4, 2], cm: [2, 1, 3, 3], a: [-1, 0.5, 2], b: [0, 1, 1.5, 4] },
+      { rm: [2, 3], cm: [1, 4], a: [0, 1], b: [-2, 3] },
+    ];
+    const exact = exactScored(strata);
+    const draw = createScoredTableSampler(strata.map((s) => ({ rowMargins: s.rm, colMargins: s.cm, rowScores: s.a, colScores: s.b })), createRng(12, "scored"));
+    const reps = 20_000;
+    const counts = new Map<string, number>();
+    for (let t = 0; t < reps; t++) {
+      const key = draw().toFixed(6);
+      expect(exact.has(key)).toBe(true); // only values a table with these margins can give
+      counts.set(key, (counts.get(key) ?? 0) + 1);
+    }
+    const keys = [...exact.keys()];
+    // textbook multivariate hypergeometric probabilities, Pearson goodness of fit
+    expect(gofP(keys.map((k) => counts.get(k) ?? 0), keys.map((k) => exact.get(k)!), reps)).toBeGreaterThan(1e-3);
+  });
+
+  it("createScoredTableSampler is reproducible per stream and validates its input", () => {
+    const s = [{ rowMargins: [5, 15], colMargins: [8, 12], rowScores: [-0.75, 0.25], colScores: [-0.6, 0.4] }];
+    const a = createScoredTableSampler(s, createRng(1, "k"));
+    const b = createScoredTableSampler(s, createRng(1, "k"));
+    const seq = Array.from({ length: 30 }, a);
+    expect(Array.from({ length: 30 }, b)).toEqual(seq);
+    expect(new Set(seq).size).toBeGreaterThan(1);
+    expect(() => createScoredTableSampler([{ ...s[0]!, rowScores: [1] }], createRng(1))).toThrow(/one score per level/);
+    expect(() => createScoredTableSampler([{ ...s[0]!, rowMargins: [5, 14] }], createRng(1))).toThrow(/agree/);
+    expect(() => createScoredTableSampler([{ ...s[0]!, rowMargins: [5.5, 14.5] }], createRng(1))).toThrow(/non-negative integer/);
+    expect(createScoredTableSampler([], createRng(1))()).toBe(0);
+  });
+});
+
+describe("sequentialMonteCarloNull", () => {
+  it("sequentialMonteCarloNull gives the p-value of sequentialMonteCarloPValue on the same stream, and the mean and variance of at least nullDraws draws", () => {
+    const mk = () => { const r = createRng(4, "null"); return () => r.nextFloat(); };
+    const plain = sequentialMonteCarloPValue(0.3, 1000, 20, mk());
+    const withNull = sequentialMonteCarloNull(0.3, 1000, 20, mk(), 2000);
+    expect(withNull.p).toBe(plain.p);
+    expect(withNull.draws).toBe(plain.draws);
+    expect(withNull.nullDraws).toBe(2000);
+    // uniform draws: mean 1/2 with sd √(1/12/2000); sample variance 1/12 with sd ≈ √((μ₄ − σ⁴)/2000), μ₄ = 1/80 (moments of U(0, 1)); 5 sd (common practice)
+    expect(Math.abs(withNull.mean - 0.5)).toBeLessThan(5 * Math.sqrt(1 / 12 / 2000));
+    expect(Math.abs(withNull.variance - 1 / 12)).toBeLessThan(5 * Math.sqrt((1 / 80 - 1 / 144) / 2000));
+    expect(sequentialMonteCarloNull(0, 1000, 10, () => 1, 200)).toEqual({ p: 1, draws: 10, mean: 1, variance: 0, nullDraws: 200 });
+    // a run longer than nullDraws keeps every draw: 150 zeros and 150 ones, variance 0.25·300/299
+    let i = 0;
+    const long = sequentialMonteCarloNull(5, 300, 20, () => i++ % 2, 100);
+    expect(long).toMatchObject({ p: 1 / 301, draws: 300, mean: 0.5, nullDraws: 300 });
+    expect(long.variance).toBeCloseTo((0.25 * 300) / 299, 14);
+    // Welford keeps large, close draws accurate: 1e9 + (0, 1, 2) three times each has sample variance 6/8
+    // (hand computation); Σx² − (Σx)²/n would cancel 1e19-sized terms and lose every digit
+    let k = 0;
+    const big = sequentialMonteCarloNull(2e9, 9, 5, () => 1e9 + (k++ % 3), 9);
+    expect(big).toMatchObject({ p: 0.1, draws: 9, nullDraws: 9 });
+    expect(big.variance).toBeCloseTo(0.75, 6); // rounding of the mean at 1e9 is ~1e-7 (2⁻⁵³·1e9)
+    expect(() => sequentialMonteCarloNull(0, 10, 1, () => 0, -1)).toThrow(/non-negative integer/);
+  });
+});
+
+describe("the permutation floor", () => {
+  it("permutationsForFloor is max(2000, ⌈10/floor⌉), capped, and treats a missing or invalid floor as 0.05", () => {
+    expect(permutationsForFloor(0.05 / 120)).toBe(24000); // 10 · 120 / 0.05, hand computation
+    expect(permutationsForFloor(0.05)).toBe(2000);
+    expect(permutationsForFloor(undefined)).toBe(2000);
+    expect(permutationsForFloor(0)).toBe(2000);
+    expect(permutationsForFloor(NaN)).toBe(2000);
+    expect(permutationsForFloor(0.001 / 3)).toBe(30000);
+    expect(permutationsForFloor(1e-9)).toBe(10_000_000);
+    // the smallest reachable p-value is about a tenth of the floor
+    for (const f of [0.05 / 7, 0.05 / 120, 0.01 / 999]) expect(1 / (permutationsForFloor(f) + 1)).toBeLessThan(f / 9.99);
+  });
+
+  it("permutationsToReach is the fewest B with 1/(B + 1) < floor; equality does not count", () => {
+    expect(permutationsToReach(0.05 / 120)).toBe(2400); // 1/2401 < 0.05/120 = 1/2400 (hand computation)
+    expect(permutationsToReach(0.05)).toBe(20); // 1/21 < 1/20
+    expect(permutationsToReach(0.03)).toBe(33); // 1/34 < 0.03 ≤ 1/33
+    expect(() => permutationsToReach(0)).toThrow(/floor/);
+  });
+
+  it("permutationFloorWarning names the smallest reachable p-value and the B needed, only when B is too small", () => {
+    const w = permutationFloorWarning(2000, 0.05 / 120)!;
+    expect(w).toMatch(/with 2000 permutations the smallest reachable p-value is 1\/2001 = 0\.000500/);
+    expect(w).toMatch(/not below 0\.000417/);
+    expect(w).toMatch(/at least 2400 permutations/);
+    expect(w).toMatch(/24000 advised/);
+    expect(permutationFloorWarning(2400, 0.05 / 120)).toBeUndefined();
+    expect(permutationFloorWarning(2399, 0.05 / 120)).toBeDefined(); // 1/2400 equals the floor
+    expect(permutationFloorWarning(200, undefined)).toBeUndefined(); // 1/201 < 0.05
+    expect(permutationFloorWarning(19, 0.05)).toMatch(/1\/20/);
   });
 });

@@ -15,7 +15,7 @@
  * *Sparse rule*: when more than 20% of the cells of the used strata have an expected count below
  * 5 (Cochran 1954, Biometrics 10:417–451 — common practice), or when the user asks for
  * permutations, the p-value is a Monte-Carlo permutation p-value: x is permuted within each
- * stratum (the stratum's x and y margins stay fixed) up to B times (default 2000) and
+ * stratum (the stratum's x and y margins stay fixed) up to B times and
  * p = (1 + #{G²* ≥ G²})/(1 + B); sequentially (Besag & Clifford 1991, Biometrika 78:301–304), the
  * drawing stops once 20 permuted G² reach the observed one, with p = 20/L after L draws, and `B`
  * reports the draws made. The random numbers come from the stream of (ctx.seed, claim)
@@ -23,114 +23,62 @@
  * hypergeometric distributions given the stratum's margins — the distribution of the table of
  * a within-stratum permutation — at O(r_s·c_s) per draw whatever the number of rows.
  *
- * Effect: √(1 − exp(−G²/n)) for a 1-df test (one used 2 × 2 stratum), signed by the odds ratio;
- * for more df √(1 − exp(−max(0, G² − df)/n)) (`lrEffect`); 95% interval from the noncentral
- * chi-square inversion of Steiger (1990).
+ * *Permutation floor*: B draws cannot give a p-value below 1/(B + 1). Without `--permutations`,
+ * B = max(2000, ⌈10 / ctx.decisionFloor⌉) (`permutationsForFloor`), so that a claim can fall
+ * below the smallest threshold an adjusted p-value faces, with room to spare; the sequential stop
+ * keeps ordinary claims cheap. With the user's B, a claim whose floor 1/(B + 1) is not below
+ * that threshold gets a warning naming the smallest reachable p-value and the B needed.
+ *
+ * Effect: with an asymptotic p-value, √(1 − exp(−G²/n)) for a 1-df test (one used 2 × 2
+ * stratum), signed by the odds ratio; for more df √(1 − exp(−max(0, G² − df)/n)) (`lrEffect`);
+ * 95% interval from the noncentral chi-square inversion of Steiger (1990). With a permutation
+ * p-value, sparse strata move the null distribution of G² away from χ²(df) (mean above df,
+ * variance below 2·mean), so the effect and interval are calibrated on that null instead
+ * (`permutationLrEffect`): its mean m and variance v come from the permuted G² (at least 200
+ * draws, continued past the sequential stop), the effect is √(1 − exp(−max(0, G² − m)/n))
+ * (G² in place of G² − m for 1 df, signed), the interval inverts the noncentral chi-square
+ * matched to the null by its two moments, a·χ²(ν, λ′) with a = v/(2m), ν = 2m²/v (Satterthwaite
+ * 1946; Box 1954), and its lower end is 0 whenever the permutation p is ≥ 0.025, so the effect
+ * never looks clearly non-null for a claim its own test does not reject.
  */
 import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
-import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
+import { lrEffect, lrEffectCI, permutationLrEffect, type NullMoments } from "../../stats/effectScale.js";
 import { mantelHaenszel } from "../../stats/mantelHaenszel.js";
-import { createTableStatisticSampler, sequentialMonteCarloPValue } from "../../stats/permutation.js";
+import {
+  BASE_PERMUTATIONS, createTableStatisticSampler, permutationFloorWarning, permutationsForFloor, sequentialMonteCarloNull,
+} from "../../stats/permutation.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
-import { stratifiedChiSquare, type ContingencyStratum } from "../../stats/stratifiedChiSquare.js";
+import { stratifiedChiSquare } from "../../stats/stratifiedChiSquare.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { Claim, TestOutcome } from "../types.js";
-import { groupRows } from "./groupRows.js";
+import { groupStrata, type CompactStratum } from "./groupRows.js";
 
-/** Monte-Carlo permutations when the sparse rule applies and the user gave none. */
-export const DEFAULT_PERMUTATIONS = 2000;
+/** Fewest Monte-Carlo permutations when the sparse rule applies and the user gave none (more when the decision floor asks; see `permutationsForFloor`). */
+export const DEFAULT_PERMUTATIONS = BASE_PERMUTATIONS;
 /** Share of sparse cells (expected count < 5) above which the permutation p-value is used. */
 export const SPARSE_SHARE = 0.2;
 /** Draws reaching the observed G² after which the sequential permutation test stops (Besag & Clifford 1991). */
 export const STOP_AFTER_HITS = 20;
-/** One stratum's compact table over the x and y levels it contains. */
-interface CompactStratum extends ContingencyStratum {
-  counts: Float64Array;
-}
+/** Fewest permuted G² behind the null mean and variance that calibrate the effect (draws continue past the sequential stop). */
+export const NULL_DRAWS = 200;
 
 function quoted(names: readonly string[]): string {
   return names.map((s) => `"${s}"`).join(", ");
 }
 
 /**
- * Group the claim's complete cases and build one compact x × y table per stratum.
- * Cost: O(rows · (k + 2)) for grouping plus O(groups) for the tables.
- */
-function buildStrata(x: Column, y: Column, given: readonly Column[], rows: number, rowFilter?: Uint8Array) {
-  const g = groupRows([...given, x, y], rows, rowFilter);
-  const k = given.length;
-  // Dense stratum id per group, one given variable at a time.
-  const stratumOf = new Int32Array(g.groups);
-  let strata = g.groups > 0 ? 1 : 0;
-  for (let v = 0; v < k; v++) {
-    const L = g.levels[v]!;
-    const map = new Map<number, number>();
-    const codes = g.codes[v]!;
-    for (let i = 0; i < g.groups; i++) {
-      const key = stratumOf[i]! * L + codes[i]!;
-      let id = map.get(key);
-      if (id === undefined) {
-        id = map.size;
-        map.set(key, id);
-      }
-      stratumOf[i] = id;
-    }
-    strata = map.size;
-  }
-  // Counting sort of groups by stratum.
-  const start = new Int32Array(strata + 1);
-  for (let i = 0; i < g.groups; i++) start[stratumOf[i]! + 1]++;
-  for (let s = 0; s < strata; s++) start[s + 1] = start[s + 1]! + start[s]!;
-  const order = new Int32Array(g.groups);
-  const fill = start.slice(0, strata);
-  for (let i = 0; i < g.groups; i++) order[fill[stratumOf[i]!]!++] = i;
-  const xc = g.codes[k]!;
-  const yc = g.codes[k + 1]!;
-  const xIndex = new Int32Array(g.levels[k]!).fill(-1);
-  const yIndex = new Int32Array(g.levels[k + 1]!).fill(-1);
-  const tables: CompactStratum[] = [];
-  const mh: Float64Array[] = [];
-  const twoByTwo = g.levels[k] === 2 && g.levels[k + 1] === 2;
-  for (let s = 0; s < strata; s++) {
-    const xs: number[] = [];
-    const ys: number[] = [];
-    for (let t = start[s]!; t < start[s + 1]!; t++) {
-      const i = order[t]!;
-      if (xIndex[xc[i]!]! < 0) {
-        xIndex[xc[i]!] = xs.length;
-        xs.push(xc[i]!);
-      }
-      if (yIndex[yc[i]!]! < 0) {
-        yIndex[yc[i]!] = ys.length;
-        ys.push(yc[i]!);
-      }
-    }
-    const counts = new Float64Array(xs.length * ys.length);
-    const full = new Float64Array(4);
-    for (let t = start[s]!; t < start[s + 1]!; t++) {
-      const i = order[t]!;
-      counts[xIndex[xc[i]!]! * ys.length + yIndex[yc[i]!]!] += g.counts[i]!;
-      if (twoByTwo) full[xc[i]! * 2 + yc[i]!] += g.counts[i]!;
-    }
-    for (const v of xs) xIndex[v] = -1;
-    for (const v of ys) yIndex[v] = -1;
-    tables.push({ rows: xs.length, cols: ys.length, counts });
-    if (twoByTwo) mh.push(full);
-  }
-  return { n: g.n, tables, mh: twoByTwo ? mh : undefined };
-}
-
-/**
- * Permutation p-value of the stratified G²: x permuted within each stratum, B times.
+ * Permutation p-value of the stratified G²: x permuted within each stratum, up to B times, with
+ * the mean and variance of the permuted G² (from at least {@link NULL_DRAWS} draws).
  * The statistic compared is Σ_s Σ_cells O ln O, which differs from G²/2 by a constant given the
- * margins. A permuted stratum table is drawn directly from the multivariate hypergeometric
- * distribution given the stratum's margins (`createTableStatisticSampler`), never by shuffling
- * rows. O ln O comes from a table of x ln x for x ≤ the largest stratum.
- * Cost: O(Σ_s n_s) once, then O(B · Σ_s (r_s·c_s + draws' spread)) — independent of the rows.
+ * margins, so a permuted G²* = G² + 2(S* − S) for the observed S (mean G² + 2(mean S* − S),
+ * variance 4·var S*). A permuted stratum table is drawn directly from the multivariate
+ * hypergeometric distribution given the stratum's margins (`createTableStatisticSampler`), never
+ * by shuffling rows. O ln O comes from a table of x ln x for x ≤ the largest stratum.
+ * Cost: O(Σ_s n_s) once, then O(max(draws, 200) · Σ_s (r_s·c_s + draws' spread)) — independent of the rows.
  */
-function permutationP(tables: readonly CompactStratum[], B: number, seed: number, key: string): { p: number; draws: number } {
+function permutationP(tables: readonly CompactStratum[], g2: number, B: number, seed: number, key: string): { p: number; draws: number; null: NullMoments } {
   const rowViews: Float64Array[] = [];
   const colViews: Float64Array[] = [];
   let maxN = 0;
@@ -159,7 +107,8 @@ function permutationP(tables: readonly CompactStratum[], B: number, seed: number
     for (let q = 0; q < t.counts.length; q++) observed += xLogX[t.counts[q]!]!;
   }
   const draw = createTableStatisticSampler(rowViews, colViews, createRng(seed, key), xLogX);
-  return sequentialMonteCarloPValue(observed, B, STOP_AFTER_HITS, draw);
+  const mc = sequentialMonteCarloNull(observed, B, STOP_AFTER_HITS, draw, NULL_DRAWS);
+  return { p: mc.p, draws: mc.draws, null: { mean: g2 + 2 * (mc.mean - observed), variance: 4 * mc.variance } };
 }
 
 /**
@@ -183,7 +132,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     cols.push(col);
   }
   const [x, y, ...given] = cols as [Column, Column, ...Column[]];
-  const { n, tables, mh } = buildStrata(x, y, given, ctx.table.rows, ctx.rowFilter);
+  const { n, strata: tables, twoByTwo: mh } = groupStrata(x, y, given, ctx.table.rows, ctx.rowFilter);
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
   const res = stratifiedChiSquare(tables);
   const where = given.length ? ` within any stratum of ${quoted(claim.given)}` : "";
@@ -206,13 +155,17 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   let p: number;
   let logP: number;
   let B: number | undefined;
+  let nullMoments: NullMoments | undefined;
   if (permute) {
-    B = ctx.permutations ?? DEFAULT_PERMUTATIONS;
-    const perm = permutationP(tables, B, ctx.seed, streamKeyOfClaim(claim));
+    B = ctx.permutations ?? permutationsForFloor(ctx.decisionFloor);
+    const floorWarning = permutationFloorWarning(B, ctx.decisionFloor);
+    const perm = permutationP(tables, res.g2, B, ctx.seed, streamKeyOfClaim(claim));
     p = perm.p;
     logP = Math.log(p);
+    nullMoments = perm.null;
     if (perm.draws < B) B = perm.draws;
     if (sparse) warnings.push(`${(100 * sparseShare).toFixed(0)}% of expected counts are below 5; p-value from ${B} permutations within strata`);
+    if (floorWarning) warnings.push(floorWarning);
   } else {
     logP = logPAsymptotic;
     p = pAsymptotic > 0 ? pAsymptotic : Number.MIN_VALUE;
@@ -242,8 +195,20 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     };
     if (res.df === 1 && Number.isFinite(m.oddsRatio)) sign = m.oddsRatio > 1 ? 1 : m.oddsRatio < 1 ? -1 : 0;
   }
-  const effect = lrEffect(res.g2, res.df, n, sign);
-  const [lo, hi] = lrEffectCI(res.g2, res.df, n, 0.95);
+  let effect: number;
+  let ci: [number, number];
+  if (nullMoments !== undefined) {
+    // Permutation p-value: effect and interval calibrated on the permutation null of G²
+    const cal = permutationLrEffect(res.g2, res.df, n, nullMoments, p, sign, 0.95);
+    effect = cal.effect;
+    ci = cal.ci;
+    details.g2_null_mean = nullMoments.mean;
+    details.g2_null_variance = nullMoments.variance;
+  } else {
+    effect = lrEffect(res.g2, res.df, n, sign);
+    const [lo, hi] = lrEffectCI(res.g2, res.df, n, 0.95);
+    ci = sign < 0 ? [-hi, -lo] : [lo, hi];
+  }
   const outcome: TestOutcome = {
     test: "stratified-chisq",
     n,
@@ -252,7 +217,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     p,
     log_p: logP,
     effect,
-    ci: sign < 0 ? [-hi, -lo] : [lo, hi],
+    ci,
     p_method: permute ? "permutation" : "asymptotic",
     ...(B !== undefined ? { B } : {}),
     details,

@@ -2,14 +2,16 @@ import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import { buildPatternMoments } from "../../../src/data/buildPatternMoments.js";
+import type { PatternMoments } from "../../../src/data/Moments.js";
 import type { Column, Table, VariableType } from "../../../src/data/Table.js";
-import { groupRows } from "../../../src/audit/methods/groupRows.js";
+import { groupRows, groupStrata } from "../../../src/audit/methods/groupRows.js";
 import { regressionLr } from "../../../src/audit/methods/regressionLr.js";
 import { stratifiedChisq } from "../../../src/audit/methods/stratifiedChisq.js";
 import type { TestContext } from "../../../src/audit/TestMethod.js";
 import type { Claim, TestOutcome } from "../../../src/audit/types.js";
 import { logisticRegression } from "../../../src/stats/logisticRegression.js";
 import { multinomialLogit } from "../../../src/stats/multinomialLogit.js";
+import { lrEffectCI } from "../../../src/stats/effectScale.js";
 import { chiSquareUpper } from "../../../src/stats/pvalues.js";
 import { createRng } from "../../../src/stats/rng.js";
 
@@ -28,11 +30,21 @@ function table(cols: Column[]): Table {
   const rows = cols[0]?.values.length ?? 0;
   return { rows, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
 }
+/** Pattern moments of every column of the table, built on first use (linear models read them; the table tests do not). */
+function lazyMoments(t: Table): PatternMoments {
+  let built: PatternMoments | undefined;
+  const all = () => (built ??= buildPatternMoments(t, { variables: t.columns.map((c) => c.name) }));
+  return new Proxy({} as PatternMoments, {
+    get(_, key) {
+      const m = all();
+      const v = Reflect.get(m, key) as unknown;
+      return typeof v === "function" ? (v as (...a: unknown[]) => unknown).bind(m) : v;
+    },
+  });
+}
 function ctx(t: Table, extra: Partial<TestContext> = {}): TestContext {
   const unused = () => { throw new Error("ranks are not used by these methods"); };
-  // Linear models (continuous or ordinal response) read the pattern moments, built here on demand.
-  const moments = { patterns: 0, completeRows: 0, patternList: unused, momentsFor: (vars: readonly string[]) => buildPatternMoments(t, { variables: [...vars] }).momentsFor(vars) };
-  return { table: t, moments, rankMoments: unused, seed: 1, ...extra };
+  return { table: t, moments: lazyMoments(t), rankMoments: unused, seed: 1, ...extra };
 }
 function ok(r: ReturnType<typeof stratifiedChisq.run>): TestOutcome {
   if (!r.ok) throw new Error(`expected a test outcome, got untestable: ${r.reason}`);
@@ -220,6 +232,111 @@ describe("stratifiedChisq sparse and degenerate data", () => {
   });
 });
 
+describe("stratifiedChisq with permutation p-values: effects agree with the test, and the floor", () => {
+  /** Seeded nominal x, y (Lx, Ly levels) in Lz strata of z, n rows; with `dep` > 0, x copies y in that share of rows. */
+  function sparseClaim(Lx: number, Ly: number, Lz: number, n: number, seed: number, dep: number): Table {
+    const rng = createRng(seed, "sparse effect");
+    const x: string[] = [], y: string[] = [], z: string[] = [];
+    for (let i = 0; i < n; i++) {
+      const yi = rng.nextInt(Ly);
+      const xi = rng.nextFloat() < dep ? yi % Lx : rng.nextInt(Lx);
+      x.push(`x${xi}`); y.push(`y${yi}`); z.push(`z${rng.nextInt(Lz)}`);
+    }
+    return table([cat("x", x), cat("y", y), cat("z", z)]);
+  }
+  const claimXYZ: Claim = { x: "x", y: "y", given: ["z"] };
+
+  it("regression: a sparse independent claim (p = 0.56) no longer shows a clearly non-null effect (was 0.47 [0.18, 0.66])", () => {
+    const o = ok(stratifiedChisq.run(claimXYZ, ctx(sparseClaim(3, 3, 20, 100, 1, 0))));
+    expect(o.p_method).toBe("permutation");
+    expect(o.p).toBeGreaterThan(0.5);
+    // the bug: the asymptotic construction on the raw G² (lrEffect, lrEffectCI with df) excluded 0
+    expect(lrEffectCI(o.statistic, o.df, o.n)[0]).toBeGreaterThan(0.15);
+    const m = o.details!.g2_null_mean as number;
+    expect(m).toBeGreaterThan(o.df + 15); // twenty small strata inflate the null mean of G² far above df
+    expect(o.details!.g2_null_variance as number).toBeLessThan(2 * m); // and its spread is narrower than χ²'s
+    expect(o.effect).toBeCloseTo(Math.sqrt(1 - Math.exp(-Math.max(0, o.statistic - m) / o.n)), 12);
+    expect(o.effect).toBeLessThan(0.2);
+    expect(o.ci[0]).toBe(0);
+    expect(o.ci[1]).toBeGreaterThan(o.effect);
+  });
+
+  it("the permutation null mean and variance of G² behind the effect match their exact values (enumeration of all tables)", () => {
+    interface ExactNull { strata: number[][][]; g2: number; df: number; mean: number; variance: number; mu4: number; p: number }
+    const script = new URL("../../../scripts/calibrated_effect_reference.py", import.meta.url).pathname;
+    const run = process.env.ARROWAUDIT_FIXTURES_ONLY ? undefined : spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 60_000 });
+    const exact = (run?.status === 0 ? JSON.parse(run.stdout) : JSON.parse(readFileSync(new URL("../../fixtures/calibrated-effect/reference.json", import.meta.url), "utf8"))).exact_null as ExactNull;
+    const x: string[] = [], y: string[] = [], z: string[] = [];
+    exact.strata.forEach((c, s) => c.forEach((row, i) => row.forEach((k, j) => { for (let t = 0; t < k; t++) { x.push(`x${i}`); y.push(`y${j}`); z.push(`z${s}`); } })));
+    const o = ok(stratifiedChisq.run(claimXYZ, ctx(table([cat("x", x), cat("y", y), cat("z", z)]), { permutations: 5000, seed: 4 })));
+    expect(o.statistic).toBeCloseTo(exact.g2, 10); // numpy G², scripts/calibrated_effect_reference.py
+    expect(o.df).toBe(exact.df);
+    const draws = Math.max(200, o.B!);
+    // Monte-Carlo mean and variance of `draws` permuted G² against the exact moments of the
+    // enumerated permutation distribution: 5 standard errors (common practice); the standard error
+    // of a sample variance is √((μ₄ − σ⁴)/draws)
+    expect(Math.abs((o.details!.g2_null_mean as number) - exact.mean)).toBeLessThan(5 * Math.sqrt(exact.variance / draws));
+    expect(Math.abs((o.details!.g2_null_variance as number) - exact.variance)).toBeLessThan(5 * Math.sqrt((exact.mu4 - exact.variance ** 2) / draws));
+    expect(exact.mean).toBeGreaterThan(exact.df); // sparse: the null mean is not df
+  });
+
+  it("property over 240 seeded sparse claims (independent and dependent): no 95% interval excludes 0 when p ≥ 0.05, and the effect lies in its interval", () => {
+    const configs: [number, number, number, number][] = [[3, 3, 20, 100], [2, 2, 30, 90], [4, 4, 10, 80], [5, 3, 8, 60]];
+    let oldWrong = 0, excluded = 0, notRejected = 0, smallP = 0;
+    for (let r = 0; r < 240; r++) {
+      const [Lx, Ly, Lz, n] = configs[r % 4]!;
+      const o = ok(stratifiedChisq.run(claimXYZ, ctx(sparseClaim(Lx, Ly, Lz, n, 1000 + r, r % 3 === 2 ? 0.5 : 0), { seed: r })));
+      expect(o.p_method).toBe("permutation");
+      expect(o.ci[0]).toBeLessThanOrEqual(o.effect);
+      expect(o.ci[1]).toBeGreaterThanOrEqual(o.effect);
+      if (o.p >= 0.05) {
+        notRejected++;
+        expect(o.ci[0]).toBeLessThanOrEqual(0);
+        if (lrEffectCI(o.statistic, o.df, o.n)[0] > 0) oldWrong++;
+      }
+      if (o.ci[0] > 0) excluded++;
+      if (o.p < 0.025) smallP++;
+    }
+    console.log(`sparse claims: ${notRejected} with p ≥ 0.05 (${oldWrong} of them excluded 0 before), ${smallP} with p < 0.025 of which ${excluded} exclude 0`);
+    expect(notRejected).toBeGreaterThan(100);
+    expect(oldWrong).toBeGreaterThan(20); // the unadjusted construction failed on these claims
+    expect(smallP).toBeGreaterThan(20); // dependent claims are rejected…
+    // …and the two-moment calibration makes their intervals agree with the permutation p-value in
+    // this direction too (not guaranteed by construction; 72 of 72 with these seeds)
+    expect(excluded).toBeGreaterThanOrEqual(0.9 * smallP);
+  });
+
+  it("regression: two identical binary columns among 120 claims get a permutation p-value below the floor 0.05/120 (was stuck at 1/2001)", () => {
+    // 60 rows, 5 ones: 3 of 4 expected counts below 5, so the sparse rule permutes; exact p = 1/C(60, 5) ≈ 1.8e-7
+    const v = Array.from({ length: 60 }, (_, i) => (i % 12 === 3 ? "yes" : "no"));
+    const t = table([cat("a", v, "binary", ["no", "yes"]), cat("b", [...v], "binary", ["no", "yes"])]);
+    const floor = 0.05 / 120;
+    const o = ok(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(t, { decisionFloor: floor })));
+    expect(o.p_method).toBe("permutation");
+    expect(o.B).toBe(24000); // max(2000, ⌈10/floor⌉) draws, none reaching the observed G²
+    expect(o.p).toBe(1 / 24001);
+    expect(o.p).toBeLessThan(floor);
+    expect(o.ci[0]).toBeGreaterThan(0);
+    expect((o.warnings ?? []).join(" ")).not.toMatch(/smallest reachable/);
+    // without a floor (one claim at 0.05) 2000 draws are enough
+    expect(ok(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(t))).B).toBe(2000);
+    // the user's --permutations 2000 cannot reach the floor: the claim says so
+    const forced = ok(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(t, { decisionFloor: floor, permutations: 2000 })));
+    expect(forced.p).toBe(1 / 2001);
+    expect(forced.warnings!.join(" ")).toMatch(/with 2000 permutations the smallest reachable p-value is 1\/2001 = 0\.000500, not below 0\.000417.*at least 2400 permutations/);
+    const enough = ok(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(t, { decisionFloor: floor, permutations: 2400 })));
+    expect((enough.warnings ?? []).join(" ")).not.toMatch(/smallest reachable/);
+  });
+
+  it("an ordinary sparse claim under a low floor still stops early (sequential rule), with p = 20/L", () => {
+    const o = ok(stratifiedChisq.run(claimXYZ, ctx(sparseClaim(3, 3, 4, 60, 7, 0), { decisionFloor: 0.05 / 1000 })));
+    expect(o.p_method).toBe("permutation");
+    expect(o.p).toBeGreaterThan(0.05);
+    expect(o.B).toBeLessThan(2000);
+    expect(o.p).toBeCloseTo(20 / o.B!, 12);
+  });
+});
+
 describe("groupRows", () => {
   it("groupRows counts distinct combinations, skips missing rows and honours the row filter", () => {
     const a = cat("a", ["p", "q", "p", "p", null, "q"]);
@@ -235,6 +352,31 @@ describe("groupRows", () => {
     expect(f.n).toBe(4);
     expect(() => groupRows([num("c", [1, 2])], 2)).toThrow(/not categorical/);
     expect(groupRows([], 0).n).toBe(0);
+  });
+});
+
+describe("groupStrata", () => {
+  it("groupStrata builds one compact x × y table per stratum with the level codes of its rows and columns", () => {
+    const x = cat("x", ["a", "b", "a", "c", "b", "a", null, "c"]);
+    const y = cat("y", ["u", "u", "v", "v", "u", "u", "v", "u"]);
+    const z = cat("z", ["p", "p", "p", "q", "q", "q", "q", null]);
+    const g = groupStrata(x, y, [z], 8);
+    expect(g.n).toBe(6);
+    expect(g.strata).toHaveLength(2);
+    const asMap = (k: number) => {
+      const s = g.strata[k]!;
+      const out: Record<string, number> = {};
+      for (let i = 0; i < s.rows; i++) for (let j = 0; j < s.cols; j++) out[`${x.levels![s.xCodes[i]!]}${y.levels![s.yCodes[j]!]}`] = s.counts[i * s.cols + j]!;
+      return out;
+    };
+    expect(asMap(0)).toEqual({ au: 1, av: 1, bu: 1, bv: 0 }); // z = p: rows 1–3 (hand count)
+    expect(asMap(1)).toEqual({ cv: 1, cu: 0, bv: 0, bu: 1, av: 0, au: 1 }); // z = q: rows 4–6
+    expect(g.twoByTwo).toBeUndefined(); // x has three levels
+    // binary x and y: the full 2 × 2 tables by code come along; nothing given is one stratum
+    const b = groupStrata(cat("b", ["0", "1", "1", "0"], "binary", ["0", "1"]), cat("c", ["1", "1", "0", "0"], "binary", ["0", "1"]), [], 4);
+    expect(b.strata).toHaveLength(1);
+    expect(Array.from(b.twoByTwo![0]!)).toEqual([1, 1, 1, 1]);
+    expect(groupStrata(x, y, [z], 8, Uint8Array.from([1, 1, 1, 0, 0, 0, 0, 0])).strata).toHaveLength(1);
   });
 });
 
