@@ -6,11 +6,15 @@
 import { describe, expect, it } from "vitest";
 import type { Column, Table, VariableType } from "../../../src/data/Table.js";
 import { buildPatternMoments } from "../../../src/data/buildPatternMoments.js";
+import type { PatternMoments } from "../../../src/data/Moments.js";
+import { groupStrata } from "../../../src/audit/methods/groupRows.js";
+import { linearByLinear } from "../../../src/audit/methods/linearByLinear.js";
 import { regressionLr } from "../../../src/audit/methods/regressionLr.js";
 import { stratifiedChisq } from "../../../src/audit/methods/stratifiedChisq.js";
 import type { TestContext, TestMethod } from "../../../src/audit/TestMethod.js";
 import type { Claim, TestOutcome } from "../../../src/audit/types.js";
 import { createRng, type Rng } from "../../../src/stats/rng.js";
+import { stratifiedChiSquare } from "../../../src/stats/stratifiedChiSquare.js";
 import { binomialInterval } from "../../helpers/simulate.js";
 
 const R = 500;
@@ -21,17 +25,31 @@ const [LO, HI] = binomialInterval(R, ALPHA);
 function cat(name: string, codes: Int32Array, L: number, type: VariableType = "nominal"): Column {
   return { name, type, typeSource: "declared", codes, levels: Array.from({ length: L }, (_, i) => `v${i}`), values: Float64Array.from(codes), missing: 0 };
 }
+/** An ordinal column whose levels are the numbers `scores` (its values are those scores). */
+function ord(name: string, codes: Int32Array, scores: readonly number[]): Column {
+  return { name, type: "ordinal", typeSource: "declared", codes, levels: scores.map(String), values: Float64Array.from(codes, (c) => scores[c]!), missing: 0 };
+}
 function num(name: string, values: Float64Array): Column {
   return { name, type: "continuous", typeSource: "declared", values, missing: 0 };
 }
 function table(cols: Column[]): Table {
   return { rows: cols[0]!.values.length, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
 }
+/** Pattern moments of every column of the table, built on first use (linear models read them; the table tests do not). */
+function lazyMoments(t: Table): PatternMoments {
+  let built: PatternMoments | undefined;
+  const all = () => (built ??= buildPatternMoments(t, { variables: t.columns.map((c) => c.name) }));
+  return new Proxy({} as PatternMoments, {
+    get(_, key) {
+      const m = all();
+      const v = Reflect.get(m, key) as unknown;
+      return typeof v === "function" ? (v as (...a: unknown[]) => unknown).bind(m) : v;
+    },
+  });
+}
 function ctx(t: Table, seed: number): TestContext {
   const unused = () => { throw new Error("not used"); };
-  // Linear models (continuous or ordinal response) read the pattern moments, built here on demand.
-  const moments = { patterns: 0, completeRows: 0, patternList: unused, momentsFor: (vars: readonly string[]) => buildPatternMoments(t, { variables: [...vars] }).momentsFor(vars) };
-  return { table: t, moments, rankMoments: unused, seed };
+  return { table: t, moments: lazyMoments(t), rankMoments: unused, seed };
 }
 /** Draw a category from weights. */
 function draw(rng: Rng, w: readonly number[]): number {
@@ -170,4 +188,61 @@ describe("calibration under true claims (500 seeded replications, exact binomial
       expect(rejected).toBeGreaterThanOrEqual(97);
     }
   });
+  /** Ordinal x (5 levels, scores 0, 1, 2, 4, 7) and y (4 levels) in 3 strata of z, n = 90; y = f(x) with trend `beta`. */
+  const sparseOrdinal = (beta: number) => (rng: Rng): Table => {
+    const n = 90;
+    const z = new Int32Array(n), x = new Int32Array(n), y = new Int32Array(n);
+    for (let i = 0; i < n; i++) {
+      z[i] = draw(rng, [1, 1, 1]);
+      x[i] = draw(rng, z[i] === 0 ? [3, 2, 1, 1, 1] : z[i] === 1 ? [1, 2, 2, 2, 1] : [1, 1, 1, 2, 3]);
+      const base = z[i] === 2 ? [1, 1, 2, 3] : [3, 2, 1, 1];
+      y[i] = draw(rng, base.map((w, j) => w * Math.exp(beta * (x[i]! - 2) * (j - 1.5))));
+    }
+    return table([ord("x", x, [0, 1, 2, 4, 7]), ord("y", y, [0, 1, 2, 3]), cat("z", z, 3)]);
+  };
+  /** Share of the used cells of the x × y tables within z with an expected count below 5 (Cochran's rule, as stratified-chisq applies it). */
+  const sparseShare = (t: Table): number => {
+    const g = groupStrata(t.column("x")!, t.column("y")!, [t.column("z")!], t.rows);
+    const r = stratifiedChiSquare(g.strata);
+    return r.sparseCells / r.cells;
+  };
+
+  it("linear-by-linear, ordinal 5 × 4 levels in 3 strata, sparse (n = 90, where G² needs permutations): asymptotic χ²(1) rate in the band", () => {
+    let sparse = 0;
+    const rej = rejectionRate(linearByLinear, { x: "x", y: "y", given: ["z"] }, (rng) => {
+      const t = sparseOrdinal(0)(rng);
+      if (sparseShare(t) > 0.2) sparse++;
+      return t;
+    }, (o) => {
+      expect(o.p_method).toBe("asymptotic");
+      expect(o.df).toBe(1);
+    });
+    expect(sparse).toBe(R); // every replication is sparse by Cochran's rule: G² would be permuted
+    expect(rej).toBeGreaterThanOrEqual(LO);
+    expect(rej).toBeLessThanOrEqual(HI);
+  }, 20_000);
+
+  it("the other side for ordinal data: a monotone trend that the sparse G² often misses is detected by linear-by-linear (paired, exact McNemar)", () => {
+    const reps = 200;
+    let lin = 0, g2 = 0, linOnly = 0, g2Only = 0;
+    for (let r = 0; r < reps; r++) {
+      const t = sparseOrdinal(0.2)(createRng(r, "ordinal power"));
+      const claim = { x: "x", y: "y", given: ["z"] };
+      const a = linearByLinear.run(claim, ctx(t, r));
+      const b = stratifiedChisq.run(claim, ctx(t, r));
+      if (!a.ok || !b.ok) throw new Error(`replication ${r} untestable`);
+      expect(b.outcome.p_method).toBe("permutation");
+      const ra = a.outcome.p <= ALPHA, rb = b.outcome.p <= ALPHA;
+      if (ra) lin++;
+      if (rb) g2++;
+      if (ra && !rb) linOnly++;
+      if (rb && !ra) g2Only++;
+    }
+    console.log(`ordinal trend, n = 90: linear-by-linear rejects ${lin}/${reps}, stratified G² (permutation) ${g2}/${reps}; discordant ${linOnly} vs ${g2Only}`);
+    // Equal power would make linOnly ~ Binomial(linOnly + g2Only, 1/2) (exact McNemar test); require
+    // linOnly above the upper end of its central 99.8% interval, a one-sided test at 0.001.
+    const [, hiEqual] = binomialInterval(linOnly + g2Only, 0.5, 0.998);
+    expect(linOnly).toBeGreaterThan(hiEqual);
+    expect(lin).toBeGreaterThan(g2);
+  }, 30_000);
 });
