@@ -20,12 +20,44 @@
  * that value comes from the terms beyond the quadratic and is of the order of the gain times
  * the step's size. *Separation* (Albert & Anderson 1984, Biometrika 71:1–10): the
  * maximum likelihood estimate does not exist because a combination of predictors classifies
- * some rows perfectly; the coefficients then grow without bound while ℓ approaches its supremum.
- * A *separated row* is one whose observed outcome is fitted with probability above 1 − 1e-9;
- * when the fit did not converge (the coefficients keep moving, or the information matrix
- * became singular as the weights μ(1 − μ) of separated rows vanished) and such rows exist,
- * separation is *complete* when every row with positive weight is separated, *quasi-complete*
- * when some are.
+ * some rows perfectly; the coefficients then grow without bound along a *direction of recession*
+ * while ℓ rises towards its supremum, which is finite (at most 0). A *separated row* is one whose
+ * observed outcome is fitted with probability above 1 − 1e-9. Separation is *complete* when
+ * every row with positive weight is separated, *quasi-complete* when some are (or, in the
+ * multinomial model, when some category's probability goes to 0 in some rows: Lesaffre & Albert
+ * 1989, JRSS B 51:109–116).
+ *
+ * *The fit at the limit.* Under separation this module does not stop at a singular information
+ * matrix or at an iteration limit: it follows the likelihood to its supremum, the limit that ℓ
+ * approaches as the coefficients go to infinity (the maximum of the likelihood in the completion
+ * of the exponential family: Geyer 2009, Electronic Journal of Statistics 3:259–289). Two things
+ * make this fast and exact to working precision. (1) *Extrapolation*: when a full Newton step
+ * moves large coefficients further out (|β_j + δ_j| ≥ 5, moving by at least 0.5 away from 0),
+ * their steps are doubled (2δ_j, 4δ_j, … up to 4096δ_j, the other coefficients taking their
+ * Newton step) while ℓ keeps rising. Along a direction of
+ * recession Newton moves a bounded distance per iteration while the gap to the supremum shrinks by
+ * a constant factor (about e), so plain Newton needs some 25 passes for 1e-10; doubling drives the
+ * fitted probabilities of the separated rows to 0 or 1 in floating point within a few passes.
+ * (2) *Frozen directions*: when the information matrix is singular although the design is not
+ * (its columns, weighted by the row weights, are linearly independent: normalised Cholesky pivots
+ * above 1e-9), the singularity comes from rows whose weights μ(1 − μ) vanished: the Cholesky
+ * factor skips the pivots below 1e-13 of the largest diagonal entry and the step leaves those
+ * parameters where they are (at their limit, where the rows they act on are fitted with
+ * certainty), while the others converge as usual. The fit then ends with status `"limit"`, the
+ * frozen parameters listed in `frozen`; its ℓ is the supremum to working precision. A frozen
+ * parameter must have a negligible Newton gain g_j²/I_jj ≤ 1e-8·(|ℓ| + 0.1) at the end, else the
+ * information was singular for another reason and the status is `"singular"`. A singular design
+ * (aliased columns) stays `"singular"`. This is the maximum of the likelihood itself, not of a
+ * penalised likelihood (Firth 1993, Biometrika 80:27–38, would also give finite estimates, but
+ * its penalty changes ℓ of every fit, separated or not, so its likelihood ratio is not the limit
+ * of 2(ℓ1 − ℓ0)). The rank of the information at the end (parameters minus frozen ones) is the
+ * dimension of the model that the data identify at the limit, which a likelihood-ratio test
+ * needs for its degrees of freedom (Geyer 2009, on hypothesis tests when the null model's estimate
+ * lies in the completion). (3) *Push*: when the loop reaches the supremum (predicted gain below
+ * 1e-12 relative) with only large coefficients still moving out, as under complete separation
+ * where every weight vanishes alike and no pivot stands out, those coefficients are moved 4096
+ * steps out at once, kept there if ℓ does not fall, and the information is factored there, so
+ * that its frozen directions are those of the limit.
  *
  * *Factor form* of a design (`FactorDesign`): the columns are split into *indicator columns*
  * (0/1, such as an intercept or the dummies of categorical predictors) and *dense columns*
@@ -35,10 +67,15 @@
  * Σ_{i∈c} v_i and Σ_{i∈c} v_i x_i: O(d²) per row for d dense columns, whatever the number of
  * indicator columns; the indicator blocks are assembled from the cell sums afterwards.
  */
-import { cholesky, choleskySolve } from "./linalg.js";
+import { cholesky } from "./linalg.js";
 
-/** How a Newton fit ended. */
-export type FitStatus = "converged" | "not-converged" | "singular";
+/**
+ * How a Newton fit ended: `"converged"` at the maximum-likelihood estimate; `"limit"` at the
+ * supremum of ℓ under separation, with the parameters in `frozen` at their limit (see the module
+ * comment); `"not-converged"` when the iterations ran out; `"singular"` when the information
+ * matrix was singular for another reason than separation (for instance aliased columns).
+ */
+export type FitStatus = "converged" | "limit" | "not-converged" | "singular";
 export type Separation = "none" | "quasi-complete" | "complete";
 
 export interface LogisticFit {
@@ -50,12 +87,17 @@ export interface LogisticFit {
   passes: number;
   status: FitStatus;
   separation: Separation;
-  /** Rows (with positive weight) whose observed outcome is fitted with probability > 1 − 1e-9 (counted when the fit did not converge; 0 otherwise). */
+  /** Rows (with positive weight) whose observed outcome is fitted with probability > 1 − 1e-9 (counted at the limit or when the fit did not converge; 0 otherwise). */
   separatedRows: number;
   /** Rows with positive weight. */
   rows: number;
   /** The last information matrix computed (P × P, at or near `coef`; zeros when none was). */
   information: Float64Array;
+  /**
+   * Parameters left at their limit by the last factorisation of the information (its pivot
+   * vanished because the rows they act on are fitted with certainty); empty without separation.
+   */
+  frozen: Int32Array;
 }
 
 export interface NewtonOptions {
@@ -297,6 +339,14 @@ export const CONVERGED_GAIN = 1e-12;
 /** Largest relative coefficient move of a final step taken on paper (`NewtonOptions.finalStep`). */
 export const FINAL_STEP_MOVE = 1e-3;
 
+/**
+ * Multinomial passes shift a row's linear predictors by their maximum only when it exceeds this:
+ * below, no e^η overflows and η_y − ln Σ_l e^{η_l} loses at most a few ulp(30) ≈ 4e-15 to rounding,
+ * so the baseline's exponential is skipped; above (rows fitted with near certainty, as under
+ * separation), the shift keeps each row's ℓ at or below 0 with full relative precision.
+ */
+export const SHIFT_ABOVE = 30;
+
 /** Products of the factors 1 + t (each in (1, 2]) are turned into one logarithm when they pass this. */
 const PRODUCT_FLUSH = 1e280;
 
@@ -431,7 +481,7 @@ function generateKernel(q: number, d: number, weighted: boolean): RowKernel {
     }
     B.push("let mx = 0;");
     for (const k of Q) B.push(`const e${k} = ${lin(k)};`, `if (e${k} > mx) mx = e${k};`);
-    B.push("if (mx < 700) mx = 0;", "let base = 1;", `if (mx !== 0) ${expStatements("base", "-mx")}`);
+    B.push(`if (mx < ${SHIFT_ABOVE}) mx = 0;`, "let base = 1;", `if (mx !== 0) ${expStatements("base", "-mx")}`);
     for (const k of Q) B.push(`let x${k}e;`, expStatements(`x${k}e`, `e${k} - mx`));
     B.push(`const se = base${Q.map((k) => ` + x${k}e`).join("")};`);
     const pick = (vals: string[], zero: string) => vals.reduceRight((acc, v, k) => `yi === ${k + 1} ? ${v} : ${acc}`, zero);
@@ -593,21 +643,143 @@ function checkOutcome(m: number, y: ArrayLike<number>, w: ArrayLike<number> | un
 export { checkOutcome as checkOutcomeAndWeights };
 
 /**
- * The Newton–Raphson loop shared by the logistic and multinomial fits, with step halving and
- * chord steps. `pass(beta, g, withInfo)` returns ℓ(β), writes the gradient into g and, when
- * `withInfo`, keeps the information at β for `factor()`, which returns its Cholesky factor
- * (undefined when singular); `factor()` is only called right after `accept()` of such a pass.
- * `accept()` tells the caller that the last pass's point is the new iterate.
+ * A factor of an information matrix I (P × P): its Cholesky factor L, and the parameters whose
+ * pivots vanished (`frozen`, rows and columns of L left at 0) with their diagonal entries I_jj.
+ */
+export interface InformationFactor {
+  L: Float64Array;
+  frozen: Int32Array;
+  frozenDiagonal: Float64Array;
+}
+
+/** Pivots of the information below this times its largest diagonal entry count as vanished (as in the plain Cholesky check). */
+const PIVOT_TOL = 1e-13;
+/** Normalised pivots of the design's Gram matrix below this mean aliased columns (the aliasing rule of `regression-lr`). */
+const ALIAS_TOL = 1e-9;
+/** Coefficients at least this large (in absolute value) that a full step moves further out by at least `OUTWARD_STEP` start an extrapolation. */
+const OUTWARD_COEF = 5;
+const OUTWARD_STEP = 0.5;
+/** Largest multiple of a Newton step tried by the extrapolation. */
+const MAX_EXTRAPOLATION = 4096;
+/** A frozen parameter's Newton gain g_j²/I_jj at the end must stay below this times |ℓ| + 0.1. */
+const FROZEN_GAIN = 1e-8;
+
+/**
+ * Cholesky factor of a symmetric positive semi-definite matrix that skips the pivots below
+ * `tol` times its largest diagonal entry: those rows and columns of L stay 0 and their indices
+ * are returned in `frozen`. Solving with it (`solveInformation`) leaves the frozen parameters
+ * unchanged and solves the system of the others. Cost: O(n³).
+ * Source: the Cholesky decomposition (Golub & Van Loan 2013, Matrix Computations, 4th ed., §4.2),
+ * restricted to the columns it keeps.
+ * @example
+ * // [[4, 2, 0], [2, 1, 0], [0, 0, 9]]: the second column is aliased with the first
+ * choleskyFreezing(new Float64Array([4, 2, 0, 2, 1, 0, 0, 0, 9]), 3, 1e-13).frozen // Int32Array [1]
+ */
+export function choleskyFreezing(a: ArrayLike<number>, n: number, tol: number): InformationFactor {
+  const L = new Float64Array(n * n);
+  let maxDiag = 0;
+  for (let i = 0; i < n; i++) maxDiag = Math.max(maxDiag, Math.abs(a[i * n + i]!));
+  const frozen: number[] = [];
+  for (let j = 0; j < n; j++) {
+    let d = a[j * n + j]!;
+    for (let k = 0; k < j; k++) d -= L[j * n + k]! * L[j * n + k]!;
+    if (!(d > tol * maxDiag) || !(maxDiag > 0)) {
+      frozen.push(j);
+      continue;
+    }
+    const ljj = Math.sqrt(d);
+    L[j * n + j] = ljj;
+    for (let i = j + 1; i < n; i++) {
+      let t = a[i * n + j]!;
+      for (let k = 0; k < j; k++) t -= L[i * n + k]! * L[j * n + k]!;
+      L[i * n + j] = t / ljj;
+    }
+  }
+  return { L, frozen: Int32Array.from(frozen), frozenDiagonal: Float64Array.from(frozen, (j) => a[j * n + j]!) };
+}
+
+/** Solve I x = b with a factor from `choleskyFreezing` (frozen entries of x are 0). Cost: O(n²). */
+export function solveInformation(F: InformationFactor, n: number, b: ArrayLike<number>): Float64Array {
+  const { L } = F;
+  const y = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const lii = L[i * n + i]!;
+    if (lii === 0) continue;
+    let s = b[i]!;
+    for (let k = 0; k < i; k++) s -= L[i * n + k]! * y[k]!;
+    y[i] = s / lii;
+  }
+  const x = new Float64Array(n);
+  for (let i = n - 1; i >= 0; i--) {
+    const lii = L[i * n + i]!;
+    if (lii === 0) continue;
+    let s = y[i]!;
+    for (let k = i + 1; k < n; k++) s -= L[k * n + i]! * x[k]!;
+    x[i] = s / lii;
+  }
+  return x;
+}
+
+/**
+ * Whether the p × p Gram matrix G of a design (Σ w_i z_i z_iᵀ over the rows with positive weight)
+ * is rank-deficient: a column without a non-zero entry, or a pivot of the Cholesky sweep of the
+ * correlation-scaled matrix G_jk/√(G_jj G_kk) below 1e-9 (the design's columns are aliased).
+ * Scale-free, unlike the information's pivot rule. Cost: O(p³).
+ */
+export function isRankDeficient(G: ArrayLike<number>, p: number): boolean {
+  const s = new Float64Array(p);
+  for (let j = 0; j < p; j++) {
+    if (!(G[j * p + j]! > 0)) return true;
+    s[j] = 1 / Math.sqrt(G[j * p + j]!);
+  }
+  const C = new Float64Array(p * p);
+  for (let j = 0; j < p; j++) for (let k = 0; k < p; k++) C[j * p + k] = G[j * p + k]! * s[j]! * s[k]!;
+  return choleskyFreezing(C, p, ALIAS_TOL).frozen.length > 0;
+}
+
+/**
+ * The factor of an information matrix for a Newton step: its Cholesky factor when it is positive
+ * definite (the usual case: nothing else is computed); else, when the design is not aliased
+ * (`isAliased()` false), the factor that freezes the vanished directions (`choleskyFreezing`);
+ * undefined when the design is aliased. Cost: O(P³), plus `isAliased` when the plain factor fails.
+ */
+export function factorInformation(H: Float64Array, P: number, isAliased: () => boolean): InformationFactor | undefined {
+  const L = cholesky(H, P, PIVOT_TOL);
+  if (L) return { L, frozen: NO_FROZEN, frozenDiagonal: NO_DIAGONAL };
+  if (isAliased()) return undefined;
+  return choleskyFreezing(H, P, PIVOT_TOL);
+}
+const NO_FROZEN = new Int32Array(0);
+const NO_DIAGONAL = new Float64Array(0);
+
+/** What `newtonLoop` returns. */
+export interface NewtonResult {
+  beta: Float64Array<ArrayBuffer>;
+  ll: number;
+  iterations: number;
+  passes: number;
+  status: FitStatus;
+  /** Parameters frozen by the last factorisation (see `InformationFactor`). */
+  frozen: Int32Array;
+}
+
+/**
+ * The Newton–Raphson loop shared by the logistic and multinomial fits, with step halving,
+ * chord steps and, under separation, extrapolation and frozen directions (module comment).
+ * `pass(beta, g, withInfo)` returns ℓ(β), writes the gradient into g and, when `withInfo`, keeps
+ * the information at β for `factor()`, which returns its factor (undefined when the design is
+ * aliased); `factor()` is only called right after `accept()` of such a pass. `accept()` tells the
+ * caller that the last pass's point is the new iterate.
  * Convergence: see the module comment.
  */
 export function newtonLoop(
   P: number, beta0: Float64Array<ArrayBuffer>, maxIter: number,
   pass: (beta: Float64Array, g: Float64Array, withInfo: boolean) => number,
-  factor: () => Float64Array | undefined,
+  factor: () => InformationFactor | undefined,
   accept: () => void,
   initialInfo?: ArrayLike<number>,
   finalStep?: number,
-): { beta: Float64Array<ArrayBuffer>; ll: number; iterations: number; passes: number; status: FitStatus } {
+): NewtonResult {
   let passes = 0;
   const rowPass = pass;
   pass = (b, g, withInfo) => (passes++, rowPass(b, g, withInfo));
@@ -616,18 +788,24 @@ export function newtonLoop(
   let g = new Float64Array(P);
   let gNew = new Float64Array(P);
   if (initialInfo && initialInfo.length !== P * P) throw new RangeError(`information has ${initialInfo.length} entries, expected ${P}×${P}`);
-  let L = initialInfo ? cholesky(initialInfo, P, 1e-13) : undefined;
-  let ll = pass(beta, g, !L);
+  const L0 = initialInfo ? cholesky(initialInfo, P, PIVOT_TOL) : undefined;
+  let F: InformationFactor | undefined = L0 ? { L: L0, frozen: NO_FROZEN, frozenDiagonal: NO_DIAGONAL } : undefined;
+  let ll = pass(beta, g, !F);
   accept();
-  let fresh = !L; // L is the information at β (not an approximation given by the caller)
-  if (!L) L = factor();
-  if (!L) return { beta, ll, iterations: 1, passes, status: "singular" };
+  let fresh = !F; // F is the information at β (not an approximation given by the caller)
+  if (!F) F = factor();
+  if (!F) return { beta, ll, iterations: 1, passes, status: "singular", frozen: NO_FROZEN };
   let status: FitStatus = "not-converged";
   let it = 0;
-  let ownInfo = fresh; // L was computed on the rows (at this or an earlier, nearby iterate)
+  let ownInfo = fresh; // F was computed on the rows (at this or an earlier, nearby iterate)
+  let trial: Float64Array | undefined;
+  let gTrial: Float64Array | undefined;
+  let out: Uint8Array | undefined;
+  let pushed = false;
+  let pushedOut = false; // the push was kept: coefficients at their limit
   while (it < maxIter) {
     it++;
-    const delta = choleskySolve(L, P, g);
+    const delta = solveInformation(F, P, g);
     if (ownInfo) {
       // Converged without a further pass: the step is within the tolerance on the coefficients
       // and its predicted gain gᵀδ (twice the quadratic model's ½ gᵀI⁻¹g) is negligible.
@@ -641,6 +819,41 @@ export function newtonLoop(
         it--;
         status = "converged";
         break;
+      }
+      if (!pushed && fresh && gain >= 0 && gain <= CONVERGED_GAIN * (Math.abs(ll) + 0.1) && onlyOutward(beta, delta, P, (out ??= new Uint8Array(P)))) {
+        // At the supremum but for coefficients still running out along a direction of recession
+        // (complete separation leaves no other sign, as every weight vanishes alike): push them
+        // out by the largest extrapolation at once, where the rows they act on are fitted with
+        // certainty in floating point, and factor the information there (module comment).
+        pushed = true;
+        trial ??= new Float64Array(P);
+        for (let j = 0; j < P; j++) trial[j] = beta[j]! + (out[j] ? MAX_EXTRAPOLATION : 0) * delta[j]!;
+        const llT = pass(trial, gNew, true);
+        if (llT >= ll - CONVERGED_GAIN * (Math.abs(ll) + 0.1)) {
+          accept();
+          betaNew.set(trial);
+          [beta, betaNew, g, gNew] = [betaNew, beta, gNew, g];
+          ll = llT;
+          F = factor();
+          if (!F) {
+            status = "singular";
+            break;
+          }
+          it--;
+          status = "converged";
+          pushedOut = true;
+          break;
+        }
+        // not a direction of recession after all: back to the iterate and on with Newton
+        ll = pass(beta, g, true);
+        accept();
+        F = factor();
+        if (!F) {
+          status = "singular";
+          break;
+        }
+        it--;
+        continue;
       }
       if (finalStep !== undefined && fresh && move <= FINAL_STEP_MOVE && gain >= 0 && gain <= finalStep * (Math.abs(ll) + 0.1)) {
         // The last step on paper (see NewtonOptions.finalStep): the maximum of the quadratic model at β.
@@ -671,8 +884,8 @@ export function newtonLoop(
         // retry with the information matrix at β before giving up
         ll = pass(beta, g, true);
         accept();
-        L = factor();
-        if (!L) {
+        F = factor();
+        if (!F) {
           status = "singular";
           break;
         }
@@ -686,6 +899,30 @@ export function newtonLoop(
       status = full <= 1e-5 ? "converged" : "not-converged";
       break;
     }
+    if (step === 1 && outward(beta, delta, P, (out ??= new Uint8Array(P)))) {
+      // Separation (module comment): the coefficients moving out go s times as far (s = 2, 4, …)
+      // while ℓ keeps rising, the others take their Newton step; then the best point is passed
+      // again with its information (the caller's pass state must be that of the iterate).
+      trial ??= new Float64Array(P);
+      gTrial ??= new Float64Array(P);
+      let best = 1;
+      let bestLl = llNew;
+      for (let s = 2; s <= MAX_EXTRAPOLATION; s *= 2) {
+        for (let j = 0; j < P; j++) trial[j] = beta[j]! + (out[j] ? s : 1) * delta[j]!;
+        const llT = pass(trial, gTrial, false);
+        if (!(llT > bestLl)) break;
+        best = s;
+        bestLl = llT;
+      }
+      maxMove = 0;
+      for (let j = 0; j < P; j++) {
+        const dj = (out[j] ? best : 1) * delta[j]!;
+        betaNew[j] = beta[j]! + dj;
+        maxMove = Math.max(maxMove, Math.abs(dj) / Math.max(1, Math.abs(betaNew[j]!)));
+      }
+      withInfo = true;
+      llNew = pass(betaNew, gNew, true);
+    }
     accept();
     const change = Math.abs(llNew - ll);
     [beta, betaNew, g, gNew] = [betaNew, beta, gNew, g];
@@ -695,18 +932,59 @@ export function newtonLoop(
       break;
     }
     if (withInfo) {
-      const Lnew = factor();
-      if (!Lnew) {
+      const Fnew = factor();
+      if (!Fnew) {
         it++;
         status = "singular";
         break;
       }
-      L = Lnew;
+      F = Fnew;
       fresh = true;
       ownInfo = true;
     } else fresh = false;
   }
-  return { beta, ll, iterations: it, passes, status };
+  const frozen = F ? F.frozen : NO_FROZEN;
+  if (status === "converged" && (frozen.length > 0 || pushedOut)) {
+    // At the limit, unless a frozen parameter could still gain (its information vanished for
+    // another reason than separation).
+    status = "limit";
+    for (let t = 0; t < frozen.length; t++) {
+      const gj = g[frozen[t]!]!;
+      const hjj = F!.frozenDiagonal[t]!;
+      if (!(gj === 0 || (hjj > 0 && (gj * gj) / hjj <= FROZEN_GAIN * (Math.abs(ll) + 0.1)))) status = "singular";
+    }
+  }
+  return { beta, ll, iterations: it, passes, status, frozen };
+}
+
+/**
+ * Whether a Newton step moves only large coefficients further out (marked in `out` as by
+ * `outward`, at least one) and leaves every other coefficient within the convergence tolerance
+ * (a relative move of 1e-7). Cost: O(P).
+ */
+function onlyOutward(beta: Float64Array, delta: Float64Array, P: number, out: Uint8Array): boolean {
+  if (!outward(beta, delta, P, out)) return false;
+  for (let j = 0; j < P; j++) {
+    if (!out[j] && Math.abs(delta[j]!) / Math.max(1, Math.abs(beta[j]! + delta[j]!)) > 1e-7) return false;
+  }
+  return true;
+}
+
+/**
+ * Mark in `out` the coefficients that a Newton step moves further out (|β_j + δ_j| ≥ 5, moving by
+ * at least 0.5 away from 0: the sign of separation that starts an extrapolation); whether any is.
+ * Cost: O(P).
+ */
+function outward(beta: Float64Array, delta: Float64Array, P: number, out: Uint8Array): boolean {
+  let any = false;
+  for (let j = 0; j < P; j++) {
+    const b = beta[j]!;
+    const d = delta[j]!;
+    const o = Math.abs(b + d) >= OUTWARD_COEF && Math.abs(d) >= OUTWARD_STEP && b * d > 0;
+    out[j] = o ? 1 : 0;
+    any ||= o;
+  }
+  return any;
 }
 
 /**
@@ -754,18 +1032,28 @@ export function logisticRegressionDesign(D: FactorDesign, y: ArrayLike<number>, 
   const s: LogisticScratch = { cellEta: new Float64Array(C), R: new Float64Array(C), gd: new Float64Array(D.denseColumns), sums: createCellSums(D, 1), separated: 0, kernel, out: new Float64Array(1) };
   let separated = 0; // at the current iterate
   const H = new Float64Array(p * p);
+  let aliased: boolean | undefined;
+  const isAliased = () => (aliased ??= isRankDeficient(designCrossProduct(D, w), p));
   // The information's cell sums are only read right after the pass that wrote them was accepted.
   const fit = newtonLoop(
     p, beta, options.maxIter ?? 50,
     (b, g, withInfo) => logisticPass(D, y, w, b, g, withInfo, s),
-    () => cholesky(assembleCrossProduct(D, s.sums, 0, 1, H), p, 1e-13),
+    () => factorInformation(assembleCrossProduct(D, s.sums, 0, 1, H), p, isAliased),
     () => (separated = s.separated),
     options.information,
     options.finalStep,
   );
-  const separatedRows = fit.status === "converged" ? 0 : separated;
-  // A converged fit has finite estimates: rows fitted near 0 or 1 there are extreme, not separated.
-  const separation: Separation =
-    separatedRows === 0 || fit.status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
-  return { coef: fit.beta, logLik: fit.ll, iterations: fit.iterations, passes: fit.passes, status: fit.status, separation, separatedRows, rows, information: H };
+  const { separatedRows, separation } = classifySeparation(fit, separated, rows);
+  return { coef: fit.beta, logLik: fit.ll, iterations: fit.iterations, passes: fit.passes, status: fit.status, separation, separatedRows, rows, information: H, frozen: fit.frozen };
+}
+
+/**
+ * Separation of a finished fit: at the limit (frozen parameters), complete when every row is
+ * separated, else quasi-complete; without convergence, by the separated rows as they stand; a
+ * converged fit has finite estimates, so rows fitted near 0 or 1 there are extreme, not separated.
+ */
+export function classifySeparation(fit: NewtonResult, separated: number, rows: number): { separatedRows: number; separation: Separation } {
+  if (fit.status === "converged" || fit.status === "singular") return { separatedRows: 0, separation: "none" };
+  if (fit.status === "limit") return { separatedRows: separated, separation: separated === rows ? "complete" : "quasi-complete" };
+  return { separatedRows: separated, separation: separated === 0 ? "none" : separated === rows ? "complete" : "quasi-complete" };
 }

@@ -7,15 +7,18 @@
  * (Agresti 2013, Categorical Data Analysis, 3rd ed., §8.1). Coefficients are stored category by
  * category: coef[(k − 1)·p + j] is the coefficient of column j for category k. The gradient is
  * Σ w_i (1{y_i = k} − π_ik) x_ij and the information matrix has blocks
- * Σ w_i π_ik (δ_kl − π_il) x_i x_iᵀ. Convergence and *separation* are defined as for binary
- * logistic regression (see `logisticRegression.ts`): a separated row's observed category is
- * fitted with probability above 1 − 1e-9 while the fit does not converge. Designs may be given
+ * Σ w_i π_ik (δ_kl − π_il) x_i x_iᵀ. Convergence, *separation* and the fit at the limit are
+ * those of binary logistic regression (see `logisticRegression.ts`): a separated row's observed
+ * category is fitted with probability above 1 − 1e-9; separation is also quasi-complete when a
+ * category's probability goes to 0 in some rows only (a category that never occurs in a level of
+ * a dummy: Lesaffre & Albert 1989, JRSS B 51:109–116), which shows as a frozen parameter (that
+ * category's coefficient of the dummy, at −∞) while no whole row is separated. Designs may be given
  * in factor form (`FactorDesign`, see `logisticRegression.ts`): indicator columns grouped in
  * cells and dense columns, so the information costs O(d²) per row and block pair.
  */
-import { cholesky } from "./linalg.js";
 import {
-  assembleCrossProduct, checkDesign, expByTable, checkOutcomeAndWeights, createCellSums, designFromRowMajor, newtonLoop, rowKernel,
+  assembleCrossProduct, checkDesign, classifySeparation, designCrossProduct, expByTable, checkOutcomeAndWeights, createCellSums, designFromRowMajor,
+  factorInformation, isRankDeficient, newtonLoop, rowKernel, SHIFT_ABOVE,
   type CellSums, type RowKernel, type FactorDesign, type FitStatus, type NewtonOptions, type Separation,
 } from "./logisticRegression.js";
 
@@ -29,11 +32,13 @@ export interface MultinomialFit {
   passes: number;
   status: FitStatus;
   separation: Separation;
-  /** Rows whose observed category is fitted with probability > 1 − 1e-9 (counted when the fit did not converge; 0 otherwise). */
+  /** Rows whose observed category is fitted with probability > 1 − 1e-9 (counted at the limit or when the fit did not converge; 0 otherwise). */
   separatedRows: number;
   rows: number;
   /** The last information matrix computed (P × P, at or near `coef`; zeros when none was). */
   information: Float64Array;
+  /** Parameters (indices into `coef`) left at their limit by the last factorisation of the information; empty without separation. */
+  frozen: Int32Array;
 }
 
 /** A row is separated when its observed category is fitted with probability above this. */
@@ -62,8 +67,9 @@ interface MultinomialScratch {
  * One pass over the rows at coefficients `beta`: returns ℓ(β), writes the gradient into `g`,
  * the separated rows into `s.separated` and, when `withInfo`, the cell sums of the information
  * blocks Σ w_i π_ik (δ_kl − π_il) z_i z_iᵀ (k ≤ l) into `s.sums`. K − 1 exponentials per row; the
- * linear predictors are shifted by their maximum only when it exceeds 700, where e^η would
- * overflow; logarithms of unweighted rows are taken of running products.
+ * linear predictors are shifted by their maximum only when it exceeds `SHIFT_ABOVE` (30: rows
+ * fitted with near certainty, where η_y − ln Σ e^η would lose precision or e^η overflow);
+ * logarithms of unweighted rows are taken of running products.
  * Cost: O(m·(K−1)·d), plus O(m·K²·d²/4) with the information.
  */
 function multinomialPass(
@@ -112,7 +118,7 @@ function multinomialPass(
       eta[k] = e;
       if (e > mx) mx = e;
     }
-    if (mx < 700) mx = 0; // no overflow: skip the shift and the baseline's exponential
+    if (mx < SHIFT_ABOVE) mx = 0; // no overflow, little rounding: skip the shift and the baseline's exponential
     const base = mx === 0 ? 1 : expByTable(-mx);
     let se = base;
     for (let k = 0; k < q; k++) {
@@ -241,16 +247,17 @@ export function multinomialLogitDesign(D: FactorDesign, y: ArrayLike<number>, K:
   let separated = 0;
   const H = new Float64Array(P * P);
   const B = new Float64Array(p * p);
+  // every category's block has the same design: aliased when its Gram matrix is rank-deficient
+  let aliased: boolean | undefined;
+  const isAliased = () => (aliased ??= isRankDeficient(designCrossProduct(D, w), p));
   const fit = newtonLoop(
     P, beta, options.maxIter ?? 50,
     (b, g, withInfo) => multinomialPass(D, K, y, w, b, g, withInfo, s),
-    () => cholesky(assembleInformation(D, K, s.sums, H, B), P, 1e-13),
+    () => factorInformation(assembleInformation(D, K, s.sums, H, B), P, isAliased),
     () => (separated = s.separated),
     options.information,
     options.finalStep,
   );
-  const separatedRows = fit.status === "converged" ? 0 : separated;
-  const separation: Separation =
-    separatedRows === 0 || fit.status === "converged" ? "none" : separatedRows === rows ? "complete" : "quasi-complete";
-  return { coef: fit.beta, categories: K, logLik: fit.ll, iterations: fit.iterations, passes: fit.passes, status: fit.status, separation, separatedRows, rows, information: H };
+  const { separatedRows, separation } = classifySeparation(fit, separated, rows);
+  return { coef: fit.beta, categories: K, logLik: fit.ll, iterations: fit.iterations, passes: fit.passes, status: fit.status, separation, separatedRows, rows, information: H, frozen: fit.frozen };
 }

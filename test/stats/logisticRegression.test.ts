@@ -271,3 +271,95 @@ describe("convergence without a further pass", () => {
     expect(far.iterations).toBeGreaterThanOrEqual(3);
   });
 });
+
+// ---- separation: the fit at the limit ----
+import { choleskyFreezing, isRankDeficient, solveInformation } from "../../src/stats/logisticRegression.js";
+
+describe("logisticRegression at the limit under separation", () => {
+  // separation-null.csv (scripts/statsmodels_separation.py): y = 1 whenever z = "c"; statsmodels'
+  // exact limits in separation-ref.json (Logit on the rows z ≠ "c", which the limit leaves uncertain)
+  const sep = JSON.parse(readFileSync(new URL("separation-ref.json", dir), "utf8"));
+  const limit = sep.probes.null.claims[0].limit as { llf_null: number; llf_full: number }; // claim x ⫫ y | z, c
+  const rows = readFileSync(new URL("separation-null.csv", dir), "utf8").trim().split("\n").slice(1).map((l) => l.split(","));
+  const n = rows.length;
+  const y = rows.map((r) => Number(r[3]));
+  const zc = rows.map((r) => "abc".indexOf(r[0]!));
+  const xc = rows.map((r) => "pqr".indexOf(r[1]!));
+  /** cells: z (and x) levels; dense: c. Parameters [1, z=b, z=c, (x=q, x=r,) c]. */
+  const design = (withX: boolean): FactorDesign => {
+    const cellOf = Int32Array.from(rows, (_, i) => (withX ? zc[i]! * 3 + xc[i]! : zc[i]!));
+    const starts = [0];
+    const cols: number[] = [];
+    for (let c = 0; c < (withX ? 9 : 3); c++) {
+      const z = withX ? Math.floor(c / 3) : c;
+      const x = withX ? c % 3 : 0;
+      cols.push(0);
+      if (z > 0) cols.push(z);
+      if (x > 0) cols.push(2 + x);
+      starts.push(cols.length);
+    }
+    return { rows: n, dense: Float64Array.from(rows, (r) => Number(r[2])), denseColumns: 1, factorColumns: withX ? 5 : 3, cellOf, cellStart: Int32Array.from(starts), cellColumns: Int32Array.from(cols) };
+  };
+
+  it("logisticRegressionDesign under quasi-complete separation ends at the limit: statsmodels' ℓ (1e-12 relative), z=c frozen at +∞, both kernels bit for bit", () => {
+    const fits = (["unrolled", "loop"] as const).map((kernel) => logisticRegressionDesign(design(false), y, { kernel }));
+    for (const f of fits) {
+      expect(f.status).toBe("limit");
+      expect(f.separation).toBe("quasi-complete");
+      expect(f.separatedRows).toBe(27); // the rows with z = "c" (by construction)
+      expect([...f.frozen]).toEqual([2]); // z=c
+      expect(f.coef[2]).toBeGreaterThan(30);
+      expect(Math.abs(f.logLik - limit.llf_null)).toBeLessThanOrEqual(1e-12 * Math.abs(limit.llf_null)); // statsmodels Logit on the rows z ≠ "c"
+      expect([...f.coef].every(Number.isFinite)).toBe(true);
+    }
+    expect(fits[0]!.logLik).toBe(fits[1]!.logLik);
+    expect([...fits[0]!.coef]).toEqual([...fits[1]!.coef]);
+  });
+
+  it("regression: a fit started at the null model's limit (information singular there) goes on to its own limit instead of stopping after one pass", () => {
+    const f0 = logisticRegressionDesign(design(false), y);
+    const start = [f0.coef[0]!, f0.coef[1]!, f0.coef[2]!, 0, 0, f0.coef[3]!]; // added coefficients 0
+    const f1 = logisticRegressionDesign(design(true), y, { start });
+    expect(f1.status).toBe("limit");
+    expect(f1.iterations).toBeGreaterThan(1);
+    expect(Math.abs(f1.logLik - limit.llf_full)).toBeLessThanOrEqual(1e-12 * Math.abs(limit.llf_full)); // statsmodels Logit on the rows z ≠ "c"
+    expect(2 * (f1.logLik - f0.logLik)).toBeCloseTo(2 * (limit.llf_full - limit.llf_null), 9);
+  });
+
+  it("logisticRegression under complete separation reaches ℓ = 0 to rounding with status limit (pushed out, information factored there)", () => {
+    const X = new Float64Array([1, -2, 1, -1, 1, 1, 1, 2]);
+    const f = logisticRegression(X, 4, 2, [0, 0, 1, 1]);
+    expect(f.status).toBe("limit");
+    expect(f.separation).toBe("complete");
+    expect(f.logLik).toBeLessThanOrEqual(0);
+    expect(f.logLik).toBeGreaterThan(-1e-12); // supremum 0: every row fitted with certainty (Albert & Anderson 1984)
+  });
+
+  it("choleskyFreezing skips vanished pivots (doc example) and solveInformation solves the system of the kept parameters", () => {
+    const a = new Float64Array([4, 2, 0, 2, 1, 0, 0, 0, 9]); // second column = half the first
+    const F = choleskyFreezing(a, 3, 1e-13);
+    expect([...F.frozen]).toEqual([1]);
+    expect([...F.frozenDiagonal]).toEqual([1]);
+    const x = solveInformation(F, 3, [8, 4, 18]);
+    expect([...x]).toEqual([2, 0, 2]); // 4·x0 = 8, 9·x2 = 18 by hand; x1 left at 0
+    const full = choleskyFreezing(new Float64Array([4, 2, 2, 5]), 2, 1e-13);
+    expect(full.frozen.length).toBe(0);
+    const s = solveInformation(full, 2, [6, 7]); // [[4, 2], [2, 5]] x = [6, 7]: x = [1, 1] by hand
+    expect(s[0]).toBeCloseTo(1, 14);
+    expect(s[1]).toBeCloseTo(1, 14);
+  });
+
+  it("isRankDeficient finds aliased or empty columns whatever their scale, and not a column scaled by 1e8", () => {
+    // Gram matrices Σ z zᵀ of 3 rows: [1, t] with t = (1, 2, 3), t scaled by 1e8, and [1, 2·1]
+    const gram = (cols: number[][]) => {
+      const p = cols.length;
+      const G = new Float64Array(p * p);
+      for (let a = 0; a < p; a++) for (let b = 0; b < p; b++) G[a * p + b] = cols[a]!.reduce((s, v, i) => s + v * cols[b]![i]!, 0);
+      return G;
+    };
+    expect(isRankDeficient(gram([[1, 1, 1], [1, 2, 3]]), 2)).toBe(false);
+    expect(isRankDeficient(gram([[1, 1, 1], [1e8, 2e8, 3e8]]), 2)).toBe(false);
+    expect(isRankDeficient(gram([[1, 1, 1], [2, 2, 2]]), 2)).toBe(true);
+    expect(isRankDeficient(gram([[1, 1, 1], [0, 0, 0]]), 2)).toBe(true);
+  });
+});

@@ -131,3 +131,51 @@ describe("multinomialLogit: convergence without a further pass", () => {
     expect(Math.abs(again.logLik - cold.logLik)).toBeLessThanOrEqual(1e-10 * Math.abs(cold.logLik));
   });
 });
+
+describe("multinomialLogit at the limit under separation", () => {
+  // separation-empty-cell.csv (scripts/statsmodels_separation.py): y = "v3" never occurs with x = "f".
+  // Exact limit in separation-ref.json: statsmodels GLM(Poisson) with one intercept per row on the
+  // (row, category) pairs other than (x = "f", "v3") (the multinomial logit in its Poisson form).
+  const sep = JSON.parse(readFileSync(new URL("separation-ref.json", dir), "utf8"));
+  const claim = sep.probes.empty_cell.claims[0]; // x ⫫ y | c
+  const rows = readFileSync(new URL("separation-empty-cell.csv", dir), "utf8").trim().split("\n").slice(1).map((l) => l.split(","));
+  const n = rows.length;
+  const y = rows.map((r) => Number(r[3]!.slice(1)));
+  // cells: the 6 levels of x; parameters per category [1, x=b, x=c, x=d, x=e, x=f, c]
+  const D: FactorDesign = {
+    rows: n, dense: Float64Array.from(rows, (r) => Number(r[2])), denseColumns: 1, factorColumns: 6,
+    cellOf: Int32Array.from(rows, (r) => "abcdef".indexOf(r[0]!)),
+    cellStart: new Int32Array([0, 1, 3, 5, 7, 9, 11]), cellColumns: new Int32Array([0, 0, 1, 0, 2, 0, 3, 0, 4, 0, 5]),
+  };
+
+  it("multinomialLogitDesign with an empty cell ends at the limit: statsmodels' ℓ (1e-12 relative), only x=f of v3 frozen at −∞, both kernels bit for bit", () => {
+    const fits = (["unrolled", "loop"] as const).map((kernel) => multinomialLogitDesign(D, y, 5, { kernel }));
+    for (const f of fits) {
+      expect(f.status).toBe("limit");
+      expect(f.separation).toBe("quasi-complete");
+      expect(f.separatedRows).toBe(0); // no whole row is certain, only category v3 in rows x = "f"
+      expect([...f.frozen]).toEqual([2 * 7 + 5]); // category 3's block, column x=f
+      expect(f.coef[2 * 7 + 5]).toBeLessThan(-30);
+      expect(Math.abs(f.logLik - claim.limit.llf_full)).toBeLessThanOrEqual(1e-12 * Math.abs(claim.limit.llf_full)); // statsmodels GLM(Poisson) + n
+    }
+    expect(fits[0]!.logLik).toBe(fits[1]!.logLik);
+    expect([...fits[0]!.coef]).toEqual([...fits[1]!.coef]);
+    // statsmodels MNLogit(method="newton") approaches it from below as maxiter grows (25 … 400)
+    const seq = (claim.statsmodels.newton as { llf_full: number }[]).map((s) => fits[0]!.logLik - s.llf_full);
+    seq.forEach((gap, k) => {
+      expect(gap).toBeGreaterThanOrEqual(-1e-9);
+      if (k > 0) expect(gap).toBeLessThanOrEqual(seq[k - 1]! + 1e-12);
+    });
+  });
+
+  it("multinomialLogit with two categories equals logistic regression at the limit too (theorem: K = 2 is the logit model)", () => {
+    const X = new Float64Array(rows.flatMap((r) => [1, r[0] === "f" ? 1 : 0, Number(r[2])]));
+    const yb = y.map((v) => (v === 3 ? 1 : 0)); // "v3" against the rest: never 1 when x = "f"
+    const a = multinomialLogit(X, n, 3, yb, 2);
+    const b = logisticRegression(X, n, 3, yb);
+    expect(a.status).toBe("limit");
+    expect(b.status).toBe("limit");
+    expect(a.logLik).toBeCloseTo(b.logLik, 10);
+    expect([...a.frozen]).toEqual([...b.frozen]);
+  });
+});
