@@ -37,12 +37,31 @@
  *   maximum-likelihood ones of all rows (to that criterion), only reached in fewer passes (2–3
  *   per model instead of 5–8). The full model starts at the subsample's full fit, its shared
  *   coefficients moved by as much as the null model's moved on all rows.
- * - Outcomes: complete separation in either model (every row predicted with probability → 1),
- *   a singular information matrix, an exact linear fit, a single observed level or constant
- *   added side, or too few rows for the parameters give `{ ok: false, reason }`; quasi-complete
- *   separation and non-convergence within 50 Newton iterations give a `warnings` entry and the
- *   test goes on at the last iterate. The p-value is always asymptotic (permutations are not
- *   used by this method; see `stratified-chisq` for the permutation test).
+ * - Separation (a combination of predictors fits some rows, or some categories of some rows,
+ *   with certainty, so some coefficients run to infinity): the fits follow the likelihood to its
+ *   supremum, which is finite (`FitStatus` "limit" in `logisticRegression.ts`: extrapolation
+ *   along the diverging coefficients and frozen directions, not a penalised likelihood), and
+ *   LR = 2(ℓ1 − ℓ0) is taken at the two suprema, the limit of the statistic as both fits go on.
+ *   `details.separation` gives each model's separation ("none", "quasi-complete", "complete"),
+ *   `details.fixed_at_limit` the coefficients that ran to ±∞ (or that no row left uncertain can
+ *   estimate), and a warning says so in words. Degrees of freedom: when only the full model
+ *   separates (for instance an empty cell of the x × y table), the null model's estimate exists
+ *   and df is the nominal count: the coefficient that runs to −∞ is estimated at its limit (a
+ *   2 × 2 table with an empty cell has 1 df, not 0). When the null model separates, the test is
+ *   that of the two models restricted to what the null model leaves uncertain (Geyer 2009,
+ *   Electronic Journal of Statistics 3:259–289): df is the difference of the ranks of the two
+ *   information matrices at the null model's limit, so added parameters that act only on rows
+ *   already fitted with certainty are dropped (`details.df_nominal`, `details.not_identifiable`
+ *   and a warning say which). Complete separation in the null model leaves nothing to test (both
+ *   models fit every row with certainty: LR ≡ 0 on 0 df) and gives `{ ok: false, reason }`, as
+ *   does a null-model separation that leaves no added parameter estimable. Complete separation in
+ *   the full model only is tested: ℓ1 → 0, so LR → −2ℓ0, with a warning that the chi-square
+ *   p-value is a rough guide there.
+ * - Outcomes: a singular information matrix that separation does not explain (aliased columns),
+ *   an exact linear fit, a single observed level or constant added side, or too few rows for the
+ *   parameters give `{ ok: false, reason }`; non-convergence within 50 Newton iterations gives a
+ *   `warnings` entry and the test goes on at the last iterate. The p-value is always asymptotic
+ *   (permutations are not used by this method; see `stratified-chisq` for the permutation test).
  * - Effect: sign·√(1 − exp(−LR/n)) for 1-df tests, signed by the added coefficient; for more df,
  *   √(1 − exp(−max(0, LR − df)/n)) (`lrEffect`); 95% interval by noncentral chi-square inversion
  *   (Steiger 1990).
@@ -393,6 +412,88 @@ function embedNull(coef: ArrayLike<number>, q: number, pf0: number, pf1: number,
   return out;
 }
 
+/** The full model's index of each null-model parameter (category by category; the added coefficients are the others). */
+function nullImage(q: number, pf0: number, pf1: number, d: number): Int32Array {
+  const p0 = pf0 + d;
+  const p1 = pf1 + d;
+  const out = new Int32Array(q * p0);
+  for (let k = 0; k < q; k++) {
+    for (let j = 0; j < pf0; j++) out[k * p0 + j] = k * p1 + j;
+    for (let a = 0; a < d; a++) out[k * p0 + pf0 + a] = k * p1 + pf1 + a;
+  }
+  return out;
+}
+
+/**
+ * Degrees of freedom of the likelihood-ratio test when the null model's likelihood reaches its
+ * supremum only at infinity (separation in the null model). Geyer (2009, Electronic Journal of
+ * Statistics 3:259–289, hypothesis tests in the completion of an exponential family): the test is
+ * then that of the two models conditioned on what the null model predicts with certainty (its
+ * limiting conditional models); the statistic is the usual 2(ℓ1 − ℓ0) at the suprema, but the df
+ * is the difference of the dimensions of the two conditional models. Those dimensions are the
+ * ranks of the information matrices at the null model's limit: P0 minus the null fit's frozen
+ * parameters, and P1 minus the parameters frozen when the full model's information is factored at
+ * that same point (`probeFrozen`, from a zero-iteration fit started there). An added parameter
+ * frozen there acts only on rows (or categories of rows) already fitted with certainty, so the
+ * data cannot estimate it. When only the full model separates, the null model's estimate exists
+ * and df stays the nominal one (the added coefficient that runs to infinity, such as that of an
+ * empty cell of the x × y table, is estimated at its limit: Geyer 2009). Cost: O(P).
+ */
+function dfOnNullFace(nullFrozen: number, probeFrozen: Int32Array, P0: number, P1: number, image: Int32Array): { df: number; dropped: number[] } {
+  const isNull = new Uint8Array(P1);
+  for (const j of image) isNull[j] = 1;
+  const dropped = [...probeFrozen].filter((j) => isNull[j] === 0);
+  return { df: Math.max(0, (P1 - probeFrozen.length) - (P0 - nullFrozen)), dropped };
+}
+
+/**
+ * Labels of a model's parameters in the order of its coefficients: indicator columns, then dense
+ * ones (the factor design's order), category after category for a multinomial response
+ * (`resp` given, its observed levels `respLevels`, the first the baseline).
+ */
+function parameterLabels(columns: readonly ModelColumn[], kept: readonly number[], resp: Column | undefined, respLevels: readonly number[]): string[] {
+  const order = [...kept.filter((j) => columns[j]!.dense === undefined), ...kept.filter((j) => columns[j]!.dense !== undefined)].map((j) => columns[j]!.label);
+  if (!resp) return order;
+  return respLevels.slice(1).flatMap((l) => order.map((label) => `${label} (${resp.name}=${resp.levels![l]})`));
+}
+
+/**
+ * The parameters a fit froze (see `FitStatus` "limit"), as "label → +∞" or "label → −∞" when the
+ * coefficient ran out to that side (beyond ±5, where the fit's extrapolation starts; in practice
+ * it is far beyond), else "label (not estimable)": its value no longer matters because every row
+ * it acts on is already fitted with certainty through the other coefficients.
+ */
+function atLimit(f: LogisticFit | MultinomialFit, labels: readonly string[]): string[] {
+  return [...f.frozen].map((j) => {
+    const b = f.coef[j]!;
+    return Math.abs(b) >= 5 ? `${labels[j]!} → ${b > 0 ? "+∞" : "−∞"}` : `${labels[j]!} (not estimable)`;
+  });
+}
+
+/**
+ * The warning for a fit that separated or did not converge, in words (undefined otherwise).
+ * Complete separation reaches this for the full model only (in the null model the claim is
+ * untestable): ℓ1 → 0 from below, so LR → −2ℓ0.
+ */
+function fitWarning(label: "null" | "full", f: LogisticFit | MultinomialFit, names: readonly string[], resp: string, predictors: readonly string[]): string | undefined {
+  if (f.separation === "complete") {
+    return `complete separation in the ${label} model: "${resp}" is predicted perfectly by ${quoted(predictors)}; LR taken at the limit of the likelihood (ℓ1 → 0, so LR → −2ℓ0), and its chi-square p-value is a rough guide here`;
+  }
+  if (f.separation === "quasi-complete") {
+    const what = f.separatedRows > 0
+      ? `${f.separatedRows} of ${f.rows} fitted rows predicted with probability → 1`
+      : `some categories of "${resp}" have fitted probability → 0 in some rows`;
+    const at = atLimit(f, names);
+    return `quasi-complete separation in the ${label} model: ${what}${at.length ? ` (${at.join(", ")})` : ""}; LR taken at the limit of the likelihood`;
+  }
+  if (f.status === "not-converged") return `the ${label} model of "${resp}" did not converge in ${f.iterations} Newton iterations; LR taken at the last iterate`;
+  return undefined;
+}
+
+function singularInformation(label: string, resp: string): MethodResult {
+  return { ok: false, reason: `the information matrix of the ${label} model of "${resp}" is singular; the claim cannot be tested with these data` };
+}
+
 function quoted(names: readonly string[]): string {
   return names.map((s) => `"${s}"`).join(", ");
 }
@@ -405,7 +506,8 @@ function quoted(names: readonly string[]): string {
  * passes per model on all rows after the warm start on a subsample (grouped data: O(G) per pass
  * for G groups).
  * Source: Wilks (1938); McCullagh & Nelder (1989), Generalized Linear Models, 2nd ed.; Agresti
- * (2013), Categorical Data Analysis, 3rd ed., §8.1.
+ * (2013), Categorical Data Analysis, 3rd ed., §8.1; Albert & Anderson (1984), Biometrika 71:1–10,
+ * and Geyer (2009), Electronic Journal of Statistics 3:259–289 (separation).
  * @example
  * const r = runRegressionLr({ x: "region", y: "sbp", given: ["age"] }, ctx);
  * if (r.ok) r.outcome.df; // number of region levels − 1
@@ -554,7 +656,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   const p = kept.length;
   const q = kind === "multinomial" ? respLevels.length - 1 : 1;
   // Added parameters: one per added column, for each non-baseline response category.
-  const df = (p - p0) * q;
+  let df = (p - p0) * q;
   const droppedBase = baseCount - p0;
   if (droppedBase > 0) warnings.push(`${droppedBase} column${droppedBase > 1 ? "s" : ""} of the given set aliased with others and dropped`);
   if (df === 0) {
@@ -588,8 +690,8 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     const y = new Int32Array(m);
     for (let i = 0; i < m; i++) y[i] = recode[rc[i]!]!;
     const K = respLevels.length;
-    const fit = (D: FactorDesign, yy: Int32Array, w: Float64Array | undefined, start?: Float64Array, information?: Float64Array): LogisticFit | MultinomialFit => {
-      const opts = { weights: w, start, information, ...(start && D.rows === m ? { finalStep: FINAL_STEP_GAIN } : {}) };
+    const fit = (D: FactorDesign, yy: Int32Array, w: Float64Array | undefined, start?: Float64Array, information?: Float64Array, maxIter?: number): LogisticFit | MultinomialFit => {
+      const opts = { weights: w, start, information, maxIter, ...(start && D.rows === m ? { finalStep: FINAL_STEP_GAIN } : {}) };
       return kind === "logistic" ? logisticRegressionDesign(D, yy, opts) : multinomialLogitDesign(D, yy, K, opts);
     };
     const usable = (f: LogisticFit | MultinomialFit) => f.status === "converged" && Number.isFinite(f.logLik) && f.coef.every(Number.isFinite);
@@ -629,25 +731,47 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
       }
     }
     const f0 = fit(D0, y, weights, start0, info0);
+    if (f0.status === "singular") return singularInformation("null", resp.name);
+    if (f0.separation === "complete") {
+      // ℓ0 → 0, and the full model (which contains the null) cannot do better: LR ≡ 0 on no identifiable parameter
+      return { ok: false, reason: `complete separation in the null model: "${resp.name}" is predicted perfectly by ${claim.given.length ? quoted(claim.given) : "the intercept"}; the likelihood-ratio test does not apply` };
+    }
     let s1 = embedNull(f0.coef, q, pf0, pf1, d);
+    const labels1 = parameterLabels(columns, kept, kind === "multinomial" ? resp : undefined, respLevels);
+    const labels0 = parameterLabels(columns, keptBase, kind === "multinomial" ? resp : undefined, respLevels);
+    if (f0.status === "limit") {
+      // The null model's supremum lies at infinity: the test is that of the models restricted to
+      // the rows (and categories) it leaves uncertain, so df is the difference of the ranks of the
+      // two information matrices there (Geyer 2009; see `dfOnNullFace`).
+      const probe = fit(D1, y, weights, s1, undefined, 0);
+      const face = dfOnNullFace(f0.frozen.length, probe.frozen, q * p0, q * p, nullImage(q, pf0, pf1, d));
+      const notIdentifiable = face.dropped.map((j) => labels1[j]!);
+      if (face.df !== df) {
+        details.df_nominal = df;
+        details.not_identifiable = notIdentifiable;
+        const k = df - face.df;
+        warnings.push(`${k} of the ${df} added parameters act only on rows that the null model already predicts with certainty${notIdentifiable.length ? ` (${notIdentifiable.join(", ")})` : ""} and cannot be estimated: df ${face.df} instead of ${df}`);
+        df = face.df;
+      }
+      if (df === 0) {
+        return { ok: false, reason: `"${added.name}" varies only among rows whose "${resp.name}" ${claim.given.length ? quoted(claim.given) : "the intercept"} already predict${claim.given.length === 1 ? "s" : ""} with certainty (separation in the null model); the claim cannot be tested with these data` };
+      }
+    }
     if (start1 && sub0) {
       // the subsample's added coefficients, and its other coefficients moved as the null model's moved
       const shift = embedNull(f0.coef.map((v, j) => v - sub0!.coef[j]!), q, pf0, pf1, d);
       s1 = start1.map((v, j) => v + shift[j]!);
     }
     const f1 = fit(D1, y, weights, s1, start1 ? info1 : undefined);
+    if (f1.status === "singular") return singularInformation("full", resp.name);
     if (kind === "logistic") addedCoef = f1.coef[pf1 - 1];
-    for (const [label, f] of [["null", f0], ["full", f1]] as const) {
-      if (f.separation === "complete") {
-        return { ok: false, reason: `complete separation in the ${label} model: "${resp.name}" is predicted perfectly by ${label === "full" ? quoted([added.name, ...claim.given]) : claim.given.length ? quoted(claim.given) : "the intercept"}; the likelihood-ratio test does not apply` };
-      }
-      if (f.separation === "quasi-complete") {
-        warnings.push(`quasi-complete separation in the ${label} model: ${f.separatedRows} of ${f.rows} fitted rows predicted with probability → 1; LR taken at the limit of the likelihood`);
-      } else if (f.status === "singular") {
-        return { ok: false, reason: `the information matrix of the ${label} model of "${resp.name}" is singular; the claim cannot be tested with these data` };
-      } else if (f.status === "not-converged") {
-        warnings.push(`the ${label} model of "${resp.name}" did not converge in ${f.iterations} Newton iterations; LR taken at the last iterate`);
-      }
+    for (const [label, f, names] of [["null", f0, labels0], ["full", f1, labels1]] as const) {
+      const warning = fitWarning(label, f, names, resp.name, [added.name, ...claim.given]);
+      if (warning) warnings.push(warning);
+    }
+    details.separation = { null: f0.separation, full: f1.separation };
+    if (f0.frozen.length + f1.frozen.length > 0) {
+      details.fixed_at_limit = { null: atLimit(f0, labels0), full: atLimit(f1, labels1) };
     }
     lr = 2 * (f1.logLik - f0.logLik);
     Object.assign(details, { loglik_null: f0.logLik, loglik_full: f1.logLik, iterations: [f0.iterations, f1.iterations], row_passes: [f0.passes, f1.passes] });
