@@ -43,7 +43,7 @@ for (let j = 0; j < 30; j++) {
 }
 const table: Table = { rows, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
 const unused = () => { throw new Error("not used"); };
-const ctx = (extra: Partial<TestContext> = {}): TestContext => ({ table, moments: { patterns: 0, completeRows: 0, patternList: unused, momentsFor: unused, columnsOf: unused, momentsForColumns: unused }, rankMoments: unused, seed: 1, ...extra });
+const ctx = (extra: Partial<TestContext> = {}): TestContext => ({ table, moments: { patterns: 0, completeRows: 0, patternList: unused, momentsFor: unused, columnsOf: unused, momentsForColumns: unused }, seed: 1, ...extra });
 
 const cases: [string, TestMethod, Claim, Partial<TestContext>][] = [
   ["chisq binary×binary | 3 categorical", stratifiedChisq, { x: "k0", y: "k5", given: ["k1", "k2", "k3"] }, {}],

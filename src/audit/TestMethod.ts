@@ -9,10 +9,12 @@ import type { Claim, TestName, TestOutcome } from "./types.js";
 
 export interface TestContext {
   table: Table;
-  /** Moments of the scores (for pearson-partial and linear models). */
+  /**
+   * Pattern moments of the scores (for moment-based methods), with the further columns the
+   * audit's claims need: indicators of ordinal members of conditioning sets, flexible basis terms
+   * of continuous members and mid-ranks (see `momentExpansions` in runAudit.ts).
+   */
   moments: PatternMoments;
-  /** Moments of mid-ranks (for spearman-partial); built lazily by the pipeline. */
-  rankMoments(): PatternMoments;
   /** When set, only these rows may be used (listwise deletion); otherwise complete cases per claim. */
   rowFilter?: Uint8Array;
   /** Seed for Monte-Carlo p-values; a method derives its own stream from (seed, claim). */
@@ -46,7 +48,7 @@ export interface TestMethod {
    * Rough work of a claim that reads the rows rather than the moments (rows × operations per
    * row; only its order of magnitude matters), or 0 (or no such function) when the method works
    * from the moments alone. Claims with work may be tested on a helper thread, whose context has
-   * no moments, so a method must not touch `ctx.moments` or `ctx.rankMoments` for them.
+   * no moments, so a method must not touch `ctx.moments` for them.
    */
   rowWork?(claim: Claim, table: Table): number;
 }

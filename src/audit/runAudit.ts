@@ -245,7 +245,6 @@ export function helperContext(table: Table, settings: AuditSettings, rowFilter?:
   return {
     table,
     moments: unavailable,
-    rankMoments: () => unavailable,
     ...(rowFilter ? { rowFilter } : {}),
     seed: settings.seed,
     ...(settings.permutations !== undefined ? { permutations: settings.permutations } : {}),
@@ -288,11 +287,9 @@ function withMoments(plan: ClaimPlan, table: Table): AuditPlan {
   const { measured, rowFilter, settings } = plan;
   const expansions = momentExpansions(plan.claims, table, settings, measured, rowFilter);
   const moments = buildPatternMoments(table, { variables: measured, rowFilter, expansions });
-  let ranks: PatternMoments | undefined;
   const ctx: TestContext = {
     table,
     moments,
-    rankMoments: () => (ranks ??= buildPatternMoments(table, { variables: measured, rowFilter, useRanks: true })),
     rowFilter,
     seed: settings.seed,
     permutations: settings.permutations,
@@ -360,11 +357,32 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
   });
 
   const padj = adjustPValues(tested.map((t) => t.p), settings.adjust);
+  const decide = (p: number, effect: number) => (p < settings.alpha && Math.abs(effect) >= settings.min_effect ? "contradicted" : "consistent");
+  // The same claims decided with linear adjustment (the classic test each flexible test reports
+  // in `details.linear_adjustment`; claims without one keep their own p-value and effect).
+  const linear = tested.map((t) => linearAdjustmentOf(t));
+  const padjLinear = adjustPValues(tested.map((t, i) => linear[i]?.p ?? t.p), settings.adjust);
   const result: TestedClaim[] = tested.map((t, i) => {
     const p_adjusted = padj[i]!;
-    const verdict = p_adjusted < settings.alpha && Math.abs(t.effect) >= settings.min_effect ? "contradicted" : "consistent";
+    const verdict = decide(p_adjusted, t.effect);
+    const lin = linear[i];
+    if (lin) {
+      const linearVerdict = decide(padjLinear[i]!, lin.effect);
+      lin.p_adjusted = padjLinear[i]!;
+      lin.verdict = linearVerdict;
+      lin.verdict_differs = linearVerdict !== verdict;
+    }
     return { ...t, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y) };
   });
+  const differing = result.filter((c) => linearAdjustmentOf(c)?.verdict_differs);
+  if (differing.length > 0) {
+    warnings.push(
+      `${differing.length} claim${differing.length > 1 ? "s change" : " changes"} verdict when the conditioning set enters linearly instead of flexibly (${differing
+        .slice(0, 5)
+        .map((c) => `${c.x} ⫫ ${c.y}`)
+        .join("; ")}${differing.length > 5 ? "; …" : ""}): the verdict depends on the functional form assumed, so judge those claims with care`,
+    );
+  }
   result.sort(compareClaims(settings.rank_by));
   result.forEach((c, i) => (c.rank = i + 1));
 
@@ -404,6 +422,20 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
     },
     warnings,
   };
+}
+
+/** The linear-adjustment check a flexible test put in its details, if any (mutable: the audit adds its verdict). */
+interface LinearAdjustmentDetails {
+  p: number;
+  effect: number;
+  p_adjusted?: number;
+  verdict?: "contradicted" | "consistent";
+  verdict_differs?: boolean;
+}
+
+function linearAdjustmentOf(o: { details?: Record<string, unknown> }): LinearAdjustmentDetails | undefined {
+  const lin = o.details?.linear_adjustment as LinearAdjustmentDetails | undefined;
+  return lin && Number.isFinite(lin.p) ? lin : undefined;
 }
 
 /** Whether two lists hold the same names (ignoring order and repeats). */

@@ -70,15 +70,37 @@ export function chiSquareQuantile(p: number, df: number): number {
   if (!(df > 0 && Number.isFinite(df))) throw new RangeError(`chi-square df must be a positive finite number, got ${df}`);
   if (p === 0) return 0;
   if (p === 1) return Infinity;
-  const a = df / 2;
   const useUpper = p > 0.5;
-  const logTarget = useUpper ? Math.log1p(-p) : Math.log(p);
+  return solveChiSquare(useUpper ? Math.log1p(-p) : Math.log(p), useUpper, df, normalQuantile(p));
+}
+
+/**
+ * Chi-square quantile from the log of an upper-tail probability: the x with
+ * ln P(χ²(df) ≥ x) = logUpper, accurate where the tail is far below the double range (the
+ * chi-square equivalent of a p-value given as its log). Same method as {@link chiSquareQuantile}.
+ * Cost: a few dozen incomplete-gamma evaluations.
+ * @throws {RangeError} when logUpper is positive or NaN, or df is not positive and finite
+ * @example chiSquareUpperQuantileLog(Math.log(0.05), 1) // ≈ 3.841458820694124
+ */
+export function chiSquareUpperQuantileLog(logUpper: number, df: number): number {
+  if (!(logUpper <= 0)) throw new RangeError(`log of a probability must be ≤ 0, got ${logUpper}`);
+  if (!(df > 0 && Number.isFinite(df))) throw new RangeError(`chi-square df must be a positive finite number, got ${df}`);
+  if (logUpper === 0) return 0;
+  if (logUpper === -Infinity) return Infinity;
+  if (logUpper > -Math.LN2) return chiSquareQuantile(-Math.expm1(logUpper), df);
+  // start: the upper tail is about exp(−x/2)·(x/2)^(df/2−1)/Γ(df/2), so x ≈ −2 ln p for small p
+  const start = logUpper > -700 ? normalQuantile(-Math.expm1(logUpper)) : Math.sqrt(-2 * logUpper);
+  return solveChiSquare(logUpper, true, df, start);
+}
+
+/** Safeguarded Newton for ln(tail(x)) = logTarget (upper or lower tail) from the Wilson–Hilferty start with normal deviate z. */
+function solveChiSquare(logTarget: number, useUpper: boolean, df: number, z: number): number {
+  const a = df / 2;
   // g(x) = ln(tail(x)) − ln(target); increasing in x for the lower tail, decreasing for the upper.
   const logTail = (x: number): number => (useUpper ? logRegularizedGammaQ(a, x / 2) : Math.log(regularizedGammaP(a, x / 2)));
   const logDensity = (x: number): number => (a - 1) * Math.log(x / 2) - x / 2 - logGamma(a) - Math.LN2;
   const g = (x: number): number => logTail(x) - logTarget;
   // Wilson–Hilferty start
-  const z = normalQuantile(p);
   const h = 2 / (9 * df);
   let x = df * Math.max(1 - h + z * Math.sqrt(h), 0.01) ** 3;
   if (!(x > 0) || !Number.isFinite(x)) x = df;

@@ -8,7 +8,7 @@ import { describe, expect, it } from "vitest";
 import { claimHelper } from "../../cli/claimHelper.js";
 import { helperContext, MomentsUnavailableError, runAudit, runAuditParallel, testClaimMethod, type ClaimHelper } from "../../src/audit/runAudit.js";
 import { chooseMethod } from "../../src/audit/methods/index.js";
-import type { Claim } from "../../src/audit/types.js";
+import type { AuditSettings, Claim } from "../../src/audit/types.js";
 import { deriveClaims } from "../../src/graph/deriveClaims.js";
 import { DEFAULT_SETTINGS } from "../../src/audit/runAudit.js";
 import { pearsonPartial } from "../../src/audit/methods/pearsonPartial.js";
@@ -49,19 +49,25 @@ const table = cohort(4000);
 const typesOf = (c: Claim) => ({ x: table.column(c.x)!.type, y: table.column(c.y)!.type, given: c.given.map((g) => table.column(g)!.type) });
 
 describe("runAuditParallel with the worker helper", () => {
-  it("the worker alone answers every claim of a job exactly as testClaimMethod on this thread (logistic, multinomial, table tests)", async () => {
-    const claims = deriveClaims(graph).claims.filter((c) => (chooseMethod("auto", typesOf(c)).rowWork?.(c, table) ?? 0) > 0);
-    const counter = new Int32Array(new SharedArrayBuffer(8));
-    let answered = 0;
-    const got = await claimHelper({ table, claims, counter, settings: DEFAULT_SETTINGS, decisionFloor: 0.05 }, () => answered++);
-    expect(got.size).toBe(claims.length);
-    expect(answered).toBe(claims.length);
-    expect(Atomics.load(counter, 1)).toBe(claims.length);
-    const ctx = { ...helperContext(table, DEFAULT_SETTINGS) };
-    const here = claims.map((c) => testClaimMethod(c, ctx, DEFAULT_SETTINGS));
-    expect(claims.map((_, k) => got.get(k))).toEqual(here);
-    const kinds = new Set(here.map((r) => (r.ok ? `${r.outcome.test}:${(r.outcome.details as { model?: string } | undefined)?.model ?? ""}` : "untestable")));
-    expect(kinds).toEqual(new Set(["regression-lr:logistic", "regression-lr:multinomial", "stratified-chisq:"]));
+  it("the worker alone answers every claim of a job exactly as testClaimMethod on this thread (default tests on the rows; logistic, multinomial, table tests)", async () => {
+    const cases: [AuditSettings, string[]][] = [
+      [DEFAULT_SETTINGS, ["gcm:rows", "stratified-chisq:"]],
+      [{ ...DEFAULT_SETTINGS, method: "regression" }, ["regression-lr:logistic", "regression-lr:multinomial"]],
+    ];
+    for (const [settings, expected] of cases) {
+      const claims = deriveClaims(graph).claims.filter((c) => (chooseMethod(settings.method, typesOf(c)).rowWork?.(c, table) ?? 0) > 0);
+      const counter = new Int32Array(new SharedArrayBuffer(8));
+      let answered = 0;
+      const got = await claimHelper({ table, claims, counter, settings, decisionFloor: 0.05 }, () => answered++);
+      expect(got.size).toBe(claims.length);
+      expect(answered).toBe(claims.length);
+      expect(Atomics.load(counter, 1)).toBe(claims.length);
+      const ctx = { ...helperContext(table, settings) };
+      const here = claims.map((c) => testClaimMethod(c, ctx, settings));
+      expect(claims.map((_, k) => got.get(k))).toEqual(here);
+      const kinds = new Set(here.map((r) => (r.ok ? `${r.outcome.test}:${(r.outcome.details as { model?: string; path?: string } | undefined)?.model ?? (r.outcome.details as { path?: string } | undefined)?.path ?? ""}` : "untestable")));
+      expect(kinds).toEqual(new Set(expected));
+    }
   });
 
   it("runAuditParallel gives the same result as runAudit (every field of every claim) with the worker helper", async () => {

@@ -217,13 +217,19 @@ describe("declared levels set the scores of numeric-coded columns", () => {
     expect(asRead.variables.find((v) => v.name === "x")!.levels).toEqual(["1", "2", "3", "4"]);
     expect(reversed.variables.find((v) => v.name === "x")!.levels).toEqual(["4", "3", "2", "1"]);
     expect(reversed.warnings.some((w) => w.startsWith('column "x": --levels lists its numeric codes out of increasing order'))).toBe(true);
-    const [a] = asRead.claims;
-    const [b] = reversed.claims;
-    expect(a!.test).toBe("pearson-partial");
-    expect(b!.test).toBe("pearson-partial");
-    expect(Math.abs(a!.effect - R_X_Y)).toBeLessThan(1e-9);
-    expect(Math.abs(b!.effect - R_REVERSED_Y)).toBeLessThan(1e-9);
-    expect(b!.p).toBeCloseTo(a!.p, 12); // the two-sided p-value does not depend on the sign
+    // the default test (empty set: the residual correlation is Pearson's r) and the forced linear one
+    const linear = { settings: { method: "linear" as const } };
+    const pairs = [
+      [asRead.claims[0]!, reversed.claims[0]!, "gcm"],
+      [runAudit(graph, createTable({ x: X, y: Y }), linear).claims[0]!, runAudit(graph, createTable({ x: X, y: Y }, { levels: { x: ["4", "3", "2", "1"] } }), linear).claims[0]!, "pearson-partial"],
+    ] as const;
+    for (const [a, b, test] of pairs) {
+      expect(a.test).toBe(test);
+      expect(b.test).toBe(test);
+      expect(Math.abs(a.effect - R_X_Y)).toBeLessThan(1e-9);
+      expect(Math.abs(b.effect - R_REVERSED_Y)).toBeLessThan(1e-9);
+      expect(b.p).toBeCloseTo(a.p, 12); // the two-sided p-value does not depend on the sign
+    }
   });
 
   it("readTable reports a value outside declared numeric levels with file, line, column, the value and the fixes", async () => {

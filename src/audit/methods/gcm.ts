@@ -28,7 +28,10 @@
  *   (`ctx.seed`, "gcm variance rows")).
  * - *Effect.* For one residual product, the residual correlation r (the partial correlation
  *   after flexible adjustment), with the interval of `gcmCorrelationInterval`; for several (a
- *   nominal side), √(1 − exp(−max(0, W − q)/n)) on the common scale (`lrEffect`).
+ *   nominal side), √(1 − exp(−max(0, W − q)/n)) on the common scale (`lrEffect`), with W the
+ *   chi-square value on q df whose upper tail is the test's p-value, and the interval of
+ *   `lrEffectCIAtAlpha` (lower end the one-sided inversion at 0.05). Either interval excludes 0
+ *   exactly when p < 0.05.
  * - *Linear check.* The details also carry the classic test with linear adjustment (continuous
  *   members of S as straight lines, equal variances assumed: the partial-correlation t test, or for
  *   a nominal side its chi-square analogue n·Σ canonical correlations² on q df), so that the audit
@@ -38,7 +41,8 @@ import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import type { IndexedDesignColumn } from "../../data/Moments.js";
 import { midRanks } from "../../data/rankColumns.js";
-import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
+import { lrEffect, lrEffectCIAtAlpha } from "../../stats/effectScale.js";
+import { chiSquareUpperQuantileLog } from "../../stats/quantiles.js";
 import { basisValue, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
 import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
 import { gramMatrix } from "../../stats/gramMatrix.js";
@@ -47,6 +51,7 @@ import { chiSquareUpper, logChiSquareUpper, logStudentTTwoSided, studentTTwoSide
 import { createRng } from "../../stats/rng.js";
 import { cholesky, choleskySolve } from "../../stats/linalg.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
+import type { AdjustmentEntry } from "./adjustmentDetails.js";
 import type { Claim, TestName, TestOutcome } from "../types.js";
 
 /** Tables with at most this many rows (after any row filter) are tested on the rows. */
@@ -55,14 +60,6 @@ export const ROW_PATH_MAX_ROWS = 20_000;
 export const VARIANCE_SAMPLE_ROWS = 50_000;
 /** At least this many complete rows per parameter of the adjustment on the row path. */
 export const ROWS_PER_PARAMETER = 20;
-
-/** How a member of S entered the regressions (for the claim's details). */
-export interface AdjustmentEntry {
-  variable: string;
-  entered: "indicators" | "spline" | "linear";
-  /** Columns it contributed at the chosen level (before aliased ones were dropped). */
-  columns: number;
-}
 
 /** One adjustment or side column of a claim: how to read its value in a row. */
 interface ClaimColumn {
@@ -159,7 +156,7 @@ interface Layout {
   adjustment: ClaimColumn[];
   /** x then y side columns (one, or one per level but the first of a nominal side). */
   sides: [ClaimColumn[], ClaimColumn[]];
-  entered: Array<{ variable: string; entered: AdjustmentEntry["entered"]; levelCounts: number[] }>;
+  entered: Array<{ variable: string; entered: "indicators" | "spline" | "linear"; levelCounts: number[] }>;
   cap: number;
 }
 
@@ -317,8 +314,11 @@ function outcomeOf(
     effect = r;
     ci = gcmCorrelationInterval(r, test.statistic, test.df, n, kept);
   } else {
-    effect = lrEffect(test.statistic, test.df, n);
-    ci = lrEffectCI(test.statistic, test.df, n, 0.95);
+    // on the chi-square scale of the test's own p-value (its F reference), so that the interval's
+    // lower end is above 0 exactly when p < 0.05
+    const w = chiSquareUpperQuantileLog(Math.min(0, test.log_p), test.df);
+    effect = lrEffect(w, test.df, n);
+    ci = lrEffectCIAtAlpha(w, test.df, n, 0.95);
   }
 
   // Linear check: the level-0 fit with equal variances assumed.
@@ -371,7 +371,16 @@ function sideModel(col: Column, name: TestName): string {
  * correlation t test on n − 2 − p df for one product; for several, n·Σ canonical correlations²
  * (the score statistic of multivariate normal regression) on qx·qy df. Cost: O(q³).
  */
-function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, p: number): { statistic: number; df: number; p: number; log_p: number } | undefined {
+export interface LinearCheck {
+  statistic: number;
+  df: number;
+  p: number;
+  log_p: number;
+  /** On the common effect scale: the partial correlation (one product) or √(1 − exp(−max(0, W − df)/n)). */
+  effect: number;
+}
+
+function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, p: number): LinearCheck | undefined {
   const q = qx + qy;
   const nu = n - 2 - p;
   if (!(nu >= 1)) return undefined;
@@ -381,7 +390,7 @@ function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, 
     if (!(vx > 0 && vy > 0)) return undefined;
     const r = Math.max(-1 + 1e-16, Math.min(1 - 1e-16, residual[1]! / Math.sqrt(vx * vy)));
     const t = r * Math.sqrt(nu / (1 - r * r));
-    return { statistic: t, df: nu, p: studentTTwoSided(t, nu), log_p: logStudentTTwoSided(t, nu) };
+    return { statistic: t, df: nu, p: studentTTwoSided(t, nu), log_p: logStudentTTwoSided(t, nu), effect: r };
   }
   const Sx = new Float64Array(qx * qx);
   const Sy = new Float64Array(qy * qy);
@@ -406,7 +415,7 @@ function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, 
   }
   const w = (n - 1) * tr;
   const df = qx * qy;
-  return { statistic: w, df, p: chiSquareUpper(w, df), log_p: logChiSquareUpper(w, df) };
+  return { statistic: w, df, p: chiSquareUpper(w, df), log_p: logChiSquareUpper(w, df), effect: lrEffect(w, df, n) };
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -2,8 +2,11 @@
  * The registry of test methods and the rule that picks one per claim.
  *
  * `auto` (default):
- * - x, y and every member of the conditioning set categorical (binary, ordinal, nominal) →
- *   stratified chi-square (the exact stratification needs no model of S; ordinal levels are
+ * - x and y ordinal and every member of the conditioning set categorical → the stratified
+ *   linear-by-linear test (generalised Cochran–Mantel–Haenszel correlation statistic: one df for
+ *   a trend in the scores, valid in sparse strata);
+ * - otherwise x, y and every member of the conditioning set categorical (binary, ordinal,
+ *   nominal) → stratified chi-square (the exact stratification needs no model of S; levels are
  *   treated as categories);
  * - otherwise (a continuous variable anywhere in the claim) → the generalised covariance measure
  *   with flexible adjustment (`gcm`): categorical members of S as indicators of their levels,
@@ -19,8 +22,9 @@ import { pearsonPartial } from "./pearsonPartial.js";
 import { stratifiedChisq } from "./stratifiedChisq.js";
 import { regressionLr } from "./regressionLr.js";
 import { gcm, gcmRank } from "./gcm.js";
+import { linearByLinear } from "./linearByLinear.js";
 
-export const METHODS: readonly TestMethod[] = [gcm, gcmRank, pearsonPartial, stratifiedChisq, regressionLr];
+export const METHODS: readonly TestMethod[] = [gcm, gcmRank, pearsonPartial, linearByLinear, stratifiedChisq, regressionLr];
 
 const FORCED: Record<Exclude<AuditSettings["method"], "auto">, TestMethod> = {
   linear: pearsonPartial,
@@ -35,6 +39,7 @@ export function chooseMethod(setting: AuditSettings["method"], types: ClaimTypes
     const forced = FORCED[setting];
     if (forced.accepts(types)) return forced;
   }
+  if (linearByLinear.accepts(types)) return linearByLinear;
   if (stratifiedChisq.accepts(types)) return stratifiedChisq;
   return gcm;
 }

@@ -40,6 +40,7 @@ import { centredScores, linearByLinear as linearByLinearStatistic, type ScoredSt
 import { createScoredTableSampler, permutationFloorWarning, scoredTableSum, sequentialMonteCarloPValue, type ScoredMargins } from "../../stats/permutation.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
+import { strataAdjustment } from "./adjustmentDetails.js";
 import type { Claim, TestOutcome } from "../types.js";
 import { groupStrata, type CompactStratum } from "./groupRows.js";
 
@@ -204,6 +205,8 @@ export function runLinearByLinear(claim: Claim, ctx: TestContext): MethodResult 
     strata_total: res.strataTotal,
     x_scores: seen(tables, (s) => s.xCodes, x, xs.scores),
     y_scores: seen(tables, (s) => s.yCodes, y, ys.scores),
+    adjustment: strataAdjustment(claim.given),
+    sides: [claim.x, claim.y].map((variable) => ({ variable, model: "scores of its levels within each stratum" })),
   };
   const outcome: TestOutcome = {
     test: "linear-by-linear",

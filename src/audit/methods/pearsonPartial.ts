@@ -3,7 +3,8 @@
  *
  * Terms. For a claim x ⫫ y | given, the design columns of x and y (their scores) are
  * correlated after removing their linear dependence on the design columns of the given set
- * (nominal members enter as one 0/1 dummy per non-reference level). The partial correlation r
+ * (continuous and binary members as they are; ordinal and nominal members as one 0/1 indicator
+ * per level but the first, never as a score). The partial correlation r
  * comes from the covariance over the complete cases (`PatternMoments.momentsFor`), by Cholesky;
  * t = r·√((n − 2 − c)/(1 − r²)) on n − 2 − c df with c the number of given design columns
  * (Fisher 1924, Metron 3:329–332); the 95% interval is Fisher's z interval.
@@ -11,6 +12,9 @@
 import type { Claim, TestName } from "../types.js";
 import type { ClaimTypes, MethodResult, TestMethod, TestContext } from "../TestMethod.js";
 import type { PatternMoments } from "../../data/Moments.js";
+import { claimMoments, missingIndicatorsReason } from "./claimMoments.js";
+import { linearAdjustment } from "./adjustmentDetails.js";
+import type { Table } from "../../data/Table.js";
 import { partialCorrelationWithReason } from "../../stats/partialCorrelation.js";
 import { partialCorrelationTest } from "../../stats/partialCorrelationTest.js";
 
@@ -20,15 +24,16 @@ export function acceptsScoredPair(types: ClaimTypes): boolean {
 }
 
 /**
- * Partial-correlation test of one claim on the moments `pm` (scores or mid-ranks): the shared
- * body of "pearson-partial" and "spearman-partial". Returns an untestable reason in plain words
- * when there are too few complete cases, a column is constant, or a set is collinear.
+ * Partial-correlation test of one claim on the pattern moments `pm`. Returns an untestable
+ * reason in plain words when there are too few complete cases, a column is constant, or a set
+ * is collinear.
  * Cost: O(P·d² + g³) for P missing-data patterns, d design columns and g given design columns.
  * Source: Fisher (1924), Metron 3:329–332.
- * @example runPartialCorrelation("pearson-partial", moments, { x: "a", y: "b", given: ["c"] })
+ * @example runPartialCorrelation("pearson-partial", moments, { x: "a", y: "b", given: ["c"] }, table)
  */
-export function runPartialCorrelation(name: TestName, pm: PatternMoments, claim: Claim): MethodResult {
-  const m = pm.momentsFor([claim.x, claim.y, ...claim.given]);
+export function runPartialCorrelation(name: TestName, pm: PatternMoments, claim: Claim, table: Table): MethodResult {
+  const m = claimMoments(pm, table, [claim.x, claim.y], claim.given);
+  if (!m) return { ok: false, reason: missingIndicatorsReason(claim.given) };
   const n = m.n;
   const k = m.design.length;
   const xi = m.design.findIndex((d) => d.source === claim.x);
@@ -74,7 +79,7 @@ export function runPartialCorrelation(name: TestName, pm: PatternMoments, claim:
       effect: r,
       ci: test.ci,
       p_method: "asymptotic",
-      details: { r, c },
+      details: { r, c, adjustment: linearAdjustment(table, claim.given), sides: [claim.x, claim.y].map((variable) => ({ variable, model: "least squares of the scores on the adjustment" })) },
     },
   };
 }
@@ -90,6 +95,6 @@ export const pearsonPartial: TestMethod = {
   name: "pearson-partial",
   accepts: acceptsScoredPair,
   run(claim: Claim, ctx: TestContext): MethodResult {
-    return runPartialCorrelation("pearson-partial", ctx.moments, claim);
+    return runPartialCorrelation("pearson-partial", ctx.moments, claim, ctx.table);
   },
 };

@@ -9,8 +9,10 @@
  * - Response choice: the continuous side when there is one (y first); else an ordinal side (y
  *   first), modelled through its scores; both give a Gaussian linear model, LR = n·ln(RSS0/RSS1),
  *   computed from the pattern-grouped moments (`ctx.moments`) at a cost independent of the number
- *   of rows. In these linear models binary and ordinal predictors enter as scores and nominal ones
- *   as dummies, as in the partial correlations. Otherwise a side with exactly two observed levels
+ *   of rows. In these linear models the added side enters as its score (binary, ordinal) or
+ *   dummies (nominal); members of the given set that are binary enter as their score (its
+ *   indicator), ordinal and nominal ones as indicators of their levels, as in the partial
+ *   correlations (`claimMoments`). Otherwise a side with exactly two observed levels
  *   (y first) → logistic regression; else the side with fewer observed levels (y on ties) →
  *   multinomial (baseline-category) logit. *An ordinal response is treated as scores (no
  *   proportional-odds model)*: the test then asks whether the added side shifts its mean.
@@ -76,6 +78,8 @@ import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import type { MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { Claim, TestOutcome } from "../types.js";
+import { claimMoments, missingIndicatorsReason } from "./claimMoments.js";
+import { linearAdjustment } from "./adjustmentDetails.js";
 import { groupRows } from "./groupRows.js";
 
 type ModelKind = "logistic" | "multinomial";
@@ -682,6 +686,11 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
     columns: kept.map((j) => columns[j]!.label),
     grouped: allCategorical,
     fitted_rows: m,
+    adjustment: claim.given.map((g, k) => (isCat[k + 2] ? { variable: g, entered: "indicators" } : { variable: g, entered: "linear" })),
+    sides: [
+      { variable: resp.name, model: `${kind === "logistic" ? "logistic" : "multinomial logistic"} regression on the other side and the adjustment` },
+      { variable: added.name, model: isCat[addedK] ? "indicators of its levels, added to the model" : "its values, added to the model" },
+    ],
   };
   {
     const rc = codes[respK]!;
@@ -786,7 +795,8 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
 
 /** Gaussian LR of the linear models of a continuous or ordinal (scored) response, from `ctx.moments`. */
 function linearFromMoments(claim: Claim, resp: Column, added: Column, ctx: TestContext): MethodResult {
-  const m = ctx.moments.momentsFor([resp.name, added.name, ...claim.given]);
+  const m = claimMoments(ctx.moments, ctx.table, [resp.name, added.name], claim.given);
+  if (!m) return { ok: false, reason: missingIndicatorsReason(claim.given) };
   const k = m.design.length;
   const n = m.n;
   const names = [claim.x, claim.y, ...claim.given];
@@ -823,6 +833,11 @@ function linearFromMoments(claim: Claim, resp: Column, added: Column, ctx: TestC
     fitted_from: "moments",
     residual_variance_null: fit.residualVarianceNull,
     residual_variance_full: fit.residualVarianceFull,
+    adjustment: linearAdjustment(ctx.table, claim.given),
+    sides: [
+      { variable: resp.name, model: `linear regression of the ${resp.type === "ordinal" ? "scores" : "values"} on the other side and the adjustment (least squares from the pattern moments)` },
+      { variable: added.name, model: added.type === "nominal" ? "indicators of its levels, added to the model" : "its scores, added to the model" },
+    ],
   };
   return { ok: true, outcome: lrOutcome(fit.lr, fit.df, n, fit.sign, details, warnings) };
 }

@@ -53,6 +53,7 @@ import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import { stratifiedChiSquare } from "../../stats/stratifiedChiSquare.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { Claim, TestOutcome } from "../types.js";
+import { strataAdjustment } from "./adjustmentDetails.js";
 import { groupStrata, type CompactStratum } from "./groupRows.js";
 
 /** Fewest Monte-Carlo permutations when the sparse rule applies and the user gave none (more when the decision floor asks; see `permutationsForFloor`). */
@@ -180,6 +181,8 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     cells: res.cells,
     sparse_cells: res.sparseCells,
     sparse_share: sparseShare,
+    adjustment: strataAdjustment(claim.given),
+    sides: [claim.x, claim.y].map((variable) => ({ variable, model: "categories within each stratum" })),
   };
   let sign: -1 | 0 | 1 = 1;
   if (mh) {

@@ -49,7 +49,7 @@ function lazyMoments(t: Table): PatternMoments {
 }
 function ctx(t: Table, seed: number): TestContext {
   const unused = () => { throw new Error("not used"); };
-  return { table: t, moments: lazyMoments(t), rankMoments: unused, seed };
+  return { table: t, moments: lazyMoments(t), seed };
 }
 /** Draw a category from weights. */
 function draw(rng: Rng, w: readonly number[]): number {

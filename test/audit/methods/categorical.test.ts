@@ -44,7 +44,7 @@ function lazyMoments(t: Table): PatternMoments {
 }
 function ctx(t: Table, extra: Partial<TestContext> = {}): TestContext {
   const unused = () => { throw new Error("ranks are not used by these methods"); };
-  return { table: t, moments: lazyMoments(t), rankMoments: unused, seed: 1, ...extra };
+  return { table: t, moments: lazyMoments(t), seed: 1, ...extra };
 }
 function ok(r: ReturnType<typeof stratifiedChisq.run>): TestOutcome {
   if (!r.ok) throw new Error(`expected a test outcome, got untestable: ${r.reason}`);

@@ -25,7 +25,7 @@ function table(cols: Column[]): Table {
 function ctx(t: Table, extra: Partial<TestContext> = {}): TestContext {
   // the linear-by-linear test reads the rows, never the moments (it may run on the helper thread)
   const moments = new Proxy({}, { get() { throw new Error("moments are not used by linear-by-linear"); } }) as TestContext["moments"];
-  return { table: t, moments, rankMoments: () => moments, seed: 1, ...extra };
+  return { table: t, moments, seed: 1, ...extra };
 }
 function ok(r: ReturnType<typeof linearByLinear.run>): TestOutcome {
   if (!r.ok) throw new Error(`expected a test outcome, got untestable: ${r.reason}`);

@@ -51,9 +51,6 @@ function ctx(table: Table): TestContext {
     get moments(): TestContext["moments"] {
       throw new Error("logistic and multinomial fits do not read the pattern moments");
     },
-    rankMoments: () => {
-      throw new Error("not used");
-    },
     seed: 1,
   };
 }
