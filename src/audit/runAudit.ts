@@ -16,7 +16,7 @@ import { graphSummary } from "../graph/graphSummary.js";
 import type { Table, VariableType } from "../data/Table.js";
 import { buildPatternMoments, type MomentExpansions } from "../data/buildPatternMoments.js";
 import type { VariableBasis } from "../stats/flexibleBasis.js";
-import { columnBasis, usesRowPath } from "./methods/gcm.js";
+import { columnBasis, usesRowPath, varianceSample } from "./methods/gcm.js";
 import type { PatternMoments } from "../data/Moments.js";
 import { adjustPValues } from "../stats/adjustPValues.js";
 import { fisherC } from "../stats/fisherC.js";
@@ -327,7 +327,8 @@ export function momentExpansions(claims: readonly Claim[], table: Table, setting
   }
   const basis = new Map<string, VariableBasis>();
   if (flexible.size > 0 && !usesRowPath(table, rowFilter)) {
-    const bases = [...flexible].map((v) => [v, columnBasis(table.column(v)!, rowFilter)] as const);
+    const sample = varianceSample(table, settings.seed, rowFilter);
+    const bases = [...flexible].map((v) => [v, columnBasis(table.column(v)!, sample)] as const);
     let base = 0;
     for (const name of variables) {
       const c = table.column(name)!;

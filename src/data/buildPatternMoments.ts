@@ -2,7 +2,8 @@
  * Pattern-grouped sufficient statistics for linear methods (see `Moments.ts` for the terms
  * *design column* and *pattern*).
  *
- * Each design column j gets a shift c_j, the mean of its observed values. For every pattern p
+ * Each design column j gets a shift c_j, the mean of its observed values (of a sample of them
+ * for rank and basis columns: any value near the mean serves). For every pattern p
  * we keep the row count n_p, the shifted sums S_p[j] = Σ (x_j − c_j) and the shifted
  * cross-products C_p[j,k] = Σ (x_j − c_j)(x_k − c_k) over the design columns observed in p.
  * For variables V, the rows complete on V are exactly the rows of the patterns that contain V,
@@ -27,7 +28,7 @@
 import { UnknownNodeError } from "../errors.js";
 import { rankColumns } from "./rankColumns.js";
 import { createSimdCrossProduct } from "./simdCrossProduct.js";
-import { basisTermLabel, basisValue, fillBasisValues, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
+import { basisTermLabel, fillBasisValues, splineConstants, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
 import type { DesignColumn, IndexedDesignColumn, Moments, PatternMoments } from "./Moments.js";
 import type { Table } from "./Table.js";
 
@@ -44,6 +45,8 @@ const CACHED_STAGING_BYTES = 4 * 1024 * 1024;
 const STAGING_BYTES = 48 * 1024 * 1024;
 const WORD_BITS = 26;
 const DEFAULT_MAX_PATTERN_BYTES = 512 * 1024 * 1024;
+/** Rows (evenly spaced) behind the shift of a rank or basis column. */
+const SHIFT_ROWS = 65536;
 
 export interface PatternMomentsOptions {
   /** Variables (column names) the statistics cover; later requests may use any subset. */
@@ -55,7 +58,8 @@ export interface PatternMomentsOptions {
   /** Memory budget for the per-pattern statistics, in bytes (default 512 MiB). */
   maxPatternBytes?: number;
   /**
-   * Memory budget for the one-pass staging tiles, in bytes (default 48 MiB); above it the rows
+   * Memory budget for the one-pass staging tiles and the per-pattern cross-products they are
+   * multiplied into, in bytes (default 48 MiB more than those cross-products); above it the rows
    * are first sorted by pattern and read in that order (same moments, slower reads).
    */
   maxStagingBytes?: number;
@@ -262,16 +266,20 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   for (let j = 0; j < D; j++) {
     const src = design[j]!;
     if (src.scores && firstOfVariable[j] === 0) {
-      // a further column of a scored variable (rank or basis term): its mean only
-      let vals: ArrayLike<number> = src.scores;
-      if (src.term) {
-        if (basisScratch.length < n) basisScratch = new Float64Array(n);
-        vals = fillBasisValues(src.term, src.scores, basisScratch);
-      }
+      // A further column of a scored variable (rank or basis term): its shift is its mean over
+      // evenly spaced rows (at most SHIFT_ROWS of them). The shift only keeps the sums well
+      // conditioned, so a value near the mean serves as well as the mean itself.
+      const step = Math.max(1, Math.floor(n / SHIFT_ROWS));
+      const picked = Math.ceil(n / step);
+      if (basisScratch.length < picked) basisScratch = new Float64Array(picked);
+      let m = 0;
+      for (let i = 0; i < n; i += step) basisScratch[m++] = src.scores[i]!;
+      const vals = basisScratch.subarray(0, m);
+      if (src.term) fillBasisValues(src.term, vals, vals);
       let sum = 0;
       let cnt = 0;
-      for (let i = 0; i < n; i++) {
-        const v = vals[i]!;
+      for (let t = 0, i = 0; t < m; t++, i += step) {
+        const v = vals[t]!;
         if (v === v && (!filter || filter[i] !== 0)) {
           sum += v;
           cnt++;
@@ -509,7 +517,9 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
     shift,
     patternOfRow,
     observed,
-    maxStagingBytes: options.maxStagingBytes ?? STAGING_BYTES,
+    // the default budget is STAGING_BYTES of tiles on top of the per-pattern cross-products
+    // (which every path stores), so wide designs keep the one-pass staged path
+    maxStagingBytes: options.maxStagingBytes ?? STAGING_BYTES + 8 * P * (Math.ceil(Math.max(1, D) / 4) * 4) ** 2,
     simd: options.simd ?? true,
   };
   const finishWith = (parts: readonly PatternPart[]): PatternMoments => {
@@ -810,11 +820,22 @@ function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, i
       stage[o + k] = v === v ? v - c : 0;
     }
   } else {
+    const { tj, tk1, tk, a, b, scale } = splineConstants(term);
     for (let r = 0; r < len; r++) {
       const o = rowBase[r]!;
       if (o < 0) continue;
       const v = s[i0 + r]!;
-      stage[o + k] = v === v ? basisValue(term, v) - c : 0;
+      if (v !== v) {
+        stage[o + k] = 0;
+        continue;
+      }
+      const u = v - tj;
+      const w1 = v - tk1;
+      const w2 = v - tk;
+      let f = u > 0 ? u * u * u : 0;
+      if (w1 > 0) f -= w1 * w1 * w1 * a;
+      if (w2 > 0) f += w2 * w2 * w2 * b;
+      stage[o + k] = f * scale - c;
     }
   }
 }
@@ -892,7 +913,10 @@ class CrossProductKernel {
         const off = k * TILE;
         if (src.term) {
           const s = src.scores!;
-          for (let t = 0; t < m; t++) X[off + t] = basisValue(src.term, s[rows[t0 + t]!]!) - c;
+          for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]!;
+          const view = X.subarray(off, off + m);
+          fillBasisValues(src.term, view, view);
+          for (let t = 0; t < m; t++) X[off + t] = X[off + t]! - c;
         } else if (src.scores) {
           const s = src.scores;
           for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]! - c;

@@ -60,17 +60,21 @@ export function quantileSortedType7(sorted: ArrayLike<number>, p: number): numbe
  * @example flexibleBasis(Float64Array.from([1, 2, 3, 4, 5, 6, 7, 8, 9]), 2).levels.map((l) => l.length) // [1, 3, 4]
  */
 export function flexibleBasis(sorted: ArrayLike<number>, maxLevel: number): VariableBasis {
+  return basisFromQuantiles(sorted.length, (p) => quantileSortedType7(sorted, p), maxLevel);
+}
+
+/** The nested basis from a quantile function of m observed values (see the module comment). */
+function basisFromQuantiles(m: number, quantile: (p: number) => number, maxLevel: number): VariableBasis {
   if (!(Number.isInteger(maxLevel) && maxLevel >= 0 && maxLevel <= MAX_BASIS_LEVEL)) {
     throw new RangeError(`basis level must be an integer in 0..${MAX_BASIS_LEVEL}, got ${maxLevel}`);
   }
   const levels: BasisTerm[][] = [[{ kind: "linear" }]];
-  const m = sorted.length;
   if (maxLevel === 0 || m === 0) return { levels };
-  const min = sorted[0]!;
-  const max = sorted[m - 1]!;
+  const min = quantile(0);
+  const max = quantile(1);
   const knots: number[] = [];
   for (const p of [0, 0.25, 0.5, 0.75, 1]) {
-    const t = quantileSortedType7(sorted, p);
+    const t = quantile(p);
     if (knots.length === 0 || t > knots[knots.length - 1]!) knots.push(t);
   }
   const spline: BasisTerm[] = [];
@@ -81,7 +85,7 @@ export function flexibleBasis(sorted: ArrayLike<number>, maxLevel: number): Vari
     const parts = 2 ** (level + 1);
     const hinges: BasisTerm[] = [];
     for (let j = 1; j < parts; j += 2) {
-      const t = quantileSortedType7(sorted, j / parts);
+      const t = quantile(j / parts);
       if (!(t > min && t < max) || used.has(t)) continue;
       used.add(t);
       hinges.push({ kind: "hinge", knot: t });
@@ -127,6 +131,20 @@ function splineTerm(s: number, t: readonly number[], j: number): number {
 }
 
 /**
+ * The constants of a spline term: f(s) = [(s − tj)³₊ − a (s − tk1)³₊ + b (s − tk)³₊] · scale
+ * (Harrell 2015, eq. 2.25), for loops that evaluate it without a call per value. Cost: O(1).
+ */
+export function splineConstants(term: Extract<BasisTerm, { kind: "spline" }>): { tj: number; tk1: number; tk: number; a: number; b: number; scale: number } {
+  const t = term.knots;
+  const K = t.length;
+  const tj = t[term.j]!;
+  const tk1 = t[K - 2]!;
+  const tk = t[K - 1]!;
+  const range = tk - t[0]!;
+  return { tj, tk1, tk, a: (tk - tj) / (tk - tk1), b: (tk1 - tj) / (tk - tk1), scale: 1 / (range * range) };
+}
+
+/**
  * Write basis-term values for every entry of `values` into `out` (NaN where missing).
  * Cost: O(n).
  * @example fillBasisValues({ kind: "hinge", knot: 0 }, Float64Array.from([-1, 2]), new Float64Array(2)) // [0, 2]
@@ -142,15 +160,7 @@ export function fillBasisValues(term: BasisTerm, values: Float64Array, out: Floa
       out[i] = d > 0 ? d : d === d ? 0 : NaN;
     }
   } else {
-    const t = term.knots;
-    const K = t.length;
-    const tj = t[term.j]!;
-    const tk1 = t[K - 2]!;
-    const tk = t[K - 1]!;
-    const range = tk - t[0]!;
-    const a = (tk - tj) / (tk - tk1);
-    const b = (tk1 - tj) / (tk - tk1);
-    const scale = 1 / (range * range);
+    const { tj, tk1, tk, a, b, scale } = splineConstants(term);
     for (let i = 0; i < n; i++) {
       const s = values[i]!;
       if (s !== s) {

@@ -26,14 +26,16 @@ function kernelFor(doubles: number): SimdCrossProduct | null {
 }
 
 /**
- * Gram matrix of the columns (p × p, row-major, symmetric). Cost: O(n · p²).
+ * Gram matrix of the columns (p × p, row-major, symmetric), over all their rows or, with
+ * `index`, over the rows index[0..m) (read in place: no gathered copy). Cost: O(m · p²).
  * @throws RangeError when the columns differ in length
  * @example gramMatrix([Float64Array.from([1, 2]), Float64Array.from([3, 4])]) // [5, 11, 11, 25]
  */
-export function gramMatrix(columns: readonly Float64Array[]): Float64Array {
+export function gramMatrix(columns: readonly Float64Array[], index?: Int32Array): Float64Array {
   const p = columns.length;
-  const n = p > 0 ? columns[0]!.length : 0;
-  for (const c of columns) if (c.length !== n) throw new RangeError(`columns of lengths ${n} and ${c.length}; pass columns of one length`);
+  const len = p > 0 ? columns[0]!.length : 0;
+  for (const c of columns) if (c.length !== len) throw new RangeError(`columns of lengths ${len} and ${c.length}; pass columns of one length`);
+  const n = index ? index.length : len;
   const dpad = Math.ceil(Math.max(1, p) / 4) * 4;
   const zSize = dpad * dpad;
   const tileSize = TILE_ROWS * dpad;
@@ -44,7 +46,8 @@ export function gramMatrix(columns: readonly Float64Array[]): Float64Array {
     const m = Math.min(TILE_ROWS, n - t0);
     for (let j = 0; j < p; j++) {
       const c = columns[j]!;
-      for (let t = 0, o = j; t < m; t++, o += dpad) mem[o] = c[t0 + t]!;
+      if (index) for (let t = 0, o = j; t < m; t++, o += dpad) mem[o] = c[index[t0 + t]!]!;
+      else for (let t = 0, o = j; t < m; t++, o += dpad) mem[o] = c[t0 + t]!;
     }
     if (k) k.cross(0, m, dpad, tileSize);
     else crossScalar(mem, m, dpad, tileSize);

@@ -43,7 +43,7 @@ import type { IndexedDesignColumn } from "../../data/Moments.js";
 import { midRanks } from "../../data/rankColumns.js";
 import { lrEffect, lrEffectCIAtAlpha } from "../../stats/effectScale.js";
 import { chiSquareUpperQuantileLog } from "../../stats/quantiles.js";
-import { basisValue, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
+import { basisTermLabel, basisValue, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
 import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
 import { gramMatrix } from "../../stats/gramMatrix.js";
 import { bestLevel, NestedAdjustment } from "../../stats/nestedAdjustment.js";
@@ -57,7 +57,13 @@ import type { Claim, TestName, TestOutcome } from "../types.js";
 /** Tables with at most this many rows (after any row filter) are tested on the rows. */
 export const ROW_PATH_MAX_ROWS = 20_000;
 /** Rows behind the variance of the residual products on the moment path (all when fewer). */
-export const VARIANCE_SAMPLE_ROWS = 50_000;
+export const VARIANCE_SAMPLE_ROWS = 20_000;
+/**
+ * Levels added to the cross-validated choice (undersmoothing): the test needs the product of the
+ * two regressions' errors to vanish faster than 1/√n (Shah & Peters 2020, Theorem 6), a stricter
+ * demand than the prediction error that cross-validation balances against variance.
+ */
+export const UNDERSMOOTH_LEVELS = 1;
 /** At least this many complete rows per parameter of the adjustment on the row path. */
 export const ROWS_PER_PARAMETER = 20;
 
@@ -99,22 +105,27 @@ function isMissing(c: Column, i: number): boolean {
 // Per-column caches: the nested basis (knots from all observed values within the row filter) and
 // whole-column mid-ranks. Keyed by the column object and the row filter.
 
-const basisMemo = new WeakMap<Column, { filter: Uint8Array | undefined; basis: VariableBasis }>();
+const basisMemo = new WeakMap<Column, { rows: Int32Array; basis: VariableBasis }>();
 const rankMemo = new WeakMap<Column, { filter: Uint8Array | undefined; ranks: Float64Array }>();
 
 /**
- * The nested basis of a continuous column up to level 5, knots from its observed values (within
- * the row filter). Cached per column and filter. Cost: O(n log n) the first time.
+ * The nested basis of a continuous column up to level 5, its knots the quantiles of the column's
+ * observed values among `rows` (the variance sample of {@link varianceSample}: every row within
+ * the row filter up to VARIANCE_SAMPLE_ROWS rows, else a seeded random sample of that many).
+ * Cached per column and rows. Cost: O(m log m) for m sampled values, the first time.
  */
-export function columnBasis(col: Column, rowFilter?: Uint8Array): VariableBasis {
+export function columnBasis(col: Column, rows: Int32Array): VariableBasis {
   const memo = basisMemo.get(col);
-  if (memo && memo.filter === rowFilter) return memo.basis;
-  const vals: number[] = [];
+  if (memo && memo.rows === rows) return memo.basis;
   const v = col.values;
-  for (let i = 0; i < v.length; i++) if (v[i] === v[i] && (!rowFilter || rowFilter[i] !== 0)) vals.push(v[i]!);
-  const sorted = Float64Array.from(vals).sort();
-  const basis = flexibleBasis(sorted, MAX_BASIS_LEVEL);
-  basisMemo.set(col, { filter: rowFilter, basis });
+  const vals = new Float64Array(rows.length);
+  let m = 0;
+  for (let t = 0; t < rows.length; t++) {
+    const x = v[rows[t]!]!;
+    if (x === x) vals[m++] = x;
+  }
+  const basis = flexibleBasis(vals.subarray(0, m).sort(), MAX_BASIS_LEVEL);
+  basisMemo.set(col, { rows, basis });
   return basis;
 }
 
@@ -169,7 +180,7 @@ function sideColumns(col: Column, present: readonly number[] | undefined, rank: 
 }
 
 /** The adjustment columns of the given members up to `cap` (categorical: indicators of the present levels but the first). */
-function adjustmentColumns(given: readonly Column[], present: ReadonlyMap<Column, readonly number[]>, cap: number, rowFilter?: Uint8Array): Pick<Layout, "adjustment" | "entered"> {
+function adjustmentColumns(given: readonly Column[], present: ReadonlyMap<Column, readonly number[]>, cap: number, sample: Int32Array): Pick<Layout, "adjustment" | "entered"> {
   const adjustment: ClaimColumn[] = [];
   const entered: Layout["entered"] = [];
   const byLevel: ClaimColumn[][] = Array.from({ length: cap + 1 }, () => []);
@@ -180,7 +191,7 @@ function adjustmentColumns(given: readonly Column[], present: ReadonlyMap<Column
       entered.push({ variable: col.name, entered: "indicators", levelCounts: [codes.length] });
       continue;
     }
-    const basis = columnBasis(col, rowFilter);
+    const basis = columnBasis(col, sample);
     const counts: number[] = [];
     for (let l = 0; l <= cap; l++) {
       const terms = basis.levels[l] ?? [];
@@ -241,58 +252,119 @@ interface Fitted {
 function chooseLevel(fit: NestedAdjustment, qx: number, q: number): { level: number; bestX: number; bestY: number } {
   const bestX = bestLevel(fit, 0, qx);
   const bestY = bestLevel(fit, qx, q);
-  return { level: Math.max(bestX, bestY), bestX, bestY };
+  return { level: Math.min(fit.snapshots.length - 1, Math.max(bestX, bestY) + UNDERSMOOTH_LEVELS), bestX, bestY };
 }
 
 /**
- * The residual-product statistic from a fitted nested adjustment and the rows that give the
- * variance: `rowsForVariance` yields row indices (complete on the claim), `centre` the means
- * (per adjustment column and per side column) used to centre the columns.
+ * The columns' values on the rows behind the variance of the residual products, in one buffer:
+ * column c's value at row position i is `data[c.offset + i]`, read at positions `index[t]` (or t
+ * when there is no index) for t < rows; `mean` is the mean of the n complete rows that centres
+ * it. `adjustment(j)` for adjustment column j of the layout, `side(r)` for the r-th side column
+ * kept (x's first).
+ */
+interface VarianceRows {
+  rows: number;
+  index?: Int32Array;
+  data(): Float64Array;
+  adjustment(j: number): { offset: number; mean: number };
+  side(r: number): { offset: number; mean: number };
+}
+
+/**
+ * Σ_t (R_t − R̄)(R_t − R̄)ᵀ over the variance rows, R_t the products of the side residuals
+ * e_r = (side_r − μ_r) − Σ_k β_rk (col_k − μ_k) and R̄ = sumR/n, in one pass over the rows (all
+ * columns in one buffer, so every read is of one typed array). Cost: O(m · (p·q + qq²)).
+ */
+function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array): Float64Array {
+  const q = qx + qy;
+  const qq = qx * qy;
+  const p = columns.length;
+  const m = values.rows;
+  const sides = Array.from({ length: q }, (_, r) => values.side(r));
+  const cols = columns.map((j) => values.adjustment(j));
+  const data = values.data();
+  const index = values.index;
+  const offs = Int32Array.from(cols, (c) => c.offset);
+  const sideOffs = Int32Array.from(sides, (c) => c.offset);
+  // residual r = side_r − c_r − Σ_k B[r·p + k]·col_k, c_r = μ_r − Σ_k β_rk μ_k
+  const B = new Float64Array(q * p);
+  const c = new Float64Array(q);
+  for (let r = 0; r < q; r++) {
+    let cr = sides[r]!.mean;
+    for (let k = 0; k < p; k++) {
+      B[r * p + k] = beta[r]![k]!;
+      cr -= beta[r]![k]! * cols[k]!.mean;
+    }
+    c[r] = cr;
+  }
+  const scatter = new Float64Array(qq * qq);
+  if (q === 2) {
+    // one product: the common case, with the residuals in locals
+    const o0 = sideOffs[0]!;
+    const o1 = sideOffs[1]!;
+    const c0 = c[0]!;
+    const c1 = c[1]!;
+    const mu = meanR[0]!;
+    let acc = 0;
+    for (let t = 0; t < m; t++) {
+      const i = index ? index[t]! : t;
+      let e0 = data[o0 + i]! - c0;
+      let e1 = data[o1 + i]! - c1;
+      for (let k = 0; k < p; k++) {
+        const v = data[offs[k]! + i]!;
+        e0 -= B[k]! * v;
+        e1 -= B[p + k]! * v;
+      }
+      const R = e0 * e1 - mu;
+      acc += R * R;
+    }
+    scatter[0] = acc;
+    return scatter;
+  }
+  const e = new Float64Array(q);
+  const R = new Float64Array(qq);
+  for (let t = 0; t < m; t++) {
+    const i = index ? index[t]! : t;
+    for (let r = 0; r < q; r++) e[r] = data[sideOffs[r]! + i]! - c[r]!;
+    for (let k = 0; k < p; k++) {
+      const v = data[offs[k]! + i]!;
+      for (let r = 0; r < q; r++) e[r] = e[r]! - B[r * p + k]! * v;
+    }
+    for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) R[a * qy + b] = e[a]! * e[qx + b]! - meanR[a * qy + b]!;
+    for (let a = 0; a < qq; a++) {
+      const ra = R[a]!;
+      for (let b = 0; b <= a; b++) scatter[a * qq + b] = scatter[a * qq + b]! + ra * R[b]!;
+    }
+  }
+  return scatter;
+}
+
+/**
+ * The residual-product statistic from a fitted nested adjustment and the columns' centred values
+ * on the rows that give the variance (see the module comment). Cost: O(m · (p + q²)) for m
+ * variance rows, p kept adjustment columns and q side columns.
  */
 function outcomeOf(
   name: TestName,
   claim: Claim,
   layout: Layout,
-  sides: ClaimColumn[],
   f: Fitted,
-  adjMeans: Float64Array,
-  sideMeans: Float64Array,
-  varianceRows: Int32Array,
+  values: VarianceRows,
   pathDetails: Record<string, unknown>,
 ): MethodResult {
   const { fit, n, qx, qy, level } = f;
   const q = qx + qy;
   const snap = fit.snapshots[level]!;
   const kept = snap.kept;
-  const keptCols = f.keptColumns.slice(0, kept).map((j) => layout.adjustment[j]!);
   const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
-  const keptMeans = f.keptColumns.slice(0, kept).map((j) => adjMeans[j]!);
   // Σ R over the n rows from the residual covariances (Bessel scale × (n − 1)).
   const qq = qx * qy;
   const sumR = new Float64Array(qq);
   for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = (n - 1) * snap.residual[a * q + qx + b]!;
-  const meanR = sumR.map((s) => s / n);
-  // Variance of the residual products over the variance rows.
-  const sigma = new Float64Array(qq * qq);
-  const e = new Float64Array(q);
-  const R = new Float64Array(qq);
-  const xval = new Float64Array(kept);
-  for (let t = 0; t < varianceRows.length; t++) {
-    const i = varianceRows[t]!;
-    for (let k = 0; k < kept; k++) xval[k] = valueAt(keptCols[k]!, i) - keptMeans[k]!;
-    for (let r = 0; r < q; r++) {
-      let v = valueAt(sides[r]!, i) - sideMeans[r]!;
-      const br = beta[r]!;
-      for (let k = 0; k < kept; k++) v -= br[k]! * xval[k]!;
-      e[r] = v;
-    }
-    for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) R[a * qy + b] = e[a]! * e[qx + b]! - meanR[a * qy + b]!;
-    for (let a = 0; a < qq; a++) {
-      const ra = R[a]!;
-      for (let b = 0; b <= a; b++) sigma[a * qq + b] += ra * R[b]!;
-    }
-  }
-  const m = varianceRows.length;
+  // Residuals on the variance rows: e_r = side_r − Σ_k β_rk col_k (all centred), column by column.
+  const m = values.rows;
+  const meanR = sumR.map((v) => v / n);
+  const sigma = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, meanR);
   for (let a = 0; a < qq; a++) {
     for (let b = 0; b <= a; b++) {
       const v = sigma[a * qq + b]! / m;
@@ -421,51 +493,49 @@ function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, 
 // ---------------------------------------------------------------------------------------------
 // Row path
 
-/** Dot product of two vectors of equal length. */
-function dot(a: Float64Array, b: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < a.length; i++) s += a[i]! * b[i]!;
-  return s;
+
+/** A column of ones of the given length (cached), whose products with other columns are their sums. */
+let onesCache = new Float64Array(0);
+function onesColumn(rows: number): Float64Array {
+  if (onesCache.length !== rows) onesCache = new Float64Array(rows).fill(1);
+  return onesCache;
 }
+
+/** Per column, each claim column's values on every row, shifted by their mean (NaN where missing). */
+const shiftedMemo = new WeakMap<Column, Map<string, Float64Array>>();
 
 /**
- * Values of a claim column on the rows, centred; returns the mean too. `gathered` caches each
- * variable's values (or codes) on the rows, so the terms of one variable read the rows once.
- * Cost: O(n).
+ * A claim column's values on every row of the table, minus their mean over the observed rows
+ * (the shift keeps the cross-products well conditioned; Chan, Golub & LeVeque 1983), NaN where
+ * the variable is missing. Cached per column and term, so claims read each term once.
+ * Cost: O(rows) the first time.
  */
-function centredColumn(c: ClaimColumn, idx: Int32Array, gathered: Map<Float64Array | Int32Array, Float64Array>): { v: Float64Array; mean: number } {
-  const n = idx.length;
-  const src: Float64Array | Int32Array = c.code !== undefined ? c.column.codes! : (c.values ?? c.column.values);
-  let raw = gathered.get(src);
-  if (!raw) {
-    raw = new Float64Array(n);
-    for (let t = 0; t < n; t++) raw[t] = src[idx[t]!]!;
-    gathered.set(src, raw);
-  }
-  const v = new Float64Array(n);
+function shiftedValues(c: ClaimColumn): Float64Array {
+  let byTerm = shiftedMemo.get(c.column);
+  if (!byTerm) shiftedMemo.set(c.column, (byTerm = new Map()));
+  const key = c.code !== undefined ? `=${c.code}` : c.values ? "rank" : c.term ? basisTermLabel("", c.term) : "";
+  let v = byTerm.get(key);
+  if (v) return v;
+  const rows = c.column.values.length;
+  v = new Float64Array(rows);
   if (c.code !== undefined) {
-    const code = c.code;
-    for (let t = 0; t < n; t++) v[t] = raw[t] === code ? 1 : 0;
-  } else if (c.term) fillBasisValues(c.term, raw, v);
-  else v.set(raw);
-  return centreInPlace(v);
-}
-
-/** Centre a vector in place by its mean, with one correction pass (two-pass mean); returns the mean. Cost: O(n). */
-function centreInPlace(v: Float64Array): { v: Float64Array; mean: number } {
-  const n = v.length;
-  let s = 0;
-  for (let t = 0; t < n; t++) s += v[t]!;
-  const mean = s / n;
-  let corr = 0;
-  for (let t = 0; t < n; t++) {
-    const d = v[t]! - mean;
-    v[t] = d;
-    corr += d;
+    const codes = c.column.codes!;
+    for (let i = 0; i < rows; i++) v[i] = codes[i]! < 0 ? NaN : codes[i] === c.code ? 1 : 0;
+  } else if (c.term) fillBasisValues(c.term, c.values ?? c.column.values, v);
+  else v.set(c.values ?? c.column.values);
+  let sum = 0;
+  let count = 0;
+  for (let i = 0; i < rows; i++) {
+    const x = v[i]!;
+    if (x === x) {
+      sum += x;
+      count++;
+    }
   }
-  const shift = corr / n;
-  if (shift !== 0) for (let t = 0; t < n; t++) v[t] = v[t]! - shift;
-  return { v, mean: mean + shift };
+  const mean = count > 0 ? sum / count : 0;
+  for (let i = 0; i < rows; i++) v[i] = v[i]! - mean;
+  byTerm.set(key, v);
+  return v;
 }
 
 function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult {
@@ -478,56 +548,99 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
   const rank = name === "gcm-rank";
   const sides: [ClaimColumn[], ClaimColumn[]] = [sideColumns(xCol, present.get(xCol), rank, ctx.rowFilter), sideColumns(yCol, present.get(yCol), rank, ctx.rowFilter)];
   const indicatorCount = given.reduce((s, c) => s + (present.has(c) ? present.get(c)!.length - 1 : 0), 0);
-  const bases = given.filter((c) => !present.has(c)).map((c) => columnBasis(c, ctx.rowFilter));
+  const sample = varianceSample(ctx.table, ctx.seed, ctx.rowFilter);
+  const bases = given.filter((c) => !present.has(c)).map((c) => columnBasis(c, sample));
   const cap = rowPathLevelCap(n, indicatorCount, bases);
-  const { adjustment, entered } = adjustmentColumns(given, present, cap, ctx.rowFilter);
+  const { adjustment, entered } = adjustmentColumns(given, present, cap, sample);
   const layout: Layout = { adjustment, sides, entered, cap };
 
-  // Side columns that vary (a nominal side keeps the indicators with variance).
-  const gathered = new Map<Float64Array | Int32Array, Float64Array>();
-  const sideCentred: { c: ClaimColumn; v: Float64Array; mean: number }[][] = sides.map((s) => s.map((c) => ({ c, ...centredColumn(c, idx, gathered) })).filter((s) => dot(s.v, s.v) > 0));
-  for (const [k, s] of sideCentred.entries()) {
-    if (s.length === 0) return { ok: false, reason: `"${k === 0 ? claim.x : claim.y}" is constant among the ${n} complete rows; the claim cannot be tested` };
-  }
-  const respList = [...sideCentred[0]!, ...sideCentred[1]!];
-  const qx = sideCentred[0]!.length;
-  const q = respList.length;
-  // Every adjustment column up to the cap, centred, then one Gram matrix of them and the sides.
-  const A = adjustment.length;
-  const adjMeans = new Float64Array(A);
-  const vectors: Float64Array[] = [];
-  adjustment.forEach((c, j) => {
-    const { v, mean } = centredColumn(c, idx, gathered);
-    vectors.push(v);
-    adjMeans[j] = mean;
+  // Columns on the claim's rows: covariances from the Gram matrix of the shifted values with a
+  // column of ones (whose products are the sums S), C_ab = (G_ab − S_a S_b / n)/(n − 1); the rows
+  // are read in place through the claim's row index.
+  const ones = onesColumn(ctx.table.rows);
+  const sideAll = [...sides[0], ...sides[1]];
+  const sideVals = sideAll.map(shiftedValues);
+  const sideGram = gramMatrix([...sideVals, ones], idx);
+  const sq = sideAll.length;
+  const sideSum = (r: number) => sideGram[r * (sq + 1) + sq]!;
+  const varies = sideAll.map((_, r) => {
+    const g = sideGram[r * (sq + 1) + r]!;
+    return g - (sideSum(r) * sideSum(r)) / n > 1e-14 * g;
   });
-  for (const r of respList) vectors.push(r.v);
-  const G = gramMatrix(vectors);
-  const d = A + q;
-  const cov = (a: number, b: number) => G[a * d + b]! / (n - 1);
-  const respCov = new Float64Array(q * q);
-  for (let a = 0; a < q; a++) for (let b = 0; b < q; b++) respCov[a * q + b] = cov(A + a, A + b);
-  const fit = new NestedAdjustment(n, respCov, q);
+  const qx = sides[0].filter((_, r) => varies[r]).length;
+  const qy = sides[1].filter((_, r) => varies[sides[0].length + r]).length;
+  if (qx === 0) return { ok: false, reason: `"${claim.x}" is constant among the ${n} complete rows; the claim cannot be tested` };
+  if (qy === 0) return { ok: false, reason: `"${claim.y}" is constant among the ${n} complete rows; the claim cannot be tested` };
+  const respVals = sideVals.filter((_, r) => varies[r]);
+  const q = respVals.length;
+  // Level by level: the Gram matrix of every column so far, the sides and the ones (recomputed
+  // per level: the levels roughly double, so this costs about 4/3 of one Gram of the last level);
+  // the new columns join the nested fit; stop two levels past the best level of both sides.
+  const A = adjustment.length;
+  const vectors: Float64Array[] = [];
+  let sums = new Float64Array(0);
+  let respSums = new Float64Array(q);
+  let fit: NestedAdjustment | undefined;
   let j = 0;
   let bestX = 0;
   let bestY = 0;
+  // levels up to `gramLevel` have their Gram computed; the first call covers levels 0–2 at once
+  // (the search reaches level 2 whenever the best level is 0)
+  let gramLevel = -1;
+  let G: Float64Array = new Float64Array(0);
+  let d = 0;
+  const sum = (a: number) => G[a * d + d - 1]!;
+  const cov = (a: number, b: number) => (G[a * d + b]! - (sum(a) * sum(b)) / n) / (n - 1);
+  let gramCols = 0;
   for (let level = 0; level <= cap; level++) {
-    for (; j < A && adjustment[j]!.level === level; j++) {
-      const prev = new Float64Array(j);
-      for (const k of fit.keptColumns) prev[k] = cov(j, k);
+    const from = j;
+    for (; j < A && adjustment[j]!.level === level; j++);
+    if (level > gramLevel) {
+      gramLevel = level === 0 ? Math.min(cap, 2) : level;
+      while (gramCols < A && adjustment[gramCols]!.level <= gramLevel) vectors.push(shiftedValues(adjustment[gramCols++]!));
+      const all = [...vectors, ...respVals, ones];
+      d = all.length;
+      G = gramMatrix(all, idx);
+    }
+    // the sides sit after the gram's adjustment columns
+    const side = (r: number) => gramCols + r;
+    sums = Float64Array.from({ length: j }, (_, a) => sum(a));
+    respSums = Float64Array.from({ length: q }, (_, r) => sum(side(r)));
+    if (!fit) {
+      const respCov = new Float64Array(q * q);
+      for (let a = 0; a < q; a++) for (let b = 0; b < q; b++) respCov[a * q + b] = cov(side(a), side(b));
+      fit = new NestedAdjustment(n, respCov, q);
+    }
+    for (let c = from; c < j; c++) {
+      const prev = new Float64Array(c);
+      for (const k of fit.keptColumns) prev[k] = cov(c, k);
       const withResp = new Float64Array(q);
-      for (let r = 0; r < q; r++) withResp[r] = cov(j, A + r);
-      fit.addColumn(prev, cov(j, j), withResp);
+      for (let r = 0; r < q; r++) withResp[r] = cov(c, side(r));
+      fit.addColumn(prev, cov(c, c), withResp);
     }
     fit.endLevel();
     ({ bestX, bestY } = chooseLevel(fit, qx, q));
     if (level >= bestX + 2 && level >= bestY + 2) break; // two levels past both sides' best: stop
   }
-  const { level } = chooseLevel(fit, qx, q);
-  const f: Fitted = { fit, n, qx, qy: q - qx, level, bestX, bestY, params: fit.snapshots[level]!.kept, keptColumns: fit.keptColumns };
-  const sidesKept = respList.map((r) => r.c);
-  const sideMeans = Float64Array.from(respList.map((r) => r.mean));
-  return outcomeOf(name, claim, layout, sidesKept, f, adjMeans, sideMeans, idx, { path: "rows" });
+  const { level } = chooseLevel(fit!, qx, q);
+  const f: Fitted = { fit: fit!, n, qx, qy, level, bestX, bestY, params: fit!.snapshots[level]!.kept, keptColumns: fit!.keptColumns };
+  // the chosen level's columns and the sides on the claim's rows, in one buffer for the variance pass
+  const used = f.keptColumns.slice(0, f.params);
+  const slot = new Map<number, number>();
+  used.forEach((c, k) => slot.set(c, k));
+  const buffer = new Float64Array((used.length + q) * n);
+  const place = (vals: Float64Array, at: number) => {
+    for (let t = 0; t < n; t++) buffer[at + t] = vals[idx[t]!]!;
+  };
+  used.forEach((c, k) => place(vectors[c]!, k * n));
+  respVals.forEach((v, k) => place(v, (used.length + k) * n));
+  const values: VarianceRows = {
+    rows: n,
+    data: () => buffer,
+    adjustment: (c) => ({ offset: slot.get(c)! * n, mean: sums[c]! / n }),
+    side: (r) => ({ offset: (used.length + r) * n, mean: respSums[r]! / n }),
+  };
+  return outcomeOf(name, claim, layout, f, values, { path: "rows" });
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -663,18 +776,91 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
   }
   const { level, bestX, bestY } = chooseLevel(fit, qx, q);
   const f: Fitted = { fit, n, qx, qy, level, bestX, bestY, params: fit.snapshots[level]!.kept, keptColumns: fit.keptColumns };
-  const adjMeans = Float64Array.from(adjustment.map((_, a) => m.means[a]!));
+  // Variance rows: the sample's rows complete on the claim, the columns' values read from the
+  // per-audit cache of sampled columns and centred by the means of the n complete rows.
+  const cache = sampleCache(ctx);
+  const complete = cache.completeOn(cols);
+  const m2 = complete.length;
+  if (m2 < 3) return { ok: false, reason: `too few sampled rows (${m2}) have all of ${quoted([claim.x, claim.y, ...claim.given])} observed to estimate the variance` };
   const sidesKept = sideList.filter((_, r) => keepSide[r]);
-  const sideMeans = Float64Array.from(respPos.map((r) => m.means[r]!));
-  // Variance rows: the sample's rows complete on the claim.
+  const values: VarianceRows = {
+    rows: m2,
+    ...(m2 !== cache.size ? { index: complete } : {}),
+    data: () => cache.data(),
+    adjustment: (j) => ({ offset: cache.offset(adjustment[j]!), mean: m.means[j]! }),
+    side: (r) => ({ offset: cache.offset(sidesKept[r]!), mean: m.means[respPos[r]!]! }),
+  };
+  return outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: m2 < n });
+}
+
+/** Per-audit values of sampled columns (the variance sample's rows), keyed by the pattern moments. */
+interface SampleCache {
+  /** Rows in the sample. */
+  size: number;
+  /** Positions (into the sample) of the sampled rows complete on all the columns. */
+  completeOn(cols: readonly Column[]): Int32Array;
+  /** Where a claim column's values on every sampled row start in `data()` (NaN where its variable is missing). */
+  offset(c: ClaimColumn): number;
+  /** The buffer of the sampled columns (a new one after `offset` has added columns). */
+  data(): Float64Array;
+}
+
+const sampleCaches = new WeakMap<object, SampleCache>();
+
+function sampleCache(ctx: TestContext): SampleCache {
+  const key = ctx.moments as object;
+  let cache = sampleCaches.get(key);
+  if (cache) return cache;
   const sample = varianceSample(ctx.table, ctx.seed, ctx.rowFilter);
-  const rows: number[] = [];
-  for (let t = 0; t < sample.length; t++) {
-    const i = sample[t]!;
-    if (!cols.some((c) => isMissing(c, i))) rows.push(i);
-  }
-  if (rows.length < 3) return { ok: false, reason: `too few sampled rows (${rows.length}) have all of ${quoted([claim.x, claim.y, ...claim.given])} observed to estimate the variance` };
-  return outcomeOf(name, claim, layout, sidesKept, f, adjMeans, sideMeans, Int32Array.from(rows), { path: "moments", variance_sample: rows.length < n });
+  const M = sample.length;
+  const words = (M + 31) >>> 5;
+  const observed = new Map<Column, Int32Array>();
+  const observedOf = (c: Column): Int32Array => {
+    let o = observed.get(c);
+    if (!o) {
+      o = new Int32Array(words);
+      for (let t = 0; t < M; t++) if (!isMissing(c, sample[t]!)) o[t >>> 5] |= 1 << (t & 31);
+      observed.set(c, o);
+    }
+    return o;
+  };
+  const all = new Int32Array(M);
+  for (let t = 0; t < M; t++) all[t] = t;
+  const byColumn = new Map<string, number>();
+  let buffer = new Float64Array(M * 16);
+  let used = 0;
+  cache = {
+    size: M,
+    completeOn(cols) {
+      const masks = cols.map(observedOf);
+      const and = new Int32Array(words).fill(-1);
+      for (const mk of masks) for (let w = 0; w < words; w++) and[w] &= mk[w]!;
+      let count = 0;
+      for (let t = 0; t < M; t++) count += (and[t >>> 5]! >>> (t & 31)) & 1;
+      if (count === M) return all;
+      const out = new Int32Array(count);
+      for (let t = 0, u = 0; t < M; t++) if ((and[t >>> 5]! >>> (t & 31)) & 1) out[u++] = t;
+      return out;
+    },
+    offset(c) {
+      const k = `${c.variable}\u0000${c.label}`;
+      let at = byColumn.get(k);
+      if (at === undefined) {
+        if ((used + 1) * M > buffer.length) {
+          const grown = new Float64Array(buffer.length * 2);
+          grown.set(buffer);
+          buffer = grown;
+        }
+        at = used++ * M;
+        for (let t = 0; t < M; t++) buffer[at + t] = isMissing(c.column, sample[t]!) ? NaN : valueAt(c, sample[t]!);
+        byColumn.set(k, at);
+      }
+      return at;
+    },
+    data: () => buffer,
+  };
+  sampleCaches.set(key, cache);
+  return cache;
 }
 
 // ---------------------------------------------------------------------------------------------
