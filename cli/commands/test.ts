@@ -5,6 +5,7 @@ import { readHeader } from "../../src/data/readHeader.js";
 import { checkColumns } from "../../src/graph/checkColumns.js";
 import { renderCsv } from "../../src/report/csv.js";
 import { claimHelper } from "../claimHelper.js";
+import { parallelPatternMoments } from "../parallelPatternMoments.js";
 import { EXIT } from "../exitCodes.js";
 import { type Io, readHead, toolVersion } from "../io.js";
 import { loadGraph } from "../loadGraph.js";
@@ -36,7 +37,7 @@ export async function audit(io: Io, graphPath: string, dataPath: string, opts: R
   const table = await loadTable(io, dataPath, opts, measured);
   const bar = progressBar(io, !!opts.quiet);
   try {
-    return await runAuditParallel(graph, table, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update, helper: claimHelper });
+    return await runAuditParallel(graph, table, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update, helper: claimHelper, buildMoments: (t, o) => parallelPatternMoments(t, o) });
   } finally {
     bar.done();
   }

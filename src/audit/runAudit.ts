@@ -14,7 +14,7 @@ import type { Graph } from "../graph/Graph.js";
 import { deriveClaims } from "../graph/deriveClaims.js";
 import { graphSummary } from "../graph/graphSummary.js";
 import type { Table, VariableType } from "../data/Table.js";
-import { buildPatternMoments, type MomentExpansions } from "../data/buildPatternMoments.js";
+import { buildPatternMoments, type MomentExpansions, type PatternMomentsOptions } from "../data/buildPatternMoments.js";
 import type { VariableBasis } from "../stats/flexibleBasis.js";
 import { columnBasis, usesRowPath, varianceSample } from "./methods/gcm.js";
 import type { PatternMoments } from "../data/Moments.js";
@@ -78,6 +78,11 @@ export interface ParallelAuditOptions extends AuditOptions {
   helper?: ClaimHelper;
   /** Least total row work (see `TestMethod.rowWork`) for which the helper is started (default 5·10⁷). */
   helperMinWork?: number;
+  /**
+   * Builds the pattern moments (e.g. over two threads); default `buildPatternMoments` on this
+   * thread. It must give the same moments up to the order of summation.
+   */
+  buildMoments?: (table: Table, options: PatternMomentsOptions) => Promise<PatternMoments>;
 }
 
 /** Default least row work worth a helper thread (about a second of row passes). */
@@ -171,7 +176,9 @@ export async function runAuditParallel(graph: Graph, table: Table, options: Para
   const mine = new Set<number>();
   let plan: AuditPlan;
   try {
-    plan = withMoments(claimPlan, table); // while the helper starts and takes its first claims
+    // while the helper starts and takes its first claims
+    const momentsOf = momentOptions(claimPlan, table);
+    plan = withBuiltMoments(claimPlan, table, options.buildMoments ? await options.buildMoments(table, momentsOf) : buildPatternMoments(table, momentsOf));
     // This thread: the claims that work from the moments first, then its share of the others.
     for (let i = 0; i < total; i++) {
       if (results[i] !== undefined || isHeavy[i]) continue;
@@ -284,9 +291,18 @@ function planClaims(graph: Graph, table: Table, options: AuditOptions): ClaimPla
 
 /** The plan with the pattern moments of the measured variables and the test context. Cost: O(rows · d²). */
 function withMoments(plan: ClaimPlan, table: Table): AuditPlan {
+  return withBuiltMoments(plan, table, buildPatternMoments(table, momentOptions(plan, table)));
+}
+
+/** What the pattern moments of an audit are built over: the measured variables, the row filter and the claims' expansions. */
+function momentOptions(plan: ClaimPlan, table: Table): PatternMomentsOptions {
   const { measured, rowFilter, settings } = plan;
-  const expansions = momentExpansions(plan.claims, table, settings, measured, rowFilter);
-  const moments = buildPatternMoments(table, { variables: measured, rowFilter, expansions });
+  return { variables: measured, rowFilter, expansions: momentExpansions(plan.claims, table, settings, measured, rowFilter) };
+}
+
+/** The plan with its pattern moments and the test context. */
+function withBuiltMoments(plan: ClaimPlan, table: Table, moments: PatternMoments): AuditPlan {
+  const { rowFilter, settings } = plan;
   const ctx: TestContext = {
     table,
     moments,
