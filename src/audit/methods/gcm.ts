@@ -878,6 +878,15 @@ function sampleCache(ctx: TestContext): SampleCache {
  * if (r.ok) r.outcome.details.flexibility; // the adjustment level chosen
  */
 export function runGcm(name: TestName, claim: Claim, ctx: TestContext): MethodResult {
+  return runGcmOn(usesRowPath(ctx.table, ctx.rowFilter) ? "rows" : "moments", name, claim, ctx);
+}
+
+/**
+ * {@link runGcm} on a chosen path: "moments" falls back to the rows when the moments lack a
+ * column the claim needs (for tests that compare the two paths on one table).
+ * Cost: as runGcm.
+ */
+export function runGcmOn(path: "rows" | "moments", name: TestName, claim: Claim, ctx: TestContext): MethodResult {
   const cols: Column[] = [];
   for (const v of [claim.x, claim.y, ...claim.given]) {
     const col = ctx.table.column(v);
@@ -885,7 +894,7 @@ export function runGcm(name: TestName, claim: Claim, ctx: TestContext): MethodRe
     if (CATEGORICAL_TYPES.has(col.type) && (!col.codes || !col.levels)) return { ok: false, reason: `"${v}" is ${col.type} but has no level codes; declare it or re-read the data` };
     cols.push(col);
   }
-  if (!usesRowPath(ctx.table, ctx.rowFilter)) {
+  if (path === "moments") {
     const viaMoments = runMomentPath(name, claim, cols, ctx);
     if (viaMoments) return viaMoments;
   }
