@@ -51,6 +51,7 @@ export class NestedAdjustment {
   readonly snapshots: LevelSnapshot[] = [];
   private added = 0;
   private readonly running: Float64Array;
+  private scratch = new Float64Array(0);
 
   /**
    * @param n complete cases behind the covariances
@@ -129,6 +130,24 @@ export class NestedAdjustment {
       beta[i] = s / this.L[i]![i]!;
     }
     return beta;
+  }
+
+  /**
+   * ‖L⁻¹ v‖² for the first `kept` kept columns (v: a row's centred values of those columns, in
+   * the covariances' scale): the row's leverage is 1/n + ‖L⁻¹ v‖²/(n − 1). Cost: O(kept²).
+   */
+  solveNorm(v: ArrayLike<number>, kept: number): number {
+    let s2 = 0;
+    const w = this.scratch.length >= kept ? this.scratch : (this.scratch = new Float64Array(kept));
+    for (let i = 0; i < kept; i++) {
+      const Li = this.L[i]!;
+      let s = v[i]!;
+      for (let k = 0; k < i; k++) s -= Li[k]! * w[k]!;
+      const wi = s / Li[i]!;
+      w[i] = wi;
+      s2 += wi * wi;
+    }
+    return s2;
   }
 
   /**

@@ -196,5 +196,48 @@ export function scenarios(dependence = 0): Scenario[] {
         }),
       }),
     },
+    {
+      id: "ordinal-pair",
+      label: "x, y ordinal (integer codes 1–5), S = {3-level nominal, binary}: all categorical",
+      make: (rng, n) => ({
+        given: ["s1", "s2"],
+        columns: columnsOf(n, () => {
+          const k = Math.floor(rng.nextFloat() * 3);
+          const s2 = bernoulli(rng, 0.3 + 0.2 * k);
+          const lx = [0.8, -0.2, 0.4][k]! + 0.7 * s2 + normal(rng);
+          const ly = [-0.5, 0.6, 0.1][k]! - 0.5 * s2 + normal(rng) + d * lx;
+          const cut = (v: number) => 1 + (v > -1 ? 1 : 0) + (v > -0.3 ? 1 : 0) + (v > 0.4 ? 1 : 0) + (v > 1.2 ? 1 : 0);
+          return { s: { s1: ["urban", "rural", "remote"][k]!, s2 }, x: cut(lx), y: cut(ly) };
+        }),
+      }),
+    },
+    {
+      id: "sparse-strata",
+      label: "x, y nominal (3 and 4 levels, text) in the 4 strata of a nominal S, sparse (n = 300)",
+      make: (rng, n) => ({
+        given: ["s"],
+        columns: columnsOf(n, () => {
+          const k = Math.floor(rng.nextFloat() * 4);
+          const x = pick(rng, ["a", "b", "c"], [[3, 1, 1], [1, 2, 2], [1, 1, 3], [2, 2, 1]][k]!);
+          const y = pick(rng, ["p", "q", "r", "t"], k === 2 ? [1, 1, 2, 4] : [2, 2, 1, 1]);
+          return { s: { s: ["n", "e", "s", "w"][k]! }, x, y: d > 0 && x === "a" && rng.nextFloat() < d ? "t" : y };
+        }),
+      }),
+    },
   ];
 }
+
+/** A scenario whose missingness depends on x and y themselves (not missing at random given S): the known failure of complete cases. */
+export const missingByXY: Scenario = {
+  id: "missing-by-xy",
+  label: "missing values of S that depend on x and y themselves",
+  make: (rng, n) => ({
+    given: ["s"],
+    columns: columnsOf(n, () => {
+      const s = normal(rng);
+      const x = s + normal(rng);
+      const y = 0.5 * s + normal(rng);
+      return { s: { s: rng.nextFloat() < expit(1.5 * (x + y) - 1) ? NaN : s }, x, y };
+    }),
+  }),
+};

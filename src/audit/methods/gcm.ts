@@ -18,7 +18,7 @@
  *   residual products is x'(I − H)y).
  * - *Two ways to the same statistic.* In tables of at most `ROW_PATH_MAX_ROWS` rows the claim's
  *   complete rows are read (the *row path*): the adjustment columns' covariances are computed
- *   level by level, up to a level cap that keeps at least 20 rows per parameter (level 5 at most),
+ *   level by level, up to a level cap that keeps at least 10 rows per parameter (level 5 at most),
  *   and the search stops two levels past the best level of both sides. In larger tables the
  *   covariances come from the pattern moments (the *moment path*; the audit builds the indicator
  *   and basis columns it needs, up to a level set by a compute budget), so the regressions cost
@@ -65,7 +65,7 @@ export const VARIANCE_SAMPLE_ROWS = 20_000;
  */
 export const UNDERSMOOTH_LEVELS = 1;
 /** At least this many complete rows per parameter of the adjustment on the row path. */
-export const ROWS_PER_PARAMETER = 20;
+export const ROWS_PER_PARAMETER = 10;
 
 /** One adjustment or side column of a claim: how to read its value in a row. */
 interface ClaimColumn {
@@ -260,20 +260,41 @@ function chooseLevel(fit: NestedAdjustment, qx: number, q: number): { level: num
  * column c's value at row position i is `data[c.offset + i]`, read at positions `index[t]` (or t
  * when there is no index) for t < rows; `mean` is the mean of the n complete rows that centres
  * it. `adjustment(j)` for adjustment column j of the layout, `side(r)` for the r-th side column
- * kept (x's first).
+ * kept (x's first), with `shift` (its buffer value plus `shift` is the value itself) and, for a
+ * side with two values a < b, `twoPoint: [a, b]`.
  */
 interface VarianceRows {
   rows: number;
   index?: Int32Array;
   data(): Float64Array;
   adjustment(j: number): { offset: number; mean: number };
-  side(r: number): { offset: number; mean: number };
+  side(r: number): SideValues;
 }
 
+interface SideValues {
+  offset: number;
+  mean: number;
+  shift: number;
+  twoPoint?: [number, number];
+}
+
+/** Fitted probabilities are kept inside [FIT_FLOOR, 1 − FIT_FLOOR] in the variance of a categorical side. */
+const FIT_FLOOR = 1e-6;
+
 /**
- * Σ_t (R_t − R̄)(R_t − R̄)ᵀ over the variance rows, R_t the products of the side residuals
- * e_r = (side_r − μ_r) − Σ_k β_rk (col_k − μ_k) and R̄ = sumR/n, in one pass over the rows (all
- * columns in one buffer, so every read is of one typed array). Cost: O(m · (p·q + qq²)).
+ * The variance of the residual products under the claim, Σ_t V_x,t ⊗ V_y,t − m·R̄R̄ᵀ over the m
+ * variance rows, with R̄ = sumR/n. Under x ⫫ y | S the conditional covariance of R = e_x ⊗ e_y
+ * given S factorises into that of e_x times that of e_y, so each side contributes its own
+ * conditional covariance V: for a side with two values a < b, (b − a)²·π(1 − π) at its fitted
+ * probability π (the model variance of a binary variable, steadier than e² in small samples of
+ * rare or nearly determined outcomes); for a nominal side (several indicators), the multinomial
+ * covariance diag(π) − ππᵀ of its fitted level probabilities; otherwise the squared residual e²
+ * (so for two continuous sides this is the empirical Σ (R_t − R̄)² of the covariance measure).
+ * Fitted probabilities are clipped to [FIT_FLOOR, 1 − FIT_FLOOR]. Residuals are
+ * e_r = (side_r − μ_r) − Σ_k β_rk (col_k − μ_k); all columns sit in one buffer, so every read is
+ * of one typed array. Cost: O(m · (p·q + qq²)).
+ * Sources: Shah & Peters (2020), Annals of Statistics 48:1514–1538 (the statistic); the variances
+ * of the binomial and multinomial distributions (common practice).
  */
 function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array): Float64Array {
   const q = qx + qy;
@@ -299,30 +320,39 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
   }
   const scatter = new Float64Array(qq * qq);
   if (q === 2) {
-    // one product: the common case, with the residuals in locals
+    // one product, the common case: residuals and variances in locals
     const o0 = sideOffs[0]!;
     const o1 = sideOffs[1]!;
     const c0 = c[0]!;
     const c1 = c[1]!;
-    const mu = meanR[0]!;
+    const [a0, b0] = sides[0]!.twoPoint ?? [NaN, NaN];
+    const [a1, b1] = sides[1]!.twoPoint ?? [NaN, NaN];
+    const two0 = sides[0]!.twoPoint !== undefined;
+    const two1 = sides[1]!.twoPoint !== undefined;
+    const s0 = sides[0]!.shift;
+    const s1 = sides[1]!.shift;
     let acc = 0;
     for (let t = 0; t < m; t++) {
       const i = index ? index[t]! : t;
-      let e0 = data[o0 + i]! - c0;
-      let e1 = data[o1 + i]! - c1;
+      const d0 = data[o0 + i]!;
+      const d1 = data[o1 + i]!;
+      let e0 = d0 - c0;
+      let e1 = d1 - c1;
       for (let k = 0; k < p; k++) {
         const v = data[offs[k]! + i]!;
         e0 -= B[k]! * v;
         e1 -= B[p + k]! * v;
       }
-      const R = e0 * e1 - mu;
-      acc += R * R;
+      const v0 = two0 ? twoPointVariance(d0 + s0 - e0, a0, b0) : e0 * e0;
+      const v1 = two1 ? twoPointVariance(d1 + s1 - e1, a1, b1) : e1 * e1;
+      acc += v0 * v1;
     }
-    scatter[0] = acc;
+    scatter[0] = acc - m * meanR[0]! * meanR[0]!;
     return scatter;
   }
   const e = new Float64Array(q);
-  const R = new Float64Array(qq);
+  const Vx = new Float64Array(qx * qx);
+  const Vy = new Float64Array(qy * qy);
   for (let t = 0; t < m; t++) {
     const i = index ? index[t]! : t;
     for (let r = 0; r < q; r++) e[r] = data[sideOffs[r]! + i]! - c[r]!;
@@ -330,13 +360,53 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
       const v = data[offs[k]! + i]!;
       for (let r = 0; r < q; r++) e[r] = e[r]! - B[r * p + k]! * v;
     }
-    for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) R[a * qy + b] = e[a]! * e[qx + b]! - meanR[a * qy + b]!;
-    for (let a = 0; a < qq; a++) {
-      const ra = R[a]!;
-      for (let b = 0; b <= a; b++) scatter[a * qq + b] = scatter[a * qq + b]! + ra * R[b]!;
+    sideCovariance(Vx, e, 0, qx, sides, data, sideOffs, i);
+    sideCovariance(Vy, e, qx, qy, sides, data, sideOffs, i);
+    // scatter[(a,b),(c,d)] += Vx[a,c]·Vy[b,d]
+    for (let a = 0; a < qx; a++) {
+      for (let b = 0; b < qy; b++) {
+        const row = (a * qy + b) * qq;
+        for (let cc = 0; cc < qx; cc++) {
+          const vx = Vx[a * qx + cc]!;
+          for (let dd = 0; dd < qy; dd++) scatter[row + cc * qy + dd] = scatter[row + cc * qy + dd]! + vx * Vy[b * qy + dd]!;
+        }
+      }
     }
   }
+  for (let a = 0; a < qq; a++) for (let b = 0; b < qq; b++) scatter[a * qq + b] = scatter[a * qq + b]! - m * meanR[a]! * meanR[b]!;
   return scatter;
+}
+
+/** (b − a)²·π(1 − π) for the fitted value μ of a variable with values a < b, π = (μ − a)/(b − a) clipped. */
+function twoPointVariance(mu: number, a: number, b: number): number {
+  const w = b - a;
+  let pi = (mu - a) / w;
+  pi = pi < FIT_FLOOR ? FIT_FLOOR : pi > 1 - FIT_FLOOR ? 1 - FIT_FLOOR : pi;
+  return w * w * pi * (1 - pi);
+}
+
+/**
+ * The conditional covariance of one side's residuals at a row, into V (k × k): the empirical
+ * e eᵀ for one scored column, the two-point variance for one two-valued column, and for several
+ * indicator columns (a nominal side) diag(π) − ππᵀ of the fitted probabilities π = value − e,
+ * clipped and scaled so that they sum to at most 1 − FIT_FLOOR.
+ */
+function sideCovariance(V: Float64Array, e: Float64Array, from: number, k: number, sides: readonly SideValues[], data: Float64Array, offs: Int32Array, i: number): void {
+  if (k === 1) {
+    const sd = sides[from]!;
+    const er = e[from]!;
+    V[0] = sd.twoPoint ? twoPointVariance(data[offs[from]! + i]! + sd.shift - er, sd.twoPoint[0], sd.twoPoint[1]) : er * er;
+    return;
+  }
+  const pi = new Float64Array(k);
+  let total = 0;
+  for (let r = 0; r < k; r++) {
+    const fitted = data[offs[from + r]! + i]! + sides[from + r]!.shift - e[from + r]!;
+    pi[r] = fitted < FIT_FLOOR ? FIT_FLOOR : fitted;
+    total += pi[r]!;
+  }
+  if (total > 1 - FIT_FLOOR) for (let r = 0; r < k; r++) pi[r] = (pi[r]! * (1 - FIT_FLOOR)) / total;
+  for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) V[a * k + b] = (a === b ? pi[a]! : 0) - pi[a]! * pi[b]!;
 }
 
 /**
@@ -503,6 +573,8 @@ function onesColumn(rows: number): Float64Array {
 
 /** Per column, each claim column's values on every row, shifted by their mean (NaN where missing). */
 const shiftedMemo = new WeakMap<Column, Map<string, Float64Array>>();
+/** The shift subtracted from each cached array of `shiftedValues`. */
+const shiftOf = new WeakMap<Float64Array, number>();
 
 /**
  * A claim column's values on every row of the table, minus their mean over the observed rows
@@ -535,7 +607,41 @@ function shiftedValues(c: ClaimColumn): Float64Array {
   const mean = count > 0 ? sum / count : 0;
   for (let i = 0; i < rows; i++) v[i] = v[i]! - mean;
   byTerm.set(key, v);
+  shiftOf.set(v, mean);
   return v;
+}
+
+/** The two values of a side column when it takes exactly two (a < b) on its variable's observed rows. */
+const twoValuesMemo = new WeakMap<Column, Map<string, [number, number] | null>>();
+
+/**
+ * [a, b] when a side column takes exactly two distinct values a < b over every observed row of
+ * its variable (a binary variable, a nominal side with one indicator, their mid-ranks); else
+ * undefined. Cached per column and kind. Cost: O(rows) the first time.
+ */
+function twoValues(c: ClaimColumn): [number, number] | undefined {
+  if (c.code !== undefined) return [0, 1];
+  let byKind = twoValuesMemo.get(c.column);
+  if (!byKind) twoValuesMemo.set(c.column, (byKind = new Map()));
+  const key = c.values ? "rank" : "value";
+  let found = byKind.get(key);
+  if (found === undefined) {
+    const v = c.values ?? c.column.values;
+    let a = NaN;
+    let b = NaN;
+    found = null;
+    let i = 0;
+    for (; i < v.length; i++) {
+      const x = v[i]!;
+      if (x !== x || x === a || x === b) continue;
+      if (a !== a) a = x;
+      else if (b !== b) b = x;
+      else break;
+    }
+    if (i === v.length && b === b) found = a < b ? [a, b] : [b, a];
+    byKind.set(key, found);
+  }
+  return found ?? undefined;
 }
 
 function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult {
@@ -572,6 +678,7 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
   if (qx === 0) return { ok: false, reason: `"${claim.x}" is constant among the ${n} complete rows; the claim cannot be tested` };
   if (qy === 0) return { ok: false, reason: `"${claim.y}" is constant among the ${n} complete rows; the claim cannot be tested` };
   const respVals = sideVals.filter((_, r) => varies[r]);
+  const respCols = sideAll.filter((_, r) => varies[r]);
   const q = respVals.length;
   // Level by level: the Gram matrix of every column so far, the sides and the ones (recomputed
   // per level: the levels roughly double, so this costs about 4/3 of one Gram of the last level);
@@ -638,7 +745,11 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
     rows: n,
     data: () => buffer,
     adjustment: (c) => ({ offset: slot.get(c)! * n, mean: sums[c]! / n }),
-    side: (r) => ({ offset: (used.length + r) * n, mean: respSums[r]! / n }),
+    side: (r) => {
+      const c = respCols[r]!;
+      const two = twoValues(c);
+      return { offset: (used.length + r) * n, mean: respSums[r]! / n, shift: shiftOf.get(respVals[r]!)!, ...(two ? { twoPoint: two } : {}) };
+    },
   };
   return outcomeOf(name, claim, layout, f, values, { path: "rows" });
 }
@@ -788,7 +899,10 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
     ...(m2 !== cache.size ? { index: complete } : {}),
     data: () => cache.data(),
     adjustment: (j) => ({ offset: cache.offset(adjustment[j]!), mean: m.means[j]! }),
-    side: (r) => ({ offset: cache.offset(sidesKept[r]!), mean: m.means[respPos[r]!]! }),
+    side: (r) => {
+      const two = twoValues(sidesKept[r]!);
+      return { offset: cache.offset(sidesKept[r]!), mean: m.means[respPos[r]!]!, shift: 0, ...(two ? { twoPoint: two } : {}) };
+    },
   };
   return outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: m2 < n });
 }
