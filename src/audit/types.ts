@@ -22,7 +22,7 @@ export interface UntestableClaim {
   reason: string;
 }
 
-export type TestName = "gcm" | "gcm-rank" | "pearson-partial" | "spearman-partial" | "stratified-chisq" | "linear-by-linear" | "regression-lr";
+export type TestName = "gcm" | "gcm-rank" | "pearson-partial" | "stratified-chisq" | "linear-by-linear" | "regression-lr";
 
 /** What one test method returns for one claim. */
 export interface TestOutcome {

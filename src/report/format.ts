@@ -152,7 +152,6 @@ export function effectSymbol(test: TestName, ascii = false): string {
     case "pearson-partial":
     case "gcm":
       return "r";
-    case "spearman-partial":
     case "gcm-rank":
       return ascii ? "rho" : "ρ";
     case "stratified-chisq":
@@ -160,6 +159,17 @@ export function effectSymbol(test: TestName, ascii = false): string {
     case "regression-lr":
       return "e";
   }
+}
+
+/**
+ * Symbol for one claim's effect: {@link effectSymbol} of its test, except "e" for a generalised
+ * covariance measure on several residual products (a nominal side), whose effect is on the
+ * likelihood-ratio scale. Cost: O(1).
+ * @example claimEffectSymbol({ test: "gcm", details: { components: 2 } }) // "e"
+ */
+export function claimEffectSymbol(claim: { test: TestName; details?: Record<string, unknown> }, ascii = false): string {
+  if ((claim.test === "gcm" || claim.test === "gcm-rank") && Number(claim.details?.components ?? 1) > 1) return "e";
+  return effectSymbol(claim.test, ascii);
 }
 
 /**

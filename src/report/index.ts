@@ -3,6 +3,7 @@ export {
   NOT_AVAILABLE,
   claimLabel,
   effectDigits,
+  claimEffectSymbol,
   effectSymbol,
   formatCI,
   formatCount,

@@ -18,7 +18,7 @@ import ELKmod from "elkjs";
 import type { ElkNode, ElkExtendedEdge } from "elkjs";
 import type { AuditResult } from "../audit/types.js";
 import { UnknownNodeError } from "../errors.js";
-import { effectSymbol, formatEffect, typographicMinus } from "./format.js";
+import { claimEffectSymbol, formatEffect, typographicMinus } from "./format.js";
 import { estimateTextWidth } from "./textWidth.js";
 
 const ELK = ELKmod.default;
@@ -103,7 +103,7 @@ export function contradictionMarks(result: AuditResult): ContradictionMark[] {
   return result.claims
     .filter((c) => c.verdict === "contradicted")
     .sort((a, b) => a.rank - b.rank)
-    .map((c) => ({ x: c.x, y: c.y, effect: c.effect, rank: c.rank, label: typographicMinus(`${effectSymbol(c.test)} = ${formatEffect(c.effect)}`) }));
+    .map((c) => ({ x: c.x, y: c.y, effect: c.effect, rank: c.rank, label: typographicMinus(`${claimEffectSymbol(c)} = ${formatEffect(c.effect)}`) }));
 }
 
 /** Size of a node box from its label: boxes get side padding, ellipses need about 30% more width. */

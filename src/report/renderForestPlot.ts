@@ -11,7 +11,7 @@
 import type { TestedClaim } from "../audit/types.js";
 import { escapeXml } from "./escapeXml.js";
 import { independenceSvg } from "./independenceMark.js";
-import { claimLabel, effectSymbol, formatEffectWithCI, typographicMinus } from "./format.js";
+import { claimEffectSymbol, claimLabel, formatEffectWithCI, typographicMinus } from "./format.js";
 import { estimateTextWidth } from "./textWidth.js";
 import { FONT_STACK, INK, PALETTE } from "./theme.js";
 
@@ -98,7 +98,7 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
   const shown = labels.map((l) => fit(l, MAX_LABEL));
   const rankW = estimateTextWidth(String(rows.length), FS) + 14;
   const labelW = Math.min(MAX_LABEL, Math.max(120, ...shown.map((l) => estimateTextWidth(l, FS)))) + 16;
-  const texts = rows.map((c) => typographicMinus(`${effectSymbol(c.test)} = ${formatEffectWithCI(c.effect, c.ci)}`));
+  const texts = rows.map((c) => typographicMinus(`${claimEffectSymbol(c)} = ${formatEffectWithCI(c.effect, c.ci)}`));
   const textW = Math.max(150, ...texts.map((t) => estimateTextWidth(t, FS))) + 12;
 
   const left = 8 + rankW + labelW;

@@ -18,7 +18,6 @@ const SHORT_TEST: Record<TestName, string> = {
   "gcm-rank": "GCM-rank",
   "linear-by-linear": "lin×lin",
   "pearson-partial": "pearson",
-  "spearman-partial": "spearman",
   "stratified-chisq": "chisq",
   "regression-lr": "reg-LR",
 };

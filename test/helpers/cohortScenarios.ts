@@ -237,7 +237,7 @@ export const missingByXY: Scenario = {
       const s = normal(rng);
       const x = s + normal(rng);
       const y = 0.5 * s + normal(rng);
-      return { s: { s: rng.nextFloat() < expit(1.5 * (x + y) - 1) ? NaN : s }, x, y };
+      return { s: { s: rng.nextFloat() < expit(0.6 * (x + y) - 1) ? NaN : s }, x, y };
     }),
   }),
 };

@@ -24,7 +24,8 @@ describe("buildReportText", () => {
   it("buildReportText describes and cites only the tests actually used", () => {
     const r = sampleResult();
     expect(refs(r)).toMatch(/Fisher RA\. On the “probable error”/);
-    expect(refs(r)).toContain("Kendall MG");
+    expect(refs(r)).toContain("Shah RD, Peters J"); // the rank-based generalised covariance measure
+    expect(refs(r)).toContain("Harrell FE");
     expect(refs(r)).toContain("Steiger JH");
     expect(refs(r)).not.toContain("Mantel N");
     const pearsonOnly = { ...r, claims: r.claims.filter((c) => c.test === "pearson-partial") };
@@ -32,7 +33,7 @@ describe("buildReportText", () => {
     expect(methods(pearsonOnly)).not.toContain("Spearman");
     expect(methods(pearsonOnly)).not.toContain("likelihood-ratio");
     expect(refs(pearsonOnly)).not.toContain("Steiger");
-    expect(refs(pearsonOnly)).not.toContain("Kendall");
+    expect(refs(pearsonOnly)).not.toContain("Shah RD");
     const mh = { ...r, claims: [{ ...r.claims[0]!, test: "stratified-chisq" as const, details: { mh_odds_ratio: 1.4 } }] };
     expect(refs(mh)).toContain("Mantel N, Haenszel W");
     expect(refs(mh)).toContain("Robins J, Breslow N, Greenland S");

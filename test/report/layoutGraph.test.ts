@@ -46,7 +46,7 @@ describe("layoutGraph", () => {
 
   it("contradictionMarks(result) labels each contradicted claim with its effect symbol and value, in rank order", () => {
     const marks = contradictionMarks(sampleResult());
-    // the fixture's top contradictions: r = 0.214 (pearson), ρ = 0.162 (spearman), r = -0.108 (pearson)
+    // the fixture's top contradictions: r = 0.214 (pearson), ρ = 0.162 (rank-based), r = -0.108 (pearson)
     expect(marks.map((m) => m.label)).toEqual(["r = 0.21", "ρ = 0.16", "r = \u22120.11"]);
     expect(marks.map((m) => m.rank)).toEqual([1, 2, 3]);
   });
