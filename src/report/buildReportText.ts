@@ -377,6 +377,13 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
     "Changing the graph because the data contradicted it needs subject-matter justification: an arrow suggested by the data is a hypothesis to be checked, not a finding, and repeated data-driven changes invalidate the p-values.",
   ];
 
+  const formDependent = claims.filter((c) => (c.details?.linear_adjustment as { verdict_differs?: boolean } | undefined)?.verdict_differs);
+  if (formDependent.length > 0) {
+    cautions.push(
+      `The verdict of ${plural(formDependent.length, "claim", "claims")} (${listJoin(formDependent.slice(0, 5).map((c) => claimLabel(c)))}${formDependent.length > 5 ? ", …" : ""}) changes when the conditioning set enters linearly instead of flexibly: ${formDependent.length === 1 ? "its conclusion depends" : "their conclusions depend"} on the functional form assumed, so weigh ${formDependent.length === 1 ? "it" : "them"} with subject-matter knowledge of how the variables relate.`,
+    );
+  }
+
   const warnings = [
     ...result.warnings,
     ...claims.flatMap((c) => (c.warnings ?? []).map((w) => `#${c.rank} ${claimLabel(c)}: ${w}`)),

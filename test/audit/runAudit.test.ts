@@ -129,3 +129,31 @@ function normalUpper(x: number): number {
   const half = normalTwoSided(x) / 2;
   return x >= 0 ? half : 1 - half;
 }
+
+describe("runAudit: the default test's linear-adjustment check", () => {
+  // Invented data: x and y both depend on s², not on each other, so x ⫫ y | s holds. A straight
+  // line in s leaves the shared s² in both residuals (partial r ≈ 0.6, far beyond any threshold),
+  // while the flexible adjustment removes it: the verdict changes, and the audit says so.
+  it("runAudit marks details.linear_adjustment.verdict_differs and warns when linear adjustment would contradict a true claim", () => {
+    const n = 800;
+    const d = simulateLinear({ nodes: ["s", "e1", "e2"] }, n, 77);
+    const s = d.s!;
+    const x = s.map((v, i) => v * v + d.e1![i]!);
+    const y = s.map((v, i) => v * v + d.e2![i]!);
+    const graph = createGraph({ arrows: [["s", "x"], ["s", "y"]] });
+    const result = runAudit(graph, createTable({ s, x, y }));
+    const claim = result.claims.find((c) => c.x === "x" || c.y === "x")!;
+    expect(claim.test).toBe("gcm");
+    expect(claim.verdict).toBe("consistent");
+    const lin = claim.details!.linear_adjustment as { p: number; verdict: string; verdict_differs: boolean; effect: number };
+    expect(lin.p).toBeLessThan(1e-20);
+    expect(lin.effect).toBeGreaterThan(0.4);
+    expect(lin.verdict).toBe("contradicted");
+    expect(lin.verdict_differs).toBe(true);
+    expect(result.warnings.some((w) => w.startsWith("1 claim changes verdict when the conditioning set enters linearly"))).toBe(true);
+    // and the forced linear test is the one that contradicts it
+    const linear = runAudit(graph, createTable({ s, x, y }), { settings: { method: "linear" } });
+    expect(linear.claims[0]!.verdict).toBe("contradicted");
+    expect(linear.claims[0]!.p).toBeCloseTo(lin.p, 10);
+  });
+});

@@ -79,4 +79,16 @@ describe("buildReportText", () => {
     expect(t.variables.find((v) => v.name === "active")!.levels).toBe("no, yes");
     expect(t.claimRows.map((c) => c.arrows).filter((a) => a !== "")).toHaveLength(3);
   });
+
+  it("buildReportText adds a caution and a methods sentence for claims whose verdict changes with linear adjustment", () => {
+    const r = sampleResult();
+    const claim = { ...r.claims[0]!, test: "gcm" as const, details: { linear_adjustment: { p: 1e-9, effect: 0.3, verdict: "contradicted", verdict_differs: true } } };
+    const changed = { ...r, claims: [claim, ...r.claims.slice(1).filter((c) => c.test !== "gcm")] };
+    const text = buildReportText(changed, sampleContext());
+    expect(text.cautions.some((c) => c.startsWith("The verdict of 1 claim (") && c.includes("functional form"))).toBe(true);
+    expect(text.methods.join(" ")).toContain("the verdict changed for 1 claim");
+    const unchanged = { ...changed, claims: [{ ...claim, details: { linear_adjustment: { p: 0.3, effect: 0.01, verdict: "consistent", verdict_differs: false } } }] };
+    expect(buildReportText(unchanged, sampleContext()).cautions.some((c) => c.startsWith("The verdict of"))).toBe(false);
+    expect(buildReportText(unchanged, sampleContext()).methods.join(" ")).toContain("no verdict changed");
+  });
 });

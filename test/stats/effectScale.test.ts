@@ -2,7 +2,7 @@ import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { lrEffect, lrEffectCI, lrToEffect, permutationLrEffect, signedRootEffectCI } from "../../src/stats/effectScale.js";
+import { lrEffect, lrEffectCI, lrEffectCIAtAlpha, lrToEffect, permutationLrEffect, signedRootEffectCI } from "../../src/stats/effectScale.js";
 import { chiSquareUpper } from "../../src/stats/pvalues.js";
 import { noncentralChiSquareUpper } from "../../src/stats/noncentralChiSquare.js";
 import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
@@ -262,5 +262,49 @@ describe(`permutationLrEffect [reference: ${cal.from}]`, () => {
     expect(() => permutationLrEffect(1, 4, 0, m, 0.5)).toThrow(/sample size/);
     expect(() => permutationLrEffect(1, 4, 10, m, 0)).toThrow(/p-value/);
     expect(() => permutationLrEffect(1, 4, 10, m, 0.5, 1, 2)).toThrow(/confidence level/);
+  });
+});
+
+interface AtAlphaRef {
+  source: string;
+  cases: { lr: number; df: number; n: number; p: number; lambda_lower: number; lambda_upper: number; ci: [number, number]; effect: number }[];
+}
+const atAlpha = JSON.parse(readFileSync(new URL("../fixtures/gcm/effect.json", import.meta.url), "utf8")) as AtAlphaRef;
+
+describe(`lrEffectCIAtAlpha against scipy (${atAlpha.source})`, () => {
+  it("lrEffectCIAtAlpha(lr, df, n) matches scipy's noncentralities (P(χ²(df, λ) ≥ LR) = 0.05 and 0.975) mapped to the effect scale to 1e-8", () => {
+    for (const c of atAlpha.cases) {
+      const [lo, hi] = lrEffectCIAtAlpha(c.lr, c.df, c.n);
+      const where = `lr=${c.lr} df=${c.df} n=${c.n}`;
+      if (c.ci[0] === 0) expect(lo, where).toBe(0);
+      else expect(relErr(lo, c.ci[0]), where).toBeLessThanOrEqual(1e-8); // scipy.optimize.brentq on scipy.stats.ncx2.sf
+      expect(relErr(hi, c.ci[1]), where).toBeLessThanOrEqual(1e-8);
+      expect(lo <= lrEffect(c.lr, c.df, c.n) && lrEffect(c.lr, c.df, c.n) <= hi, where).toBe(true);
+      expect(relErr(lrEffect(c.lr, c.df, c.n), c.effect), where).toBeLessThanOrEqual(1e-12);
+    }
+  });
+
+  it("the lower end is above 0 exactly when P(χ²(df) ≥ LR) < 0.05, on both sides of the boundary (LR = 9.488 and 9.4877 on 4 df, 5.99 and 6.0 on 2 df)", () => {
+    for (const c of atAlpha.cases) expect(lrEffectCIAtAlpha(c.lr, c.df, c.n)[0] > 0, `lr=${c.lr} df=${c.df}: scipy p = ${c.p}`).toBe(c.p < 0.05); // scipy.stats.chi2.sf
+  });
+
+  it("the lower end is above 0 exactly when chiSquareUpper(LR, df) < 0.05, and the point lies inside, for random LR, df, n (property)", () => {
+    fc.assert(
+      fc.property(fc.double({ min: 0, max: 300, noNaN: true }), fc.integer({ min: 1, max: 30 }), fc.integer({ min: 30, max: 100000 }), (lr, df, n) => {
+        const [lo, hi] = lrEffectCIAtAlpha(lr, df, n);
+        const e = lrEffect(lr, df, n);
+        return lo > 0 === chiSquareUpper(lr, df) < 0.05 && lo <= e + 1e-12 && e <= hi + 1e-12;
+      }),
+      { numRuns: 150, seed: 19 },
+    );
+  });
+
+  it("doc example and input checks: lrEffectCIAtAlpha(12.6, 4, 500) has a lower end above 0; negative or infinite LR, bad df, n or level throw", () => {
+    expect(lrEffectCIAtAlpha(12.6, 4, 500)[0]).toBeGreaterThan(0);
+    expect(() => lrEffectCIAtAlpha(-1, 4, 500)).toThrow(RangeError);
+    expect(() => lrEffectCIAtAlpha(Infinity, 4, 500)).toThrow(RangeError);
+    expect(() => lrEffectCIAtAlpha(3, 0, 500)).toThrow(RangeError);
+    expect(() => lrEffectCIAtAlpha(3, 2, 0)).toThrow(RangeError);
+    expect(() => lrEffectCIAtAlpha(3, 2, 100, 1)).toThrow(RangeError);
   });
 });

@@ -1,7 +1,10 @@
+import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import {
   chiSquareUpper,
+  fisherFUpper,
+  logFisherFUpper,
   logChiSquareUpper,
   logGamma,
   logRegularizedGammaQ,
@@ -163,5 +166,54 @@ describe("p-value edge cases", () => {
     expect(studentTTwoSided(1e200, 3)).toBe(0);
     expect(logStudentTTwoSided(1e200, 3)).toBeCloseTo(-1380.7602, 4); // mpmath, tails.json
     expect(normalTwoSided(1.959963984540054)).toBeCloseTo(0.05, 15); // NIST/SEMATECH §1.3.6.7.1 (z = 1.96)
+  });
+});
+
+interface FTails { source: string; f: { f: number; d1: number; d2: number; p: number; log_p: number; source: string }[] }
+const fTails = JSON.parse(readFileSync(new URL("../fixtures/gcm/tails.json", import.meta.url), "utf8")) as FTails;
+
+describe(`F upper tails against scipy and mpmath (${fTails.source})`, () => {
+  it("fisherFUpper(f, d1, d2) matches scipy.stats.f.sf to 1e-10 relative wherever scipy's tail is a normal double (down to 8e-298)", () => {
+    let checked = 0;
+    for (const c of fTails.f) {
+      if (!(c.p > 0)) continue;
+      checked++;
+      expect(relErr(fisherFUpper(c.f, c.d1, c.d2), c.p), `f=${c.f} d1=${c.d1} d2=${c.d2}`).toBeLessThanOrEqual(1e-10); // scipy.stats.f.sf
+    }
+    expect(checked).toBe(12);
+  });
+
+  it("logFisherFUpper(f, d1, d2) matches scipy.stats.f.logsf (mpmath.betainc at 50 digits where the tail underflows, log p = −1452.86) to 1e-10 relative", () => {
+    for (const c of fTails.f) expect(relErr(logFisherFUpper(c.f, c.d1, c.d2), c.log_p), `f=${c.f} d1=${c.d1} d2=${c.d2} (${c.source})`).toBeLessThanOrEqual(1e-10);
+    const deep = fTails.f.find((c) => c.p === 0)!;
+    expect(fisherFUpper(deep.f, deep.d1, deep.d2)).toBe(0); // underflows like scipy.stats.f.sf
+    expect(Number.isFinite(logFisherFUpper(deep.f, deep.d1, deep.d2))).toBe(true);
+  });
+
+  it("doc examples: fisherFUpper(3, 4, 20) ≈ 0.04320099833421409 and logFisherFUpper(1e3, 6, 400) ≈ −544.727732716551 (scipy.stats.f.sf / logsf)", () => {
+    expect(fisherFUpper(3, 4, 20)).toBeCloseTo(0.04320099833421409, 14); // scipy.stats.f.sf(3, 4, 20)
+    expect(logFisherFUpper(1e3, 6, 400)).toBeCloseTo(-544.727732716551, 9); // scipy.stats.f.logsf(1e3, 6, 400)
+  });
+
+  it("F(1, ν) is the square of t(ν): fisherFUpper(t², 1, ν) = studentTTwoSided(t, ν), and logs agree (theorem)", () => {
+    fc.assert(
+      fc.property(fc.double({ min: 0.01, max: 1e6, noNaN: true }), fc.integer({ min: 1, max: 5000 }), (t, nu) => {
+        expect(relErr(fisherFUpper(t * t, 1, nu), studentTTwoSided(t, nu))).toBeLessThan(1e-9);
+        expect(relErr(logFisherFUpper(t * t, 1, nu), logStudentTTwoSided(t, nu))).toBeLessThan(1e-9);
+      }),
+      { numRuns: 200, seed: 13 },
+    );
+  });
+
+  it("edges: 1 at f ≤ 0, 0 (log −Infinity) at Infinity, NaN for NaN; non-positive df throw RangeError", () => {
+    expect(fisherFUpper(0, 3, 10)).toBe(1);
+    expect(fisherFUpper(-1, 3, 10)).toBe(1);
+    expect(logFisherFUpper(0, 3, 10)).toBe(0);
+    expect(fisherFUpper(Infinity, 3, 10)).toBe(0);
+    expect(logFisherFUpper(Infinity, 3, 10)).toBe(-Infinity);
+    expect(fisherFUpper(NaN, 3, 10)).toBeNaN();
+    expect(logFisherFUpper(NaN, 3, 10)).toBeNaN();
+    expect(() => fisherFUpper(1, 0, 10)).toThrow(RangeError);
+    expect(() => logFisherFUpper(1, 3, -2)).toThrow(RangeError);
   });
 });

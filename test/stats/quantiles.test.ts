@@ -1,7 +1,8 @@
+import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { chiSquareQuantile, normalQuantile } from "../../src/stats/quantiles.js";
-import { chiSquareUpper, normalTwoSided, regularizedGammaP, regularizedGammaQ } from "../../src/stats/pvalues.js";
+import { chiSquareQuantile, chiSquareUpperQuantileLog, normalQuantile } from "../../src/stats/quantiles.js";
+import { chiSquareUpper, logChiSquareUpper, normalTwoSided, regularizedGammaP, regularizedGammaQ } from "../../src/stats/pvalues.js";
 import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
 
 interface QRef {
@@ -82,5 +83,41 @@ describe("quantile theorems and edges", () => {
     expect(() => normalQuantile(NaN)).toThrow(RangeError);
     expect(() => chiSquareQuantile(0.5, 0)).toThrow(/df must be a positive/);
     expect(() => chiSquareQuantile(-0.5, 2)).toThrow(/\[0, 1\]/);
+  });
+});
+
+interface LogQuantileRef {
+  source: string;
+  chi2_isf: { log_p: number; df: number; x: number }[];
+  chi2_round_trip: { x: number; df: number; log_p: number }[];
+}
+const logQ = JSON.parse(readFileSync(new URL("../fixtures/gcm/tails.json", import.meta.url), "utf8")) as LogQuantileRef;
+
+describe(`chiSquareUpperQuantileLog against scipy and mpmath (${logQ.source})`, () => {
+  it("chiSquareUpperQuantileLog(ln p, df) matches scipy.stats.chi2.isf(p, df) to 1e-12 relative for p from 0.5 to 1e-300", () => {
+    for (const c of logQ.chi2_isf) expect(relErr(chiSquareUpperQuantileLog(c.log_p, c.df), c.x), `ln p=${c.log_p} df=${c.df}`).toBeLessThanOrEqual(1e-12); // scipy.stats.chi2.isf
+  });
+
+  it("inverts mpmath's log tails down to ln p = −5000 (x = 9990 on 1 df): the quantile of ln Q(df/2, x/2) is x to 1e-12", () => {
+    for (const c of logQ.chi2_round_trip) expect(relErr(chiSquareUpperQuantileLog(c.log_p, c.df), c.x), `x=${c.x} df=${c.df} ln p=${c.log_p}`).toBeLessThanOrEqual(1e-12); // mpmath.gammainc, 50 digits
+  });
+
+  it("round trip with logChiSquareUpper for random ln p in [−5000, 0) and df in 1..60 (property)", () => {
+    fc.assert(
+      fc.property(fc.double({ min: -5000, max: -1e-6, noNaN: true }), fc.integer({ min: 1, max: 60 }), (lp, df) => {
+        const x = chiSquareUpperQuantileLog(lp, df);
+        return Math.abs(logChiSquareUpper(x, df) - lp) <= 1e-10 * Math.max(1, Math.abs(lp));
+      }),
+      { numRuns: 200, seed: 17 },
+    );
+  });
+
+  it("edges and doc example: ln p = 0 gives 0, −Infinity gives Infinity, ln 0.05 on 1 df gives 3.841458820694124; positive or NaN ln p and bad df throw", () => {
+    expect(chiSquareUpperQuantileLog(0, 3)).toBe(0);
+    expect(chiSquareUpperQuantileLog(-Infinity, 3)).toBe(Infinity);
+    expect(chiSquareUpperQuantileLog(Math.log(0.05), 1)).toBeCloseTo(3.841458820694124, 12); // NIST/SEMATECH e-Handbook §1.3.6.7.4: 3.841
+    expect(() => chiSquareUpperQuantileLog(0.1, 3)).toThrow(RangeError);
+    expect(() => chiSquareUpperQuantileLog(NaN, 3)).toThrow(RangeError);
+    expect(() => chiSquareUpperQuantileLog(-1, 0)).toThrow(RangeError);
   });
 });
