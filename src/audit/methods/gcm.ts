@@ -43,7 +43,7 @@ import type { IndexedDesignColumn } from "../../data/Moments.js";
 import { midRanks } from "../../data/rankColumns.js";
 import { lrEffect, lrEffectCIAtAlpha } from "../../stats/effectScale.js";
 import { chiSquareUpperQuantileLog } from "../../stats/quantiles.js";
-import { basisTermLabel, basisValue, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
+import { basisTermLabel, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
 import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
 import { gramMatrix } from "../../stats/gramMatrix.js";
 import { bestLevel, NestedAdjustment } from "../../stats/nestedAdjustment.js";
@@ -88,12 +88,6 @@ function quoted(names: readonly string[]): string {
   return names.map((s) => `"${s}"`).join(", ");
 }
 
-/** Value of a claim column in row i (the row is complete on its variable). */
-function valueAt(c: ClaimColumn, i: number): number {
-  if (c.code !== undefined) return c.column.codes![i] === c.code ? 1 : 0;
-  const v = (c.values ?? c.column.values)[i]!;
-  return c.term ? basisValue(c.term, v) : v;
-}
 
 function isMissing(c: Column, i: number): boolean {
   if (c.codes && CATEGORICAL_TYPES.has(c.type)) return c.codes[i]! < 0;
@@ -966,7 +960,20 @@ function sampleCache(ctx: TestContext): SampleCache {
           buffer = grown;
         }
         at = used++ * M;
-        for (let t = 0; t < M; t++) buffer[at + t] = isMissing(c.column, sample[t]!) ? NaN : valueAt(c, sample[t]!);
+        const view = buffer.subarray(at, at + M);
+        if (c.code !== undefined) {
+          const codes = c.column.codes!;
+          for (let t = 0; t < M; t++) {
+            const code = codes[sample[t]!]!;
+            view[t] = code < 0 ? NaN : code === c.code ? 1 : 0;
+          }
+        } else {
+          const src = c.values ?? c.column.values;
+          for (let t = 0; t < M; t++) view[t] = src[sample[t]!]!;
+          if (c.term) fillBasisValues(c.term, view, view);
+          // a categorical column's missing cells are marked by codes, not by NaN values
+          if (c.column.codes && CATEGORICAL_TYPES.has(c.column.type)) for (let t = 0; t < M; t++) if (c.column.codes[sample[t]!]! < 0) view[t] = NaN;
+        }
         byColumn.set(k, at);
       }
       return at;
