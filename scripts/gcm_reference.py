@@ -7,6 +7,19 @@ TypeScript code): every regression is a least-squares fit on the row matrix
 are numpy.quantile (its default, linear interpolation between order statistics); tails and
 quantiles come from scipy.stats, and from mpmath (50 digits) where scipy's tails underflow.
 
+The method as implemented here: sides are the value (gcm-rank: mid-ranks over the variable's
+observed rows) or, for a nominal side, indicators of the levels present among the complete rows
+but the first; the adjustment columns of S are level indicators (categorical members) and the
+nested basis of each continuous member (linear; natural cubic spline terms at the quartile knots;
+hinges at the odd 2^(l+1)-th quantiles), knots from the member's observed values; levels are added
+one at a time (row path: up to the largest level with at least ROWS_PER_PARAMETER complete rows per
+parameter, stopping two levels past both sides' GCV minimum; moment path: every level given),
+aliased or constant columns dropped; the level used is one above the larger of the two sides' GCV
+minima. With the residuals e of both sides at that level, R_i = e_x,i (x) e_y,i, and the variance of
+R is Sigma = (1/n) sum_i V_x,i (x) V_y,i - Rbar Rbar' with V the side's conditional covariance
+under the claim (side_variance); W = sum(R)' Sigma^-1 sum(R) / n, scaled by (n - 1 - p)/n, referred
+to Student's t on n - 2 - p df (one component) or F(q, n - 1 - p - q) (q components).
+
 Writes into test/fixtures/gcm/ (or --out DIR):
   shapes.csv, small.csv  seeded invented data (see make_shapes / make_small)
   claims.json            per claim, method and path: level chosen, parameters kept, statistic,
@@ -53,7 +66,8 @@ mp.mp.dps = 50
 
 ALIAS_TOLERANCE = 1e-9  # a column is aliased when its residual sum of squares <= 1e-9 of its own
 COMPONENT_TOLERANCE = 1e-10  # a residual product is redundant when its pivot <= 1e-10 of the largest variance
-ROWS_PER_PARAMETER = 20
+ROWS_PER_PARAMETER = 10
+FIT_FLOOR = 1e-6  # fitted probabilities are clipped to [1e-6, 1 - 1e-6] in a categorical side's variance
 MAX_LEVEL = 5
 GCV_TIE = 1e-12  # a later level is better only when its GCV is below (1 - 1e-12) times the best so far
 
@@ -313,7 +327,7 @@ def write_csv(path, columns, order):
                 elif isinstance(v, (int, np.integer)):
                     cells.append(str(int(v)))
                 else:
-                    cells.append(repr(float(v)))
+                    cells.append("%.12g" % float(v))  # 12 significant digits; the reference reads the file back
             fh.write(",".join(cells) + "\n")
 
 
@@ -365,6 +379,8 @@ def make_shapes():
     y3 = 0.5 * e ** 2 + rng.normal(0, 0.5, n)
     y3_miss = e > np.quantile(e, 0.8)
     z2 = 2 * z + 1  # an exact affine copy of z: all its columns are aliased with z's
+    # nominal side whose third level occurs only where z is missing: one indicator on the complete rows
+    pair = np.where(z_miss, "r", np.where(rng.uniform(size=n) < sig(lz), "q", "p"))
     const1 = np.ones(n)
     late = masked(rng.normal(size=n), ~z_miss)  # observed only where z is missing
     cols = {
@@ -374,14 +390,14 @@ def make_shapes():
         "xb": [int(v) for v in xb], "yb": [None if m else int(v) for v, m in zip(yb, yb_miss)],
         "region": [None if m else r for r, m in zip(region, region_miss)], "colour": colour,
         "stage": [int(v) for v in stage], "h": h, "xh": xh, "yh": yh,
-        "e": e, "x3": x3, "y3": masked(y3, y3_miss), "const1": const1, "late": late,
+        "e": e, "x3": x3, "y3": masked(y3, y3_miss), "const1": const1, "late": late, "pair": [str(v) for v in pair],
     }
     types = {
         "x": "continuous", "y": "continuous", "y2": "continuous", "strong": "continuous", "w": "continuous",
         "z": "continuous", "z2": "continuous", "u": "continuous", "g": "ordinal", "site": "nominal",
         "xb": "binary", "yb": "binary", "region": "nominal", "colour": "nominal", "stage": "ordinal",
         "h": "continuous", "xh": "continuous", "yh": "continuous", "e": "continuous", "x3": "continuous",
-        "y3": "continuous", "const1": "continuous", "late": "continuous",
+        "y3": "continuous", "const1": "continuous", "late": "continuous", "pair": "nominal",
     }
     return cols, types
 
@@ -398,7 +414,8 @@ def make_small():
     x = np.sin(1.5 * a) + 0.1 * b + 0.2 * c + rng.normal(0, 0.5, n)
     y = 0.3 * a ** 2 + (b > 6) + rng.normal(0, 0.5, n)
     x_miss = rng.uniform(size=n) < 0.03
-    cols = {"x": masked(x, x_miss), "y": y, "a": a, "b": b, "c": masked(c, c_miss), "d": d}
+    f, k, m = rng.normal(size=(3, n))  # unrelated members: seven members leave too few rows for level 1
+    cols = {"x": masked(x, x_miss), "y": y, "a": a, "b": b, "c": masked(c, c_miss), "d": d, "f": f, "k": k, "m": m}
     types = {k: "continuous" for k in cols}
     return cols, types
 
@@ -421,27 +438,41 @@ def gcm_claim(table, nrows, x, y, given, method, path, moment_level=3, filt=None
     cat = lambda c: c.type in ("binary", "ordinal", "nominal")
     present = {v: sorted(set(table[v].codes[complete].tolist())) for v in names if cat(table[v])}
 
-    # sides
+    # sides, and how each enters the variance: "two" (a scored column with exactly two values
+    # a < b over all its variable's observed rows, or a single level indicator), "nominal"
+    # (several level indicators) or "plain"
     def side_columns(v):
         col = table[v]
         if col.type == "nominal":
-            return [(col.codes[complete] == code).astype(float) for code in present[v][1:]]
+            return [(col.codes[complete] == code).astype(float) for code in present[v][1:]], None
         vals = col.values
         if method == "gcm-rank":
             ranks = np.full(nrows, np.nan)
             ok = filt & col.observed
             ranks[ok] = stats.rankdata(col.values[ok], method="average")
             vals = ranks
-        return [vals[complete]]
+        distinct = np.unique(vals[~np.isnan(vals)])
+        return [vals[complete]], (tuple(float(d) for d in distinct) if len(distinct) == 2 else None)
 
-    sx = [c for c in side_columns(x) if np.ptp(c) > 0]
-    sy = [c for c in side_columns(y) if np.ptp(c) > 0]
+    def side_kind(cols, two, nominal):
+        if len(cols) > 1:
+            return ("nominal",)
+        if nominal:
+            return ("two", 0.0, 1.0)
+        return ("two",) + two if two is not None else ("plain",)
+
+    cx, two_x = side_columns(x)
+    cy, two_y = side_columns(y)
+    sx = [c for c in cx if np.ptp(c) > 0]
+    sy = [c for c in cy if np.ptp(c) > 0]
     if not sx:
         out["untestable"] = "x constant"
         return out
     if not sy:
         out["untestable"] = "y constant"
         return out
+    kind_x = side_kind(sx, two_x, table[x].type == "nominal")
+    kind_y = side_kind(sy, two_y, table[y].type == "nominal")
     qx, qy = len(sx), len(sy)
     Ysides = np.column_stack(sx + sy)
 
@@ -517,8 +548,11 @@ def gcm_claim(table, nrows, x, y, given, method, path, moment_level=3, filt=None
     Ex, Ey = E[:, :qx], E[:, qx:]
     R = (Ex[:, :, None] * Ey[:, None, :]).reshape(n, qx * qy)
     sumR = R.sum(axis=0)
-    D = R - sumR / n
-    sigma = D.T @ D / n
+    fitted = Ysides - E
+    Vx = side_variance(kind_x, Ex, fitted[:, :qx])
+    Vy = side_variance(kind_y, Ey, fitted[:, qx:])
+    Rbar = sumR / n
+    sigma = np.einsum("tac,tbd->abcd", Vx, Vy).reshape(qx * qy, qx * qy) / n - np.outer(Rbar, Rbar)
     st = gcm_statistic(n, params, sumR, sigma)
     if st is None:
         out["untestable"] = "no degrees of freedom"
@@ -531,6 +565,9 @@ def gcm_claim(table, nrows, x, y, given, method, path, moment_level=3, filt=None
         "adjustment": [{"variable": v, "columns": sum(made[v][: level + 1]) if not cat(table[v]) else made[v][0]} for v in given],
         "dropped": sum(len(by_level[l]) for l in range(level + 1)) - params,
         "constant_columns": sum(constant[: level + 1]),
+        # level indicators of a nominal side that the moment path's columns hold (every level but
+        # the column's first) but that are constant (absent) among the complete rows
+        "constant_side_columns": sum(len(set(range(1, len(table[v].levels))) - set(present[v])) for v in (x, y) if table[v].type == "nominal") if path == "moments" else 0,
         "condition": condition_number(snaps[level]["X"]),
     })
     out.update({k: v for k, v in st.items() if k not in ("w",)})
@@ -547,6 +584,25 @@ def gcm_claim(table, nrows, x, y, given, method, path, moment_level=3, filt=None
         out["ci"] = [effect_map(ncx2_noncentrality(w, k, 0.05), n), effect_map(ncx2_noncentrality(w, k, 0.975), n)]
     out["linear"] = linear_check(snaps[0], qx, qy, n)
     return out
+
+
+def side_variance(kind, E, fitted):
+    """Per row, the side's conditional covariance under the claim (n x k x k): e e' for a plain
+    column; (b - a)^2 pi (1 - pi) for a two-valued one, pi = (fitted - a)/(b - a) clipped to
+    [FIT_FLOOR, 1 - FIT_FLOOR]; diag(pi) - pi pi' for level indicators, pi the fitted
+    probabilities floored at FIT_FLOOR and scaled down to sum to 1 - FIT_FLOOR when they exceed it
+    (binomial and multinomial variances)."""
+    n, k = E.shape
+    if kind[0] == "plain":
+        return E[:, :, None] * E[:, None, :]
+    if kind[0] == "two":
+        a, b = kind[1], kind[2]
+        pi = np.clip((fitted[:, 0] - a) / (b - a), FIT_FLOOR, 1 - FIT_FLOOR)
+        return ((b - a) ** 2 * pi * (1 - pi))[:, None, None]
+    pi = np.maximum(fitted, FIT_FLOOR)
+    total = pi.sum(axis=1, keepdims=True)
+    pi = np.where(total > 1 - FIT_FLOOR, pi * (1 - FIT_FLOOR) / total, pi)
+    return np.einsum("ta,ab->tab", pi, np.eye(k)) - pi[:, :, None] * pi[:, None, :]
 
 
 def linear_check(snap, qx, qy, n):
@@ -591,12 +647,15 @@ SHAPES_CLAIMS = [
     ("x3", "y3", ["e"]),
     ("x", "y", ["z", "z2"]),
     ("stage", "y", ["site", "w"]),
+    ("pair", "x", ["z"]),
+    ("y", "pair", ["w", "g"]),
 ]
 SHAPES_RANK = [("x", "y", ["z"]), ("xb", "yb", ["z", "g"]), ("region", "y", ["z"]), ("x", "y", ["z", "u"]), ("stage", "y", ["site", "w"])]
 SHAPES_FILTERED = [("x", "y", ["z"]), ("x", "y", ["z", "u"]), ("x", "w", [])]
 LISTWISE = ["x", "y", "z", "u", "w", "yb"]
 SHAPES_UNTESTABLE = [("const1", "x", ["z"]), ("x", "const1", []), ("late", "x", ["z"])]
-SMALL_CLAIMS = [("x", "y", ["a"]), ("x", "y", ["a", "b"]), ("x", "y", ["a", "b", "c"]), ("x", "y", ["a", "b", "c", "d"]), ("x", "y", [])]
+SMALL_CLAIMS = [("x", "y", ["a"]), ("x", "y", ["a", "b"]), ("x", "y", ["a", "b", "c"]), ("x", "y", ["a", "b", "c", "d"]),
+                ("x", "y", ["a", "b", "c", "d", "f", "k", "m"]), ("x", "y", [])]
 
 
 def topic_claims(out_dir):
@@ -827,6 +886,7 @@ def topic_effect():
             "cases": cases}
 
 
+COMPACT = {"basis", "gram", "spline_span"}  # long arrays of numbers: one line
 TOPICS = {
     "claims": topic_claims, "basis": topic_basis, "spline_span": topic_spline_span, "nested": topic_nested,
     "statistic": topic_statistic, "gram": topic_gram, "tails": topic_tails, "effect": topic_effect,
@@ -844,7 +904,10 @@ def main():
             continue
         data = fn(args.out) if name == "claims" else fn()
         with open(os.path.join(args.out, f"{name}.json"), "w") as fh:
-            json.dump(data, fh, indent=1, allow_nan=False)
+            if name in COMPACT:
+                json.dump(data, fh, separators=(",", ":"), allow_nan=False)
+            else:
+                json.dump(data, fh, indent=1, allow_nan=False)
             fh.write("\n")
 
 
