@@ -381,6 +381,9 @@ def make_shapes():
     z2 = 2 * z + 1  # an exact affine copy of z: all its columns are aliased with z's
     # nominal side whose third level occurs only where z is missing: one indicator on the complete rows
     pair = np.where(z_miss, "r", np.where(rng.uniform(size=n) < sig(lz), "q", "p"))
+    # nominal side whose first level occurs only where z is missing
+    tri_draw = rng.uniform(size=n)
+    tri = np.where(z_miss, "a", np.where(tri_draw < 0.2 + 0.2 * (z > 1), "b", np.where(tri_draw < 0.7, "c", "d")))
     const1 = np.ones(n)
     late = masked(rng.normal(size=n), ~z_miss)  # observed only where z is missing
     cols = {
@@ -391,13 +394,14 @@ def make_shapes():
         "region": [None if m else r for r, m in zip(region, region_miss)], "colour": colour,
         "stage": [int(v) for v in stage], "h": h, "xh": xh, "yh": yh,
         "e": e, "x3": x3, "y3": masked(y3, y3_miss), "const1": const1, "late": late, "pair": [str(v) for v in pair],
+        "tri": [str(v) for v in tri],
     }
     types = {
         "x": "continuous", "y": "continuous", "y2": "continuous", "strong": "continuous", "w": "continuous",
         "z": "continuous", "z2": "continuous", "u": "continuous", "g": "ordinal", "site": "nominal",
         "xb": "binary", "yb": "binary", "region": "nominal", "colour": "nominal", "stage": "ordinal",
         "h": "continuous", "xh": "continuous", "yh": "continuous", "e": "continuous", "x3": "continuous",
-        "y3": "continuous", "const1": "continuous", "late": "continuous", "pair": "nominal",
+        "y3": "continuous", "const1": "continuous", "late": "continuous", "pair": "nominal", "tri": "nominal",
     }
     return cols, types
 
@@ -566,8 +570,9 @@ def gcm_claim(table, nrows, x, y, given, method, path, moment_level=3, filt=None
         "dropped": sum(len(by_level[l]) for l in range(level + 1)) - params,
         "constant_columns": sum(constant[: level + 1]),
         # level indicators of a nominal side that the moment path's columns hold (every level but
-        # the column's first) but that are constant (absent) among the complete rows
-        "constant_side_columns": sum(len(set(range(1, len(table[v].levels))) - set(present[v])) for v in (x, y) if table[v].type == "nominal") if path == "moments" else 0,
+        # the column's first) beyond those of the levels present among the complete rows but the
+        # first present: constant (an absent level) or redundant (the first level absent)
+        "extra_side_columns": sum(len(table[v].levels) - len(present[v]) for v in (x, y) if table[v].type == "nominal") if path == "moments" else 0,
         "condition": condition_number(snaps[level]["X"]),
     })
     out.update({k: v for k, v in st.items() if k not in ("w",)})
@@ -648,6 +653,7 @@ SHAPES_CLAIMS = [
     ("x", "y", ["z", "z2"]),
     ("stage", "y", ["site", "w"]),
     ("pair", "x", ["z"]),
+    ("tri", "y", ["z"]),
     ("y", "pair", ["w", "g"]),
 ]
 SHAPES_RANK = [("x", "y", ["z"]), ("xb", "yb", ["z", "g"]), ("region", "y", ["z"]), ("x", "y", ["z", "u"]), ("stage", "y", ["site", "w"])]
