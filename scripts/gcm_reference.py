@@ -379,6 +379,7 @@ def make_shapes():
     y3 = 0.5 * e ** 2 + rng.normal(0, 0.5, n)
     y3_miss = e > np.quantile(e, 0.8)
     z2 = 2 * z + 1  # an exact affine copy of z: all its columns are aliased with z's
+    zoff = z + 1e5  # z on a large offset: the test is invariant to it
     # nominal side whose third level occurs only where z is missing: one indicator on the complete rows
     pair = np.where(z_miss, "r", np.where(rng.uniform(size=n) < sig(lz), "q", "p"))
     # nominal side whose first level occurs only where z is missing
@@ -388,7 +389,7 @@ def make_shapes():
     late = masked(rng.normal(size=n), ~z_miss)  # observed only where z is missing
     cols = {
         "x": x, "y": y, "y2": y2, "strong": strong, "w": w,
-        "z": masked(z, z_miss), "z2": masked(z2, z_miss), "u": masked(u, u_miss),
+        "z": masked(z, z_miss), "z2": masked(z2, z_miss), "zoff": masked(zoff, z_miss), "u": masked(u, u_miss),
         "g": [int(v) for v in g], "site": [int(v) for v in site],
         "xb": [int(v) for v in xb], "yb": [None if m else int(v) for v, m in zip(yb, yb_miss)],
         "region": [None if m else r for r, m in zip(region, region_miss)], "colour": colour,
@@ -398,7 +399,7 @@ def make_shapes():
     }
     types = {
         "x": "continuous", "y": "continuous", "y2": "continuous", "strong": "continuous", "w": "continuous",
-        "z": "continuous", "z2": "continuous", "u": "continuous", "g": "ordinal", "site": "nominal",
+        "z": "continuous", "z2": "continuous", "zoff": "continuous", "u": "continuous", "g": "ordinal", "site": "nominal",
         "xb": "binary", "yb": "binary", "region": "nominal", "colour": "nominal", "stage": "ordinal",
         "h": "continuous", "xh": "continuous", "yh": "continuous", "e": "continuous", "x3": "continuous",
         "y3": "continuous", "const1": "continuous", "late": "continuous", "pair": "nominal", "tri": "nominal",
@@ -654,6 +655,7 @@ SHAPES_CLAIMS = [
     ("stage", "y", ["site", "w"]),
     ("pair", "x", ["z"]),
     ("tri", "y", ["z"]),
+    ("x", "y", ["zoff"]),
     ("y", "pair", ["w", "g"]),
 ]
 SHAPES_RANK = [("x", "y", ["z"]), ("xb", "yb", ["z", "g"]), ("region", "y", ["z"]), ("x", "y", ["z", "u"]), ("stage", "y", ["site", "w"])]
