@@ -16,7 +16,8 @@
  * Knots are quantiles of the observed values by linear interpolation between order statistics
  * (Hyndman & Fan 1996, The American Statistician 50:361–365, definition 7, numpy's default). A
  * knot equal to an earlier one, or not strictly inside (min, max), is skipped, so a variable with
- * few distinct values gets fewer terms (a term that would be constant or zero is never made).
+ * few distinct values gets fewer terms (no term is constant; a hinge between two neighbouring
+ * values can still duplicate the linear term, and the regressions then drop it as aliased).
  */
 
 /** One basis term of a continuous variable. */

@@ -24,6 +24,11 @@
 
 /** Relative pivot below which an adjustment column is aliased with the columns before it. */
 export const ALIAS_TOLERANCE = 1e-9;
+/**
+ * A column whose variance is below this share of its `scale` (a second moment of its values
+ * about a point near their mean, which bounds the rounding error of the variance) is constant.
+ */
+export const CONSTANT_TOLERANCE = 1e-12;
 
 /** The state after one level: parameters so far and the responses' residual covariance. */
 export interface LevelSnapshot {
@@ -76,11 +81,15 @@ export class NestedAdjustment {
    * Add the next adjustment column, given its covariances with the columns added before it (in
    * the order added, kept or not: entries of dropped columns are ignored), its variance and its
    * covariances with the q responses. Returns whether it was kept (not aliased, not constant).
+   * `scale`, when given, is a second moment of the column's values about a point near their mean
+   * (e.g. the shifted sum of squares over n − 1): a variance below CONSTANT_TOLERANCE of it is
+   * rounding error of a column that is constant on these rows, which is then not kept.
    * Cost: O(k² + k·q).
    */
-  addColumn(covWithPrevious: ArrayLike<number>, variance: number, covWithResponses: ArrayLike<number>): boolean {
+  addColumn(covWithPrevious: ArrayLike<number>, variance: number, covWithResponses: ArrayLike<number>, scale?: number): boolean {
     const index = this.added++;
     if (!(variance > 0) || !Number.isFinite(variance)) return false;
+    if (scale !== undefined && !(variance > CONSTANT_TOLERANCE * scale)) return false;
     const k = this.keptColumns.length;
     const row = new Float64Array(k + 1);
     let d = variance;

@@ -34,7 +34,7 @@
  *   exactly when p < 0.05.
  * - *Linear check.* The details also carry the classic test with linear adjustment (continuous
  *   members of S as straight lines, equal variances assumed: the partial-correlation t test, or for
- *   a nominal side its chi-square analogue n·Σ canonical correlations² on q df), so that the audit
+ *   a nominal side its chi-square analogue (n − 1)·Σ canonical correlations² on q df), so that the audit
  *   can say where the verdict depends on the adjustment.
  */
 import type { Column, Table } from "../../data/Table.js";
@@ -43,10 +43,10 @@ import type { IndexedDesignColumn } from "../../data/Moments.js";
 import { midRanks } from "../../data/rankColumns.js";
 import { lrEffect, lrEffectCIAtAlpha } from "../../stats/effectScale.js";
 import { chiSquareUpperQuantileLog } from "../../stats/quantiles.js";
-import { basisTermLabel, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
+import { fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
 import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
 import { gramMatrix } from "../../stats/gramMatrix.js";
-import { bestLevel, NestedAdjustment } from "../../stats/nestedAdjustment.js";
+import { bestLevel, CONSTANT_TOLERANCE, NestedAdjustment } from "../../stats/nestedAdjustment.js";
 import { chiSquareUpper, logChiSquareUpper, logStudentTTwoSided, studentTTwoSided } from "../../stats/pvalues.js";
 import { createRng } from "../../stats/rng.js";
 import { cholesky, choleskySolve } from "../../stats/linalg.js";
@@ -504,7 +504,7 @@ function sideModel(col: Column, name: TestName): string {
 
 /**
  * The classic test with the level-0 (linear) adjustment and equal variances: the partial
- * correlation t test on n − 2 − p df for one product; for several, n·Σ canonical correlations²
+ * correlation t test on n − 2 − p df for one product; for several, (n − 1)·Σ canonical correlations²
  * (the score statistic of multivariate normal regression) on qx·qy df. Cost: O(q³).
  */
 export interface LinearCheck {
@@ -558,6 +558,18 @@ function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, 
 // Row path
 
 
+/**
+ * An exact key of what a claim column computes from its source array: the indicator's code, or
+ * the basis term with its knots written in full (`String` of a double round-trips), so columns
+ * whose labels round to the same text never share a cache entry.
+ */
+function termKey(c: ClaimColumn): string {
+  if (c.code !== undefined) return `=${c.code}`;
+  const t = c.term;
+  if (!t || t.kind === "linear") return "";
+  return t.kind === "hinge" ? `h${String(t.knot)}` : `s${t.j}:${t.knots.map(String).join(",")}`;
+}
+
 /** A column of ones of the given length (cached), whose products with other columns are their sums. */
 let onesCache = new Float64Array(0);
 function onesColumn(rows: number): Float64Array {
@@ -566,7 +578,7 @@ function onesColumn(rows: number): Float64Array {
 }
 
 /** Per column, each claim column's values on every row, shifted by their mean (NaN where missing). */
-const shiftedMemo = new WeakMap<Column, Map<string, Float64Array>>();
+const shiftedMemo = new WeakMap<object, Map<string, Float64Array>>();
 /** The shift subtracted from each cached array of `shiftedValues`. */
 const shiftOf = new WeakMap<Float64Array, number>();
 
@@ -577,9 +589,11 @@ const shiftOf = new WeakMap<Float64Array, number>();
  * Cost: O(rows) the first time.
  */
 function shiftedValues(c: ClaimColumn): Float64Array {
-  let byTerm = shiftedMemo.get(c.column);
-  if (!byTerm) shiftedMemo.set(c.column, (byTerm = new Map()));
-  const key = c.code !== undefined ? `=${c.code}` : c.values ? "rank" : c.term ? basisTermLabel("", c.term) : "";
+  // keyed by the array read (the column, or its mid-ranks under a given row filter) and the exact term
+  const source: object = c.values ?? c.column;
+  let byTerm = shiftedMemo.get(source);
+  if (!byTerm) shiftedMemo.set(source, (byTerm = new Map()));
+  const key = termKey(c);
   let v = byTerm.get(key);
   if (v) return v;
   const rows = c.column.values.length;
@@ -606,7 +620,7 @@ function shiftedValues(c: ClaimColumn): Float64Array {
 }
 
 /** The two values of a side column when it takes exactly two (a < b) on its variable's observed rows. */
-const twoValuesMemo = new WeakMap<Column, Map<string, [number, number] | null>>();
+const twoValuesMemo = new WeakMap<object, [number, number] | null>();
 
 /**
  * [a, b] when a side column takes exactly two distinct values a < b over every observed row of
@@ -615,10 +629,8 @@ const twoValuesMemo = new WeakMap<Column, Map<string, [number, number] | null>>(
  */
 function twoValues(c: ClaimColumn): [number, number] | undefined {
   if (c.code !== undefined) return [0, 1];
-  let byKind = twoValuesMemo.get(c.column);
-  if (!byKind) twoValuesMemo.set(c.column, (byKind = new Map()));
-  const key = c.values ? "rank" : "value";
-  let found = byKind.get(key);
+  const source: object = c.values ?? c.column;
+  let found = twoValuesMemo.get(source);
   if (found === undefined) {
     const v = c.values ?? c.column.values;
     let a = NaN;
@@ -633,7 +645,7 @@ function twoValues(c: ClaimColumn): [number, number] | undefined {
       else break;
     }
     if (i === v.length && b === b) found = a < b ? [a, b] : [b, a];
-    byKind.set(key, found);
+    twoValuesMemo.set(source, found);
   }
   return found ?? undefined;
 }
@@ -717,7 +729,7 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
       for (const k of fit.keptColumns) prev[k] = cov(c, k);
       const withResp = new Float64Array(q);
       for (let r = 0; r < q; r++) withResp[r] = cov(c, side(r));
-      fit.addColumn(prev, cov(c, c), withResp);
+      fit.addColumn(prev, cov(c, c), withResp, G[c * d + c]! / (n - 1));
     }
     fit.endLevel();
     ({ bestX, bestY } = chooseLevel(fit, qx, q));
@@ -846,6 +858,24 @@ function momentLayout(name: TestName, claim: Claim, cols: Column[], ctx: TestCon
   return { layout: { adjustment, sides, entered, cap }, sides };
 }
 
+/** Per pattern moments, the mean and variance of each design column over all its variable's observed rows. */
+const overallMemo = new WeakMap<object, Map<number, { mean: number; variance: number }>>();
+
+function overallMoments(ctx: TestContext): (index: number) => { mean: number; variance: number } {
+  let memo = overallMemo.get(ctx.moments as object);
+  if (!memo) overallMemo.set(ctx.moments as object, (memo = new Map()));
+  const cache = memo;
+  return (index) => {
+    let o = cache.get(index);
+    if (!o) {
+      const mm = ctx.moments.momentsForColumns([index]);
+      o = { mean: mm.means[0]!, variance: mm.n > 1 && mm.cov[0]! > 0 ? mm.cov[0]! : 0 };
+      cache.set(index, o);
+    }
+    return o;
+  };
+}
+
 function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult | undefined {
   const found = momentLayout(name, claim, cols, ctx);
   if (!found) return undefined;
@@ -860,7 +890,24 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
   const d = idx.length;
   const cov = (a: number, b: number) => m.cov[a * d + b]!;
   // Side columns that vary among the complete rows.
-  const keepSide = sideList.map((_, r) => cov(A + r, A + r) > 0);
+  // Each column's scale: its variance over all its variable's observed rows plus the squared
+  // distance of its mean on the complete rows from its overall mean, which bounds the rounding
+  // error of its variance on the complete rows (the moments' shifts are near the overall means);
+  // a variance below CONSTANT_TOLERANCE of it is a column constant on the complete rows.
+  const overall = overallMoments(ctx);
+  const columnScale = (a: number): number => {
+    const o = overall(idx[a]!);
+    return o.variance + (m.means[a]! - o.mean) ** 2;
+  };
+  const keepSide = sideList.map((_, r) => cov(A + r, A + r) > CONSTANT_TOLERANCE * columnScale(A + r));
+  // a nominal side whose reference level is absent from the complete rows: its indicators sum to
+  // 1 there, so the first one present is the reference instead (as on the row path)
+  for (const [from, to] of [[0, layout.sides[0].length], [layout.sides[0].length, sideList.length]] as const) {
+    const present: number[] = [];
+    for (let r = from; r < to; r++) if (keepSide[r] && sideList[r]!.code !== undefined) present.push(r);
+    const share = present.reduce((t, r) => t + m.means[A + r]!, 0);
+    if (present.length > 0 && share > 1 - 1e-9) keepSide[present[0]!] = false;
+  }
   const qx = layout.sides[0].filter((_, r) => keepSide[r]).length;
   const qy = layout.sides[1].filter((_, r) => keepSide[layout.sides[0].length + r]).length;
   if (qx === 0) return { ok: false, reason: `"${claim.x}" is constant among the ${n} complete rows; the claim cannot be tested` };
@@ -875,7 +922,7 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
     for (; j < A && adjustment[j]!.level === level; j++) {
       const prev = new Float64Array(j);
       for (let k = 0; k < j; k++) prev[k] = cov(j, k);
-      fit.addColumn(prev, cov(j, j), respPos.map((r) => cov(j, r)));
+      fit.addColumn(prev, cov(j, j), respPos.map((r) => cov(j, r)), columnScale(j));
     }
     fit.endLevel();
   }
@@ -951,7 +998,7 @@ function sampleCache(ctx: TestContext): SampleCache {
       return out;
     },
     offset(c) {
-      const k = `${c.variable}\u0000${c.label}`;
+      const k = `${c.variable}\u0000${c.values ? "rank" : "value"}\u0000${termKey(c)}`;
       let at = byColumn.get(k);
       if (at === undefined) {
         if ((used + 1) * M > buffer.length) {
@@ -1031,7 +1078,11 @@ export function usesRowPath(table: Table, rowFilter?: Uint8Array): boolean {
   return true;
 }
 
-/** Rough row work of a claim on the row path (see `TestMethod.rowWork`); 0 on the moment path. */
+/**
+ * Rough row work of a claim on the row path (see `TestMethod.rowWork`); 0 on the moment path. It
+ * sees the table, not a row filter: a filtered table of more than ROW_PATH_MAX_ROWS rows that the
+ * filter brings below it reports 0 and its claims stay on the main thread (only scheduling differs).
+ */
 function gcmRowWork(claim: Claim, table: Table): number {
   if (table.rows > ROW_PATH_MAX_ROWS) return 0;
   const p = 1 + 8 * claim.given.length;

@@ -318,47 +318,47 @@ describe("gcm: untestable claims", () => {
   });
 });
 
-describe("gcm: known discrepancies with the reference (each test passes while the discrepancy lasts; make it an `it` once fixed)", () => {
-  // Known bug: a column that is constant (here: exactly 0) among the claim's complete rows gets
-  // a rounding-error variance from the shifted cross-products instead of 0, passes the alias test
-  // (which is relative to that variance) and is kept as a parameter. x3 ⫫ y3 | e: y3 is missing
+describe("gcm: regressions found against the reference (each pins a bug that made the project disagree with it)", () => {
+  // Pins a fixed bug: a column that is constant (here: exactly 0) among the claim's complete rows
+  // got a rounding-error variance from the shifted cross-products instead of 0, passed the alias
+  // test (which is relative to that variance) and was kept as a parameter. x3 ⫫ y3 | e: y3 is missing
   // above e's 80th percentile, so e's upper hinges are 0 on the complete rows; the reference
-  // drops 12 such columns (rows, level 5) and 3 (moments, level 3), the project fewer.
-  it.fails("x3 ⫫ y3 | e: hinge columns that are 0 on every complete row are dropped, as in the reference", () => {
+  // drops 12 such columns (rows, level 5) and 3 (moments, level 3); the project dropped fewer.
+  it("x3 ⫫ y3 | e: hinge columns that are 0 on every complete row are dropped, as in the reference", () => {
     for (const c of tested.filter((c) => c.constant_columns > 0)) expectMatches(run(c, contexts[c.data]), c);
   });
 
-  // Known bug: on the moment path a nominal side's columns are the indicators of every level of
-  // the column but its first. pair ⫫ x | z: the indicator of level r, absent from the complete
-  // rows, has a rounding-error variance from the shifted moments instead of 0 and is kept, so the
-  // claim is tested on 2 components (F on 2 df, no linear check) instead of 1.
-  it.fails("pair ⫫ x | z on the moment path: the indicator of a level absent from the complete rows is not a component", () => {
+  // Pins a fixed bug: on the moment path a nominal side's columns are the indicators of every
+  // level of the column but its first. pair ⫫ x | z: the indicator of level r, absent from the complete
+  // rows, had a rounding-error variance from the shifted moments instead of 0 and was kept, so the
+  // claim was tested on 2 components (F on 2 df, no linear check) instead of 1.
+  it("pair ⫫ x | z on the moment path: the indicator of a level absent from the complete rows is not a component", () => {
     const c = tested.find((c) => c.x === "pair" && c.path === "moments")!;
     expectMatches(run(c, contexts[c.data]), c);
   });
 
-  // Known bug, same cause: tri ⫫ y | z on the moment path, where tri's first level (a) is absent
-  // from the complete rows, keeps three indicators that sum to 1; the per-row multinomial
-  // variance (floored and scaled) keeps the redundant third residual product from being dropped,
-  // so W is right but referred to F(3, ·) instead of F(2, ·), with no linear check.
-  it.fails("tri ⫫ y | z on the moment path: with the first level absent, the side has 2 components as on the row path", () => {
+  // Pins a fixed bug, same cause: tri ⫫ y | z on the moment path, where tri's first level (a) is
+  // absent from the complete rows, kept three indicators that sum to 1; the per-row multinomial
+  // variance (floored and scaled) kept the redundant third residual product from being dropped,
+  // so W was right but referred to F(3, ·) instead of F(2, ·), with no linear check.
+  it("tri ⫫ y | z on the moment path: with the first level absent, the side has 2 components as on the row path", () => {
     const c = tested.find((c) => c.x === "tri" && c.path === "moments")!;
     expectMatches(run(c, contexts[c.data]), c);
   });
 
-  // Known bug: the row path caches each basis column under its label, and a hinge's label gives
+  // Pins a fixed bug: the row path cached each basis column under its label, and a hinge's label gives
   // its knot to 6 significant digits (basisTermLabel), so the hinges of zoff = z + 1e5 (knots
-  // 100000.2, 100000.3, ...) share one cached column and all but one are dropped as aliased; the
-  // moment path's sampled columns are keyed by the same label, so its variance reads the wrong
-  // hinge values. The reference (and the test, which is invariant to the offset) keep 64 columns.
-  it.fails("x ⫫ y | zoff, z on an offset of 1e5: the same levels and parameters as for z, on both paths", () => {
+  // 100000.2, 100000.3, ...) shared one cached column and all but one were dropped as aliased;
+  // the moment path's sampled columns were keyed by the same label, so its variance read the
+  // wrong hinge values. The reference (and the test, which is invariant to the offset) keep 64 columns.
+  it("x ⫫ y | zoff, z on an offset of 1e5: the same levels and parameters as for z, on both paths", () => {
     for (const c of tested.filter((c) => c.given.includes("zoff"))) expectMatches(run(c, contexts[c.data]), c);
   });
 
-  // Known bug: shifted columns are cached per column and term label, not per row filter or
-  // knots, so running claims of one table without and then with a row filter reuses mid-ranks
+  // Pins a fixed bug: shifted columns were cached per column and term label, not per row filter
+  // or knots, so running claims of one table without and then with a row filter reused mid-ranks
   // and spline columns of the first run.
-  it.fails("claims of one table run without and then with a row filter give the reference's filtered results", () => {
+  it("claims of one table run without and then with a row filter give the reference's filtered results", () => {
     const table = tables.shapes;
     const ctx: TestContext = { ...contexts.shapes, rowFilter: listwiseFilter(table) };
     for (const c of tested.filter((c) => c.filter === null && c.data === "shapes" && c.path === "rows" && !hasConstantColumn(c))) run(c, contexts.shapes);
