@@ -28,7 +28,7 @@
 import { UnknownNodeError } from "../errors.js";
 import { rankColumns } from "./rankColumns.js";
 import { createSimdCrossProduct } from "./simdCrossProduct.js";
-import { basisTermLabel, fillBasisValues, splineConstants, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
+import { basisTermLabel, fillBasisValues, splineAt, splineConstants, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
 import type { DesignColumn, IndexedDesignColumn, Moments, PatternMoments } from "./Moments.js";
 import type { Table } from "./Table.js";
 
@@ -761,6 +761,7 @@ function accumulateByPattern(
       const c = shift[k]!;
       const s = scores[k];
       const term = terms[k];
+      // (a basis column's term is never the linear one: that is the score column itself)
       if (term !== undefined) stageBasis(stage, rowBase, s!, i0, len, k, c, term);
       else if (s !== undefined) {
         for (let r = 0; r < len; r++) {
@@ -799,9 +800,9 @@ function accumulateByPattern(
 }
 
 /**
- * Stage basis-term values of one design column for a block of rows: stage[rowBase[r] + k] =
- * term(s[i0 + r]) − c, 0 where s is missing; rows with rowBase −1 are skipped. Hinges and
- * spline terms have their own loops (no call per row). Cost: O(len).
+ * Stage basis-term values of one design column (a hinge or a spline term) for a block of rows:
+ * stage[rowBase[r] + k] = term(s[i0 + r]) − c, 0 where s is missing; rows with rowBase −1 are
+ * skipped. Cost: O(len).
  */
 function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, i0: number, len: number, k: number, c: number, term: BasisTerm): void {
   if (term.kind === "hinge") {
@@ -812,30 +813,13 @@ function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, i
       const v = s[i0 + r]!;
       stage[o + k] = v === v ? (v > t ? v - t : 0) - c : 0;
     }
-  } else if (term.kind === "linear") {
+  } else if (term.kind === "spline") {
+    const sc = splineConstants(term);
     for (let r = 0; r < len; r++) {
       const o = rowBase[r]!;
       if (o < 0) continue;
       const v = s[i0 + r]!;
-      stage[o + k] = v === v ? v - c : 0;
-    }
-  } else {
-    const { tj, tk1, tk, a, b, scale } = splineConstants(term);
-    for (let r = 0; r < len; r++) {
-      const o = rowBase[r]!;
-      if (o < 0) continue;
-      const v = s[i0 + r]!;
-      if (v !== v) {
-        stage[o + k] = 0;
-        continue;
-      }
-      const u = v - tj;
-      const w1 = v - tk1;
-      const w2 = v - tk;
-      let f = u > 0 ? u * u * u : 0;
-      if (w1 > 0) f -= w1 * w1 * w1 * a;
-      if (w2 > 0) f += w2 * w2 * w2 * b;
-      stage[o + k] = f * scale - c;
+      stage[o + k] = v === v ? splineAt(v, sc) - c : 0;
     }
   }
 }

@@ -111,24 +111,8 @@ export function basisValue(term: BasisTerm, s: number): number {
       return d > 0 ? d : s === s ? 0 : NaN;
     }
     case "spline":
-      return s === s ? splineTerm(s, term.knots, term.j) : NaN;
+      return s === s ? splineAt(s, splineConstants(term)) : NaN;
   }
-}
-
-/** (u)³₊ */
-function cubePlus(u: number): number {
-  return u > 0 ? u * u * u : 0;
-}
-
-/** The natural cubic spline term j of the knots t at s (Harrell 2015, eq. 2.25, scaled by (t_K − t_1)²). */
-function splineTerm(s: number, t: readonly number[], j: number): number {
-  const K = t.length;
-  const tj = t[j]!;
-  const tk1 = t[K - 2]!;
-  const tk = t[K - 1]!;
-  const range = tk - t[0]!;
-  const v = cubePlus(s - tj) - (cubePlus(s - tk1) * (tk - tj)) / (tk - tk1) + (cubePlus(s - tk) * (tk1 - tj)) / (tk - tk1);
-  return v / (range * range);
 }
 
 /**
@@ -143,6 +127,17 @@ export function splineConstants(term: Extract<BasisTerm, { kind: "spline" }>): {
   const tk = t[K - 1]!;
   const range = tk - t[0]!;
   return { tj, tk1, tk, a: (tk - tj) / (tk - tk1), b: (tk1 - tj) / (tk - tk1), scale: 1 / (range * range) };
+}
+
+/** The spline term at s (not missing) from its constants (see {@link splineConstants}). Cost: O(1). */
+export function splineAt(s: number, k: { tj: number; tk1: number; tk: number; a: number; b: number; scale: number }): number {
+  const u = s - k.tj;
+  const v = s - k.tk1;
+  const w = s - k.tk;
+  let f = u > 0 ? u * u * u : 0;
+  if (v > 0) f -= v * v * v * k.a;
+  if (w > 0) f += w * w * w * k.b;
+  return f * k.scale;
 }
 
 /**
@@ -161,20 +156,10 @@ export function fillBasisValues(term: BasisTerm, values: Float64Array, out: Floa
       out[i] = d > 0 ? d : d === d ? 0 : NaN;
     }
   } else {
-    const { tj, tk1, tk, a, b, scale } = splineConstants(term);
+    const k = splineConstants(term);
     for (let i = 0; i < n; i++) {
       const s = values[i]!;
-      if (s !== s) {
-        out[i] = NaN;
-        continue;
-      }
-      const u = s - tj;
-      const v = s - tk1;
-      const w = s - tk;
-      let f = u > 0 ? u * u * u : 0;
-      if (v > 0) f -= v * v * v * a;
-      if (w > 0) f += w * w * w * b;
-      out[i] = f * scale;
+      out[i] = s === s ? splineAt(s, k) : NaN;
     }
   }
   return out;

@@ -798,6 +798,13 @@ export function newtonLoop(
   let status: FitStatus = "not-converged";
   let it = 0;
   let ownInfo = fresh; // F was computed on the rows (at this or an earlier, nearby iterate)
+  /** A pass with the information at β, taken as the iterate; false when that information is singular. */
+  const refreshAtBeta = (): boolean => {
+    ll = pass(beta, g, true);
+    accept();
+    F = factor();
+    return F !== undefined;
+  };
   let trial: Float64Array | undefined;
   let gTrial: Float64Array | undefined;
   let out: Uint8Array | undefined;
@@ -845,10 +852,7 @@ export function newtonLoop(
           break;
         }
         // not a direction of recession after all: back to the iterate and on with Newton
-        ll = pass(beta, g, true);
-        accept();
-        F = factor();
-        if (!F) {
+        if (!refreshAtBeta()) {
           status = "singular";
           break;
         }
@@ -882,10 +886,7 @@ export function newtonLoop(
     if (!(llNew >= ll - 1e-12 * Math.abs(ll))) {
       if (!fresh) {
         // retry with the information matrix at β before giving up
-        ll = pass(beta, g, true);
-        accept();
-        F = factor();
-        if (!F) {
+        if (!refreshAtBeta()) {
           status = "singular";
           break;
         }

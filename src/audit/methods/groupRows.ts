@@ -299,3 +299,19 @@ export function groupStrata(x: Column, y: Column, given: readonly Column[], rows
   }
   return { n: g.n, strata, ...(twoByTwo ? { twoByTwo: full } : {}) };
 }
+
+/**
+ * The untestable reason of a stratified claim in which x and y never vary together within a
+ * stratum, in plain words. Cost: O(k).
+ * @example neverBothVary({ x: "a", y: "b", given: ["s"] }, 12, 40) // '"a" and "b" never both vary within any stratum of "s" (12 strata, 40 complete rows); …'
+ */
+export function neverBothVary(claim: { x: string; y: string; given: readonly string[] }, strataTotal: number, n: number): string {
+  const where = claim.given.length ? ` within any stratum of ${claim.given.map((g) => `"${g}"`).join(", ")}` : "";
+  return `"${claim.x}" and "${claim.y}" never both vary${where} (${strataTotal} strata, ${n} complete rows); the claim cannot be tested with these data`;
+}
+
+/** The warning for strata that contribute nothing (a single row, or a single level of x or y), if any. Cost: O(1). */
+export function unusedStrataWarning(claim: { x: string; y: string }, strataUsed: number, strataTotal: number): string | undefined {
+  const unused = strataTotal - strataUsed;
+  return unused > 0 ? `${unused} of ${strataTotal} strata have a single row or a single level of "${claim.x}" or "${claim.y}" and contribute nothing` : undefined;
+}

@@ -42,7 +42,7 @@ import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import { strataAdjustment } from "./adjustmentDetails.js";
 import type { Claim, TestOutcome } from "../types.js";
-import { groupStrata, type CompactStratum } from "./groupRows.js";
+import { groupStrata, neverBothVary, unusedStrataWarning, type CompactStratum } from "./groupRows.js";
 
 /** Permuted statistics reaching the observed one after which the sequential permutation test stops (Besag & Clifford 1991). */
 export const STOP_AFTER_HITS = 20;
@@ -152,18 +152,10 @@ export function runLinearByLinear(claim: Claim, ctx: TestContext): MethodResult 
     colScores: Float64Array.from(t.yCodes, (c) => ys.scores[c]!),
   }));
   const res = linearByLinearStatistic(strata);
-  const where = given.length ? ` within any stratum of ${quoted(claim.given)}` : "";
-  if (res.strataUsed === 0) {
-    return {
-      ok: false,
-      reason: `"${claim.x}" and "${claim.y}" never both vary${where} (${res.strataTotal} strata, ${n} complete rows); the claim cannot be tested with these data`,
-    };
-  }
+  if (res.strataUsed === 0) return { ok: false, reason: neverBothVary(claim, res.strataTotal, n) };
   const warnings: string[] = [];
-  const unused = res.strataTotal - res.strataUsed;
-  if (unused > 0) {
-    warnings.push(`${unused} of ${res.strataTotal} strata have a single row or a single level of "${claim.x}" or "${claim.y}" and contribute nothing`);
-  }
+  const unused = unusedStrataWarning(claim, res.strataUsed, res.strataTotal);
+  if (unused) warnings.push(unused);
   const sign: -1 | 0 | 1 = res.deviation > 0 ? 1 : res.deviation < 0 ? -1 : 0;
   let p: number;
   let logP: number;

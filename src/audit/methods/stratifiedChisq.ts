@@ -54,7 +54,7 @@ import { stratifiedChiSquare } from "../../stats/stratifiedChiSquare.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { Claim, TestOutcome } from "../types.js";
 import { strataAdjustment } from "./adjustmentDetails.js";
-import { groupStrata, type CompactStratum } from "./groupRows.js";
+import { groupStrata, neverBothVary, unusedStrataWarning, type CompactStratum } from "./groupRows.js";
 
 /** Fewest Monte-Carlo permutations when the sparse rule applies and the user gave none (more when the decision floor asks; see `permutationsForFloor`). */
 export const DEFAULT_PERMUTATIONS = BASE_PERMUTATIONS;
@@ -136,18 +136,10 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   const { n, strata: tables, twoByTwo: mh } = groupStrata(x, y, given, ctx.table.rows, ctx.rowFilter);
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
   const res = stratifiedChiSquare(tables);
-  const where = given.length ? ` within any stratum of ${quoted(claim.given)}` : "";
-  if (res.df === 0) {
-    return {
-      ok: false,
-      reason: `"${claim.x}" and "${claim.y}" never both vary${where} (${res.strataTotal} strata, ${n} complete rows); the claim cannot be tested with these data`,
-    };
-  }
+  if (res.df === 0) return { ok: false, reason: neverBothVary(claim, res.strataTotal, n) };
   const warnings: string[] = [];
-  const unused = res.strataTotal - res.strataUsed;
-  if (unused > 0) {
-    warnings.push(`${unused} of ${res.strataTotal} strata have a single row or a single level of "${claim.x}" or "${claim.y}" and contribute nothing`);
-  }
+  const unused = unusedStrataWarning(claim, res.strataUsed, res.strataTotal);
+  if (unused) warnings.push(unused);
   const sparseShare = res.cells > 0 ? res.sparseCells / res.cells : 0;
   const sparse = sparseShare > SPARSE_SHARE;
   const permute = sparse || ctx.permutations !== undefined;

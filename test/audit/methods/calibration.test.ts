@@ -5,14 +5,13 @@
  */
 import { describe, expect, it } from "vitest";
 import type { Column, Table, VariableType } from "../../../src/data/Table.js";
-import { buildPatternMoments } from "../../../src/data/buildPatternMoments.js";
-import type { PatternMoments } from "../../../src/data/Moments.js";
 import { groupStrata } from "../../../src/audit/methods/groupRows.js";
 import { linearByLinear } from "../../../src/audit/methods/linearByLinear.js";
 import { regressionLr } from "../../../src/audit/methods/regressionLr.js";
 import { stratifiedChisq } from "../../../src/audit/methods/stratifiedChisq.js";
 import type { TestContext, TestMethod } from "../../../src/audit/TestMethod.js";
 import type { Claim, TestOutcome } from "../../../src/audit/types.js";
+import { lazyMoments } from "../../helpers/lazyMoments.js";
 import { createRng, type Rng } from "../../../src/stats/rng.js";
 import { stratifiedChiSquare } from "../../../src/stats/stratifiedChiSquare.js";
 import { binomialInterval } from "../../helpers/simulate.js";
@@ -34,18 +33,6 @@ function num(name: string, values: Float64Array): Column {
 }
 function table(cols: Column[]): Table {
   return { rows: cols[0]!.values.length, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
-}
-/** Pattern moments of every column of the table, built on first use (linear models read them; the table tests do not). */
-function lazyMoments(t: Table): PatternMoments {
-  let built: PatternMoments | undefined;
-  const all = () => (built ??= buildPatternMoments(t, { variables: t.columns.map((c) => c.name) }));
-  return new Proxy({} as PatternMoments, {
-    get(_, key) {
-      const m = all();
-      const v = Reflect.get(m, key) as unknown;
-      return typeof v === "function" ? (v as (...a: unknown[]) => unknown).bind(m) : v;
-    },
-  });
 }
 function ctx(t: Table, seed: number): TestContext {
   const unused = () => { throw new Error("not used"); };

@@ -1,8 +1,6 @@
 import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
-import { buildPatternMoments } from "../../../src/data/buildPatternMoments.js";
-import type { PatternMoments } from "../../../src/data/Moments.js";
 import type { Column, Table, VariableType } from "../../../src/data/Table.js";
 import { groupRows, groupStrata } from "../../../src/audit/methods/groupRows.js";
 import { regressionLr } from "../../../src/audit/methods/regressionLr.js";
@@ -13,6 +11,7 @@ import { logisticRegression } from "../../../src/stats/logisticRegression.js";
 import { multinomialLogit } from "../../../src/stats/multinomialLogit.js";
 import { lrEffectCI } from "../../../src/stats/effectScale.js";
 import { chiSquareUpper } from "../../../src/stats/pvalues.js";
+import { lazyMoments } from "../../helpers/lazyMoments.js";
 import { createRng } from "../../../src/stats/rng.js";
 
 // ---- tiny hand-built tables (the CSV reader is tested elsewhere) ----
@@ -30,20 +29,7 @@ function table(cols: Column[]): Table {
   const rows = cols[0]?.values.length ?? 0;
   return { rows, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
 }
-/** Pattern moments of every column of the table, built on first use (linear models read them; the table tests do not). */
-function lazyMoments(t: Table): PatternMoments {
-  let built: PatternMoments | undefined;
-  const all = () => (built ??= buildPatternMoments(t, { variables: t.columns.map((c) => c.name) }));
-  return new Proxy({} as PatternMoments, {
-    get(_, key) {
-      const m = all();
-      const v = Reflect.get(m, key) as unknown;
-      return typeof v === "function" ? (v as (...a: unknown[]) => unknown).bind(m) : v;
-    },
-  });
-}
 function ctx(t: Table, extra: Partial<TestContext> = {}): TestContext {
-  const unused = () => { throw new Error("ranks are not used by these methods"); };
   return { table: t, moments: lazyMoments(t), seed: 1, ...extra };
 }
 function ok(r: ReturnType<typeof stratifiedChisq.run>): TestOutcome {
