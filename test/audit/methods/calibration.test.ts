@@ -35,7 +35,6 @@ function table(cols: Column[]): Table {
   return { rows: cols[0]!.values.length, columns: cols, warnings: [], column: (n) => cols.find((c) => c.name === n) };
 }
 function ctx(t: Table, seed: number): TestContext {
-  const unused = () => { throw new Error("not used"); };
   return { table: t, moments: lazyMoments(t), seed };
 }
 /** Draw a category from weights. */
