@@ -70,7 +70,6 @@ export const ROWS_PER_PARAMETER = 10;
 /** One adjustment or side column of a claim: how to read its value in a row. */
 interface ClaimColumn {
   variable: string;
-  label: string;
   /** Level of the hierarchy (0 for indicators and linear terms). */
   level: number;
   column: Column;
@@ -87,7 +86,6 @@ interface ClaimColumn {
 function quoted(names: readonly string[]): string {
   return names.map((s) => `"${s}"`).join(", ");
 }
-
 
 function isMissing(c: Column, i: number): boolean {
   if (c.codes && CATEGORICAL_TYPES.has(c.type)) return c.codes[i]! < 0;
@@ -168,9 +166,9 @@ interface Layout {
 /** Columns of a side: the score (or rank), or indicators of the observed levels but the first. */
 function sideColumns(col: Column, present: readonly number[] | undefined, rank: boolean, rowFilter?: Uint8Array): ClaimColumn[] {
   if (col.type === "nominal") {
-    return present!.slice(1).map((code) => ({ variable: col.name, label: `${col.name}=${col.levels![code]}`, level: 0, column: col, code }));
+    return present!.slice(1).map((code) => ({ variable: col.name, level: 0, column: col, code }));
   }
-  return [{ variable: col.name, label: rank ? `${col.name}:rank` : col.name, level: 0, column: col, ...(rank ? { values: columnRanks(col, rowFilter) } : {}) }];
+  return [{ variable: col.name, level: 0, column: col, ...(rank ? { values: columnRanks(col, rowFilter) } : {}) }];
 }
 
 /** The adjustment columns of the given members up to `cap` (categorical: indicators of the present levels but the first). */
@@ -181,7 +179,7 @@ function adjustmentColumns(given: readonly Column[], present: ReadonlyMap<Column
   for (const col of given) {
     if (CATEGORICAL_TYPES.has(col.type) && col.codes) {
       const codes = present.get(col)!.slice(1);
-      for (const code of codes) byLevel[0]!.push({ variable: col.name, label: `${col.name}=${col.levels![code]}`, level: 0, column: col, code });
+      for (const code of codes) byLevel[0]!.push({ variable: col.name, level: 0, column: col, code });
       entered.push({ variable: col.name, entered: "indicators", levelCounts: [codes.length] });
       continue;
     }
@@ -191,7 +189,7 @@ function adjustmentColumns(given: readonly Column[], present: ReadonlyMap<Column
       const terms = basis.levels[l] ?? [];
       counts.push(terms.length);
       for (const term of terms) {
-        byLevel[l]!.push(term.kind === "linear" ? { variable: col.name, label: col.name, level: 0, column: col } : { variable: col.name, label: `${col.name}:${term.kind}`, level: l, column: col, term });
+        byLevel[l]!.push(term.kind === "linear" ? { variable: col.name, level: 0, column: col } : { variable: col.name, level: l, column: col, term });
       }
     }
     entered.push({ variable: col.name, entered: cap > 0 ? "spline" : "linear", levelCounts: counts });
@@ -425,7 +423,7 @@ function outcomeOf(
   const qq = qx * qy;
   const sumR = new Float64Array(qq);
   for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = (n - 1) * snap.residual[a * q + qx + b]!;
-  // Residuals on the variance rows: e_r = side_r − Σ_k β_rk col_k (all centred), column by column.
+  // The variance of the residual products over the variance rows.
   const m = values.rows;
   const meanR = sumR.map((v) => v / n);
   const sigma = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, meanR);
@@ -502,11 +500,7 @@ function sideModel(col: Column, name: TestName): string {
   return `least squares of the ${what} on the adjustment`;
 }
 
-/**
- * The classic test with the level-0 (linear) adjustment and equal variances: the partial
- * correlation t test on n − 2 − p df for one product; for several, (n − 1)·Σ canonical correlations²
- * (the score statistic of multivariate normal regression) on qx·qy df. Cost: O(q³).
- */
+/** The classic test of a claim with linear adjustment (see {@link linearCheck}). */
 export interface LinearCheck {
   statistic: number;
   df: number;
@@ -516,6 +510,11 @@ export interface LinearCheck {
   effect: number;
 }
 
+/**
+ * The classic test with the level-0 (linear) adjustment and equal variances: the partial
+ * correlation t test on n − 2 − p df for one product; for several, (n − 1)·Σ canonical
+ * correlations² (the score statistic of multivariate normal regression) on qx·qy df. Cost: O(q³).
+ */
 function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, p: number): LinearCheck | undefined {
   const q = qx + qy;
   const nu = n - 2 - p;
@@ -798,19 +797,19 @@ export function varianceSample(table: Table, seed: number, rowFilter?: Uint8Arra
 }
 
 /** The moment columns of a claim, or undefined when the moments lack a column the claim needs. */
-function momentLayout(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): { layout: Layout; sides: [ClaimColumn[], ClaimColumn[]] } | undefined {
+function momentLayout(name: TestName, cols: Column[], ctx: TestContext): Layout | undefined {
   const [xCol, yCol, ...given] = cols as [Column, Column, ...Column[]];
   const of = (c: Column): readonly IndexedDesignColumn[] => ctx.moments.columnsOf(c.name);
   const rank = name === "gcm-rank";
   const side = (c: Column): ClaimColumn[] | undefined => {
     const list = of(c);
     if (c.type === "nominal") {
-      return list.filter((d) => d.column.kind === "indicator").map((d) => ({ variable: c.name, label: d.column.name, level: 0, column: c, code: d.column.code!, index: d.index }));
+      return list.filter((d) => d.column.kind === "indicator").map((d) => ({ variable: c.name, level: 0, column: c, code: d.column.code!, index: d.index }));
     }
     const want = rank ? "rank" : "score";
     const d = list.find((d) => d.column.kind === want);
     if (!d) return undefined;
-    return [{ variable: c.name, label: d.column.name, level: 0, column: c, index: d.index, ...(rank ? { values: columnRanks(c, ctx.rowFilter) } : {}) }];
+    return [{ variable: c.name, level: 0, column: c, index: d.index, ...(rank ? { values: columnRanks(c, ctx.rowFilter) } : {}) }];
   };
   const sx = side(xCol);
   const sy = side(yCol);
@@ -825,9 +824,9 @@ function momentLayout(name: TestName, claim: Claim, cols: Column[], ctx: TestCon
       if (c.type === "binary") {
         const d = list.find((d) => d.column.kind === "score");
         if (!d) return undefined;
-        ind = [{ variable: c.name, label: c.name, level: 0, column: c, index: d.index }];
+        ind = [{ variable: c.name, level: 0, column: c, index: d.index }];
       } else {
-        ind = list.filter((d) => d.column.kind === "indicator").map((d) => ({ variable: c.name, label: d.column.name, level: 0, column: c, code: d.column.code!, index: d.index }));
+        ind = list.filter((d) => d.column.kind === "indicator").map((d) => ({ variable: c.name, level: 0, column: c, code: d.column.code!, index: d.index }));
         if (ind.length === 0 && c.levels!.length > 1) return undefined;
       }
       byLevel[0]!.push(...ind);
@@ -836,12 +835,12 @@ function momentLayout(name: TestName, claim: Claim, cols: Column[], ctx: TestCon
     }
     const score = list.find((d) => d.column.kind === "score");
     if (!score) return undefined;
-    byLevel[0]!.push({ variable: c.name, label: c.name, level: 0, column: c, index: score.index });
+    byLevel[0]!.push({ variable: c.name, level: 0, column: c, index: score.index });
     const counts = [1];
     for (const d of list) {
       if (d.column.kind !== "basis") continue;
       const l = d.column.basisLevel!;
-      byLevel[l]!.push({ variable: c.name, label: d.column.name, level: l, column: c, term: d.column.term!, index: d.index });
+      byLevel[l]!.push({ variable: c.name, level: l, column: c, term: d.column.term!, index: d.index });
       counts[l] = (counts[l] ?? 0) + 1;
       cap = Math.max(cap, l);
     }
@@ -853,9 +852,7 @@ function momentLayout(name: TestName, claim: Claim, cols: Column[], ctx: TestCon
       if (cap === 0) e.entered = "linear";
     }
   }
-  const adjustment = byLevel.slice(0, cap + 1).flat();
-  const sides: [ClaimColumn[], ClaimColumn[]] = [sx, sy];
-  return { layout: { adjustment, sides, entered, cap }, sides };
+  return { adjustment: byLevel.slice(0, cap + 1).flat(), sides: [sx, sy], entered, cap };
 }
 
 /** Per pattern moments, the mean and variance of each design column over all its variable's observed rows. */
@@ -877,9 +874,8 @@ function overallMoments(ctx: TestContext): (index: number) => { mean: number; va
 }
 
 function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult | undefined {
-  const found = momentLayout(name, claim, cols, ctx);
-  if (!found) return undefined;
-  const { layout } = found;
+  const layout = momentLayout(name, cols, ctx);
+  if (!layout) return undefined;
   const { adjustment } = layout;
   const sideList = [...layout.sides[0], ...layout.sides[1]];
   const idx = [...adjustment.map((c) => c.index!), ...sideList.map((c) => c.index!)];
@@ -889,8 +885,7 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
   const A = adjustment.length;
   const d = idx.length;
   const cov = (a: number, b: number) => m.cov[a * d + b]!;
-  // Side columns that vary among the complete rows.
-  // Each column's scale: its variance over all its variable's observed rows plus the squared
+  // Side columns that vary among the complete rows. Each column's scale: its variance over all its variable's observed rows plus the squared
   // distance of its mean on the complete rows from its overall mean, which bounds the rounding
   // error of its variance on the complete rows (the moments' shifts are near the overall means);
   // a variance below CONSTANT_TOLERANCE of it is a column constant on the complete rows.
