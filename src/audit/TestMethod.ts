@@ -12,7 +12,7 @@ export interface TestContext {
   /**
    * Pattern moments of the scores (for moment-based methods), with the further columns the
    * audit's claims need: indicators of ordinal members of conditioning sets, flexible basis terms
-   * of continuous members and mid-ranks (see `momentExpansions` in runAudit.ts).
+   * of continuous members and mid-ranks (see `momentExpansions.ts`).
    */
   moments: PatternMoments;
   /** When set, only these rows may be used (listwise deletion); otherwise complete cases per claim. */

@@ -7,7 +7,7 @@
  * the conditioning set that is ordinal enters instead as indicators of its levels (never as a
  * score, which would assume its effect is linear in the codes); a binary member's score spans the
  * same space as its indicator. The audit builds those indicator columns for the ordinal members
- * of every moment-based claim (`momentExpansions` in runAudit.ts).
+ * of every moment-based claim (`momentExpansions.ts`).
  */
 import type { Moments, PatternMoments } from "../../data/Moments.js";
 import type { Table } from "../../data/Table.js";
