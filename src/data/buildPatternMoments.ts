@@ -14,6 +14,16 @@
  * The American Statistician 37(3):242–247, the shifted-data algorithm). Rows are summed in tiles
  * of TILE rows, and tiles into the pattern totals, a two-level (blocked) summation.
  *
+ * Scaling: every scored design column enters multiplied by 2^e, e the scale exponent of the
+ * array it reads (`stats/powerOfTwoScale.ts`: its largest |value| times 2^e lies in [0.5, 1)), a
+ * basis term with its knots scaled alike; shifts, sums and cross-products are all of the scaled
+ * values, so they stay finite for any finite data (a value of 1e155 or more has a square beyond
+ * the double range; a spline term is cubic in the value) and distinct subnormal values stay
+ * distinct. `momentsFor*` undo the scale (mean·2^−e_j, cov·2^−(e_j+e_k)), which changes no digit
+ * where the result is a normal double; where it is not (a variance beyond 1.8e308 or below
+ * 2.2e-308) the returned covariance carries its scaled twin (`stats/scaledCovariance.ts`), from
+ * which scale-free statistics are computed exactly.
+ *
  * Memory: O(P · d²) for P patterns and d design columns (only the columns observed in a pattern
  * are stored for it), plus two Int32 arrays of n while building. When that would exceed
  * `maxPatternBytes`, the statistics are not grouped and each `momentsFor` call reads the rows
@@ -28,7 +38,9 @@
 import { UnknownNodeError } from "../errors.js";
 import { rankColumns } from "./rankColumns.js";
 import { createSimdCrossProduct } from "./simdCrossProduct.js";
-import { basisTermLabel, fillBasisValues, splineAt, splineConstants, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
+import { basisTermLabel, fillBasisValues, scaleBasisTerm, splineAt, splineConstants, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
+import { columnScaleExponent, timesPowerOfTwo } from "../stats/powerOfTwoScale.js";
+import { attachScaledCovariance } from "../stats/scaledCovariance.js";
 import type { DesignColumn, IndexedDesignColumn, Moments, PatternMoments } from "./Moments.js";
 import type { Table } from "./Table.js";
 
@@ -83,7 +95,9 @@ export interface MomentExpansions {
 export interface PassColumn {
   /** Scores (NaN missing), or undefined for a dummy. */
   scores?: Float64Array;
-  /** A basis term applied to the scores (see `stats/flexibleBasis.ts`), if any. */
+  /** The power of two 2^e the scores are multiplied by before anything else (1 for a dummy). */
+  factor: number;
+  /** A basis term applied to the scaled scores, its knots scaled alike (see `stats/flexibleBasis.ts`), if any. */
   term?: BasisTerm;
   /** Level codes for a dummy (-1 missing). */
   codes?: Int32Array;
@@ -94,6 +108,8 @@ export interface PassColumn {
 interface DesignSource extends PassColumn {
   column: DesignColumn;
   variable: number;
+  /** Scale exponent e of the column (factor = 2^e). */
+  exponent: number;
 }
 
 /**
@@ -103,7 +119,7 @@ interface DesignSource extends PassColumn {
 export interface PatternPass {
   /** The design columns' values, in design order. */
   columns: PassColumn[];
-  /** Shift c_j per design column (its mean over the observed, filtered rows). */
+  /** Shift c_j per design column (its mean over the observed, filtered rows), of the scaled values. */
   shift: Float64Array;
   /** Pattern index of every row, -1 for a row left out by the row filter. */
   patternOfRow: Int32Array;
@@ -204,6 +220,10 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   const wantRanks = new Set(exp.ranks ?? []);
   const extraRanks = wantRanks.size > 0 ? rankColumns(table, variables.filter((v) => wantRanks.has(v) && table.column(v)!.type !== "nominal"), filter) : undefined;
   const design: DesignSource[] = [];
+  const scaleOf = (values: Float64Array): { factor: number; exponent: number } => {
+    const exponent = columnScaleExponent(values);
+    return { factor: 2 ** exponent, exponent };
+  };
   const designOf: number[][] = [];
   const defaultOf: number[][] = [];
   variables.forEach((name, vi) => {
@@ -215,7 +235,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
       const levels = col.levels!;
       for (let l = 1; l < levels.length; l++) {
         idx.push(design.length);
-        design.push({ column: { name: `${name}=${levels[l]}`, source: name, kind: "indicator", code: l }, variable: vi, codes, level: l });
+        design.push({ column: { name: `${name}=${levels[l]}`, source: name, kind: "indicator", code: l }, variable: vi, codes, level: l, factor: 1, exponent: 0 });
       }
     };
     if (col.type === "nominal") {
@@ -225,12 +245,12 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
       const scores = ranks?.get(name) ?? col.values;
       idx.push(design.length);
       defaults.push(design.length);
-      design.push({ column: { name, source: name, kind: "score" }, variable: vi, scores, level: -1 });
+      design.push({ column: { name, source: name, kind: "score" }, variable: vi, scores, level: -1, ...scaleOf(scores) });
       if (wantIndicators.has(name) && col.codes && col.levels) indicatorsOf();
       const r = extraRanks?.get(name);
       if (r) {
         idx.push(design.length);
-        design.push({ column: { name: `${name}:rank`, source: name, kind: "rank" }, variable: vi, scores: r, level: -1 });
+        design.push({ column: { name: `${name}:rank`, source: name, kind: "rank" }, variable: vi, scores: r, level: -1, ...scaleOf(r) });
       }
       const basis = exp.basis?.get(name);
       if (basis && col.type === "continuous") {
@@ -238,7 +258,8 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
           if (basisLevel === 0) return; // the linear term is the score itself
           for (const term of terms) {
             idx.push(design.length);
-            design.push({ column: { name: basisTermLabel(name, term), source: name, kind: "basis", term, basisLevel }, variable: vi, scores: col.values, term, level: -1 });
+            const scale = scaleOf(col.values);
+            design.push({ column: { name: basisTermLabel(name, term), source: name, kind: "basis", term, basisLevel }, variable: vi, scores: col.values, term: scaleBasisTerm(term, scale.factor), level: -1, ...scale });
           }
         });
       }
@@ -273,7 +294,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
       const picked = Math.ceil(n / step);
       if (basisScratch.length < picked) basisScratch = new Float64Array(picked);
       let m = 0;
-      for (let i = 0; i < n; i += step) basisScratch[m++] = src.scores[i]!;
+      for (let i = 0; i < n; i += step) basisScratch[m++] = src.scores[i]! * src.factor;
       const vals = basisScratch.subarray(0, m);
       if (src.term) fillBasisValues(src.term, vals, vals);
       let sum = 0;
@@ -294,11 +315,12 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
     const b = activeVars;
     const word = b < 31 ? keyLo : keyHi;
     const bit = b < 53 ? 1 << b % 31 : 0;
+    const f = src.factor;
     if (src.scores && !filter) {
       const s = src.scores;
       for (let i = 0; i < n; i++) {
         const v = s[i]!;
-        if (v === v) sum += v;
+        if (v === v) sum += v * f;
         else {
           missing++;
           word[i] |= bit;
@@ -312,7 +334,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
         const v = s[i]!;
         if (v === v) {
           if (filter![i] !== 0) {
-            sum += v;
+            sum += v * f;
             cnt++;
           }
         } else {
@@ -471,18 +493,30 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
     return { designIdx: [...indices], req: maskOf([...new Set(indices.map((j) => design[j]!.variable))], words) };
   };
   const columnsOf = (name: string): IndexedDesignColumn[] => designOf[variableIndex(name)]!.map((j) => ({ index: j, column: { ...design[j]!.column } }));
+  // Moments of the scaled columns, then the scale undone (exact where the result is a normal
+  // double); the scaled ones stay attached to the covariance as its twin.
   const finish = (designIdx: number[], count: number, S: Float64Array, C: Float64Array): Moments => {
     const d = designIdx.length;
+    const exponent = Int32Array.from(designIdx, (j) => design[j]!.exponent);
+    const scaledMeans = new Float64Array(d);
+    const scaledCov = new Float64Array(d * d);
     const means = new Float64Array(d);
     const cov = new Float64Array(d * d);
-    for (let a = 0; a < d; a++) means[a] = count > 0 ? shift[designIdx[a]!]! + S[a]! / count : NaN;
+    for (let a = 0; a < d; a++) {
+      scaledMeans[a] = count > 0 ? shift[designIdx[a]!]! + S[a]! / count : NaN;
+      means[a] = timesPowerOfTwo(scaledMeans[a]!, -exponent[a]!);
+    }
     for (let a = 0; a < d; a++) {
       for (let b = 0; b <= a; b++) {
         const v = count > 1 ? (C[a * d + b]! - (S[a]! * S[b]!) / count) / (count - 1) : NaN;
-        cov[a * d + b] = v;
-        cov[b * d + a] = v;
+        scaledCov[a * d + b] = v;
+        scaledCov[b * d + a] = v;
+        const u = timesPowerOfTwo(timesPowerOfTwo(v, -exponent[a]!), -exponent[b]!);
+        cov[a * d + b] = u;
+        cov[b * d + a] = u;
       }
     }
+    attachScaledCovariance(cov, { means: scaledMeans, cov: scaledCov, exponent });
     return { n: count, design: designIdx.map((j) => ({ ...design[j]!.column })), means, cov };
   };
 
@@ -513,7 +547,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
 
   const observed = masks.map((m) => observedDesign(m));
   const pass: PatternPass = {
-    columns: design.map((src) => ({ ...(src.scores ? { scores: src.scores } : { codes: src.codes! }), ...(src.term ? { term: src.term } : {}), level: src.level })),
+    columns: design.map((src) => ({ ...(src.scores ? { scores: src.scores } : { codes: src.codes! }), factor: src.factor, ...(src.term ? { term: src.term } : {}), level: src.level })),
     shift,
     patternOfRow,
     observed,
@@ -737,6 +771,7 @@ function accumulateByPattern(
   };
 
   const scores: (Float64Array | undefined)[] = design.map((src) => src.scores);
+  const factors = Float64Array.from(design, (src) => src.factor);
   const terms: (BasisTerm | undefined)[] = design.map((src) => src.term);
   for (let i0 = from; i0 < to; i0 += BLOCK_ROWS) {
     const len = Math.min(BLOCK_ROWS, to - i0);
@@ -760,15 +795,16 @@ function accumulateByPattern(
     for (let k = 0; k < D; k++) {
       const c = shift[k]!;
       const s = scores[k];
+      const f = factors[k]!;
       const term = terms[k];
       // (a basis column's term is never the linear one: that is the score column itself)
-      if (term !== undefined) stageBasis(stage, rowBase, s!, i0, len, k, c, term);
+      if (term !== undefined) stageBasis(stage, rowBase, s!, f, i0, len, k, c, term);
       else if (s !== undefined) {
         for (let r = 0; r < len; r++) {
           const o = rowBase[r]!;
           if (o < 0) continue;
           const v = s[i0 + r]!;
-          stage[o + k] = v === v ? v - c : 0;
+          stage[o + k] = v === v ? v * f - c : 0;
         }
       } else {
         const codes = design[k]!.codes!;
@@ -800,17 +836,17 @@ function accumulateByPattern(
 }
 
 /**
- * Stage basis-term values of one design column (a hinge or a spline term) for a block of rows:
- * stage[rowBase[r] + k] = term(s[i0 + r]) − c, 0 where s is missing; rows with rowBase −1 are
- * skipped. Cost: O(len).
+ * Stage basis-term values of one design column (a hinge or a spline term, its knots scaled by
+ * f) for a block of rows: stage[rowBase[r] + k] = term(f·s[i0 + r]) − c, 0 where s is missing;
+ * rows with rowBase −1 are skipped. Cost: O(len).
  */
-function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, i0: number, len: number, k: number, c: number, term: BasisTerm): void {
+function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, f: number, i0: number, len: number, k: number, c: number, term: BasisTerm): void {
   if (term.kind === "hinge") {
     const t = term.knot;
     for (let r = 0; r < len; r++) {
       const o = rowBase[r]!;
       if (o < 0) continue;
-      const v = s[i0 + r]!;
+      const v = s[i0 + r]! * f;
       stage[o + k] = v === v ? (v > t ? v - t : 0) - c : 0;
     }
   } else if (term.kind === "spline") {
@@ -818,7 +854,7 @@ function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, i
     for (let r = 0; r < len; r++) {
       const o = rowBase[r]!;
       if (o < 0) continue;
-      const v = s[i0 + r]!;
+      const v = s[i0 + r]! * f;
       stage[o + k] = v === v ? splineAt(v, sc) - c : 0;
     }
   }
@@ -897,13 +933,15 @@ class CrossProductKernel {
         const off = k * TILE;
         if (src.term) {
           const s = src.scores!;
-          for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]!;
+          const f = src.factor;
+          for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]! * f;
           const view = X.subarray(off, off + m);
           fillBasisValues(src.term, view, view);
           for (let t = 0; t < m; t++) X[off + t] = X[off + t]! - c;
         } else if (src.scores) {
           const s = src.scores;
-          for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]! - c;
+          const f = src.factor;
+          for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]! * f - c;
         } else {
           const codes = src.codes!;
           const level = src.level;

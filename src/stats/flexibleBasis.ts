@@ -49,7 +49,11 @@ export function quantileSortedType7(sorted: ArrayLike<number>, p: number): numbe
   const lo = Math.floor(h);
   const hi = Math.min(m - 1, lo + 1);
   const a = sorted[lo]!;
-  return a + (h - lo) * (sorted[hi]! - a);
+  const gap = sorted[hi]! - a;
+  // a gap beyond the double range (e.g. from −1e308 to 1e308) is interpolated in halves
+  if (Number.isFinite(gap)) return a + (h - lo) * gap;
+  const half = (h - lo) * (sorted[hi]! / 2 - a / 2);
+  return a + half + half;
 }
 
 /**
@@ -141,7 +145,26 @@ export function splineAt(s: number, k: { tj: number; tk1: number; tk: number; a:
 }
 
 /**
- * Write basis-term values for every entry of `values` into `out` (NaN where missing).
+ * The same term for values multiplied by `factor` (a power of two, see `powerOfTwoScale.ts`):
+ * its knots multiplied by `factor`. Every term is homogeneous of degree 1 (a hinge is, and a
+ * spline term is cubic over the squared knot range), so the scaled term at factor·s equals
+ * factor times the term at s, exactly where neither overflows nor underflows. Callers evaluate
+ * terms on values scaled so that the largest |value| lies in [0.5, 1): cubes are then at most 8
+ * and distinct knots at least 2^−53 apart, so every term is finite (the cube of a raw value of
+ * 1e103 or more overflows, and so does the reciprocal squared knot range of values scaled far
+ * below 1). Cost: O(knots).
+ * @example scaleBasisTerm({ kind: "hinge", knot: 1e200 }, 2 ** -665) // { kind: "hinge", knot: 1e200·2^−665 }
+ */
+export function scaleBasisTerm(term: BasisTerm, factor: number): BasisTerm {
+  if (factor === 1 || term.kind === "linear") return term;
+  if (term.kind === "hinge") return { kind: "hinge", knot: term.knot * factor };
+  return { kind: "spline", knots: term.knots.map((t) => t * factor), j: term.j };
+}
+
+/**
+ * Write basis-term values for every entry of `values` into `out` (NaN where missing). Spline
+ * terms are cubic in the value: evaluate them on values (and knots) scaled to at most 1 in
+ * magnitude ({@link scaleBasisTerm}) to keep them finite.
  * Cost: O(n).
  * @example fillBasisValues({ kind: "hinge", knot: 0 }, Float64Array.from([-1, 2]), new Float64Array(2)) // [0, 2]
  */

@@ -10,8 +10,14 @@
  * entries of the response's row of L, summed over the first t columns, are the variance those t
  * columns explain (Golub & Van Loan 2013, Matrix Computations, 4th ed., Alg. 4.2.1). A column is
  * *aliased* when its pivot falls below `tol` times its variance; it is dropped and not counted.
+ * The LR does not change when a column is multiplied by a positive constant, so a covariance
+ * from the pattern moments is read through its scaled twin (`scaledCovariance.ts`): the same
+ * numbers bit for bit where the covariance is representable, finite ones where its entries
+ * overflowed or underflowed the double range.
  * Cost: O(d³) for d design columns, independent of the number of rows.
  */
+import { scaledCovarianceOf } from "./scaledCovariance.js";
+import { timesPowerOfTwo } from "./powerOfTwoScale.js";
 
 export interface GaussianLRResult {
   lr: number;
@@ -19,7 +25,7 @@ export interface GaussianLRResult {
   df: number;
   /** Non-aliased given columns. */
   givenKept: number;
-  /** Residual variances (RSS/(n − 1)) of the null and full models. */
+  /** Residual variances (RSS/(n − 1)) of the null and full models (±Infinity or 0 where they leave the double range). */
   residualVarianceNull: number;
   residualVarianceFull: number;
   /** Sign of the response's partial covariance with the added column, for 1-df tests (0 otherwise). */
@@ -34,7 +40,11 @@ export interface GaussianLRResult {
  * // y = x + noise: LR = −n·ln(1 − r²) with r the correlation of x and y
  * gaussianLRFromMoments(new Float64Array([1, 0.5, 0.5, 1]), 2, 100, 1, [], [0])!.lr // 100·ln(1/0.75)
  */
-export function gaussianLRFromMoments(cov: ArrayLike<number>, k: number, n: number, resp: number, given: readonly number[], added: readonly number[], tol = 1e-10): GaussianLRResult | undefined {
+export function gaussianLRFromMoments(covIn: ArrayLike<number>, k: number, n: number, resp: number, given: readonly number[], added: readonly number[], tol = 1e-10): GaussianLRResult | undefined {
+  const twin = scaledCovarianceOf(covIn);
+  const cov = twin?.cov ?? covIn;
+  // the response's residual variances are reported in its own units
+  const unscale = (v: number): number => (twin ? timesPowerOfTwo(v, -2 * twin.exponent[resp]!) : v);
   const order = [...given, ...added];
   const L: Float64Array[] = []; // rows of the kept columns' Cholesky factor
   const kept: number[] = [];
@@ -78,8 +88,8 @@ export function gaussianLRFromMoments(cov: ArrayLike<number>, k: number, n: numb
     lr: n * Math.log1p(explainedAdded / v1),
     df,
     givenKept,
-    residualVarianceNull: v0,
-    residualVarianceFull: v1,
+    residualVarianceNull: unscale(v0),
+    residualVarianceFull: unscale(v1),
     sign: df === 1 ? (last > 0 ? 1 : last < 0 ? -1 : 0) : 0,
   };
 }

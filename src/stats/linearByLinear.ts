@@ -22,9 +22,14 @@
  * in which x or y takes a single score, has V_s = 0 and T_s = E_s: it contributes nothing and is
  * counted as unused. T_s − E_s is computed as Σ_ij (u_i − ū_s)(v_j − v̄_s) n_ij with the stratum's
  * mean scores ū_s, v̄_s, which is the same number in exact arithmetic and keeps its accuracy when
- * the scores are large (e.g. calendar years).
+ * the scores are large (e.g. calendar years). The sums run on the scores multiplied by a power of
+ * two that brings the largest |score| of each variable into [0.5, 1) (`powerOfTwoScale.ts`): Q and
+ * r_w are unchanged to the last digit, and scores of 1e155 or more (whose squares overflow) or
+ * near 1e-310 (whose squares underflow) give a finite statistic; T, E, V and Σ (T − E) are
+ * reported in the scores' own units (±Infinity or 0 where those leave the double range).
  */
 import { chiSquareUpper, logChiSquareUpper } from "./pvalues.js";
+import { maxAbsFinite, scaleExponent, timesPowerOfTwo } from "./powerOfTwoScale.js";
 
 /** One stratum's table, `rows` × `cols` counts row-major, with a score per row and per column. */
 export interface ScoredStratum {
@@ -120,6 +125,11 @@ export function centredScores(scores: ArrayLike<number>, weights: ArrayLike<numb
  * linearByLinear([{ rows: 2, cols: 2, counts: [4, 2, 1, 5], rowScores: [0, 1], colScores: [0, 1] }]).q // 2.8286 = 11 · 0.5071²
  */
 export function linearByLinear(strata: readonly ScoredStratum[]): LinearByLinearResult {
+  // one power of two per variable, over all strata (a common factor leaves Q unchanged)
+  const eu = scaleExponent(strata.reduce((m, s) => Math.max(m, maxAbsFinite(s.rowScores)), 0));
+  const ev = scaleExponent(strata.reduce((m, s) => Math.max(m, maxAbsFinite(s.colScores)), 0));
+  const fu = 2 ** eu;
+  const fv = 2 ** ev;
   let t = 0;
   let e = 0;
   let v = 0;
@@ -132,8 +142,10 @@ export function linearByLinear(strata: readonly ScoredStratum[]): LinearByLinear
     const m = margins(s, k);
     n += m.total;
     if (m.total < 2) return;
-    const u = centredScores(s.rowScores, m.row);
-    const w = centredScores(s.colScores, m.col);
+    const rowScores = Float64Array.from(s.rowScores, (x) => x * fu);
+    const colScores = Float64Array.from(s.colScores, (x) => x * fv);
+    const u = centredScores(rowScores, m.row);
+    const w = centredScores(colScores, m.col);
     if (!(u.sumSquares > 0) || !(w.sumSquares > 0)) return;
     used++;
     let ts = 0;
@@ -143,10 +155,10 @@ export function linearByLinear(strata: readonly ScoredStratum[]): LinearByLinear
       let rowD = 0;
       for (let j = 0; j < s.cols; j++) {
         const c = s.counts[i * s.cols + j]!;
-        rowT += s.colScores[j]! * c;
+        rowT += colScores[j]! * c;
         rowD += w.centred[j]! * c;
       }
-      ts += s.rowScores[i]! * rowT;
+      ts += rowScores[i]! * rowT;
       ds += u.centred[i]! * rowD;
     }
     t += ts;
@@ -157,14 +169,16 @@ export function linearByLinear(strata: readonly ScoredStratum[]): LinearByLinear
     svv += w.sumSquares;
   });
   const q = v > 0 ? (deviation * deviation) / v : 0;
+  // back to the scores' units
+  const unscale = (x: number, times: number): number => timesPowerOfTwo(timesPowerOfTwo(x, -times * eu), -times * ev);
   return {
     q,
     p: chiSquareUpper(q, 1),
     logP: logChiSquareUpper(q, 1),
-    t,
-    e,
-    v,
-    deviation,
+    t: unscale(t, 1),
+    e: unscale(e, 1),
+    v: unscale(v, 2),
+    deviation: unscale(deviation, 1),
     correlation: used > 0 ? deviation / Math.sqrt(suu * svv) : NaN,
     strataUsed: used,
     strataTotal: strata.length,

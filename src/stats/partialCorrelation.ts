@@ -12,6 +12,7 @@
  * 3rd ed., Wiley, §2.5 (partial correlation from the conditional covariance); Golub & Van Loan
  * (2013), Matrix Computations, 4th ed., Alg. 4.2.1 (Cholesky).
  */
+import { scaledCovarianceOf } from "./scaledCovariance.js";
 
 /** Why a partial correlation is not defined, with the design column (index into the matrix) at fault. */
 export type PartialCorrelationProblem =
@@ -29,10 +30,14 @@ export type PartialCorrelationResult = { r: number } | PartialCorrelationProblem
  * from a k×k covariance matrix (row-major; any positive scaling, e.g. Bessel-corrected), by a
  * Cholesky factorization of the correlation matrix over (given, i, j). Reports why it is
  * undefined instead: a constant column, a collinear conditioning set, or i or j explained by
- * the given columns up to a fraction `tol` of its variance (1 − R² < tol).
+ * the given columns up to a fraction `tol` of its variance (1 − R² < tol). A covariance from the
+ * pattern moments carries its scaled twin (`scaledCovariance.ts`), which is read instead: the
+ * same correlations (a correlation does not change when a column is scaled), finite even where
+ * the columns' variances overflow or underflow the double range.
  * Cost: O(g³/3) for g = given.length, reading O(g²) entries of `cov`.
  * Source: Anderson (2003), An Introduction to Multivariate Statistical Analysis, 3rd ed., §2.5.
- * @throws {RangeError} when i, j or a given index is outside 0..k−1, i equals j, or an index repeats
+ * @throws {RangeError} when i, j or a given index is outside 0..k−1, i equals j, or an index repeats;
+ *   when a variance is not finite in a covariance without a scaled twin
  * @example partialCorrelationWithReason(new Float64Array([1, 0.5, 0.5, 1]), 2, 0, 1, []) // { r: 0.5 }
  */
 export function partialCorrelationWithReason(
@@ -51,6 +56,7 @@ export function partialCorrelationWithReason(
     seen.add(v);
   }
   if (cov.length < k * k) throw new RangeError(`covariance has ${cov.length} entries, fewer than k² = ${k * k}; pass a row-major k×k matrix`);
+  cov = scaledCovarianceOf(cov)?.cov ?? cov;
   const m = order.length;
   const sd = new Float64Array(m);
   for (let u = 0; u < m; u++) {

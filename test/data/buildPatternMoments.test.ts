@@ -7,6 +7,9 @@ import { createTable } from "../../src/data/createTable.js";
 import { readTable } from "../../src/data/readTable.js";
 import type { Moments } from "../../src/data/Moments.js";
 import type { Table } from "../../src/data/Table.js";
+import { scaledCovarianceOf } from "../../src/stats/scaledCovariance.js";
+import { flexibleBasis } from "../../src/stats/flexibleBasis.js";
+import { mapColumnValues } from "../helpers/transformTable.js";
 
 // pandas dropna().mean() / cov(ddof=1), written by test/fixtures/data/make_moments_reference.py (committed fixture)
 interface Case { variables: string[]; useRanks: boolean; n: number; design: string[]; means: number[]; cov: number[] }
@@ -291,5 +294,87 @@ describe("buildPatternMoments", () => {
     const m = pm.momentsFor(sub);
     expect(m.n).toBe(ref.n);
     expectClose(m, ref.means, ref.cov, 1e-9);
+  });
+});
+
+describe("buildPatternMoments at the ends of the double range", () => {
+  const CONT = ["x1", "x2", "x3", "x4"];
+
+  it("columns scaled by 2^k give the unscaled moments times 2^k (means) and 2^(k_a + k_b) (covariances) bit for bit where those are normal, and the same scaled twin (IEEE 754: exact powers of two)", async () => {
+    const table = await readTable(input, { file: "moments-input.csv" });
+    const base = buildPatternMoments(table, { variables: ALL }).momentsFor(ALL);
+    const baseTwin = scaledCovarianceOf(base.cov)!;
+    for (const k of [-900, -300, 300, 900, 1000]) {
+      const scaled = buildPatternMoments(mapColumnValues(table, ["x1", "x3"], (v) => v * 2 ** k), { variables: ALL }).momentsFor(ALL);
+      const twin = scaledCovarianceOf(scaled.cov)!;
+      expect(Array.from(twin.cov), `k=${k}`).toEqual(Array.from(baseTwin.cov));
+      expect(Array.from(twin.means), `k=${k}`).toEqual(Array.from(baseTwin.means));
+      const d = base.design.length;
+      const kOf = (a: number) => (["x1", "x3"].includes(base.design[a]!.source) ? k : 0);
+      for (let a = 0; a < d; a++) {
+        const mean = base.means[a]! * 2 ** kOf(a);
+        if (Math.abs(mean) >= 2 ** -1022 && Number.isFinite(mean)) expect(scaled.means[a]).toBe(mean);
+        for (let b = 0; b < d; b++) {
+          const want = base.cov[a * d + b]! * 2 ** kOf(a) * 2 ** kOf(b);
+          if (Number.isFinite(want) && Math.abs(want) >= 2 ** -1022) expect(scaled.cov[a * d + b], `k=${k} (${a}, ${b})`).toBe(want);
+        }
+      }
+      // where the unscaled covariance leaves the double range the returned one does too (x1's variance near 1e5·2^1800), never NaN
+      expect(scaled.cov.every((v) => !Number.isNaN(v))).toBe(true);
+    }
+  });
+
+  it("one cell of 1e155, 1e200, −1e308 or 1.7e308 among ordinary values: the scaled twin matches the two-pass definition on the scaled values to 1e-9, nothing is NaN (regression: squares overflowed to NaN)", async () => {
+    const table = await readTable(input, { file: "moments-input.csv" });
+    const at = table.column("x2")!.values.findIndex((v) => !Number.isNaN(v));
+    for (const extreme of [1e155, 1e200, -1e308, 1.7e308]) {
+      const t = mapColumnValues(table, ["x2"], (v, i) => (i === at ? extreme : v));
+      const m = buildPatternMoments(t, { variables: CONT }).momentsFor(CONT);
+      const twin = scaledCovarianceOf(m.cov)!;
+      expect(m.means.every(Number.isFinite), `${extreme}`).toBe(true);
+      expect(m.cov.every((v) => !Number.isNaN(v)), `${extreme}`).toBe(true);
+      // the definition on the values times the scales the moments used
+      let scaledTable = t;
+      CONT.forEach((v, j) => (scaledTable = mapColumnValues(scaledTable, [v], (x) => x * 2 ** twin.exponent[j]!)));
+      const ref = naiveMoments(scaledTable, CONT);
+      const x2 = m.design.findIndex((d) => d.source === "x2");
+      const d = m.design.length;
+      expect(twin.exponent[x2]).toBe(-Math.floor(Math.log2(Math.abs(extreme))) - 1); // math.frexp exponent of the extreme value
+      expect(m.n).toBe(ref.n);
+      expectClose({ ...m, means: twin.means, cov: twin.cov }, ref.means, ref.cov, 1e-9);
+      expect(twin.cov[x2 * d + x2]! > 0).toBe(true);
+    }
+  });
+
+  it("distinct values near 1e-310 (subnormal): the variance underflows to 0 unscaled, and the scaled twin is that of the same values times 2^1023, exactly (regression: reported as constant)", async () => {
+    const table = await readTable(input, { file: "moments-input.csv" });
+    const tiny = mapColumnValues(table, ["x2"], (v) => v * 2 ** -1030);
+    const normal = mapColumnValues(tiny, ["x2"], (v) => v * 2 ** 1023); // exact: scaling a subnormal up
+    const m = buildPatternMoments(tiny, { variables: ["x2", "x1"] }).momentsFor(["x2", "x1"]);
+    const ref = buildPatternMoments(normal, { variables: ["x2", "x1"] }).momentsFor(["x2", "x1"]);
+    expect(m.cov[0]).toBe(0); // the variance itself is below the smallest double
+    const twin = scaledCovarianceOf(m.cov)!;
+    expect(twin.exponent[0]).toBe(1023); // the clamp: the tiny column enters as its values times 2^1023, which is `normal`
+    expect(twin.cov[0]).toBe(ref.cov[0]);
+    expect(twin.means[0]).toBe(ref.means[0]);
+    expect(twin.cov[0]).toBeGreaterThan(0);
+    // the correlation with x1 is that of the normal-range copy
+    const corr = (c: ArrayLike<number>) => c[1]! / Math.sqrt(c[0]! * c[3]!);
+    expect(corr(twin.cov)).toBe(corr(ref.cov));
+  });
+
+  it("basis columns of a variable with a value of 1e200 have finite scaled moments (regression: cubic spline terms overflowed)", async () => {
+    const table = await readTable(input, { file: "moments-input.csv" });
+    const t = mapColumnValues(table, ["x2"], (v, i) => (i === 3 ? 1e200 : v));
+    const vals = Float64Array.from(t.column("x2")!.values).filter((v) => !Number.isNaN(v)).sort();
+    const basis = new Map([["x2", flexibleBasis(vals, 3)]]);
+    for (const simd of [true, false]) {
+      const pm = buildPatternMoments(t, { variables: ["x2", "x1"], expansions: { basis }, simd });
+      const idx = pm.columnsOf("x2").map((c) => c.index);
+      expect(idx.length).toBeGreaterThan(4);
+      const twin = scaledCovarianceOf(pm.momentsForColumns(idx).cov)!;
+      expect(twin.cov.every(Number.isFinite)).toBe(true);
+      expect(twin.means.every(Number.isFinite)).toBe(true);
+    }
   });
 });

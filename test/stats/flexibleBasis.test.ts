@@ -8,7 +8,7 @@
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { basisTermLabel, basisValue, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, quantileSortedType7, splineConstants, type BasisTerm } from "../../src/stats/flexibleBasis.js";
+import { basisTermLabel, basisValue, fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, quantileSortedType7, scaleBasisTerm, splineConstants, type BasisTerm } from "../../src/stats/flexibleBasis.js";
 import { leastSquaresQR } from "../../src/stats/linalg.js";
 
 interface BasisSample {
@@ -194,5 +194,47 @@ describe("flexibleBasis edges and documented examples", () => {
     expect(() => quantileSortedType7(Float64Array.from([1]), NaN)).toThrow(RangeError);
     expect(() => flexibleBasis(Float64Array.from([1, 2]), 6)).toThrow(RangeError);
     expect(() => flexibleBasis(Float64Array.from([1, 2]), 1.5)).toThrow(RangeError);
+  });
+});
+
+describe("flexibleBasis at the ends of the double range", () => {
+  it("quantileSortedType7 interpolates across a gap beyond the double range (regression: −1e308 to 1e308 gave ±Infinity)", () => {
+    const v = Float64Array.from([-1e308, 1e308]);
+    expect(quantileSortedType7(v, 0.5)).toBe(0); // Hyndman & Fan (1996) definition 7: −1e308 + 0.5·2e308, exact
+    expect(quantileSortedType7(v, 0.25)).toBe(-5e307); // −1e308 + 0.25·2e308, exact
+    expect(quantileSortedType7(Float64Array.from([-1.7e308, 1.7e308]), 1)).toBe(1.7e308);
+    expect(flexibleBasis(v, 2).levels.flat().every((t) => t.kind !== "hinge" || Number.isFinite(t.knot))).toBe(true);
+  });
+
+  it("scaleBasisTerm(term, 2^k) at 2^k·s is 2^k times the term at s, bit for bit, for every reference term and probe (IEEE 754: powers of two scale without rounding)", () => {
+    for (const k of [-300, -40, 40, 300]) {
+      const f = 2 ** k;
+      for (const smp of basisRef.samples) {
+        const probes = Float64Array.from(smp.probe_values);
+        const scaled = probes.map((x) => x * f);
+        for (const term of flexibleBasis(Float64Array.from(smp.sorted), MAX_BASIS_LEVEL).levels.flat()) {
+          const plain = fillBasisValues(term, probes, new Float64Array(probes.length));
+          const viaScale = fillBasisValues(scaleBasisTerm(term, f), scaled, new Float64Array(probes.length));
+          plain.forEach((v, i) => expect(viaScale[i], `${smp.name} ${basisTermLabel("s", term)} k=${k}`).toBe(v * f));
+        }
+      }
+    }
+    expect(scaleBasisTerm({ kind: "linear" }, 4)).toEqual({ kind: "linear" });
+    expect(scaleBasisTerm({ kind: "hinge", knot: 1e200 }, 2 ** -665)).toEqual({ kind: "hinge", knot: 1e200 * 2 ** -665 }); // doc example
+  });
+
+  it("spline terms of values near 1e200 overflow when cubed raw, and are finite on values scaled by the column's power of two (regression: NaN design columns)", () => {
+    const sorted = Float64Array.from([1, 2, 3, 4, 5, 6, 7, 8, 9], (v) => v * 1e200);
+    const splines = flexibleBasis(sorted, 1).levels[1]!;
+    const f = 2 ** -668; // 9e200·2^−668 ≈ 0.73 (python3 math.frexp(9e200) = (0.7348613493545214, 668))
+    for (const term of splines) {
+      const raw = fillBasisValues(term, sorted, new Float64Array(9));
+      expect(raw.some((v) => !Number.isFinite(v))).toBe(true); // (9e200)³ overflows
+      const scaled = fillBasisValues(scaleBasisTerm(term, f), sorted.map((v) => v * f), new Float64Array(9));
+      expect(scaled.every((v) => Number.isFinite(v))).toBe(true);
+      // the same numbers as the basis of 1..9, times the scale of the values (homogeneity of degree 1)
+      const unit = fillBasisValues(flexibleBasis(Float64Array.from([1, 2, 3, 4, 5, 6, 7, 8, 9]), 1).levels[1]![splines.indexOf(term)]!, Float64Array.from([1, 2, 3, 4, 5, 6, 7, 8, 9]), new Float64Array(9));
+      scaled.forEach((v, i) => expect(Math.abs(v - unit[i]! * 1e200 * f)).toBeLessThanOrEqual(1e-13 * Math.max(1, Math.abs(v))));
+    }
   });
 });

@@ -141,6 +141,26 @@ describe("linearByLinear properties", () => {
     expect(rel(shifted.q, base.q)).toBeLessThan(1e-9);
   });
 
+  it("scores multiplied by 2^k give the scipy/numpy Q and correlation bit for bit as the unscaled scores, T, E, V scaled by 2^k (regression: scores of 1e155 or more overflowed to NaN)", () => {
+    const s = ref.stratified;
+    const base = linearByLinear(s.strata.map((c) => stratum(c, s.row_scores, s.col_scores)));
+    expect(rel(base.q, s.q)).toBeLessThan(1e-9); // numpy from the definition (scripts/linear_by_linear_reference.py)
+    for (const k of [-1000, -600, 600, 1000]) {
+      const f = 2 ** k;
+      const scaled = linearByLinear(s.strata.map((c) => stratum(c, s.row_scores.map((v) => v * f), s.col_scores)));
+      expect(scaled.q, `k=${k}`).toBe(base.q); // IEEE 754: powers of two scale without rounding
+      expect(scaled.correlation, `k=${k}`).toBe(base.correlation);
+      expect(scaled.t, `k=${k}`).toBe(base.t * f);
+      expect(scaled.deviation, `k=${k}`).toBe(base.deviation * f);
+      const both = linearByLinear(s.strata.map((c) => stratum(c, s.row_scores.map((v) => v * f), s.col_scores.map((v) => v * f))));
+      expect(both.q, `k=${k}`).toBe(base.q);
+      expect(Number.isNaN(both.v), `k=${k}`).toBe(false); // V of 2^2k·V overflows to Infinity for k = 600 and underflows for k = −600: reported, never NaN
+    }
+    // extreme scores that are not a rescaling: the statistic stays finite
+    const wild = linearByLinear(s.strata.map((c) => stratum(c, [1, 2, 1e200].slice(0, s.row_scores.length).concat(s.row_scores.slice(3)), s.col_scores.map((v, j) => (j === 0 ? -1.7e308 : v)))));
+    expect(Number.isFinite(wild.q) && Number.isFinite(wild.p) && Number.isFinite(wild.correlation)).toBe(true);
+  });
+
   it("centredScores centres on the weighted mean (doc example, hand computation)", () => {
     const c = centredScores([0, 1, 3], [2, 1, 1]);
     expect(Array.from(c.centred)).toEqual([-1, 0, 2]);

@@ -6,6 +6,7 @@ import { leastSquaresQR } from "../../src/stats/linalg.js";
 import { logStudentTTwoSided, studentTTwoSided } from "../../src/stats/pvalues.js";
 import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
 import { covarianceOf, midRanks } from "../fixtures/stats/arrayMoments.js";
+import { attachScaledCovariance } from "../../src/stats/scaledCovariance.js";
 
 interface Stat { r: number; t: number; df: number; p: number; log_p: number; ci: [number, number] }
 interface PartialRef {
@@ -46,6 +47,24 @@ describe(`partialCorrelation against numpy residuals (reference: ${ref.origin})`
       }
     }
     expect(count).toBeGreaterThan(50);
+  });
+
+  it("partialCorrelationWithReason reads the scaled twin of a covariance whose entries left the double range: numpy's r where cov·2^(±1000 per column) is Infinity or 0 (regression: 'variance is Infinity' internal error)", () => {
+    for (const set of ref.data.sets) {
+      const { cov } = covarianceOf(set.data);
+      const k = set.columns.length;
+      const exponent = Int32Array.from({ length: k }, (_, j) => (j % 2 === 0 ? 1000 : -1000));
+      // the covariance in the columns' own units when each was scaled down by 2^exponent[j]: cov_ab·2^−(e_a + e_b)
+      const unscaled = Float64Array.from(cov, (v, idx) => v * 2 ** -exponent[Math.floor(idx / k)]! * 2 ** -exponent[idx % k]!);
+      expect(unscaled.some((v) => !Number.isFinite(v) || v === 0)).toBe(true);
+      expect(() => partialCorrelationWithReason(Float64Array.from(unscaled), k, 1, 0, [])).toThrow(RangeError); // no twin: column 1's variance is Infinity
+      expect(partialCorrelationWithReason(Float64Array.from(unscaled), k, 0, 2, [])).toEqual({ reason: "constant", column: 0 }); // no twin: column 0's variance underflowed to 0
+      attachScaledCovariance(unscaled, { cov: Float64Array.from(cov), means: new Float64Array(k), exponent });
+      for (const c of set.cases) {
+        const r = partialCorrelationWithReason(unscaled, k, c.i, c.j, c.given);
+        expect("r" in r && relErr(r.r, c.pearson.r), `${set.name} ${c.i},${c.j}|${c.given}`).toBeLessThanOrEqual(1e-9); // numpy residual method
+      }
+    }
   });
 
   it("partialCorrelationTest(r, n, c) matches scipy t, p, log p and Fisher-z CI to 1e-9 relative", () => {

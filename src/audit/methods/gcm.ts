@@ -32,6 +32,11 @@
  *   chi-square value on q df whose upper tail is the test's p-value, and the interval of
  *   `lrEffectCIAtAlpha` (lower end the one-sided inversion at 0.05). Either interval excludes 0
  *   exactly when p < 0.05.
+ * - *Scaling.* Every column enters multiplied by a power of two that brings its largest |value|
+ *   into [0.5, 1) (`stats/powerOfTwoScale.ts`; basis terms with their knots scaled alike, on the
+ *   moment path the scale the pattern moments used), which changes no digit of the statistic but
+ *   keeps every square, cube and product finite: values of 1e155 or more and distinct values near
+ *   1e-310 are tested like any others.
  * - *Linear check.* The details also carry the classic test with linear adjustment (continuous
  *   members of S as straight lines, equal variances assumed: the partial-correlation t test, or for
  *   a nominal side its chi-square analogue (n − 1)·Σ canonical correlations² on q df), so that the audit
@@ -39,16 +44,18 @@
  */
 import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
-import type { IndexedDesignColumn } from "../../data/Moments.js";
+import type { IndexedDesignColumn, Moments } from "../../data/Moments.js";
 import { midRanks } from "../../data/rankColumns.js";
 import { lrEffect, lrEffectCIAtAlpha } from "../../stats/effectScale.js";
 import { chiSquareUpperQuantileLog } from "../../stats/quantiles.js";
-import { fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
+import { fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, scaleBasisTerm, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
 import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
 import { gramMatrix } from "../../stats/gramMatrix.js";
 import { bestLevel, CONSTANT_TOLERANCE, NestedAdjustment } from "../../stats/nestedAdjustment.js";
 import { chiSquareUpper, logChiSquareUpper, logStudentTTwoSided, studentTTwoSided } from "../../stats/pvalues.js";
 import { createRng } from "../../stats/rng.js";
+import { columnScaleExponent } from "../../stats/powerOfTwoScale.js";
+import { scaledCovarianceOf } from "../../stats/scaledCovariance.js";
 import { cholesky, choleskySolve } from "../../stats/linalg.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { AdjustmentEntry } from "./adjustmentDetails.js";
@@ -257,6 +264,11 @@ function chooseLevel(fit: NestedAdjustment, qx: number, q: number): { level: num
  */
 interface VarianceRows {
   rows: number;
+  /**
+   * Whether the rows are a sample of the claim's complete rows (moment path): the sample must
+   * then reproduce each side's residual variance (see {@link SAMPLE_VARIANCE_RATIO}).
+   */
+  sampled?: boolean;
   index?: Int32Array;
   data(): Float64Array;
   adjustment(j: number): { offset: number; mean: number };
@@ -269,6 +281,15 @@ interface SideValues {
   shift: number;
   twoPoint?: [number, number];
 }
+
+/**
+ * On the moment path the residuals' mean square over the variance sample must lie within this
+ * factor of their variance over all complete rows (from the moments), side column by side column;
+ * otherwise the sample misses rows that dominate the residuals (a value of 1e10 among values near
+ * 1, say), its variance of the products would not describe their sum, and the claim is tested on
+ * its rows instead. For a sample of 20,000 rows of light-tailed data the ratio is within 1 ± 0.05.
+ */
+export const SAMPLE_VARIANCE_RATIO = 4;
 
 /** Fitted probabilities are kept inside [FIT_FLOOR, 1 − FIT_FLOOR] in the variance of a categorical side. */
 const FIT_FLOOR = 1e-6;
@@ -284,11 +305,11 @@ const FIT_FLOOR = 1e-6;
  * (so for two continuous sides this is the empirical Σ (R_t − R̄)² of the covariance measure).
  * Fitted probabilities are clipped to [FIT_FLOOR, 1 − FIT_FLOOR]. Residuals are
  * e_r = (side_r − μ_r) − Σ_k β_rk (col_k − μ_k); all columns sit in one buffer, so every read is
- * of one typed array. Cost: O(m · (p·q + qq²)).
+ * of one typed array. `squares` receives Σ_t e_r² per side column. Cost: O(m · (p·q + qq²)).
  * Sources: Shah & Peters (2020), Annals of Statistics 48:1514–1538 (the statistic); the variances
  * of the binomial and multinomial distributions (common practice).
  */
-function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array): Float64Array {
+function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array, squares: Float64Array): Float64Array {
   const q = qx + qy;
   const qq = qx * qy;
   const p = columns.length;
@@ -324,6 +345,8 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
     const s0 = sides[0]!.shift;
     const s1 = sides[1]!.shift;
     let acc = 0;
+    let sq0 = 0;
+    let sq1 = 0;
     for (let t = 0; t < m; t++) {
       const i = index ? index[t]! : t;
       const d0 = data[o0 + i]!;
@@ -335,11 +358,15 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
         e0 -= B[k]! * v;
         e1 -= B[p + k]! * v;
       }
+      sq0 += e0 * e0;
+      sq1 += e1 * e1;
       const v0 = two0 ? twoPointVariance(d0 + s0 - e0, a0, b0) : e0 * e0;
       const v1 = two1 ? twoPointVariance(d1 + s1 - e1, a1, b1) : e1 * e1;
       acc += v0 * v1;
     }
     scatter[0] = acc - m * meanR[0]! * meanR[0]!;
+    squares[0] = sq0;
+    squares[1] = sq1;
     return scatter;
   }
   const e = new Float64Array(q);
@@ -352,6 +379,7 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
       const v = data[offs[k]! + i]!;
       for (let r = 0; r < q; r++) e[r] = e[r]! - B[r * p + k]! * v;
     }
+    for (let r = 0; r < q; r++) squares[r] = squares[r]! + e[r]! * e[r]!;
     sideCovariance(Vx, e, 0, qx, sides, data, sideOffs, i);
     sideCovariance(Vy, e, qx, qy, sides, data, sideOffs, i);
     // scatter[(a,b),(c,d)] += Vx[a,c]·Vy[b,d]
@@ -401,6 +429,9 @@ function sideCovariance(V: Float64Array, e: Float64Array, from: number, k: numbe
   for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) V[a * k + b] = (a === b ? pi[a]! : 0) - pi[a]! * pi[b]!;
 }
 
+/** What {@link outcomeOf} returns when a variance sample fails the check of SAMPLE_VARIANCE_RATIO. */
+const UNREPRESENTATIVE_SAMPLE = Symbol("unrepresentative variance sample");
+
 /**
  * The residual-product statistic from a fitted nested adjustment and the columns' centred values
  * on the rows that give the variance (see the module comment). Cost: O(m · (p + q²)) for m
@@ -413,7 +444,7 @@ function outcomeOf(
   f: Fitted,
   values: VarianceRows,
   pathDetails: Record<string, unknown>,
-): MethodResult {
+): MethodResult | typeof UNREPRESENTATIVE_SAMPLE {
   const { fit, n, qx, qy, level } = f;
   const q = qx + qy;
   const snap = fit.snapshots[level]!;
@@ -426,7 +457,15 @@ function outcomeOf(
   // The variance of the residual products over the variance rows.
   const m = values.rows;
   const meanR = sumR.map((v) => v / n);
-  const sigma = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, meanR);
+  const squares = new Float64Array(q);
+  const sigma = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, meanR, squares);
+  if (values.sampled) {
+    for (let r = 0; r < q; r++) {
+      const full = (snap.residual[r * q + r]! * (n - 1)) / n;
+      const ratio = squares[r]! / m / full;
+      if (full > 0 && !(ratio >= 1 / SAMPLE_VARIANCE_RATIO && ratio <= SAMPLE_VARIANCE_RATIO)) return UNREPRESENTATIVE_SAMPLE;
+    }
+  }
   for (let a = 0; a < qq; a++) {
     for (let b = 0; b <= a; b++) {
       const v = sigma[a * qq + b]! / m;
@@ -582,10 +621,19 @@ const shiftedMemo = new WeakMap<object, Map<string, Float64Array>>();
 const shiftOf = new WeakMap<Float64Array, number>();
 
 /**
- * A claim column's values on every row of the table, minus their mean over the observed rows
- * (the shift keeps the cross-products well conditioned; Chan, Golub & LeVeque 1983), NaN where
- * the variable is missing. Cached per column and term, so claims read each term once.
- * Cost: O(rows) the first time.
+ * The power of two a claim column's values are multiplied by on the row path: 1 for an
+ * indicator, else 2^e for the scale exponent e of the array read (`stats/powerOfTwoScale.ts`).
+ * Cost: O(rows) the first time per array.
+ */
+function rowPathFactor(c: ClaimColumn): number {
+  return c.code !== undefined ? 1 : 2 ** columnScaleExponent(c.values ?? c.column.values);
+}
+
+/**
+ * A claim column's values on every row of the table, scaled by {@link rowPathFactor} and minus
+ * their mean over the observed rows (the shift keeps the cross-products well conditioned; Chan,
+ * Golub & LeVeque 1983), NaN where the variable is missing. Cached per column and term, so claims
+ * read each term once. Cost: O(rows) the first time.
  */
 function shiftedValues(c: ClaimColumn): Float64Array {
   // keyed by the array read (the column, or its mid-ranks under a given row filter) and the exact term
@@ -600,8 +648,12 @@ function shiftedValues(c: ClaimColumn): Float64Array {
   if (c.code !== undefined) {
     const codes = c.column.codes!;
     for (let i = 0; i < rows; i++) v[i] = codes[i]! < 0 ? NaN : codes[i] === c.code ? 1 : 0;
-  } else if (c.term) fillBasisValues(c.term, c.values ?? c.column.values, v);
-  else v.set(c.values ?? c.column.values);
+  } else {
+    const f = rowPathFactor(c);
+    const src = c.values ?? c.column.values;
+    for (let i = 0; i < rows; i++) v[i] = src[i]! * f;
+    if (c.term) fillBasisValues(scaleBasisTerm(c.term, f), v, v);
+  }
   let sum = 0;
   let count = 0;
   for (let i = 0; i < rows; i++) {
@@ -623,10 +675,11 @@ const twoValuesMemo = new WeakMap<object, [number, number] | null>();
 
 /**
  * [a, b] when a side column takes exactly two distinct values a < b over every observed row of
- * its variable (a binary variable, a nominal side with one indicator, their mid-ranks); else
- * undefined. Cached per column and kind. Cost: O(rows) the first time.
+ * its variable (a binary variable, a nominal side with one indicator, their mid-ranks), times
+ * `factor` (the scale of the values they are compared with); else undefined. Cached per column
+ * and kind. Cost: O(rows) the first time.
  */
-function twoValues(c: ClaimColumn): [number, number] | undefined {
+function twoValues(c: ClaimColumn, factor: number): [number, number] | undefined {
   if (c.code !== undefined) return [0, 1];
   const source: object = c.values ?? c.column;
   let found = twoValuesMemo.get(source);
@@ -646,7 +699,7 @@ function twoValues(c: ClaimColumn): [number, number] | undefined {
     if (i === v.length && b === b) found = a < b ? [a, b] : [b, a];
     twoValuesMemo.set(source, found);
   }
-  return found ?? undefined;
+  return found ? [found[0] * factor, found[1] * factor] : undefined;
 }
 
 function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult {
@@ -752,11 +805,12 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
     adjustment: (c) => ({ offset: slot.get(c)! * n, mean: sums[c]! / n }),
     side: (r) => {
       const c = respCols[r]!;
-      const two = twoValues(c);
+      const two = twoValues(c, rowPathFactor(c));
       return { offset: (used.length + r) * n, mean: respSums[r]! / n, shift: shiftOf.get(respVals[r]!)!, ...(two ? { twoPoint: two } : {}) };
     },
   };
-  return outcomeOf(name, claim, layout, f, values, { path: "rows" });
+  // all the claim's rows, not a sample: outcomeOf does not check them
+  return outcomeOf(name, claim, layout, f, values, { path: "rows" }) as MethodResult;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -855,7 +909,16 @@ function momentLayout(name: TestName, cols: Column[], ctx: TestContext): Layout 
   return { adjustment: byLevel.slice(0, cap + 1).flat(), sides: [sx, sy], entered, cap };
 }
 
-/** Per pattern moments, the mean and variance of each design column over all its variable's observed rows. */
+/**
+ * Moments in the scale the pattern moments summed them in (each design column times 2^e, its
+ * scale exponent: `stats/scaledCovariance.ts`), finite where the unscaled ones overflow; moments
+ * without a scaled twin are taken as they are (exponent 0).
+ */
+function scaledMoments(m: Moments): { means: Float64Array; cov: Float64Array; exponent: Int32Array } {
+  return scaledCovarianceOf(m.cov) ?? { means: m.means, cov: m.cov, exponent: new Int32Array(m.means.length) };
+}
+
+/** Per pattern moments, the mean and variance of each design column over all its variable's observed rows (scaled as {@link scaledMoments}). */
 const overallMemo = new WeakMap<object, Map<number, { mean: number; variance: number }>>();
 
 function overallMoments(ctx: TestContext): (index: number) => { mean: number; variance: number } {
@@ -866,7 +929,8 @@ function overallMoments(ctx: TestContext): (index: number) => { mean: number; va
     let o = cache.get(index);
     if (!o) {
       const mm = ctx.moments.momentsForColumns([index]);
-      o = { mean: mm.means[0]!, variance: mm.n > 1 && mm.cov[0]! > 0 ? mm.cov[0]! : 0 };
+      const sm = scaledMoments(mm);
+      o = { mean: sm.means[0]!, variance: mm.n > 1 && sm.cov[0]! > 0 ? sm.cov[0]! : 0 };
       cache.set(index, o);
     }
     return o;
@@ -879,9 +943,12 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
   const { adjustment } = layout;
   const sideList = [...layout.sides[0], ...layout.sides[1]];
   const idx = [...adjustment.map((c) => c.index!), ...sideList.map((c) => c.index!)];
-  const m = ctx.moments.momentsForColumns(idx);
-  const n = m.n;
+  const moments = ctx.moments.momentsForColumns(idx);
+  const n = moments.n;
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted([claim.x, claim.y, ...claim.given])} observed` };
+  // the fit and the variance pass work in the moments' scaled units (see `scaledMoments`)
+  const m = scaledMoments(moments);
+  const factorOf = (a: number): number => 2 ** m.exponent[a]!;
   const A = adjustment.length;
   const d = idx.length;
   const cov = (a: number, b: number) => m.cov[a * d + b]!;
@@ -932,15 +999,19 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
   const sidesKept = sideList.filter((_, r) => keepSide[r]);
   const values: VarianceRows = {
     rows: m2,
+    ...(m2 < n ? { sampled: true } : {}),
     ...(m2 !== cache.size ? { index: complete } : {}),
     data: () => cache.data(),
-    adjustment: (j) => ({ offset: cache.offset(adjustment[j]!), mean: m.means[j]! }),
+    adjustment: (j) => ({ offset: cache.offset(adjustment[j]!, factorOf(j)), mean: m.means[j]! }),
     side: (r) => {
-      const two = twoValues(sidesKept[r]!);
-      return { offset: cache.offset(sidesKept[r]!), mean: m.means[respPos[r]!]!, shift: 0, ...(two ? { twoPoint: two } : {}) };
+      const f = factorOf(respPos[r]!);
+      const two = twoValues(sidesKept[r]!, f);
+      return { offset: cache.offset(sidesKept[r]!, f), mean: m.means[respPos[r]!]!, shift: 0, ...(two ? { twoPoint: two } : {}) };
     },
   };
-  return outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: m2 < n });
+  // the moments' rows are tested on the rows when the sample does not represent them
+  const out = outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: m2 < n });
+  return out === UNREPRESENTATIVE_SAMPLE ? undefined : out;
 }
 
 /** Per-audit values of sampled columns (the variance sample's rows), keyed by the pattern moments. */
@@ -949,8 +1020,8 @@ interface SampleCache {
   size: number;
   /** Positions (into the sample) of the sampled rows complete on all the columns. */
   completeOn(cols: readonly Column[]): Int32Array;
-  /** Where a claim column's values on every sampled row start in `data()` (NaN where its variable is missing). */
-  offset(c: ClaimColumn): number;
+  /** Where a claim column's values times `factor` (a power of two) on every sampled row start in `data()` (NaN where its variable is missing). */
+  offset(c: ClaimColumn, factor: number): number;
   /** The buffer of the sampled columns (a new one after `offset` has added columns). */
   data(): Float64Array;
 }
@@ -992,8 +1063,8 @@ function sampleCache(ctx: TestContext): SampleCache {
       for (let t = 0, u = 0; t < M; t++) if ((and[t >>> 5]! >>> (t & 31)) & 1) out[u++] = t;
       return out;
     },
-    offset(c) {
-      const k = `${c.variable}\u0000${c.values ? "rank" : "value"}\u0000${termKey(c)}`;
+    offset(c, factor) {
+      const k = `${c.variable}\u0000${c.values ? "rank" : "value"}\u0000${termKey(c)}\u0000${factor}`;
       let at = byColumn.get(k);
       if (at === undefined) {
         if ((used + 1) * M > buffer.length) {
@@ -1011,8 +1082,8 @@ function sampleCache(ctx: TestContext): SampleCache {
           }
         } else {
           const src = c.values ?? c.column.values;
-          for (let t = 0; t < M; t++) view[t] = src[sample[t]!]!;
-          if (c.term) fillBasisValues(c.term, view, view);
+          for (let t = 0; t < M; t++) view[t] = src[sample[t]!]! * factor;
+          if (c.term) fillBasisValues(scaleBasisTerm(c.term, factor), view, view);
           // a categorical column's missing cells are marked by codes, not by NaN values
           if (c.column.codes && CATEGORICAL_TYPES.has(c.column.type)) for (let t = 0; t < M; t++) if (c.column.codes[sample[t]!]! < 0) view[t] = NaN;
         }

@@ -39,6 +39,7 @@ import { lrToEffect, signedRootEffectCI } from "../../stats/effectScale.js";
 import { centredScores, linearByLinear as linearByLinearStatistic, type ScoredStratum } from "../../stats/linearByLinear.js";
 import { createScoredTableSampler, permutationFloorWarning, scoredTableSum, sequentialMonteCarloPValue, type ScoredMargins } from "../../stats/permutation.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
+import { maxAbsFinite, scaleExponent } from "../../stats/powerOfTwoScale.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import { strataAdjustment } from "./adjustmentDetails.js";
 import type { Claim, TestOutcome } from "../types.js";
@@ -89,16 +90,20 @@ function stratumMargins(t: ScoredStratum): { row: Float64Array; col: Float64Arra
 /**
  * Permutation p-value of |Σ_s (T_s − E_s)|: x permuted within each stratum, up to B draws,
  * stopping after {@link STOP_AFTER_HITS} permuted statistics reach the observed one. Scores are
- * centred within each stratum, so each stratum's permuted score sum is its T*_s − E_s.
- * Cost: O(Σ_s n_s) once, then O(draws · Σ_s (r_s·c_s + draws' spread)).
+ * centred within each stratum, so each stratum's permuted score sum is its T*_s − E_s; they are
+ * first multiplied by a power of two per variable that brings the largest |score| into [0.5, 1)
+ * (`stats/powerOfTwoScale.ts`), which orders the statistics as before and keeps extreme scores'
+ * products finite. Cost: O(Σ_s n_s) once, then O(draws · Σ_s (r_s·c_s + draws' spread)).
  */
 function permutationP(strata: readonly ScoredStratum[], B: number, seed: number, key: string): { p: number; draws: number } {
   const used: ScoredMargins[] = [];
   const observedTables: { counts: ArrayLike<number>; a: Float64Array; b: Float64Array }[] = [];
+  const fu = 2 ** scaleExponent(strata.reduce((m, s) => Math.max(m, maxAbsFinite(s.rowScores)), 0));
+  const fv = 2 ** scaleExponent(strata.reduce((m, s) => Math.max(m, maxAbsFinite(s.colScores)), 0));
   for (const s of strata) {
     const { row, col } = stratumMargins(s);
-    const u = centredScores(s.rowScores, row);
-    const v = centredScores(s.colScores, col);
+    const u = centredScores(Float64Array.from(s.rowScores, (x) => x * fu), row);
+    const v = centredScores(Float64Array.from(s.colScores, (x) => x * fv), col);
     let total = 0;
     for (let i = 0; i < row.length; i++) total += row[i]!;
     if (total < 2 || !(u.sumSquares > 0) || !(v.sumSquares > 0)) continue;

@@ -72,6 +72,8 @@ import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
 import { gaussianLRFromMoments } from "../../stats/gaussianLRFromMoments.js";
+import { columnScaleExponent } from "../../stats/powerOfTwoScale.js";
+import { scaledCovarianceOf } from "../../stats/scaledCovariance.js";
 import { designCrossProduct, logisticRegressionDesign, type FactorDesign, type LogisticFit } from "../../stats/logisticRegression.js";
 import { multinomialLogitDesign, type MultinomialFit } from "../../stats/multinomialLogit.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
@@ -316,17 +318,21 @@ function gatherCodes(codes: Int32Array, idx: Int32Array, nLevels: number, mix?: 
 }
 
 /**
- * raw[t·stride + a] = values[idx[t]]; returns their mean and their sum of squared deviations,
- * from sums shifted by the first value (no division per row). Cost: O(n).
+ * raw[t·stride + a] = values[idx[t]]·2^e, e the column's scale exponent (`stats/powerOfTwoScale.ts`:
+ * the scaled values are at most 1 in magnitude, so their squares neither overflow nor underflow);
+ * returns their mean and their sum of squared deviations, from sums shifted by the first value (no
+ * division per row). Standardising undoes the scale, so the model columns are those of the
+ * unscaled values. Cost: O(n).
  */
 function gatherStrided(raw: Float64Array, values: Float64Array, idx: Int32Array, a: number, stride: number): [number, number] {
   const n = idx.length;
   if (n === 0) return [0, 0];
-  const shift = values[idx[0]!]!;
+  const f = 2 ** columnScaleExponent(values);
+  const shift = values[idx[0]!]! * f;
   let s = 0;
   let ss = 0;
   for (let t = 0, at = a; t < n; t++, at += stride) {
-    const v = values[idx[t]!]!;
+    const v = values[idx[t]!]! * f;
     raw[at] = v;
     const e = v - shift;
     s += e;
@@ -805,10 +811,13 @@ function linearFromMoments(claim: Claim, resp: Column, added: Column, ctx: TestC
   const respIdx = idx(resp.name)[0]!;
   const addedIdx = idx(added.name);
   const givenIdx = claim.given.flatMap(idx);
-  if (!(m.cov[respIdx * k + respIdx]! > 0)) {
+  // variances in the moments' scaled units (`stats/scaledCovariance.ts`): a variance that
+  // underflows the double range is not a constant column
+  const scaledCov = scaledCovarianceOf(m.cov)?.cov ?? m.cov;
+  if (!(scaledCov[respIdx * k + respIdx]! > 0)) {
     return { ok: false, reason: `"${resp.name}" is constant among the ${n} complete rows; the claim cannot be tested` };
   }
-  if (addedIdx.every((i) => !(m.cov[i * k + i]! > 0))) {
+  if (addedIdx.every((i) => !(scaledCov[i * k + i]! > 0))) {
     return { ok: false, reason: `"${added.name}" is constant among the ${n} complete rows; the claim cannot be tested` };
   }
   const fit = gaussianLRFromMoments(m.cov, k, n, respIdx, givenIdx, addedIdx);
@@ -831,8 +840,10 @@ function linearFromMoments(claim: Claim, resp: Column, added: Column, ctx: TestC
     parameters_null: 1 + fit.givenKept,
     parameters_full: p,
     fitted_from: "moments",
-    residual_variance_null: fit.residualVarianceNull,
-    residual_variance_full: fit.residualVarianceFull,
+    // in the response's units; left out where they leave the double range (values of 1e155 or more, or near 1e-310)
+    ...([fit.residualVarianceNull, fit.residualVarianceFull].every((v) => v >= 2 ** -1022 && v < Infinity)
+      ? { residual_variance_null: fit.residualVarianceNull, residual_variance_full: fit.residualVarianceFull }
+      : {}),
     adjustment: linearAdjustment(ctx.table, claim.given),
     sides: [
       { variable: resp.name, model: `linear regression of the ${resp.type === "ordinal" ? "scores" : "values"} on the other side and the adjustment (least squares from the pattern moments)` },

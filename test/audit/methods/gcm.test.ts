@@ -25,6 +25,7 @@ import { readTable } from "../../../src/data/readTable.js";
 import type { Table, VariableType } from "../../../src/data/Table.js";
 import type { VariableBasis } from "../../../src/stats/flexibleBasis.js";
 import { studentTTwoSided } from "../../../src/stats/pvalues.js";
+import { mapColumnValues } from "../../helpers/transformTable.js";
 
 interface LinearRef { statistic: number; df: number; p: number; log_p: number; effect: number }
 interface ClaimRef {
@@ -228,6 +229,24 @@ describe(`gcm and gcm-rank against numpy/scipy (${fixture.source})`, () => {
     const filtered = tested.filter((c) => c.filter === "listwise");
     expect(filtered.length).toBe(6);
     for (const c of filtered) expectMatches(run(c, ctx), c);
+  });
+
+  it("every continuous column times 2^700 (squares beyond the double range) or 2^−700: both paths match the reference of the unscaled data, bit for bit as the unscaled run (regression: NaN and 'constant' on values of 1e155 or more)", () => {
+    for (const k of [700, -700]) {
+      for (const data of ["shapes", "small"] as const) {
+        const continuous = Object.entries(fixture.types[data]!).filter(([, t]) => t === "continuous").map(([name]) => name);
+        const scaled = mapColumnValues(tables[data], continuous, (v) => v * 2 ** k);
+        const ctx = contextOf(data, scaled);
+        const claims = tested.filter((c) => c.data === data && c.filter === null && !hasConstantColumn(c));
+        expect(claims.length).toBeGreaterThan(10);
+        for (const c of claims) {
+          const o = run(c, ctx);
+          expectMatches(o, c); // scripts/gcm_reference.py on the unscaled data
+          const plain = run(c, contexts[data]);
+          expect([o.statistic, o.p, o.effect, ...o.ci], `${label(c)}, k=${k}`).toEqual([plain.statistic, plain.p, plain.effect, ...plain.ci]); // IEEE 754: exact scaling
+        }
+      }
+    }
   });
 
   it("covers what it claims to: gcm-rank, nominal sides of 3 and 6 components, binary sides, an ordinal side, an empty set, levels 0 to 5, aliased columns and a tail below 1e-300", () => {
