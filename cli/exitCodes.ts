@@ -4,11 +4,21 @@
  * 3 with --fail-on-contradiction, at least one claim contradicted; 10 internal error (a bug: please report it).
  */
 import { ArrowauditError, UsageError } from "../src/errors.js";
+import { escapeTerminalMessage } from "../src/report/escapeTerminal.js";
 
 export const EXIT = { ok: 0, usage: 1, input: 2, contradiction: 3, internal: 10 } as const;
 
-/** Map a thrown error to its exit code and the message to print on stderr. */
+/**
+ * Map a thrown error to its exit code and the message to print on stderr, with control
+ * characters and bidirectional overrides made visible (messages quote names and lines from the
+ * input files, which must not drive the terminal).
+ */
 export function exitFor(e: unknown): { code: number; message: string } {
+  const { code, message } = exitMessage(e);
+  return { code, message: escapeTerminalMessage(message) };
+}
+
+function exitMessage(e: unknown): { code: number; message: string } {
   if (e instanceof UsageError) return { code: EXIT.usage, message: `arrowaudit: ${e.message}` };
   if (e instanceof ArrowauditError) return { code: EXIT.input, message: `arrowaudit: ${e.message}` };
   const err = e as Error;

@@ -45,7 +45,7 @@ export const auditOptions = (c: Command): Command =>
     .option("--listwise", "use only rows complete on every measured variable", false)
     .option("--seed <n>", "seed for Monte-Carlo p-values", numberIn("--seed", 0, 2 ** 32 - 1, true), 1)
     .option("--permutations <B>", "Monte-Carlo permutation p-values with B permutations for categorical claims", numberIn("--permutations", 99, 1e7, true))
-    .option("--ascii", "ASCII output only (x _indep_ y | a)", false)
+    .option("--ascii", "ASCII output only: claims as x indep y given a, b", false)
     .option("--quiet", "print nothing but errors and requested output", false);
 
 /** Build the program; actions record their exit code in `state`. */
@@ -63,7 +63,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .description("list every testable independence claim the graph makes (one per missing arrow)")
       .argument("<graph>", "graph file (.txt in arrowaudit's format, or .dot/.gv)")
       .option("--json", "print one JSON document", false)
-      .option("--ascii", "ASCII output only (x _indep_ y | a)", false)
+      .option("--ascii", "ASCII output only: claims as x indep y given a, b", false)
       .option("--columns <data.csv>", "check graph names against this CSV's header")
       .option("--max-sets <n>", "with --sets all-minimal: most separating sets listed per pair", numberIn("--max-sets", 1, 100000, true), 100),
   ).action(async (graph: string, opts: Record<string, unknown>) => {
@@ -87,10 +87,10 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
   auditOptions(
     program
       .command("report")
-      .description("write an HTML (.html) or Markdown (.md) report of the audit")
+      .description("write an HTML (.html) or Markdown (.md) report of the audit, or its methods text alone (.txt)")
       .argument("<graph>", "graph file")
       .argument("<data>", "data file")
-      .requiredOption("--out <file>", "report file: .html or .md (an existing file is overwritten)")
+      .requiredOption("--out <file>", "report file: .html, .md (drawing saved beside it as .svg) or .txt (the methods text alone, ready to paste); an existing file is overwritten")
       .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
   ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
     state.code = await runReport(io, graph, data, opts, argv, false);
@@ -111,8 +111,8 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
   auditOptions(
     program
       .command("demo")
-      .description("run the audit on the bundled invented demo cohort and write arrowaudit-demo-report.html")
-      .option("--out <file>", "report file", "arrowaudit-demo-report.html"),
+      .description("run the audit on the bundled invented demo cohort, print the equivalent test command, and write arrowaudit-demo-report.html")
+      .option("--out <file>", "report file: .html, .md or .txt (the methods text alone)", "arrowaudit-demo-report.html"),
   ).action(async (opts: Record<string, unknown>) => {
     const dir = join(packageRoot(), "data", "demo");
     // The demo file codes missing BMI as -9 and missing blood pressure as 999, and has text education levels.

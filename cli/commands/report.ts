@@ -3,11 +3,13 @@ import { UsageError } from "../../src/errors.js";
 import { renderHtmlReport } from "../../src/report/renderHtmlReport.js";
 import { renderMarkdownReport } from "../../src/report/renderMarkdownReport.js";
 import { renderReportSvgs } from "../../src/report/renderReportSvgs.js";
+import { renderMethodsText } from "../../src/report/renderMethodsText.js";
 import { renderTestText } from "../../src/report/terminal.js";
+import { escapeTerminal } from "../../src/report/escapeTerminal.js";
 import type { ReportContext } from "../../src/report/ReportContext.js";
 import { EXIT } from "../exitCodes.js";
 import { type Io, sha256File, toolVersion, writeAtomic } from "../io.js";
-import { audit, useColor } from "./test.js";
+import { audit, textWidth, useColor } from "./test.js";
 
 /** The command line as typed, each argument quoted for a POSIX shell when needed. */
 export function commandLine(argv: readonly string[]): string {
@@ -15,13 +17,35 @@ export function commandLine(argv: readonly string[]): string {
 }
 
 /**
- * `arrowaudit report <graph> <data> --out file.html|file.md`, and `arrowaudit demo`.
- * A Markdown report is written with its drawing beside it (`report.md` → `report.svg`).
+ * The `arrowaudit test` command equivalent to a demo run, with every setting the demo applies
+ * spelled out: the bundled files (as paths from the project folder), the demo's missing codes and
+ * level order unless the user gave their own, and the user's other options (`--out` dropped).
+ * @example demoTestCommand(["demo"], { missing: "-9,999", levels: "education=primary|secondary|tertiary" })
+ */
+export function demoTestCommand(argv: readonly string[], opts: Record<string, unknown>): string {
+  const args: string[] = [];
+  let dropped = false;
+  for (let i = 0; i < argv.length; i++) {
+    const a = argv[i]!;
+    if (a === "demo" && !dropped) dropped = true;
+    else if (a === "--out") i++;
+    else if (!a.startsWith("--out=")) args.push(a);
+  }
+  const given = (flag: string) => args.some((a) => a === flag || a.startsWith(`${flag}=`));
+  if (!given("--missing") && typeof opts.missing === "string") args.push("--missing", opts.missing);
+  if (!given("--levels") && typeof opts.levels === "string") args.push("--levels", opts.levels);
+  return commandLine(["test", "data/demo/graph.txt", "data/demo/cohort.csv", ...args]);
+}
+
+/**
+ * `arrowaudit report <graph> <data> --out file.html|file.md|file.txt`, and `arrowaudit demo`.
+ * A Markdown report is written with its drawing beside it (`report.md` → `report.svg`); a `.txt`
+ * file gets the methods paragraphs and their references alone, as plain text.
  */
 export async function runReport(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>, argv: string[], demo: boolean): Promise<number> {
   const out = String(opts.out);
   const ext = extname(out).toLowerCase();
-  if (ext !== ".html" && ext !== ".htm" && ext !== ".md") throw new UsageError(`--out ${out}: the report file must end in .html or .md`);
+  if (ext !== ".html" && ext !== ".htm" && ext !== ".md" && ext !== ".txt") throw new UsageError(`--out ${out}: the report file must end in .html, .md or .txt (the methods text alone)`);
   const result = await audit(io, graphPath, dataPath, opts);
   const context: ReportContext = {
     command: commandLine(argv),
@@ -32,11 +56,17 @@ export async function runReport(io: Io, graphPath: string, dataPath: string, opt
     ],
     toolVersion: toolVersion(),
     demo,
+    ...(demo ? { equivalentCommand: demoTestCommand(argv, opts) } : {}),
   };
   if (demo) result.data.file = `data/demo/${basename(dataPath)}`;
-  if (opts.printSummary && !opts.quiet) io.stdout(renderTestText(result, { ascii: !!opts.ascii, color: useColor(io) }));
+  if (opts.printSummary && !opts.quiet) {
+    io.stdout(renderTestText(result, { ascii: !!opts.ascii, color: useColor(io), width: textWidth(io) }));
+    if (context.equivalentCommand) io.stdout(`\nthe same audit as a test command:\n  ${escapeTerminal(context.equivalentCommand)}\n`);
+  }
   let written: string;
-  if (ext === ".md") {
+  if (ext === ".txt") {
+    written = writeAtomic(out, io.cwd, renderMethodsText(result, context));
+  } else if (ext === ".md") {
     const svgName = out.slice(0, out.length - ext.length) + ".svg";
     const svgs = await renderReportSvgs(result, { standalone: true });
     writeAtomic(svgName, io.cwd, svgs.graph);
@@ -45,7 +75,7 @@ export async function runReport(io: Io, graphPath: string, dataPath: string, opt
     const svgs = await renderReportSvgs(result);
     written = writeAtomic(out, io.cwd, renderHtmlReport(result, context, svgs));
   }
-  if (demo && !opts.quiet) io.stdout(`\nreport written to ${written}\nopen it in a browser; it works offline\n`);
-  else if (!opts.quiet) io.stderr(`report written to ${written}\n`);
+  if (demo && !opts.quiet) io.stdout(`\nreport written to ${escapeTerminal(written)}\n${ext === ".txt" ? "plain text, ready to paste" : "open it in a browser; it works offline"}\n`);
+  else if (!opts.quiet) io.stderr(`report written to ${escapeTerminal(written)}\n`);
   return opts.failOnContradiction && result.global.contradicted > 0 ? EXIT.contradiction : EXIT.ok;
 }

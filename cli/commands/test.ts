@@ -1,6 +1,6 @@
 import { runAuditParallel } from "../../src/audit/runAudit.js";
 import type { AuditResult, AuditSettings } from "../../src/audit/types.js";
-import { renderTestText } from "../../src/report/terminal.js";
+import { DEFAULT_TEXT_WIDTH, renderTestText } from "../../src/report/terminal.js";
 import { readHeader } from "../../src/data/readHeader.js";
 import { checkColumns } from "../../src/graph/checkColumns.js";
 import { renderCsv } from "../../src/report/csv.js";
@@ -48,8 +48,25 @@ export async function runTest(io: Io, graphPath: string, dataPath: string, opts:
   const result = await audit(io, graphPath, dataPath, opts);
   if (opts.json) io.stdout(JSON.stringify(result, null, 2) + "\n");
   else if (opts.csv) io.stdout(renderCsv(result));
-  else if (!opts.quiet) io.stdout(renderTestText(result, { ascii: !!opts.ascii, color: useColor(io) }));
+  else if (!opts.quiet) io.stdout(renderTestText(result, { ascii: !!opts.ascii, color: useColor(io), width: textWidth(io) }));
   return opts.failOnContradiction && result.global.contradicted > 0 ? EXIT.contradiction : EXIT.ok;
+}
+
+/** Narrowest width the text output is laid out for, whatever the terminal says. */
+const MIN_TEXT_WIDTH = 40;
+
+/**
+ * Columns available to the text output: COLUMNS when it holds a positive whole number (POSIX
+ * Base Definitions §8.3: the user's preferred width, which overrides the terminal's), else the
+ * terminal's width when stdout is a terminal, else DEFAULT_TEXT_WIDTH (100) for pipes and files,
+ * so saved output does not depend on the window it was made in; never below 40.
+ */
+export function textWidth(io: Io): number {
+  const env = io.env.COLUMNS?.trim();
+  const fromEnv = env !== undefined && /^\d+$/.test(env) ? Number(env) : 0;
+  const fromTty = io.stdoutIsTTY ? (process.stdout.columns ?? 0) : 0;
+  const w = fromEnv > 0 ? fromEnv : fromTty > 0 ? fromTty : DEFAULT_TEXT_WIDTH;
+  return Math.max(MIN_TEXT_WIDTH, w);
 }
 
 /** Colours only on a TTY and never with NO_COLOR (https://no-color.org convention). */

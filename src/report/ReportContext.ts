@@ -13,4 +13,9 @@ export interface ReportContext {
   toolVersion: string;
   /** When true the report says plainly that the data are invented demonstration data. */
   demo?: boolean;
+  /**
+   * For a run whose command line hides settings (the demo applies missing codes and a level
+   * order of its own): the equivalent `arrowaudit test` command with every setting spelled out.
+   */
+  equivalentCommand?: string;
 }

@@ -8,11 +8,16 @@
  * correlations does not cite categorical methods, and vice versa.
  */
 import type { AuditResult, TestName, TestedClaim, VariableSummary } from "../audit/types.js";
+import { STOP_AFTER_HITS } from "../audit/methods/stratifiedChisq.js";
+import { permutationsForFloor } from "../stats/permutation.js";
+import { adjustedInterval } from "./adjustedInterval.js";
 import type { ReportContext } from "./ReportContext.js";
 import {
   claimLabel,
   claimEffectSymbol,
+  formatCI,
   formatCount,
+  formatEffect,
   formatEffectWithCI,
   formatP,
   formatPInline,
@@ -43,7 +48,8 @@ type RefKey =
   | "craven1979"
   | "mantel1963"
   | "landis1978"
-  | "satterthwaite1946";
+  | "satterthwaite1946"
+  | "besag1991";
 
 /** Full references, in the journal style of an epidemiology methods section. */
 const REFERENCES: Record<RefKey, string> = {
@@ -70,38 +76,66 @@ const REFERENCES: Record<RefKey, string> = {
   mantel1963: "Mantel N. Chi-square tests with one degree of freedom: extensions of the Mantel–Haenszel procedure. Journal of the American Statistical Association. 1963;58(303):690–700.",
   landis1978: "Landis JR, Heyman ER, Koch GG. Average partial association in three-way contingency tables: a review and discussion of alternative tests. International Statistical Review. 1978;46(3):237–254.",
   satterthwaite1946: "Satterthwaite FE. An approximate distribution of estimates of variance components. Biometrics Bulletin. 1946;2(6):110–114.",
+  besag1991: "Besag J, Clifford P. Sequential Monte Carlo p-values. Biometrika. 1991;78(2):301–304.",
 };
 
-/** How each test is described in the methods, which variable types it served, and what it cites. */
-const TEST_TEXT: Record<TestName, { name: string; text: string; refs: RefKey[] }> = {
+/** "a to b" over the finite values of a list ("a" when all equal); "" when there are none. */
+function range(values: readonly number[]): string {
+  const v = values.filter(Number.isFinite);
+  if (v.length === 0) return "";
+  const lo = Math.min(...v);
+  const hi = Math.max(...v);
+  return lo === hi ? formatCount(lo) : `${formatCount(lo)} to ${formatCount(hi)}`;
+}
+
+/** Adjustment columns kept by a generalised covariance measure: `details.flexibility.parameters`, else n − 2 − df. */
+function gcmParameters(c: TestedClaim): number {
+  const p = Number((c.details?.flexibility as { parameters?: unknown } | undefined)?.parameters);
+  return Number.isFinite(p) ? p : c.n - 2 - c.df;
+}
+
+/** How each test is described in the methods (given the claims it tested), and what it cites. */
+const TEST_TEXT: Record<TestName, { name: string; text: (cs: readonly TestedClaim[]) => string; refs: RefKey[] }> = {
   gcm: {
     name: "generalised covariance measure",
-    text: "the generalised covariance measure (Shah & Peters 2020): each variable was regressed by least squares on the conditioning set, categorical members entering as indicators of their levels and continuous members through natural cubic splines (knots at the minimum, quartiles and maximum; Harrell 2015) refined by piecewise-linear terms at finer quantiles, the amount of flexibility chosen by generalised cross-validation (Craven & Wahba 1979) and raised by one level; the normalised sum of the products of the two variables' residuals was referred to Student's t (to an F distribution for a nominal variable), with a variance that does not assume equal variances; the effect is the correlation of the residuals",
+    text: (cs) => {
+      const p = range(cs.filter((c) => Number(c.details?.components ?? 1) === 1).map(gcmParameters));
+      return `the generalised covariance measure (Shah & Peters 2020): each variable was regressed by least squares on the conditioning set, categorical members entering as indicators of their levels and continuous members through natural cubic splines (knots at the minimum, quartiles and maximum; Harrell 2015) refined by piecewise-linear terms at finer quantiles, the amount of flexibility chosen by generalised cross-validation (Craven & Wahba 1979) and raised by one level; the normalised sum of the products of the two variables' residuals was referred to Student's t on n − 2 − p degrees of freedom, p being the number of adjustment columns kept${p ? ` (here ${p})` : ""}, or to an F distribution for a nominal variable, with a variance that does not assume equal variances; the effect is the correlation of the residuals`;
+    },
     refs: ["shah2020", "harrell2015", "craven1979"],
   },
   "gcm-rank": {
     name: "generalised covariance measure on ranks",
-    text: "the generalised covariance measure (Shah & Peters 2020) applied to the mid-ranks of the two variables (each variable's values ranked over all its observed values), with the conditioning set adjusted for as in the default test (indicators for categorical members; splines chosen by generalised cross-validation for continuous ones; Harrell 2015; Craven & Wahba 1979)",
+    text: (cs) => {
+      const p = range(cs.filter((c) => Number(c.details?.components ?? 1) === 1).map(gcmParameters));
+      return `the generalised covariance measure (Shah & Peters 2020) applied to the mid-ranks of the two variables (each variable's values ranked over all its observed values), with the conditioning set adjusted for as in the default test (indicators for categorical members; splines chosen by generalised cross-validation for continuous ones; Harrell 2015; Craven & Wahba 1979) and Student's t on n − 2 − p degrees of freedom, p being the number of adjustment columns kept${p ? ` (here ${p})` : ""}`;
+    },
     refs: ["shah2020", "harrell2015", "craven1979"],
   },
   "linear-by-linear": {
     name: "stratified linear-by-linear",
-    text: "the generalised Cochran–Mantel–Haenszel correlation statistic for two ordinal variables, a one-degree-of-freedom test of a linear trend in their level scores shared by the strata of the conditioning set (Mantel 1963; Landis, Heyman & Koch 1978; Agresti 2013)",
+    text: () =>
+      "the generalised Cochran–Mantel–Haenszel correlation statistic for two ordinal variables, a one-degree-of-freedom test of a linear trend in their level scores shared by the strata of the conditioning set (Mantel 1963; Landis, Heyman & Koch 1978; Agresti 2013)",
     refs: ["mantel1963", "landis1978", "agresti2013"],
   },
   "pearson-partial": {
     name: "Pearson partial r",
-    text: "the partial Pearson correlation r, tested with the t statistic on n − 2 − |Z| degrees of freedom (|Z| the size of the conditioning set), with a 95% confidence interval from Fisher's z transformation (Fisher 1921; Fisher 1924)",
+    text: (cs) => {
+      const c = range(cs.map((k) => k.n - 2 - k.df));
+      return `the partial Pearson correlation r, tested with the t statistic on n − 2 − c degrees of freedom, c being the number of columns of the conditioning set (one for each continuous or binary member, one indicator for each level but the first of an ordinal or nominal member${c ? `; here ${c}` : ""}), with a 95% confidence interval from Fisher's z transformation (Fisher 1921; Fisher 1924)`;
+    },
     refs: ["fisher1921", "fisher1924"],
   },
   "stratified-chisq": {
     name: "stratified G²",
-    text: "the likelihood-ratio G² test of independence within each stratum of the conditioning set, summed over strata (Wilks 1938; Agresti 2013)",
+    text: () =>
+      "the likelihood-ratio G² test of independence within each stratum of the conditioning set, summed over strata and referred to the chi-square distribution on Σ (r_s − 1)(c_s − 1) degrees of freedom, r_s and c_s counting the levels of each variable present in stratum s (Wilks 1938; Agresti 2013)",
     refs: ["wilks1938", "agresti2013"],
   },
   "regression-lr": {
     name: "regression LR",
-    text: "a likelihood-ratio test comparing regression models of one variable (linear for a continuous or ordinal response, the ordinal one as scores; logistic for a binary and multinomial logistic for a nominal response) with and without the other, both adjusted for the conditioning set (Wilks 1938; Agresti 2013)",
+    text: () =>
+      "a likelihood-ratio test comparing regression models of one variable (linear for a continuous or ordinal response, the ordinal one as scores; logistic for a binary and multinomial logistic for a nominal response) with and without the other, both adjusted for the conditioning set, on as many degrees of freedom as the added variable has columns (Wilks 1938; Agresti 2013)",
     refs: ["wilks1938", "agresti2013"],
   },
 };
@@ -113,7 +147,12 @@ export interface ClaimRow {
   claim: string;
   n: string;
   test: string;
+  /** Effect with its unadjusted 95% interval, e.g. "r = -0.16 [-0.20, -0.13]". */
   effect: string;
+  /** The interval at the level the adjustment used for this claim, with that level: "[-0.21, -0.12] at 99.85%". */
+  adjustedInterval: string;
+  /** The Mantel–Haenszel common odds ratio with its 95% interval, for claims on 2×2×K tables; "" otherwise. */
+  oddsRatio: string;
   p: string;
   pAdjusted: string;
   verdict: "contradicted" | "consistent";
@@ -125,6 +164,7 @@ export interface VariableRow {
   type: string;
   decided: string;
   missing: string;
+  /** The levels with their coding: "female = 0, male = 1", "low < mid < high", "a, b, c (no order)". */
   levels: string;
 }
 
@@ -139,6 +179,8 @@ export interface ReportText {
   claimRows: ClaimRow[];
   untestable: { claim: string; reason: string }[];
   variables: VariableRow[];
+  /** How to read the coding column of the data summary (signs of effects). */
+  codingNote: string;
   /** Paragraphs of the methods text, ready to paste. */
   methods: string[];
   references: string[];
@@ -147,6 +189,8 @@ export interface ReportText {
   reproducibility: { label: string; value: string; code?: boolean }[];
   /** Footnote explaining effect symbols used in the table. */
   effectNote: string;
+  /** Which interval is which: the unadjusted 95% interval and the adjusted one beside the verdict. */
+  intervalNote: string;
 }
 
 /** "a", "a and b", "a, b and c". */
@@ -170,120 +214,206 @@ function cap(s: string): string {
   return s.charAt(0).toUpperCase() + s.slice(1);
 }
 
+/** What each adjustment guarantees, for a sentence "…, which …". */
+const GUARANTEE: Record<"holm" | "bh", (alpha: number) => string> = {
+  holm: (a) => `keeps the probability of calling any true claim contradicted at or below ${a} (the family-wise error rate)`,
+  bh: (a) => `keeps the expected share of true claims among those called contradicted at or below ${a} (the false discovery rate)`,
+};
+
 /**
- * One plain sentence on what the global (Fisher's C) test means for this result.
- * Cost: O(1).
+ * One plain sentence on what the global (Fisher's C) test means for this result, consistent with
+ * the claim verdicts: when the combined test rejects but no claim is contradicted (effects below
+ * the relevance floor, or departures each too small to stand out after adjustment), or the
+ * reverse, the sentence says so and why. Cost: O(k).
  *
- * @example globalSentence(result) // "Taken together, the tests ... contradict ..."
+ * @example globalSentence(result) // "Taken together, the ... tests depart from ..."
  */
 export function globalSentence(result: AuditResult): string {
   const g = result.global;
+  const s = result.settings;
   if (g.k === 0) return "No claim could be tested, so the data give no verdict on the graph as a whole.";
   if (!Number.isFinite(g.p)) return "The global test could not be computed, so the data give no overall verdict on the graph.";
-  if (g.p < result.settings.alpha) {
-    return `Taken together, the ${plural(g.k, "test", "tests")} depart from what the graph implies more than chance would explain (${formatPInline(g.p)}): the data contradict at least one independence the graph implies.`;
+  const contradicted = result.claims.filter((c) => c.verdict === "contradicted").length;
+  const tests = plural(g.k, "test", "tests");
+  if (g.p < s.alpha) {
+    const head = `Taken together, the ${tests} depart from what the graph implies more than chance would explain (${formatPInline(g.p)})`;
+    if (contradicted > 0) return `${head}: the data contradict at least one independence the graph implies.`;
+    const belowFloor = s.min_effect > 0 && result.claims.some((c) => c.p_adjusted < s.alpha);
+    if (belowFloor) {
+      return `${head}, but no claim whose ${s.adjust === "none" ? "" : "adjusted "}p-value is below α = ${s.alpha} has an effect of at least the relevance floor ${s.min_effect}, so none is called contradicted: the departures are detectable but smaller than what was declared relevant.`;
+    }
+    return `${head}, although no single claim is contradicted${s.adjust === "none" ? "" : " after adjustment"}: the combined test pools departures that are each too small to stand out.`;
   }
-  return `Taken together, the ${plural(g.k, "test", "tests")} show no evidence against the graph (${formatPInline(g.p)}); this does not show that the graph is right.`;
+  if (contradicted > 0) {
+    return `Taken together, the ${tests} do not depart from what the graph implies more than chance would explain (${formatPInline(g.p)}), yet ${plural(contradicted, "claim is", "claims are")} contradicted on ${contradicted === 1 ? "its" : "their"} own: the combined test dilutes a few strong departures among many claims that hold.`;
+  }
+  return `Taken together, the ${tests} show no evidence against the graph (${formatPInline(g.p)}); this does not show that the graph is right.`;
 }
 
 function typeOf(result: AuditResult): Map<string, VariableSummary> {
   return new Map(result.variables.map((v) => [v.name, v]));
 }
 
-function methodsText(result: AuditResult, refs: Set<RefKey>): string[] {
+/** Whether two lists hold the same names (as sets). */
+function sameSet(a: readonly string[], b: readonly string[]): boolean {
+  const sa = new Set(a);
+  const sb = new Set(b);
+  return sa.size === sb.size && [...sa].every((v) => sb.has(v));
+}
+
+/** How many claims were conditioned on the parents' union and how many on another (smallest) separating set. */
+export function countSetKinds(result: AuditResult): { parents: number; other: number } {
+  const parents = new Map<string, string[]>();
+  for (const [a, b] of result.graph.arrows) parents.set(b, [...(parents.get(b) ?? []), a]);
+  let basis = 0;
+  for (const c of result.claims) {
+    const union = [...(parents.get(c.x) ?? []), ...(parents.get(c.y) ?? [])].filter((v) => v !== c.x && v !== c.y);
+    if (sameSet(c.given, union)) basis++;
+  }
+  return { parents: basis, other: result.claims.length - basis };
+}
+
+/** The methods' first paragraph: the graph, and which separating set each claim was tested on. */
+function claimsParagraph(result: AuditResult, context: ReportContext, refs: Set<RefKey>): string {
   const s = result.settings;
   const g = result.graph;
-  const claims = result.claims;
-  const k = claims.length;
-  const types = typeOf(result);
-  const paras: string[] = [];
-
-  // 1. claims
+  const k = result.claims.length;
   refs.add("pearl2009");
   let derivation: string;
+  const lead = "For each pair of measured variables not joined by an arrow, the implied independence was tested conditional on";
   if (s.sets === "union-parents") {
     refs.add("shipley2000");
-    derivation =
-      "For each pair of measured variables not joined by an arrow, the implied independence was tested conditional on the union of the two variables' parents (Shipley's basis set; Shipley 2000)";
+    const kinds = countSetKinds(result);
+    const basis = `the union of the two variables' parents (Shipley's basis set; Shipley 2000)`;
+    if (kinds.other === 0) derivation = `${lead} ${basis}: all ${plural(k, "claim", "claims")}`;
+    else {
+      refs.add("tian1998");
+      const smallest = `a minimal set of measured variables that d-separates the pair, one of the smallest (Tian, Paz & Pearl 1998), used where a parent is unmeasured or shares an unmeasured common cause`;
+      derivation =
+        kinds.parents === 0
+          ? `${lead} ${smallest}: all ${plural(k, "claim", "claims")}`
+          : `${lead} ${basis} for ${plural(kinds.parents, "claim", "claims")}, and on ${smallest}, for the other ${plural(kinds.other, "claim", "claims")}`;
+    }
   } else {
     refs.add("tian1998");
     derivation =
       s.sets === "minimal"
-        ? "For each pair of measured variables not joined by an arrow, the implied independence was tested conditional on a minimal set of measured variables that d-separates the pair (Tian, Paz & Pearl 1998)"
-        : "For each pair of measured variables not joined by an arrow, the implied independence was tested conditional on every minimal set of measured variables that d-separates the pair (Tian, Paz & Pearl 1998)";
+        ? `${lead} a minimal set of measured variables that d-separates the pair, one of the smallest (Tian, Paz & Pearl 1998): all ${plural(k, "claim", "claims")}`
+        : `${lead} every minimal set of measured variables that d-separates the pair (Tian, Paz & Pearl 1998), one claim per set: ${plural(k, "claim", "claims")} for ${plural(new Set(result.claims.map((c) => `${c.x}\u0000${c.y}`)).size, "pair", "pairs")}`;
   }
-  paras.push(
+  return (
+    `Analyses were run with arrowaudit ${context.toolVersion}. ` +
     `The causal graph (${plural(g.nodes.length, "node", "nodes")}: ${formatCount(g.measured.length)} measured, ${formatCount(g.unmeasured.length)} unmeasured; ${plural(g.arrows.length, "arrow", "arrows")}; ${plural(g.bidirected.length, "bidirected edge", "bidirected edges")} for unmeasured common causes) implies conditional independencies among the measured variables through d-separation (Pearl 2009). ` +
-      `${derivation}. ${cap(plural(k, "claim was", "claims were"))} tested; ${plural(result.untestable.length, "missing arrow", "missing arrows")} could not be tested and ${result.untestable.length === 1 ? "is" : "are"} listed with the reason.`,
+    `${derivation}. ${cap(plural(k, "claim was", "claims were"))} tested; ${plural(result.untestable.length, "missing arrow", "missing arrows")} could not be tested and ${result.untestable.length === 1 ? "is" : "are"} listed with the reason.`
   );
+}
 
-  // 2. tests actually used
+/** The coding of a categorical variable as a phrase: "female = 0, male = 1", "low < mid < high", "a, b (no order)". */
+function codingOf(v: VariableSummary): string {
+  const levels = v.levels ?? [];
+  if (v.type === "binary" && levels.length === 2) return levels[0] === "0" && levels[1] === "1" ? "0, 1 (as in the file)" : `${levels[0]} = 0, ${levels[1]} = 1`;
+  if (v.type === "binary" || v.type === "ordinal") return levels.join(" < ");
+  if (v.type === "nominal") return `${levels.join(", ")} (no order)`;
+  return "";
+}
+
+/** The sentence saying how binary and ordinal variables were coded, for the variables that were x or y of a claim; "" when there are none. */
+function codingSentence(result: AuditResult): string {
+  const sides = new Set(result.claims.flatMap((c) => [c.x, c.y]));
+  const vars = result.variables.filter((v) => sides.has(v.name) && (v.type === "binary" || v.type === "ordinal") && (v.levels?.length ?? 0) >= 2);
+  if (vars.length === 0) return "";
+  const bin = vars.filter((v) => v.type === "binary").map((v) => `${v.name} = ${v.levels![1]}`);
+  const ord = vars.filter((v) => v.type === "ordinal").map((v) => `${v.levels!.join(" < ")} (${v.name})`);
+  const parts: string[] = [];
+  if (bin.length) parts.push(`binary variables were coded 0/1 with 1 for ${listJoin(bin)}`);
+  if (ord.length) parts.push(`ordinal variables were scored in the order ${listJoin(ord)}`);
+  return ` ${cap(listJoin(parts))}, so a positive effect means that higher codes of one variable go with higher codes of the other.`;
+}
+
+/** The methods' second paragraph: the tests actually used, with their df rules, sequential permutations and the coding of scored variables. */
+function testsParagraph(result: AuditResult, refs: Set<RefKey>): string | undefined {
+  const s = result.settings;
+  const claims = result.claims;
+  const types = typeOf(result);
   const used = TEST_ORDER.filter((t) => claims.some((c) => c.test === t));
-  if (used.length > 0) {
-    const parts = used.map((t) => {
-      const cs = claims.filter((c) => c.test === t);
-      const vt = [...new Set(cs.flatMap((c) => [types.get(c.x)?.type, types.get(c.y)?.type]).filter((v): v is NonNullable<typeof v> => v !== undefined))].sort();
-      TEST_TEXT[t].refs.forEach((r) => refs.add(r));
-      const who = `${cap(plural(cs.length, "claim", "claims"))}${vt.length > 0 ? ` involving ${listJoin(vt)} variables` : ""}`;
-      return `${who} ${cs.length === 1 ? "was" : "were"} tested with ${TEST_TEXT[t].text}.`;
-    });
-    let text = `Each claim was tested with a method suited to its variables' types. ${parts.join(" ")}`;
-    const lr = claims.some((c) => c.test === "stratified-chisq" || c.test === "regression-lr" || c.test === "linear-by-linear" || claimEffectSymbol(c) === "e");
-    if (lr) {
-      refs.add("coxsnell1989");
-      refs.add("magee1990");
-      refs.add("steiger1990");
-      text +=
-        " Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a 95% interval from the noncentral chi-square distribution (Steiger 1990).";
-    }
-    const mh = claims.some((c) => c.test === "stratified-chisq" && c.details !== undefined && Object.keys(c.details).some((key) => /mantel|^mh|odds/i.test(key)));
-    if (mh) {
-      refs.add("mh1959");
-      refs.add("rbg1986");
-      text +=
-        " For two binary variables the Mantel–Haenszel common odds ratio (Mantel & Haenszel 1959) is also given, with the Robins–Breslow–Greenland variance of its logarithm (Robins, Breslow & Greenland 1986).";
-    }
-    const flexible = claims.filter((c) => c.test === "gcm" || c.test === "gcm-rank");
-    if (flexible.length > 0) {
-      const differing = flexible.filter((c) => (c.details?.linear_adjustment as { verdict_differs?: boolean } | undefined)?.verdict_differs);
-      text += ` As a check on the functional form, each claim tested with the generalised covariance measure was also tested with linear adjustment and equal variances (the partial correlation t test); ${
-        differing.length === 0
-          ? "no verdict changed"
-          : `the verdict changed for ${plural(differing.length, "claim", "claims")} (${listJoin(differing.slice(0, 5).map((c) => claimLabel(c)))}${differing.length > 5 ? ", …" : ""}), whose conclusions therefore depend on the functional form assumed`
-      }.`;
-    }
-    const perm = claims.filter((c) => c.p_method === "permutation");
-    if (perm.length > 0) {
-      const B = s.permutations ?? perm[0]?.B;
-      text += ` The p-values of ${plural(perm.length, "claim", "claims")} were estimated by Monte Carlo permutation${B !== undefined ? ` (B = ${formatCount(B)} permutations` : " ("}${B !== undefined ? ", " : ""}random seed ${s.seed}).`;
-      if (perm.some((c) => c.test === "stratified-chisq" && c.df > 1)) {
-        refs.add("satterthwaite1946");
-        text += " For those claims the effect subtracts the mean of the permuted statistics, and its interval matches the permutation distribution by its first two moments (Satterthwaite 1946), so that it agrees with the permutation p-value.";
-      }
-    }
-    paras.push(text);
+  if (used.length === 0) return undefined;
+  const parts = used.map((t) => {
+    const cs = claims.filter((c) => c.test === t);
+    const vt = [...new Set(cs.flatMap((c) => [types.get(c.x)?.type, types.get(c.y)?.type]).filter((v): v is NonNullable<typeof v> => v !== undefined))].sort();
+    TEST_TEXT[t].refs.forEach((r) => refs.add(r));
+    const who = `${cap(plural(cs.length, "claim", "claims"))}${vt.length > 0 ? ` involving ${listJoin(vt)} variables` : ""}`;
+    return `${who} ${cs.length === 1 ? "was" : "were"} tested with ${TEST_TEXT[t].text(cs)}.`;
+  });
+  let text = `Each claim was tested with a method suited to its variables' types. ${parts.join(" ")}`;
+  const scoreTests: TestName[] = ["gcm", "gcm-rank", "pearson-partial"];
+  const scored = claims.filter((c) => scoreTests.includes(c.test) && [c.x, c.y].some((v) => types.get(v)?.type === "binary" || types.get(v)?.type === "ordinal"));
+  if (scored.length > 0) {
+    const kinds = [...new Set(scored.map((c) => (c.test === "pearson-partial" ? "the partial correlation" : "the generalised covariance measure")))].sort();
+    const fit = kinds.length === 2 ? " (in the generalised covariance measure, a linear-probability fit)" : kinds[0] === "the partial correlation" ? "" : " (a linear-probability fit)";
+    text += ` In ${plural(scored.length, "claim", "claims")} tested with ${kinds.join(" or ")}, a binary x or y was analysed as its 0/1 code${fit} and an ordinal one as the scores of its levels${scored.some((c) => c.test === "gcm-rank") ? " (their mid-ranks with --method rank)" : ""}, while categorical members of the conditioning sets always entered as indicators of their levels.`;
   }
+  text += codingSentence(result);
+  const lr = claims.some((c) => c.test === "stratified-chisq" || c.test === "regression-lr" || c.test === "linear-by-linear" || claimEffectSymbol(c) === "e");
+  if (lr) {
+    refs.add("coxsnell1989");
+    refs.add("magee1990");
+    refs.add("steiger1990");
+    text +=
+      " Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a 95% interval from the noncentral chi-square distribution (Steiger 1990).";
+  }
+  const mh = claims.filter((c) => c.details?.mantel_haenszel !== undefined);
+  if (mh.length > 0) {
+    refs.add("mh1959");
+    refs.add("rbg1986");
+    text += ` For the ${plural(mh.length, "claim", "claims")} between two binary variables within the strata of categorical sets (2×2×K tables), the table also gives the Mantel–Haenszel common odds ratio of the levels coded 1 (Mantel & Haenszel 1959), with a 95% interval from the Robins–Breslow–Greenland variance of its logarithm (Robins, Breslow & Greenland 1986).`;
+  }
+  const flexible = claims.filter((c) => c.test === "gcm" || c.test === "gcm-rank");
+  if (flexible.length > 0) {
+    const differing = flexible.filter((c) => (c.details?.linear_adjustment as { verdict_differs?: boolean } | undefined)?.verdict_differs);
+    text += ` As a check on the functional form, each claim tested with the generalised covariance measure was also tested with linear adjustment and equal variances (the partial correlation t test); ${
+      differing.length === 0
+        ? "no verdict changed"
+        : `the verdict changed for ${plural(differing.length, "claim", "claims")} (${listJoin(differing.slice(0, 5).map((c) => claimLabel(c)))}${differing.length > 5 ? ", …" : ""}), whose conclusions therefore depend on the functional form assumed`
+    }.`;
+  }
+  const perm = claims.filter((c) => c.p_method === "permutation");
+  if (perm.length > 0) {
+    refs.add("besag1991");
+    const limit = s.permutations ?? permutationsForFloor(s.adjust === "none" ? s.alpha : s.alpha / Math.max(1, claims.length + result.untestable.filter((u) => u.given !== undefined).length));
+    const draws = range(perm.map((c) => c.B ?? Number.NaN));
+    text += ` The p-values of ${plural(perm.length, "claim", "claims")} were estimated by Monte Carlo permutation within the strata of the conditioning set, with sequential stopping (Besag & Clifford 1991): permutations were drawn until ${STOP_AFTER_HITS} permuted statistics had reached the observed one, or to at most ${formatCount(limit)}, and p = (1 + hits)/(1 + draws) (hits/draws when drawing stopped early); ${draws ? `${draws} permutations were drawn per claim` : "the number drawn is in each claim's details"} (random seed ${s.seed}).`;
+    if (perm.some((c) => c.test === "stratified-chisq" && c.df > 1)) {
+      refs.add("satterthwaite1946");
+      text += " For those claims the effect subtracts the mean of the permuted statistics, and its interval matches the permutation distribution by its first two moments (Satterthwaite 1946), so that it agrees with the permutation p-value.";
+    }
+  }
+  return text;
+}
 
-  // 3. missing data and multiple testing
+/** The methods' third paragraph: complete cases and what they assume, the adjustment, the decision rule. */
+function decisionsParagraph(result: AuditResult, refs: Set<RefKey>): string {
+  const s = result.settings;
+  const claims = result.claims;
+  const k = claims.length;
   const ns = claims.map((c) => c.n).filter(Number.isFinite);
   const rows = result.data.rows;
   let missing: string;
   if (s.listwise) {
     missing = `Rows with a missing value in any analysed variable were removed before testing (listwise deletion): ${formatCount(result.data.rows_used)} of ${formatCount(rows)} rows were used.`;
   } else if (ns.length > 0) {
-    const lo = Math.min(...ns);
-    const hi = Math.max(...ns);
-    missing = `Each claim used the rows complete for its own variables (complete cases per claim): n = ${lo === hi ? formatCount(lo) : `${formatCount(lo)} to ${formatCount(hi)}`} of ${formatCount(rows)} rows.`;
+    missing = `Each claim used the rows complete for its own variables (complete cases per claim): n = ${range(ns)} of ${formatCount(rows)} rows.`;
   } else {
     missing = `Each claim would use the rows complete for its own variables (complete cases per claim), out of ${formatCount(rows)} rows.`;
   }
+  missing +=
+    " This is valid when values are missing completely at random or when whether a row is complete depends only on the claim's conditioning variables; it is not when missingness depends on x or y themselves, which can make a true claim look contradicted.";
   let adjust: string;
   if (s.adjust === "holm") {
     refs.add("holm1979");
-    adjust = `P-values were adjusted for the ${plural(k, "test", "tests")} with Holm's step-down method, controlling the family-wise error rate (Holm 1979).`;
+    adjust = `P-values were adjusted for the ${plural(k, "test", "tests")} with Holm's step-down method (Holm 1979), which controls the family-wise error rate.`;
   } else if (s.adjust === "bh") {
     refs.add("bh1995");
-    adjust = `P-values were adjusted for the ${plural(k, "test", "tests")} with the Benjamini–Hochberg step-up method, controlling the false discovery rate (Benjamini & Hochberg 1995).`;
+    adjust = `P-values were adjusted for the ${plural(k, "test", "tests")} with the Benjamini–Hochberg step-up method (Benjamini & Hochberg 1995), which controls the false discovery rate.`;
   } else {
     adjust = "P-values were not adjusted for multiple testing.";
   }
@@ -291,30 +421,66 @@ function methodsText(result: AuditResult, refs: Set<RefKey>): string[] {
     s.min_effect > 0
       ? `A claim was called contradicted when its ${s.adjust === "none" ? "" : "adjusted "}p-value was below α = ${s.alpha} and its absolute effect was at least ${s.min_effect}.`
       : `A claim was called contradicted when its ${s.adjust === "none" ? "" : "adjusted "}p-value was below α = ${s.alpha}.`;
-  paras.push(`${missing} ${adjust} ${rule}`);
+  return `${missing} ${adjust} ${rule}`;
+}
 
-  // 4. results and the global test
+/** The methods' fourth paragraph: unadjusted and adjusted counts with what each is compared with, the strongest contradictions, the global test. */
+function resultsParagraph(result: AuditResult, refs: Set<RefKey>): string {
+  const s = result.settings;
+  const claims = result.claims;
+  const k = claims.length;
   const gl = result.global;
+  if (k === 0) return "No claim could be tested.";
   const contradicted = claims.filter((c) => c.verdict === "contradicted");
+  const unadjusted = claims.filter((c) => c.p < s.alpha).length;
   const chance = Number.isFinite(gl.expected_by_chance) ? String(Number(gl.expected_by_chance.toFixed(2))) : "n/a";
-  let res =
-    k === 0
-      ? "No claim could be tested."
-      : `${contradicted.length === 0 ? "None" : formatCount(contradicted.length)} of the ${plural(k, "claim", "claims")} ${contradicted.length === 1 || contradicted.length === 0 ? "was" : "were"} contradicted by the data (${chance} expected by chance alone at α = ${s.alpha} before adjustment if every claim held).`;
+  const floor = s.min_effect > 0 ? ` and an absolute effect of at least ${s.min_effect}` : "";
+  let res = `Of the ${plural(k, "claim", "claims")}, ${formatCount(unadjusted)} had an unadjusted p-value below α = ${s.alpha}, where ${chance} would be expected by chance alone if every claim held. `;
+  if (s.adjust === "none") res += `Without adjustment, ${formatCount(contradicted.length)} ${contradicted.length === 1 ? "was" : "were"} called contradicted${floor ? ` (p-value below α${floor})` : ""}.`;
+  else {
+    res += `After ${s.adjust === "holm" ? "Holm's adjustment" : "the Benjamini–Hochberg adjustment"}, which ${GUARANTEE[s.adjust](s.alpha)}, ${formatCount(contradicted.length)} ${contradicted.length === 1 ? "was" : "were"} contradicted by the data${floor ? ` (adjusted p-value below α${floor})` : ""}.`;
+  }
   if (contradicted.length > 0) {
     const top = contradicted
       .slice(0, 3)
       .map((c) => `${claimLabel(c)} (${claimEffectSymbol(c)} = ${formatEffectWithCI(c.effect, c.ci)}, ${s.adjust === "none" ? "" : "adjusted "}${formatPInline(c.p_adjusted)})`);
     res += ` The strongest ${contradicted.length === 1 ? "contradiction was" : "contradictions were"} ${listJoin(top)}.`;
   }
-  if (k > 0) {
-    refs.add("fisher1925");
-    refs.add("shipley2000");
-    res += ` Combining the ${plural(k, "p-value", "p-values")} with Fisher's method (Fisher 1925), as proposed for graph tests by Shipley (2000), gave C = ${formatStatistic(gl.statistic)} on ${gl.df} degrees of freedom, ${formatPInline(gl.p)}.`;
-    if (gl.note) res += ` ${cap(gl.note)}.`;
-  }
-  paras.push(res);
+  refs.add("fisher1925");
+  refs.add("shipley2000");
+  res += ` Combining the ${plural(k, "p-value", "p-values")} with Fisher's method (Fisher 1925), as proposed for graph tests by Shipley (2000), gave C = ${formatStatistic(gl.statistic)} on ${gl.df} degrees of freedom, ${formatPInline(gl.p)}.`;
+  if (gl.note) res += ` ${cap(gl.note)}.`;
+  return res;
+}
+
+function methodsText(result: AuditResult, context: ReportContext, refs: Set<RefKey>): string[] {
+  const paras = [claimsParagraph(result, context, refs)];
+  const tests = testsParagraph(result, refs);
+  if (tests !== undefined) paras.push(tests);
+  paras.push(decisionsParagraph(result, refs), resultsParagraph(result, refs));
   return paras;
+}
+
+/** A confidence level as a percentage with the decimals that tell it from 100%: 0.95 → "95%", 0.99853 → "99.85%". */
+function levelPercent(level: number): string {
+  const a = 100 * (1 - level);
+  const d = a >= 1 ? 1 : Math.max(1, 1 - Math.floor(Math.log10(a)));
+  return `${Number((100 * level).toFixed(d))}%`;
+}
+
+/** The adjusted-interval cell of a claim: "[lo, hi] at 99.85%", or "n/a". */
+function adjustedCell(c: TestedClaim, alpha: number): string {
+  const adj = adjustedInterval(c, alpha);
+  if (!adj) return "n/a";
+  return `${formatCI(adj.ci, Math.max(2, ...[c.effect, ...c.ci].map((v) => (Number.isFinite(v) && Math.abs(v) < 0.1 ? 3 : 2))))} at ${levelPercent(adj.level)}`;
+}
+
+/** The Mantel–Haenszel odds-ratio cell of a 2×2×K claim: "OR_MH = 1.23 [0.98, 1.55]", or "". */
+function oddsRatioCell(c: TestedClaim): string {
+  const mh = c.details?.mantel_haenszel as { odds_ratio?: number; ci?: [number, number] } | undefined;
+  if (!mh || !Number.isFinite(mh.odds_ratio)) return "";
+  const ci = Array.isArray(mh.ci) && mh.ci.every(Number.isFinite) ? ` [${formatEffect(mh.ci[0], 2)}, ${formatEffect(mh.ci[1], 2)}]` : "";
+  return `OR_MH = ${formatEffect(mh.odds_ratio!, 2)}${ci}`;
 }
 
 /**
@@ -332,7 +498,7 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
   const claims = [...result.claims].sort((a, b) => a.rank - b.rank);
   const contradicted = claims.filter((c) => c.verdict === "contradicted").length;
   const refs = new Set<RefKey>();
-  const methods = methodsText(result, refs);
+  const methods = methodsText(result, context, refs);
 
   const dataName = result.data.file ?? context.inputs.find((i) => /\.(csv|tsv|txt|parquet)$/i.test(i.path))?.path;
   const summary = [
@@ -353,6 +519,8 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
     n: formatCount(c.n),
     test: TEST_TEXT[c.test]?.name ?? c.test,
     effect: `${claimEffectSymbol(c)} = ${formatEffectWithCI(c.effect, c.ci)}`,
+    adjustedInterval: adjustedCell(c, s.alpha),
+    oddsRatio: oddsRatioCell(c),
     p: formatP(c.p),
     pAdjusted: formatP(c.p_adjusted),
     verdict: c.verdict,
@@ -365,8 +533,10 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
     type: v.type,
     decided: v.type_source === "declared" ? "declared by the user" : "inferred from the values",
     missing: v.missing > 0 ? `${formatCount(v.missing)} (${percent(v.missing, rows)})` : "0",
-    levels: v.levels && v.type !== "continuous" ? v.levels.join(", ") : "",
+    levels: v.levels && v.type !== "continuous" ? codingOf(v) : "",
   }));
+  const codingNote =
+    "Binary variables are coded 0 and 1 as shown and ordinal variables are scored in the order shown, so a positive effect r means that higher codes of one variable go with higher codes of the other (for an odds ratio OR_MH above 1, the levels coded 1 go together); nominal variables have no order and their effects no sign.";
 
   refs.add("verma1990");
   const cautions = [
@@ -393,6 +563,7 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
     { label: "Tool", value: `arrowaudit ${context.toolVersion}` },
     { label: "Date", value: context.date },
     { label: "Command", value: context.command, code: true },
+    ...(context.equivalentCommand !== undefined ? [{ label: "Equivalent test command", value: context.equivalentCommand, code: true }] : []),
     ...context.inputs.map((i) => ({ label: `SHA-256 of ${i.path}`, value: i.sha256, code: true })),
     { label: "Random seed", value: String(s.seed) },
     {
@@ -411,24 +582,39 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
   const effectNote = symbols
     .map((t): string => SYMBOL_TEXT[t] ?? "")
     .concat(lrScale ? ["e: likelihood-ratio effect √(1 − exp(−LR/n)) on the correlation scale (for several df, LR − df or, for permutation p-values, LR minus its permutation mean, in place of LR)"] : [])
+    .concat(claimRows.some((r) => r.oddsRatio !== "") ? ["OR_MH: Mantel–Haenszel common odds ratio of the levels coded 1, with its 95% interval"] : [])
     .filter((x) => x !== "")
     .join("; ");
 
   return {
     title: "Graph–data consistency report",
     demoNotice: context.demo
-      ? "Demonstration only: the data in this report are invented (simulated) and describe no real study or person."
+      ? `Demonstration only: the data in this report are invented (simulated) and describe no real study or person.${context.equivalentCommand !== undefined ? ` The same audit as a test command: ${context.equivalentCommand}` : ""}`
       : undefined,
     summary,
     globalSentence: globalSentence(result),
     claimRows,
     untestable: result.untestable.map((u) => ({ claim: u.given ? claimLabel({ x: u.x, y: u.y, given: u.given }) : `${u.x} – ${u.y}`, reason: u.reason })),
     variables,
+    codingNote,
     methods,
     references: [...refs].map((r) => REFERENCES[r]).sort(),
     cautions,
     warnings,
     reproducibility,
     effectNote,
+    intervalNote: intervalNote(result),
   };
+}
+
+/** Which interval is which, in one or two sentences for the table and the forest plot. */
+function intervalNote(result: AuditResult): string {
+  const s = result.settings;
+  const floor = s.min_effect > 0 ? ` and on the relevance floor ${s.min_effect}` : "";
+  if (s.adjust === "none") {
+    return `The 95% interval is unadjusted, as are the p-values; the adjusted interval is the interval at the level α = ${s.alpha} used for every claim (confidence ${levelPercent(1 - s.alpha)}), and the verdict depends on the p-value${floor}.`;
+  }
+  const method = s.adjust === "holm" ? "Holm's method" : "the Benjamini–Hochberg method";
+  const threshold = s.adjust === "holm" ? "α/(k − j + 1) for the j-th smallest of k p-values" : "jα/k for the j-th smallest of k p-values";
+  return `The 95% interval is unadjusted and can exclude 0 for a claim judged consistent. The verdict depends on the adjusted p-value${floor}; the adjusted interval is the interval at the level ${method} used for that claim (confidence 1 − α·p/p_adjusted, which is 1 − ${threshold} unless the monotone step raised the adjusted p-value), so it excludes 0 when the adjusted p-value is below α = ${s.alpha}.`;
 }

@@ -3,6 +3,11 @@
  * Cells that a spreadsheet would run as a formula (starting with =, +, -, @, tab or carriage
  * return) are neutralised with a leading apostrophe, as OWASP advises against CSV injection
  * (CWE-1236); plain numbers are written as numbers, so negative effects stay numeric.
+ *
+ * Lists of names (the `given` set and the repair `arrows`) are written as JSON arrays of strings,
+ * `["bmi","smoker"]` (`[]` for the empty set), so names containing spaces, commas or semicolons
+ * stay unambiguous and every language can read the cell back (RFC 8259); the cell is then quoted
+ * as any other (RFC 4180).
  */
 import type { AuditResult } from "../audit/types.js";
 
@@ -18,18 +23,23 @@ export function csvCell(v: unknown): string {
 
 const COLUMNS = ["rank", "x", "y", "given", "n", "test", "statistic", "df", "p", "log_p", "p_adjusted", "p_method", "effect", "ci_low", "ci_high", "verdict", "arrows", "reason"] as const;
 
+/** A list of names as one JSON array (RFC 8259), e.g. `["bmi","smoker"]`. Cost: O(total length). */
+export function nameList(names: readonly string[]): string {
+  return JSON.stringify(names);
+}
+
 /** The whole result as CSV text with a header row. Cost: O(claims). */
 export function renderCsv(r: AuditResult): string {
   const lines = [COLUMNS.join(",")];
   for (const c of r.claims) {
     lines.push(
-      [c.rank, c.x, c.y, c.given.join(" "), c.n, c.test, c.statistic, c.df, c.p, c.log_p, c.p_adjusted, c.p_method, c.effect, c.ci[0], c.ci[1], c.verdict, c.arrows.join(" ; "), ""]
+      [c.rank, c.x, c.y, nameList(c.given), c.n, c.test, c.statistic, c.df, c.p, c.log_p, c.p_adjusted, c.p_method, c.effect, c.ci[0], c.ci[1], c.verdict, nameList(c.arrows), ""]
         .map(csvCell)
         .join(","),
     );
   }
   for (const u of r.untestable) {
-    lines.push(["", u.x, u.y, (u.given ?? []).join(" "), "", "", "", "", "", "", "", "", "", "", "", "untestable", "", u.reason].map(csvCell).join(","));
+    lines.push(["", u.x, u.y, u.given ? nameList(u.given) : "", "", "", "", "", "", "", "", "", "", "", "", "untestable", "", u.reason].map(csvCell).join(","));
   }
   return lines.join("\r\n") + "\r\n";
 }

@@ -123,21 +123,48 @@ export function formatCount(n: number): string {
   return sign + digits.replace(/\B(?=(\d{3})+(?!\d))/g, ",");
 }
 
+/** Words the ASCII claim notation gives meaning to; a name equal to one (in any letter case) is quoted. */
+const ASCII_KEYWORDS = new Set(["indep", "given", "nothing"]);
+/** A name the graph file would accept unquoted: letters of any script, marks, digits, "_" and ".". */
+const BARE_NAME = /^[\p{L}\p{M}\p{N}_.]+$/u;
+
 /**
- * Human-readable label of an implied independence: "x ⫫ y | a, b", with the empty
- * conditioning set written "∅". The ASCII form, for terminals without Unicode, is
- * "x _indep_ y | a, b" with "{}" for the empty set. Names are not escaped: escape for the target
- * format (HTML, Markdown) afterwards. Cost: O(|given|).
+ * A name as the ASCII claim notation writes it: as it is when the graph file's grammar would read
+ * it as a bare name and it is not one of the notation's words (`indep`, `given`, `nothing`), else
+ * in double quotes with `"` and `\` escaped by a backslash, as in the graph file. Cost: O(|name|).
+ *
+ * @example asciiName("sbp")         // "sbp"
+ * @example asciiName("systolic bp") // '"systolic bp"'
+ * @example asciiName("given")       // '"given"'
+ */
+export function asciiName(name: string): string {
+  if (BARE_NAME.test(name) && !ASCII_KEYWORDS.has(name.toLowerCase())) return name;
+  return `"${name.replace(/["\\]/g, (c) => `\\${c}`)}"`;
+}
+
+/**
+ * Human-readable label of an implied independence. The Unicode form is the mathematical notation
+ * "x ⫫ y | a, b", with the empty conditioning set written "∅" (Dawid 1979, J. R. Statist. Soc. B
+ * 41:1–31, for the sign). The ASCII form, for plain-text logs and terminals without Unicode, is
+ * arrowaudit's own word notation "x indep y given a, b", read "x is independent of y given a and
+ * b", with "given nothing" for the empty set; names that the graph file would have to quote
+ * (spaces, commas, symbols) or that equal one of its words are double-quoted ({@link asciiName}),
+ * so the label stays unambiguous. Unicode-form names are not quoted or escaped: escape for the
+ * target format (HTML, Markdown, terminal) afterwards. Cost: O(|given|).
  *
  * @param claim x, y and the conditioning set
- * @param ascii use only ASCII characters
+ * @param ascii use the ASCII word notation
  * @example claimLabel({ x: "a", y: "b", given: [] }) // "a ⫫ b | ∅"
- * @example claimLabel({ x: "a", y: "b", given: ["c", "d"] }, true) // "a _indep_ b | c, d"
+ * @example claimLabel({ x: "a", y: "b", given: ["c", "d"] }, true) // "a indep b given c, d"
+ * @example claimLabel({ x: "systolic bp", y: "b", given: [] }, true) // '"systolic bp" indep b given nothing'
  */
 export function claimLabel(claim: Pick<Claim, "x" | "y" | "given">, ascii = false): string {
-  const sep = ascii ? " _indep_ " : " ⫫ ";
-  const set = claim.given.length === 0 ? (ascii ? "{}" : "∅") : claim.given.join(", ");
-  return `${claim.x}${sep}${claim.y} | ${set}`;
+  if (ascii) {
+    const set = claim.given.length === 0 ? "nothing" : claim.given.map(asciiName).join(", ");
+    return `${asciiName(claim.x)} indep ${asciiName(claim.y)} given ${set}`;
+  }
+  const set = claim.given.length === 0 ? "∅" : claim.given.join(", ");
+  return `${claim.x} ⫫ ${claim.y} | ${set}`;
 }
 
 /**

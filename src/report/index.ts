@@ -1,6 +1,13 @@
 export { escapeXml } from "./escapeXml.js";
+export { escapeTerminal, escapeTerminalMessage, escapeControlCharacters } from "./escapeTerminal.js";
+export { adjustedInterval, adjustmentLevel, effectIntervalAt } from "./adjustedInterval.js";
+export { renderMethodsText } from "./renderMethodsText.js";
+export { renderCsv, csvCell, nameList } from "./csv.js";
+export { renderTestText, renderClaimsText, middleEllipsis, uniqueShortNames, DEFAULT_TEXT_WIDTH } from "./terminal.js";
+export type { TextOptions, ClaimsListing } from "./terminal.js";
 export {
   NOT_AVAILABLE,
+  asciiName,
   claimLabel,
   effectDigits,
   claimEffectSymbol,

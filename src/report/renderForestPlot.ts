@@ -1,23 +1,35 @@
 /**
- * Forest plot of the tested claims: one row per claim in rank order, the effect as a point and its
- * 95% confidence interval as a horizontal line, a vertical line at zero (independence), and the
- * relevance band ±min_effect shaded when set. Verdicts differ by shape and colour: contradicted is
- * a vermillion diamond, consistent a blue circle.
+ * Forest plot of the tested claims: one row per claim in rank order, the effect as a point, its
+ * unadjusted 95% confidence interval as a thick horizontal line and, when the significance level
+ * is given, the interval at the level the multiple-testing adjustment used for that claim as a
+ * thin line with end ticks (see `adjustedInterval.ts`), a vertical line at zero (independence),
+ * and the relevance band ±min_effect shaded when set. Verdicts differ by shape and colour:
+ * contradicted is a vermillion diamond, consistent a blue circle. The numbers are written to the
+ * right: the estimate with its 95% interval, then the adjusted interval.
  *
  * Terms: *effect* is the claim's effect on the common partial-correlation scale (see
  * `TestOutcome.effect`); the *relevance band* is the interval (−min_effect, min_effect) inside
  * which an association is not called a contradiction however small its p-value.
+ *
+ * Sizing: every text's width is estimated (`estimateTextWidth`, widened by BOLD for the bold
+ * labels of contradicted claims) and the drawing is made as wide as its rightmost text plus a
+ * margin, so no label runs past the edge.
  */
-import type { TestedClaim } from "../audit/types.js";
+import type { AuditSettings, TestedClaim } from "../audit/types.js";
+import { adjustedInterval } from "./adjustedInterval.js";
 import { escapeXml } from "./escapeXml.js";
 import { independenceSvg } from "./independenceMark.js";
-import { claimEffectSymbol, claimLabel, formatEffectWithCI, typographicMinus } from "./format.js";
+import { claimEffectSymbol, claimLabel, formatCI, formatEffectWithCI, typographicMinus } from "./format.js";
 import { estimateTextWidth } from "./textWidth.js";
 import { FONT_STACK, INK, PALETTE } from "./theme.js";
 
 export interface ForestPlotOptions {
   /** Half-width of the relevance band; 0 or absent draws no band. */
   minEffect?: number;
+  /** Significance level of the verdicts; with it, each claim's adjusted interval is drawn too. */
+  alpha?: number;
+  /** The adjustment the verdicts used (names the adjusted interval in the legend; default "holm"). */
+  adjust?: AuditSettings["adjust"];
   /** Accessible title. */
   title?: string;
   /** Add the SVG namespace for a standalone file (default false). */
@@ -29,6 +41,10 @@ export interface ForestPlotOptions {
 const FS = 12.5;
 const ROW = 26;
 const MAX_LABEL = 400;
+/** Width of bold (font-weight 600) text relative to regular text: a generous bound for sans-serif faces (from memory of Arial/Helvetica Bold advance widths, about 5–10% wider). */
+const BOLD = 1.12;
+/** Margin kept right of the rightmost text, px. */
+const RIGHT_MARGIN = 12;
 
 function n(v: number): string {
   const r = Math.round(v * 10) / 10;
@@ -44,11 +60,16 @@ function tickStep(span: number): number {
   return 1;
 }
 
+/** Estimated width of `text` at `size` px, bold or not. */
+function widthOf(text: string, size: number, bold = false): number {
+  return estimateTextWidth(text, size) * (bold ? BOLD : 1);
+}
+
 /** Shorten a label to fit `max` px, ending it with an ellipsis. */
-function fit(text: string, max: number): string {
-  if (estimateTextWidth(text, FS) <= max) return text;
+function fit(text: string, max: number, bold: boolean): string {
+  if (widthOf(text, FS, bold) <= max) return text;
   const chars = [...text];
-  while (chars.length > 1 && estimateTextWidth(chars.join("") + "…", FS) > max) chars.pop();
+  while (chars.length > 1 && widthOf(chars.join("") + "…", FS, bold) > max) chars.pop();
   return chars.join("") + "…";
 }
 
@@ -60,16 +81,17 @@ function tickLabel(v: number, step: number): string {
 }
 
 /**
- * Render the forest plot of tested claims as SVG: rows ordered by rank, point and 95% CI per
- * claim, zero line, shaded ±minEffect band, axis with ticks, labels "x ⫫ y | a, b" ("| ∅" for
- * the empty set), verdict by shape and colour, and a legend. Every label is XML-escaped; labels
- * longer than 400 px are shortened with "…" (the full label is kept in the row's tooltip).
- * Cost: O(k log k) for k claims.
+ * Render the forest plot of tested claims as SVG: rows ordered by rank, point, unadjusted 95% CI
+ * (thick) and, with `alpha`, the adjusted interval (thin) per claim, zero line, shaded ±minEffect
+ * band, axis with ticks, labels "x ⫫ y | a, b" ("| ∅" for the empty set), the numbers of both
+ * intervals, verdict by shape and colour, and a legend saying which interval is which. Every label
+ * is XML-escaped; labels longer than 400 px are shortened with "…" (the full label is kept in the
+ * row's tooltip); the drawing is as wide as its texts. Cost: O(k log k) for k claims.
  *
  * @param claims tested claims (any order; drawn by rank)
- * @param options minEffect band, title, standalone namespace, plot width
+ * @param options minEffect band, alpha and adjustment (adjusted intervals), title, standalone namespace, plot width
  * @returns SVG markup; a short "no claims" figure when `claims` is empty
- * @example renderForestPlot(result.claims, { minEffect: result.settings.min_effect })
+ * @example renderForestPlot(result.claims, { minEffect: result.settings.min_effect, alpha: result.settings.alpha, adjust: result.settings.adjust })
  */
 export function renderForestPlot(claims: readonly TestedClaim[], options: ForestPlotOptions = {}): string {
   const ns = options.standalone ? ` xmlns="http://www.w3.org/2000/svg"` : "";
@@ -77,16 +99,20 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
   const open = (w: number, h: number) =>
     `<svg${ns} class="forest-plot" viewBox="0 0 ${w} ${h}" width="${w}" height="${h}" role="img" aria-label="${escapeXml(title)}" font-family="${escapeXml(FONT_STACK)}" font-size="${FS}" fill="${INK.text}"><title>${escapeXml(title)}</title>`;
   if (claims.length === 0) {
-    return open(360, 40) + `<text x="8" y="24" fill="${INK.muted}">No claims were tested, so there is nothing to plot.</text></svg>`;
+    const empty = "No claims were tested, so there is nothing to plot.";
+    return open(Math.ceil(8 + widthOf(empty, FS) + RIGHT_MARGIN), 40) + `<text x="8" y="24" fill="${INK.muted}">${empty}</text></svg>`;
   }
   const rows = [...claims].sort((a, b) => a.rank - b.rank);
   const minEffect = options.minEffect !== undefined && Number.isFinite(options.minEffect) && options.minEffect > 0 ? options.minEffect : 0;
   const plotW = options.plotWidth ?? 340;
+  const alpha = options.alpha !== undefined && options.alpha > 0 && options.alpha < 1 ? options.alpha : undefined;
+  const adjusted = rows.map((c) => (alpha !== undefined ? adjustedInterval(c, alpha) : undefined));
 
   // domain: zero, every finite CI bound and effect, and the band, clamped to [-1, 1]
   let lo = 0;
   let hi = 0;
   for (const c of rows) for (const v of [c.effect, c.ci[0], c.ci[1]]) if (Number.isFinite(v)) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
+  for (const a of adjusted) if (a) for (const v of a.ci) if (Number.isFinite(v)) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
   lo = Math.max(-1, Math.min(lo, -minEffect));
   hi = Math.min(1, Math.max(hi, minEffect));
   if (hi - lo < 0.1) { lo -= 0.05; hi += 0.05; }
@@ -94,26 +120,81 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
   lo = Math.max(-1, Math.floor(lo / step - 1e-9) * step);
   hi = Math.min(1, Math.ceil(hi / step + 1e-9) * step);
 
+  const bold = rows.map((c) => c.verdict === "contradicted");
   const labels = rows.map((c) => claimLabel(c));
-  const shown = labels.map((l) => fit(l, MAX_LABEL));
-  const rankW = estimateTextWidth(String(rows.length), FS) + 14;
-  const labelW = Math.min(MAX_LABEL, Math.max(120, ...shown.map((l) => estimateTextWidth(l, FS)))) + 16;
+  const shown = labels.map((l, i) => fit(l, MAX_LABEL, bold[i]!));
+  const rankW = widthOf(String(rows.length), FS) + 14;
+  const labelW = Math.min(MAX_LABEL, Math.max(120, widthOf("claim", FS, true), ...shown.map((l, i) => widthOf(l, FS, bold[i]!)))) + 16;
   const texts = rows.map((c) => typographicMinus(`${claimEffectSymbol(c)} = ${formatEffectWithCI(c.effect, c.ci)}`));
-  const textW = Math.max(150, ...texts.map((t) => estimateTextWidth(t, FS))) + 12;
+  const adjTexts = rows.map((c, i) => {
+    const a = adjusted[i];
+    if (alpha === undefined) return "";
+    if (!a) return "n/a";
+    const d = Math.max(...[c.effect, ...c.ci].map((v) => (Number.isFinite(v) && Math.abs(v) < 0.1 ? 3 : 2)));
+    return typographicMinus(formatCI(a.ci, d));
+  });
+  const estHead = "estimate [95% CI]";
+  const adjHead = "adjusted interval";
+  const textW = Math.max(widthOf(estHead, FS, true), ...texts.map((t, i) => widthOf(t, FS, bold[i]!))) + 16;
+  const adjW = alpha === undefined ? 0 : Math.max(widthOf(adjHead, FS, true), ...adjTexts.map((t, i) => widthOf(t, FS, bold[i]!))) + 16;
 
   const left = 8 + rankW + labelW;
   const top = 30;
   const plotH = rows.length * ROW;
   const axisY = top + plotH;
-  const width = Math.ceil(left + plotW + 16 + textW + 8);
+  const estX = left + plotW + 16;
+  const adjX = estX + textW;
   const X = (v: number) => left + ((v - lo) / (hi - lo)) * plotW;
+  // the legend, laid out first so the drawing can be sized to it; items wrap to further lines
+  // rather than widen the drawing beyond its columns
+  const legendTop = axisY + 60;
+  const legendItems: Array<{ shape: (x: number, y: number) => string; text: string }> = [
+    { shape: (x, y) => `<path d="M${n(x + 6)},${n(y - 6)} L${n(x + 12)},${n(y)} L${n(x + 6)},${n(y + 6)} L${n(x)},${n(y)} z" fill="${PALETTE.vermillion}"/>`, text: "contradicted" },
+    { shape: (x, y) => `<circle cx="${n(x + 6)}" cy="${n(y)}" r="4.6" fill="#ffffff" stroke="${PALETTE.blue}" stroke-width="2"/>`, text: "consistent" },
+    { shape: (x, y) => `<line x1="${n(x - 2)}" x2="${n(x + 14)}" y1="${n(y)}" y2="${n(y)}" stroke="${INK.arrow}" stroke-width="3"/>`, text: "95% confidence interval (unadjusted)" },
+  ];
+  if (alpha !== undefined) {
+    const adj = options.adjust ?? "holm";
+    const how = adj === "holm" ? "Holm" : "Benjamini–Hochberg";
+    legendItems.push({
+      shape: (x, y) =>
+        `<line x1="${n(x - 2)}" x2="${n(x + 14)}" y1="${n(y)}" y2="${n(y)}" stroke="${INK.arrow}" stroke-width="1"/><line x1="${n(x - 2)}" x2="${n(x - 2)}" y1="${n(y - 3)}" y2="${n(y + 3)}" stroke="${INK.arrow}"/><line x1="${n(x + 14)}" x2="${n(x + 14)}" y1="${n(y - 3)}" y2="${n(y + 3)}" stroke="${INK.arrow}"/>`,
+      text: adj === "none" ? `interval at the verdicts' level α = ${alpha}` : `interval at the ${how}-adjusted level of each claim, as its verdict`,
+    });
+  }
+  if (minEffect > 0) {
+    legendItems.push({
+      shape: (x, y) => `<rect x="${n(x - 2)}" y="${n(y - 7)}" width="16" height="14" fill="${PALETTE.sky}" fill-opacity="0.25"/>`,
+      text: typographicMinus(`|effect| below the relevance threshold ${minEffect}`),
+    });
+  }
+  const axisLabel = "effect (partial correlation scale; 0 = independent)";
+  const contentRight = Math.max(adjX + adjW, estX + textW, left + plotW / 2 + widthOf(axisLabel, 12) / 2, left + plotW / 2 + widthOf("effect and 95% CI", FS, true) / 2);
+  const legendLeft = 8 + rankW;
+  let lx = legendLeft;
+  let ly = legendTop;
+  let legendRight = 0;
+  let legend = "";
+  for (const item of legendItems) {
+    const w = 18 + widthOf(item.text, 12);
+    if (lx > legendLeft && lx + w > contentRight) {
+      lx = legendLeft;
+      ly += 22;
+    }
+    legend += item.shape(lx, ly) + `<text x="${n(lx + 18)}" y="${n(ly)}" dy="0.35em" font-size="12" fill="${INK.muted}">${escapeXml(item.text)}</text>`;
+    legendRight = Math.max(legendRight, lx + w);
+    lx += w + 24;
+  }
+  const width = Math.ceil(Math.max(contentRight, legendRight) + RIGHT_MARGIN);
+  const height = ly + 16;
 
   let out = "";
   // header
   out += `<text x="8" y="18" font-weight="600" fill="${INK.muted}">#</text>`;
   out += `<text x="${n(8 + rankW)}" y="18" font-weight="600" fill="${INK.muted}">claim</text>`;
   out += `<text x="${n(left + plotW / 2)}" y="18" text-anchor="middle" font-weight="600" fill="${INK.muted}">effect and 95% CI</text>`;
-  out += `<text x="${n(left + plotW + 16)}" y="18" font-weight="600" fill="${INK.muted}">estimate [95% CI]</text>`;
+  out += `<text x="${n(estX)}" y="18" font-weight="600" fill="${INK.muted}">${estHead}</text>`;
+  if (alpha !== undefined) out += `<text x="${n(adjX)}" y="18" font-weight="600" fill="${INK.muted}">${adjHead}</text>`;
   // zebra rows
   rows.forEach((_, i) => {
     if (i % 2 === 0) out += `<rect x="4" y="${n(top + i * ROW)}" width="${width - 8}" height="${ROW}" fill="${INK.panel}"/>`;
@@ -131,57 +212,48 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
   }
   out += `<line class="zero-line" x1="${n(X(0))}" x2="${n(X(0))}" y1="${top - 4}" y2="${axisY}" stroke="${INK.arrow}" stroke-width="1.3"/>`;
   // rows
+  const clampX = (v: number) => X(Math.max(lo, Math.min(hi, v)));
   rows.forEach((c, i) => {
     const y = top + i * ROW + ROW / 2;
     const contradicted = c.verdict === "contradicted";
     const color = contradicted ? PALETTE.vermillion : PALETTE.blue;
     let mark = "";
+    const adj = adjusted[i];
+    if (adj && adj.ci.every(Number.isFinite)) {
+      const a = clampX(adj.ci[0]);
+      const b = clampX(adj.ci[1]);
+      mark += `<line class="ci-adjusted" x1="${n(a)}" x2="${n(b)}" y1="${n(y)}" y2="${n(y)}" stroke="${color}" stroke-width="1"/>`;
+      mark += `<line x1="${n(a)}" x2="${n(a)}" y1="${n(y - 3)}" y2="${n(y + 3)}" stroke="${color}" stroke-width="1"/><line x1="${n(b)}" x2="${n(b)}" y1="${n(y - 3)}" y2="${n(y + 3)}" stroke="${color}" stroke-width="1"/>`;
+    }
     const [l, u] = c.ci;
     if (Number.isFinite(l) && Number.isFinite(u)) {
-      const a = X(Math.max(lo, Math.min(hi, l)));
-      const b = X(Math.max(lo, Math.min(hi, u)));
-      mark += `<line class="ci" x1="${n(a)}" x2="${n(b)}" y1="${n(y)}" y2="${n(y)}" stroke="${color}" stroke-width="2"/>`;
-      mark += `<line x1="${n(a)}" x2="${n(a)}" y1="${n(y - 4)}" y2="${n(y + 4)}" stroke="${color}" stroke-width="1.5"/><line x1="${n(b)}" x2="${n(b)}" y1="${n(y - 4)}" y2="${n(y + 4)}" stroke="${color}" stroke-width="1.5"/>`;
+      const a = clampX(l);
+      const b = clampX(u);
+      mark += `<line class="ci" x1="${n(a)}" x2="${n(b)}" y1="${n(y)}" y2="${n(y)}" stroke="${color}" stroke-width="3"/>`;
     }
     if (Number.isFinite(c.effect)) {
-      const x = X(Math.max(lo, Math.min(hi, c.effect)));
+      const x = clampX(c.effect);
       mark += contradicted
         ? `<path class="point contradicted" d="M${n(x)},${n(y - 7)} L${n(x + 7)},${n(y)} L${n(x)},${n(y + 7)} L${n(x - 7)},${n(y)} z" fill="${color}" stroke="#ffffff" stroke-width="1"/>`
         : `<circle class="point consistent" cx="${n(x)}" cy="${n(y)}" r="4.6" fill="#ffffff" stroke="${color}" stroke-width="2"/>`;
     }
     const weight = contradicted ? ` font-weight="600"` : "";
+    const ink = contradicted ? "#8a3a00" : INK.text;
     out +=
       `<g class="forest-row ${c.verdict}" data-rank="${c.rank}"><title>${escapeXml(`#${c.rank} ${labels[i]}: ${c.verdict}`)}</title>` +
       `<text x="8" y="${n(y)}" dy="0.35em" fill="${INK.muted}">${c.rank}</text>` +
       `<text x="${n(8 + rankW)}" y="${n(y)}" dy="0.35em"${weight}>${independenceSvg(shown[i]!)}</text>` +
       mark +
-      `<text x="${n(left + plotW + 16)}" y="${n(y)}" dy="0.35em" fill="${contradicted ? "#8a3a00" : INK.text}"${weight}>${escapeXml(texts[i])}</text></g>`;
+      `<text class="estimate" x="${n(estX)}" y="${n(y)}" dy="0.35em" fill="${ink}"${weight}>${escapeXml(texts[i])}</text>` +
+      (alpha !== undefined ? `<text class="adjusted" x="${n(adjX)}" y="${n(y)}" dy="0.35em" fill="${ink}"${weight}>${escapeXml(adjTexts[i])}</text>` : "") +
+      `</g>`;
   });
   // axis
   out += `<line x1="${n(left)}" x2="${n(left + plotW)}" y1="${axisY}" y2="${axisY}" stroke="${INK.arrow}"/>`;
   for (const t of ticks) {
     out += `<line x1="${n(X(t))}" x2="${n(X(t))}" y1="${axisY}" y2="${axisY + 5}" stroke="${INK.arrow}"/><text class="tick" x="${n(X(t))}" y="${axisY + 18}" text-anchor="middle" font-size="11.5" fill="${INK.muted}">${escapeXml(tickLabel(t, step))}</text>`;
   }
-  out += `<text x="${n(left + plotW / 2)}" y="${axisY + 36}" text-anchor="middle" font-size="12" fill="${INK.muted}">effect (partial correlation scale; 0 = independent)</text>`;
-  // legend
-  const ly = axisY + 60;
-  let lx = 8 + rankW;
-  const item = (shape: string, text: string) => {
-    const s = shape + `<text x="${n(lx + 18)}" y="${ly}" dy="0.35em" font-size="12" fill="${INK.muted}">${escapeXml(text)}</text>`;
-    lx += 18 + estimateTextWidth(text, 12) + 24;
-    return s;
-  };
-  let legend = "";
-  legend += item(`<path d="M${n(lx + 6)},${ly - 6} L${n(lx + 12)},${ly} L${n(lx + 6)},${ly + 6} L${n(lx)},${ly} z" fill="${PALETTE.vermillion}"/>`, "contradicted");
-  legend += item(`<circle cx="${n(lx + 6)}" cy="${ly}" r="4.6" fill="#ffffff" stroke="${PALETTE.blue}" stroke-width="2"/>`, "consistent");
-  legend += item(`<line x1="${n(lx - 2)}" x2="${n(lx + 14)}" y1="${ly}" y2="${ly}" stroke="${INK.arrow}" stroke-width="2"/>`, "95% confidence interval");
-  if (minEffect > 0) {
-    legend += item(
-      `<rect x="${n(lx - 2)}" y="${ly - 7}" width="16" height="14" fill="${PALETTE.sky}" fill-opacity="0.25"/>`,
-      typographicMinus(`|effect| below the relevance threshold ${minEffect}`),
-    );
-  }
+  out += `<text x="${n(left + plotW / 2)}" y="${axisY + 36}" text-anchor="middle" font-size="12" fill="${INK.muted}">${axisLabel}</text>`;
   out += `<g class="legend">${legend}</g>`;
-  const totalW = Math.max(width, Math.ceil(lx));
-  return open(totalW, ly + 16) + out + `</svg>`;
+  return open(width, height) + out + `</svg>`;
 }

@@ -122,7 +122,7 @@ function hn(text: string): string {
  */
 export function renderHtmlReport(result: AuditResult, context: ReportContext, svgs: ReportSvgs = {}): string {
   const t = buildReportText(result, context);
-  const forest = svgs.forest ?? renderForestPlot(result.claims, { minEffect: result.settings.min_effect });
+  const forest = svgs.forest ?? renderForestPlot(result.claims, { minEffect: result.settings.min_effect, alpha: result.settings.alpha, adjust: result.settings.adjust });
   const contradicted = result.claims.filter((c) => c.verdict === "contradicted").length;
   const consistent = result.claims.length - contradicted;
   const dataName = result.data.file ?? context.inputs[0]?.path ?? "data";
@@ -155,14 +155,14 @@ export function renderHtmlReport(result: AuditResult, context: ReportContext, sv
   sections.push({
     id: "forest",
     title: "Effects and confidence intervals",
-    body: `<figure><div class="figure-scroll">${forest}</div><figcaption>One row per tested claim, in rank order: the effect (point) with its 95% confidence interval (line). Zero means independence.${result.settings.min_effect > 0 ? h(` The shaded band is ±${result.settings.min_effect}, the smallest effect counted as a contradiction.`) : ""}${t.effectNote ? ` ${h(t.effectNote)}.` : ""}</figcaption></figure>`,
+    body: `<figure><div class="figure-scroll">${forest}</div><figcaption>One row per tested claim, in rank order: the effect (point) with its unadjusted 95% confidence interval (thick line) and the interval at the level the multiple-testing adjustment used for that claim (thin line). Zero means independence. ${h(t.intervalNote)}${result.settings.min_effect > 0 ? h(` The shaded band is ±${result.settings.min_effect}, the smallest effect counted as a contradiction.`) : ""}${t.effectNote ? ` ${h(t.effectNote)}.` : ""}</figcaption></figure>`,
   });
 
   // ranked table
   const rows = t.claimRows
     .map(
       (r) =>
-        `<tr class="claim-row ${r.verdict}"><td class="num">${hn(r.rank)}</td><td class="claim">${independenceHtml(r.claim)}</td><td class="num">${hn(r.n)}</td><td class="nowrap">${hn(r.test)}</td><td class="num">${h(r.effect)}</td><td class="num">${h(r.p)}</td><td class="num">${h(r.pAdjusted)}</td>` +
+        `<tr class="claim-row ${r.verdict}"><td class="num">${hn(r.rank)}</td><td class="claim">${independenceHtml(r.claim)}</td><td class="num">${hn(r.n)}</td><td class="nowrap">${hn(r.test)}</td><td class="num">${h(r.effect)}${r.oddsRatio ? `<br><span class="odds-ratio">${h(r.oddsRatio)}</span>` : ""}</td><td class="num adjusted">${h(r.adjustedInterval)}</td><td class="num">${h(r.p)}</td><td class="num">${h(r.pAdjusted)}</td>` +
         `<td><span class="verdict ${r.verdict}">${r.verdict === "contradicted" ? "◆ contradicted" : "○ consistent"}</span></td>` +
         `<td class="arrows">${r.arrows ? r.arrows.split("; ").map((a) => `<code>${hn(a)}</code>`).join(" ") : ""}</td></tr>`,
     )
@@ -173,8 +173,8 @@ export function renderHtmlReport(result: AuditResult, context: ReportContext, sv
     body:
       t.claimRows.length === 0
         ? `<p>No claim could be tested.</p>`
-        : `<div class="table-scroll"><table class="claims"><thead><tr><th class="num">#</th><th>Claim</th><th class="num">n</th><th>Test</th><th class="num">Effect [95% CI]</th><th class="num">p</th><th class="num">Adjusted p</th><th>Verdict</th><th>Arrows to consider</th></tr></thead><tbody>${rows}</tbody></table></div>` +
-          `<p class="note">Read “${independenceHtml("x ⫫ y | a, b")}” as “x is independent of y given a and b”; ∅ is the empty set. n is the number of rows used for each claim. ${h(t.effectNote)}. Arrows to consider are repairs that keep the graph acyclic (“x &lt;-&gt; y”: an unmeasured common cause); adding one needs subject-matter justification.</p>`,
+        : `<div class="table-scroll"><table class="claims"><thead><tr><th class="num">#</th><th>Claim</th><th class="num">n</th><th>Test</th><th class="num">Effect [95% CI]</th><th class="num">Adjusted interval</th><th class="num">p</th><th class="num">Adjusted p</th><th>Verdict</th><th>Arrows to consider</th></tr></thead><tbody>${rows}</tbody></table></div>` +
+          `<p class="note">Read “${independenceHtml("x ⫫ y | a, b")}” as “x is independent of y given a and b”; ∅ is the empty set. n is the number of rows used for each claim. ${h(t.effectNote)}. ${h(t.intervalNote)} Arrows to consider are repairs that keep the graph acyclic (“x &lt;-&gt; y”: an unmeasured common cause); adding one needs subject-matter justification.</p>`,
   });
 
   // untestable
@@ -197,9 +197,9 @@ export function renderHtmlReport(result: AuditResult, context: ReportContext, sv
     title: "Data summary",
     body:
       `<p>${hn(dataName)}: ${hn(t.summary[0]!.value.replace(/^.*: /, ""))}. The number of rows used by each claim is in the table of ranked claims.</p>` +
-      `<div class="table-scroll"><table class="variables"><thead><tr><th>Variable</th><th>Type</th><th>How the type was decided</th><th class="num">Missing</th><th>Levels</th></tr></thead><tbody>` +
+      `<div class="table-scroll"><table class="variables"><thead><tr><th>Variable</th><th>Type</th><th>How the type was decided</th><th class="num">Missing</th><th>Levels and coding</th></tr></thead><tbody>` +
       t.variables.map((v) => `<tr><td class="claim">${hn(v.name)}</td><td>${hn(v.type)}</td><td>${hn(v.decided)}</td><td class="num">${hn(v.missing)}</td><td>${hn(v.levels)}</td></tr>`).join("") +
-      `</tbody></table></div>`,
+      `</tbody></table></div><p class="note">${hn(t.codingNote)}</p>`,
   });
 
   // methods

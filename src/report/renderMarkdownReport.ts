@@ -16,19 +16,27 @@ export interface MarkdownReportOptions {
 }
 
 /**
- * Escape text for Markdown inline content and GFM table cells: backslash-escapes the ASCII
- * punctuation that Markdown gives meaning to (\ ` * _ [ ] | ~ # $ !), writes & < > as entities
- * (no raw HTML), and replaces line breaks by spaces. Cost: O(length).
- * Source: CommonMark 0.31 §2.4 (backslash escapes) and GFM spec §4.10 (tables, "\|" in cells).
+ * Escape text for Markdown inline content and GFM table cells, with Markdown's own backslash
+ * escapes so that the source stays readable as plain text: the ASCII punctuation that Markdown
+ * gives meaning to (\ ` * _ [ ] | ~ # $ !) is always escaped; `<` only where it could open raw
+ * HTML or an autolink (before a letter, `/`, `!` or `?`), so "p < 0.001" stays as it is; `&` only
+ * where it could start a character reference (before a letter, digit or `#`), so "Cox & Snell"
+ * stays as it is; `>` never (it is special only at the start of a line, where the report always
+ * puts its own text). Line breaks become spaces.
+ * No HTML entity is written: escaped text never shows "&lt;" or "&amp;". Cost: O(length).
+ * Source: CommonMark 0.31 §2.4 (backslash escapes: any ASCII punctuation), §2.5 (entity
+ * references), §6.5 (autolinks), §6.6 (raw HTML); GFM spec §4.10 ("\|" in
+ * table cells).
  *
- * @example escapeMarkdown("a|b_c") // "a\\|b\\_c"
+ * @example escapeMarkdown("a|b_c")      // "a\\|b\\_c"
+ * @example escapeMarkdown("p < 0.001")  // "p < 0.001"
+ * @example escapeMarkdown("<b>R&D")     // "\\<b>R\\&D"
  */
 export function escapeMarkdown(text: string): string {
   return text
     .replace(/[\\`*_[\]|~#$!]/g, (c) => `\\${c}`)
-    .replace(/&/g, "&amp;")
-    .replace(/</g, "&lt;")
-    .replace(/>/g, "&gt;")
+    .replace(/<(?=[A-Za-z/!?])/g, "\\<")
+    .replace(/&(?=[A-Za-z0-9#])/g, "\\&")
     .replace(/\r\n|\r|\n/g, " ");
 }
 
@@ -86,14 +94,15 @@ export function renderMarkdownReport(result: AuditResult, context: ReportContext
   if (t.claimRows.length === 0) {
     out.push("No claim could be tested.", "");
   } else {
-    out.push("| # | Claim | n | Test | Effect [95% CI] | p | Adjusted p | Verdict | Arrows to consider |");
-    out.push("|--:|:--|--:|:--|--:|--:|--:|:--|:--|");
+    out.push("| # | Claim | n | Test | Effect [95% CI] | Adjusted interval | p | Adjusted p | Verdict | Arrows to consider |");
+    out.push("|--:|:--|--:|:--|--:|--:|--:|--:|:--|:--|");
     for (const r of t.claimRows) {
       const verdict = r.verdict === "contradicted" ? "**contradicted**" : "consistent";
       const arrows = r.arrows ? r.arrows.split("; ").map((a) => e(a)).join("; ") : "";
-      out.push(`| ${r.rank} | ${e(r.claim)} | ${e(r.n)} | ${e(r.test)} | ${e(r.effect)} | ${e(r.p)} | ${e(r.pAdjusted)} | ${verdict} | ${arrows} |`);
+      const effect = r.oddsRatio ? `${r.effect}; ${r.oddsRatio}` : r.effect;
+      out.push(`| ${r.rank} | ${e(r.claim)} | ${e(r.n)} | ${e(r.test)} | ${e(effect)} | ${e(r.adjustedInterval)} | ${e(r.p)} | ${e(r.pAdjusted)} | ${verdict} | ${arrows} |`);
     }
-    out.push("", `Read "x ⫫ y \\| a, b" as "x is independent of y given a and b"; ∅ is the empty set. ${e(t.effectNote)}.`, "");
+    out.push("", `Read "x ⫫ y \\| a, b" as "x is independent of y given a and b"; ∅ is the empty set. ${e(t.effectNote)}. ${e(t.intervalNote)}`, "");
   }
 
   out.push("## Untestable claims", "");
@@ -111,9 +120,9 @@ export function renderMarkdownReport(result: AuditResult, context: ReportContext
   }
 
   out.push("## Data summary", "");
-  out.push("| Variable | Type | How the type was decided | Missing | Levels |", "|:--|:--|:--|--:|:--|");
+  out.push("| Variable | Type | How the type was decided | Missing | Levels and coding |", "|:--|:--|:--|--:|:--|");
   for (const v of t.variables) out.push(`| ${e(v.name)} | ${e(v.type)} | ${e(v.decided)} | ${e(v.missing)} | ${e(v.levels)} |`);
-  out.push("", "The number of rows used by each claim is the n column of the ranked claims.", "");
+  out.push("", `${e(t.codingNote)} The number of rows used by each claim is the n column of the ranked claims.`, "");
 
   out.push("## Methods", "");
   for (const p of t.methods) out.push(e(p), "");

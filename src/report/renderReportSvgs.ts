@@ -21,6 +21,6 @@ export async function renderReportSvgs(result: AuditResult, options: { standalon
   const layout = await layoutGraph(result);
   return {
     graph: renderGraphSvg(layout, { title: "Causal graph with the missing arrows the data contradict", standalone: options.standalone }),
-    forest: renderForestPlot(result.claims, { minEffect: result.settings.min_effect, standalone: options.standalone }),
+    forest: renderForestPlot(result.claims, { minEffect: result.settings.min_effect, alpha: result.settings.alpha, adjust: result.settings.adjust, standalone: options.standalone }),
   };
 }

@@ -18,7 +18,7 @@ copyFileSync(join(demo, "graph.txt"), join(work, "demo-graph.txt"));
 copyFileSync(join(demo, "cohort.csv"), join(work, "demo-cohort.csv"));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
 
-async function cli(args: string[], env: Record<string, string> = {}) {
+async function cli(args: string[], env: Record<string, string> = {}, cwd = work) {
   let stdout = "";
   let stderr = "";
   const io: Io = {
@@ -27,7 +27,7 @@ async function cli(args: string[], env: Record<string, string> = {}) {
     stdoutIsTTY: false,
     stderrIsTTY: false,
     env,
-    cwd: work,
+    cwd,
     now: () => new Date("2026-01-15T09:30:00Z"),
   };
   const code = await run(args, io);
@@ -121,6 +121,76 @@ describe("arrowaudit CLI (golden)", () => {
   it("arrowaudit report --out x.pdf is a usage error (exit 1)", async () => {
     const r = await cli(["report", "chain.txt", "stray.csv", "--out", "x.pdf"]);
     expect(r.code).toBe(1);
-    expect(r.stderr).toMatch(/must end in \.html or \.md/);
+    expect(r.stderr).toMatch(/must end in \.html, \.md or \.txt/);
+  });
+
+  it("arrowaudit report --out methods.txt writes the methods paragraphs and their references alone, as plain text", async () => {
+    const r = await cli(["report", "demo-graph.txt", "demo-cohort.csv", ...DEMO_OPTS, "--out", "methods.txt"]);
+    expect(r.code).toBe(0);
+    expect(r.stderr).toContain("report written to <tmp>/methods.txt");
+    const text = readFileSync(join(work, "methods.txt"), "utf8");
+    expect(text.startsWith("Analyses were run with arrowaudit ")).toBe(true);
+    expect(text).toContain("\n\nReferences\n\n1. ");
+    expect(text).toContain("Of the 34 claims, ");
+    expect(text).not.toMatch(/<[a-z]|&(lt|amp);|\*\*|^#/m);
+    expect(existsSync(join(work, "methods.svg"))).toBe(false);
+  });
+
+  it("arrowaudit test and claims show control characters in names as escapes; an error quoting such a line does too", async () => {
+    // regression: ESC/OSC sequences in column names reached the terminal raw and could retitle it or change its colours
+    const osc = "b\u001b]0;owned\u0007x";
+    const rlo = "c\u202ed";
+    writeFileSync(join(work, "hostile.txt"), `a -> "${osc}" -> "${rlo}"\n`);
+    const rows = Array.from({ length: 60 }, (_, i) => `${i % 7},${(i * 3) % 11},${(i * 5) % 13}`);
+    writeFileSync(join(work, "hostile.csv"), [`a,"${osc}","${rlo}"`, ...rows].join("\n") + "\n");
+    const unsafe = /[\u0000-\u0009\u000b-\u001f\u007f-\u009f\u202a-\u202e\u2066-\u2069]/;
+    for (const args of [["test", "hostile.txt", "hostile.csv"], ["test", "hostile.txt", "hostile.csv", "--ascii"], ["claims", "hostile.txt"]]) {
+      const r = await cli(args);
+      expect(r.code, r.stderr).toBe(0);
+      expect(unsafe.test(r.stdout + r.stderr), args.join(" ")).toBe(false);
+      expect(r.stdout).toContain("\\x1b]0;owned\\x07x");
+      expect(r.stdout).toContain("\\u202e");
+    }
+    writeFileSync(join(work, "hostile-syntax.txt"), `a -> "b\u001b[31mX" ->\n`);
+    const bad = await cli(["claims", "hostile-syntax.txt"]);
+    expect(bad.code).toBe(2);
+    expect(unsafe.test(bad.stderr)).toBe(false);
+    const [, line, caret] = bad.stderr.split("\n");
+    expect(line).toContain('"b\\x1b[31mX"');
+    expect(caret!.indexOf("^")).toBe(line!.length); // still under the end of the line, where the name is missing
+  });
+
+  it("arrowaudit test fits the table to COLUMNS and keeps 100 columns for pipes", async () => {
+    for (const columns of ["72", "132"]) {
+      const r = await cli(["test", "demo-graph.txt", "demo-cohort.csv", ...DEMO_OPTS], { COLUMNS: columns });
+      expect(r.code).toBe(0);
+      const longest = Math.max(...r.stdout.split("\n").map((l) => [...l].length));
+      expect(longest).toBeLessThanOrEqual(Number(columns));
+      if (columns === "132") expect(longest).toBeGreaterThan(100);
+    }
+    const piped = await cli(["test", "demo-graph.txt", "demo-cohort.csv", ...DEMO_OPTS]);
+    expect(Math.max(...piped.stdout.split("\n").map((l) => [...l].length))).toBe(100);
+  });
+
+  it("arrowaudit demo prints the equivalent test command, which gives the same table when run from the project folder", async () => {
+    const r = await cli(["demo", "--out", "demo.md"]);
+    expect(r.code).toBe(0);
+    const command = "arrowaudit test data/demo/graph.txt data/demo/cohort.csv --missing -9,999 --levels 'education=primary|secondary|tertiary'";
+    expect(r.stdout).toContain(`the same audit as a test command:\n  ${command}\n`);
+    const md = readFileSync(join(work, "demo.md"), "utf8");
+    expect(md).toContain(`**Equivalent test command:** \`${command}\``);
+    const same = await cli(["test", "data/demo/graph.txt", "data/demo/cohort.csv", "--missing", "-9,999", "--levels", "education=primary|secondary|tertiary"], {}, root);
+    expect(same.code).toBe(0);
+    expect(r.stdout.startsWith(same.stdout)).toBe(true);
+  });
+
+  it("the demo README names the contradictions the demo run finds (two, from one omitted arrow)", async () => {
+    const r = await cli(["test", "demo-graph.txt", "demo-cohort.csv", ...DEMO_OPTS, "--json"]);
+    const doc = JSON.parse(r.stdout) as { claims: { x: string; y: string; given: string[]; verdict: string }[] };
+    const contradicted = doc.claims.filter((c) => c.verdict === "contradicted");
+    const readme = readFileSync(join(demo, "README.md"), "utf8");
+    expect(readme).toMatch(/two claims are contradicted/);
+    expect(contradicted).toHaveLength(2);
+    for (const c of contradicted) expect(readme).toContain(`${c.x} ⫫ ${c.y} | ${c.given.join(", ")}`);
   });
 });

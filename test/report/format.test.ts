@@ -89,14 +89,14 @@ describe("formatEffect / formatCI", () => {
 });
 
 describe("claimLabel", () => {
-  it("claimLabel(claim) writes the empty set as ∅, or {} in ASCII", () => {
+  it("claimLabel(claim) writes the empty set as ∅, or 'given nothing' in ASCII", () => {
     expect(claimLabel({ x: "a", y: "b", given: [] })).toBe("a ⫫ b | ∅");
-    expect(claimLabel({ x: "a", y: "b", given: [] }, true)).toBe("a _indep_ b | {}");
+    expect(claimLabel({ x: "a", y: "b", given: [] }, true)).toBe("a indep b given nothing");
   });
 
   it("claimLabel(claim) lists the conditioning set in the given order, Unicode names untouched", () => {
     expect(claimLabel({ x: "âge", y: "体重", given: ["c", "d"] })).toBe("âge ⫫ 体重 | c, d");
-    expect(claimLabel({ x: "a", y: "b", given: ["c", "d"] }, true)).toBe("a _indep_ b | c, d");
+    expect(claimLabel({ x: "a", y: "b", given: ["c", "d"] }, true)).toBe("a indep b given c, d");
     // ascii form contains only ASCII for ASCII names
     expect(claimLabel({ x: "a", y: "b", given: [] }, true)).toMatch(/^[\x20-\x7e]+$/);
   });

@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { renderForestPlot } from "../../src/report/renderForestPlot.js";
 import { hostileResult, sampleResult } from "../fixtures/report/sampleResult.js";
+import { estimateTextWidth } from "../../src/report/textWidth.js";
 import { count, hasInjectedMarkup } from "./helpers.js";
 
 describe("renderForestPlot", () => {
@@ -62,5 +63,47 @@ describe("renderForestPlot", () => {
     const svg = renderForestPlot(hostileResult().claims, { minEffect: 0.1 });
     expect(hasInjectedMarkup(svg)).toBe(false);
     expect(svg).not.toMatch(/https?:/);
+  });
+});
+
+describe("renderForestPlot: adjusted intervals and sizing", () => {
+  /** Text elements of an SVG: x, anchor, size, weight and content (tags removed, entities decoded). */
+  function texts(svg: string): { x: number; anchor: string; size: number; bold: boolean; text: string }[] {
+    const rootSize = Number(/<svg[^>]*font-size="([\d.]+)"/.exec(svg)![1]);
+    return [...svg.matchAll(/<text([^>]*)>(.*?)<\/text>/g)].map((m) => {
+      const attrs = m[1]!;
+      const get = (name: string) => new RegExp(`\\s${name}="([^"]*)"`).exec(attrs)?.[1];
+      const text = m[2]!.replace(/<[^>]+>/g, "").replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&quot;/g, '"').replace(/&#39;/g, "'").replace(/&amp;/g, "&");
+      return { x: Number(get("x")), anchor: get("text-anchor") ?? "start", size: Number(get("font-size") ?? rootSize), bold: get("font-weight") === "600", text };
+    });
+  }
+
+  it("renderForestPlot with alpha draws each claim's adjusted interval beside its 95% interval and says which is which", () => {
+    const r = sampleResult();
+    const svg = renderForestPlot(r.claims, { alpha: 0.05, adjust: "holm", minEffect: 0.1 });
+    expect(count(svg, /<line class="ci-adjusted"/)).toBe(r.claims.length);
+    expect(count(svg, /<line class="ci"/)).toBe(r.claims.length);
+    expect(count(svg, /<text class="adjusted"/)).toBe(r.claims.length);
+    expect(svg).toContain("95% confidence interval (unadjusted)");
+    expect(svg).toContain("interval at the Holm-adjusted level of each claim, as its verdict");
+    expect(renderForestPlot(r.claims, { alpha: 0.05, adjust: "bh" })).toContain("Benjamini–Hochberg-adjusted level");
+    // without alpha, no adjusted interval is drawn
+    expect(renderForestPlot(r.claims)).not.toContain("ci-adjusted");
+  });
+
+  it("renderForestPlot is as wide as its texts: no label runs past the right edge (estimated widths, bold included)", () => {
+    // regression: the bold label "r = −0.065 [−0.102, −0.028]" of a contradicted claim lost its closing bracket
+    const r = sampleResult();
+    r.claims[0] = { ...r.claims[0]!, effect: -0.065, ci: [-0.102, -0.028], verdict: "contradicted" };
+    for (const opts of [{}, { alpha: 0.05 }, { alpha: 0.05, minEffect: 0.1 }, { alpha: 0.05, plotWidth: 120 }]) {
+      const svg = renderForestPlot(r.claims, opts);
+      const width = Number(/<svg[^>]* width="([\d.]+)"/.exec(svg)![1]);
+      for (const t of texts(svg)) {
+        const w = estimateTextWidth(t.text, t.size) * (t.bold ? 1.12 : 1);
+        const right = t.anchor === "middle" ? t.x + w / 2 : t.anchor === "end" ? t.x : t.x + w;
+        expect(right, `${JSON.stringify(opts)}: "${t.text}"`).toBeLessThanOrEqual(width - 8);
+      }
+      expect(svg).toContain("[−0.102, −0.028]");
+    }
   });
 });

@@ -87,3 +87,29 @@ describe("renderHtmlReport", () => {
     expect(count(html, /<tr class="claim-row/)).toBe(0);
   });
 });
+
+describe("renderHtmlReport: intervals, odds ratios and coding", () => {
+  it("renderHtmlReport tabulates each claim's adjusted interval beside its 95% interval, with the note saying which is which", async () => {
+    const r = sampleResult();
+    const html = await report(r);
+    expect(html).toContain('<th class="num">Effect [95% CI]</th><th class="num">Adjusted interval</th>');
+    expect(count(html, /<td class="num adjusted">\[/)).toBe(r.claims.length);
+    expect(html).toContain("The 95% interval is unadjusted and can exclude 0 for a claim judged consistent.");
+    expect(html).toContain('class="ci-adjusted"');
+  });
+
+  it("renderHtmlReport shows the Mantel–Haenszel odds ratio of a 2×2×K claim in its effect cell", async () => {
+    const r = sampleResult();
+    r.claims[0] = { ...r.claims[0]!, test: "stratified-chisq", details: { mantel_haenszel: { odds_ratio: 2.5, ci: [1.5, 4.2] } } };
+    const html = await report(r);
+    expect(count(html, /<span class="odds-ratio">/)).toBe(1);
+    expect(html).toContain('<span class="odds-ratio">OR_MH = 2.50 [1.50, 4.20]</span>');
+  });
+
+  it("renderHtmlReport names the coding of binary and ordinal variables in the data summary", async () => {
+    const html = await report();
+    expect(html).toContain("<th>Levels and coding</th>");
+    expect(html).toContain("<td>no = 0, yes = 1</td>");
+    expect(html).toContain("<td>low &lt; moderate &lt; high</td>");
+  });
+});

@@ -14,15 +14,26 @@ describe("escapeMarkdown", () => {
     expect(escapeMarkdown("a|b")).toBe("a\\|b");
     expect(escapeMarkdown("*x*_y_")).toBe("\\*x\\*\\_y\\_");
     expect(escapeMarkdown("[l](u)")).toBe("\\[l\\](u)");
-    expect(escapeMarkdown("<b>&")).toBe("&lt;b&gt;&amp;");
+    expect(escapeMarkdown("<b>&amp;")).toBe("\\<b>\\&amp;"); // raw HTML and an entity reference are neutralised by backslashes (CommonMark §2.4)
     expect(escapeMarkdown("a\nb")).toBe("a b");
     expect(escapeMarkdown("")).toBe("");
     expect(escapeMarkdown("âge ⫫ 体重")).toBe("âge ⫫ 体重");
   });
+
+  it("escapeMarkdown(text) escapes for Markdown, not HTML: '<' and '&' that cannot start markup stay as typed", () => {
+    // regression: the methods paragraph showed "p &lt; 0.001" and "Cox &amp; Snell" as text
+    // CommonMark 0.31 §6.6: raw HTML needs "<" followed by a letter, "/", "!" or "?"; §2.5: an entity needs "&" then a name or "#"
+    expect(escapeMarkdown("p < 0.001, p > 0.999")).toBe("p < 0.001, p > 0.999");
+    expect(escapeMarkdown("Cox & Snell")).toBe("Cox & Snell");
+    expect(escapeMarkdown("a -> b, a <-> b")).toBe("a -> b, a <-> b");
+    expect(escapeMarkdown("R&D")).toBe("R\\&D");
+    expect(escapeMarkdown("</p><!-- x --><?php")).toBe("\\</p><\\!-- x -->\\<?php"); // "<\!" cannot open a comment
+    expect(escapeMarkdown("> 0.999")).toBe("> 0.999"); // inline: ">" has no meaning there
+  });
 });
 
 describe("renderMarkdownReport", () => {
-  it("renderMarkdownReport has one table row per claim, each with nine cells", () => {
+  it("renderMarkdownReport has one table row per claim, each with ten cells", () => {
     const r = sampleResult();
     const md = renderMarkdownReport(r, sampleContext());
     const lines = md.split("\n");
@@ -30,9 +41,9 @@ describe("renderMarkdownReport", () => {
     const rows = [];
     for (let i = header + 2; lines[i]!.startsWith("|"); i++) rows.push(lines[i]!);
     expect(rows).toHaveLength(r.claims.length);
-    for (const row of rows) expect(cells(row)).toHaveLength(9);
+    for (const row of rows) expect(cells(row)).toHaveLength(10);
     expect(cells(rows[0]!)[1]).toBe("commute\\_min ⫫ sbp \\| active, age, fatigue, sleep\\_h");
-    expect(cells(rows[0]!)[7]).toBe("**contradicted**");
+    expect(cells(rows[0]!)[8]).toBe("**contradicted**");
   });
 
   it("renderMarkdownReport references the drawing only when svgFile is given", () => {
@@ -45,12 +56,29 @@ describe("renderMarkdownReport", () => {
     const r = hostileResult();
     r.variables[0]!.name = "a|b*c";
     const md = renderMarkdownReport(r, sampleContext());
-    expect(md).not.toMatch(/<script|<img/i);
-    expect(md).toContain("&lt;script&gt;alert(1)&lt;/script&gt;");
+    // no "<" that could open a tag is left unescaped (CommonMark §6.6 raw HTML needs "<" then a letter, "/", "!" or "?")
+    expect(md).not.toMatch(/(?<!\\)<[A-Za-z/!?]/);
+    expect(md).toContain("\\<script>alert(1)\\</script>");
     const lines = md.split("\n");
     const header = lines.findIndex((l) => l.startsWith("| Variable |"));
     for (let i = header + 2; lines[i]!.startsWith("|"); i++) expect(cells(lines[i]!)).toHaveLength(5);
     expect(md).toContain("| a\\|b\\*c |");
+  });
+
+  it("renderMarkdownReport writes the methods without HTML entities", () => {
+    const md = renderMarkdownReport(sampleResult(), sampleContext());
+    const methods = md.slice(md.indexOf("## Methods"), md.indexOf("## Cautions"));
+    expect(methods).toContain("p < 0.001");
+    expect(methods).toContain("Shah & Peters 2020");
+    expect(md).not.toMatch(/&(lt|gt|amp|quot|#\d+);/);
+  });
+
+  it("renderMarkdownReport shows the adjusted interval and the coding of categorical variables", () => {
+    const md = renderMarkdownReport(sampleResult(), sampleContext());
+    expect(md).toContain("| Effect [95% CI] | Adjusted interval |");
+    expect(md).toContain("| Levels and coding |");
+    expect(md).toContain("| no = 0, yes = 1 |");
+    expect(md).toContain("The 95% interval is unadjusted and can exclude 0 for a claim judged consistent.");
   });
 
   it("renderMarkdownReport carries the methods, references, cautions and reproducibility", () => {
