@@ -8,7 +8,8 @@
  * correlations does not cite categorical methods, and vice versa.
  */
 import type { AuditResult, TestName, TestedClaim, VariableSummary } from "../audit/types.js";
-import { STOP_AFTER_HITS } from "../audit/methods/stratifiedChisq.js";
+import { STOP_AFTER_HITS as STOP_LINEAR_BY_LINEAR } from "../audit/methods/linearByLinear.js";
+import { STOP_AFTER_HITS as STOP_STRATIFIED } from "../audit/methods/stratifiedChisq.js";
 import { permutationsForFloor } from "../stats/permutation.js";
 import { adjustedInterval } from "./adjustedInterval.js";
 import type { ReportContext } from "./ReportContext.js";
@@ -381,7 +382,8 @@ function testsParagraph(result: AuditResult, refs: Set<RefKey>): string | undefi
     refs.add("besag1991");
     const limit = s.permutations ?? permutationsForFloor(s.adjust === "none" ? s.alpha : s.alpha / Math.max(1, claims.length + result.untestable.filter((u) => u.given !== undefined).length));
     const draws = range(perm.map((c) => c.B ?? Number.NaN));
-    text += ` The p-values of ${plural(perm.length, "claim", "claims")} were estimated by Monte Carlo permutation within the strata of the conditioning set, with sequential stopping (Besag & Clifford 1991): permutations were drawn until ${STOP_AFTER_HITS} permuted statistics had reached the observed one, or to at most ${formatCount(limit)}, and p = (1 + hits)/(1 + draws) (hits/draws when drawing stopped early); ${draws ? `${draws} permutations were drawn per claim` : "the number drawn is in each claim's details"} (random seed ${s.seed}).`;
+    const hits = [...new Set(perm.map((c) => (c.test === "linear-by-linear" ? STOP_LINEAR_BY_LINEAR : STOP_STRATIFIED)))].sort((x, y) => x - y).join(" or ");
+    text += ` The p-values of ${plural(perm.length, "claim", "claims")} were estimated by Monte Carlo permutation within the strata of the conditioning set, with sequential stopping (Besag & Clifford 1991): permutations were drawn until ${hits} permuted statistics had reached the observed one, or to at most ${formatCount(limit)}, and p = (1 + hits)/(1 + draws) (hits/draws when drawing stopped early); ${draws ? `${draws} permutations were drawn per claim` : "the number drawn is in each claim's details"} (random seed ${s.seed}).`;
     if (perm.some((c) => c.test === "stratified-chisq" && c.df > 1)) {
       refs.add("satterthwaite1946");
       text += " For those claims the effect subtracts the mean of the permuted statistics, and its interval matches the permutation distribution by its first two moments (Satterthwaite 1946), so that it agrees with the permutation p-value.";
