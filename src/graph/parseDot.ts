@@ -1,21 +1,29 @@
 /**
- * A subset of the Graphviz DOT language, enough to read a causal DAG drawn elsewhere.
+ * The Graphviz DOT language, read for the structure of a causal DAG.
  *
  * Terms (from the DOT language definition, Graphviz documentation, "The DOT Language",
  * https://graphviz.org/doc/info/lang.html):
  * - *ID*: a bare word (letters, `_`, digits, not starting with a digit; any non-ASCII letter),
- *   a numeral (`-?(.[0-9]+ | [0-9]+(.[0-9]*)?)`), or a double-quoted string in which `\"` is the
+ *   a numeral (`-?(.[0-9]+ | [0-9]+(.[0-9]*)?)`), a double-quoted string in which `\"` is the
  *   only escape (other backslashes stay as written; a backslash before a line end joins lines;
- *   `"a" + "b"` concatenates). HTML-like `<...>` IDs are not supported.
- * - *edge statement*: operands joined by `->`; an operand is a node ID (an optional `:port`
- *   is ignored) or a subgraph `{ ... }` / `subgraph name { ... }`, which stands for every node
- *   mentioned inside it. Every node of one operand gets an arrow to every node of the next.
- * - *attribute list*: `[key=value, ...]`. The node attribute `unmeasured=true` marks a node that
- *   is not a column of the data; all other attributes, and `graph/node/edge [...]` and `key=value`
- *   statements, are read and ignored (a few that would change the meaning draw a warning).
+ *   `"a" + "b"` concatenates), or an *HTML string* `<...>` whose angle brackets nest in pairs
+ *   (its ID is the text between the outer brackets; quotes, comments and line ends inside are
+ *   part of it).
+ * - *edge statement*: operands joined by `->`; an operand is a node ID (an optional port
+ *   `:port[:compass]` or `:compass` is ignored) or a subgraph `{ ... }` / `subgraph [name] { ... }`,
+ *   which stands for every node mentioned inside its braces. Every node of one operand gets an
+ *   arrow to every node of the next.
+ * - *attribute list*: `[key=value, key=value; key]`, repeatable (`[a=b][c=d]`); items are
+ *   separated by `,`, `;` or nothing; a key alone (from the earlier published grammar,
+ *   `a_list : ID [ '=' ID ]`) means key=true. The node attribute `unmeasured=true` marks a node
+ *   that is not a column of the data; all other attributes, and `graph/node/edge [...]` and
+ *   `key=value` statements, are read and ignored (a few that would change the meaning draw a
+ *   warning).
  *
- * Not supported, with a clear error: undirected graphs (`graph { }`, `--`), HTML-like IDs, more
- * than one graph per file. Comments: `//` and `/* *\/`, and lines that start with `#`.
+ * The parser keeps its own stack of open subgraphs (no recursion), so nesting depth is limited
+ * only by memory. Not read, with a clear error: undirected graphs (`graph { }`, `--`), an HTML
+ * string as a node name (node names must match data columns: quote them), more than one graph
+ * per file. Comments: `//` and `/* *\/`, and lines that start with `#`.
  */
 import { GraphError, InputError } from "../errors.js";
 import {
@@ -34,7 +42,7 @@ export interface ParseDotOptions {
 }
 
 type Tok =
-  | { kind: "id"; value: string; quoted: boolean; keyword?: Keyword; line: number; col: number }
+  | { kind: "id"; value: string; quoted: boolean; html?: boolean; keyword?: Keyword; line: number; col: number }
   | { kind: "{" | "}" | "[" | "]" | ";" | "," | "=" | ":" | "->" | "--" | "eof"; line: number; col: number };
 
 type Keyword = "strict" | "graph" | "digraph" | "subgraph" | "node" | "edge";
@@ -122,7 +130,7 @@ function tokenize(text: string, fail: (line: number, col: number, what: string) 
       advance();
       const prev = out[out.length - 1];
       const before = out[out.length - 2];
-      if (prev?.kind === "id" && prev.value === "+" && before?.kind === "id" && before.quoted) {
+      if (prev?.kind === "id" && prev.value === "+" && !prev.quoted && before?.kind === "id" && before.quoted && !before.html) {
         out.pop();
         before.value += value;
       } else {
@@ -133,13 +141,27 @@ function tokenize(text: string, fail: (line: number, col: number, what: string) 
     if (ch === "+") {
       // only meaningful between two quoted strings; kept as a marker token
       const prev = out[out.length - 1];
-      if (prev?.kind !== "id" || !prev.quoted) fail(l, k, "unexpected '+'; '+' may only join two quoted strings");
+      if (prev?.kind !== "id" || !prev.quoted || prev.html) fail(l, k, "unexpected '+'; '+' may only join two quoted strings");
       out.push({ kind: "id", value: "+", quoted: false, line: l, col: k });
       advance();
       continue;
     }
     if (ch === "<") {
-      fail(l, k, "HTML-like IDs '<...>' are not supported; write the name in double quotes instead");
+      // an HTML string: angle brackets nest in pairs; everything between the outer ones is the ID
+      let depth = 0;
+      let value = "";
+      for (;;) {
+        if (i >= c.length) fail(l, k, "unterminated HTML-like ID '<'; angle brackets inside it must come in pairs, so add the closing '>'");
+        const h = c[i]!;
+        if (h === "<") depth++;
+        else if (h === ">") depth--;
+        if (depth === 0) break;
+        if (depth > 1 || h !== "<") value += h;
+        advance();
+      }
+      advance();
+      out.push({ kind: "id", value, quoted: true, html: true, line: l, col: k });
+      continue;
     }
     if (/[0-9.]/u.test(ch) || (ch === "-" && /[0-9.]/u.test(c[i + 1] ?? ""))) {
       let j = i + 1;
@@ -179,23 +201,51 @@ function tokenize(text: string, fail: (line: number, col: number, what: string) 
 }
 
 const describe = (t: Tok): string =>
-  t.kind === "eof" ? "the end of the file" : t.kind === "id" ? (t.quoted ? `"${t.value}"` : `'${t.value}'`) : `'${t.kind}'`;
+  t.kind === "eof" ? "the end of the file" : t.kind === "id" ? (t.html ? `<${t.value}>` : t.quoted ? `"${t.value}"` : `'${t.value}'`) : `'${t.kind}'`;
+
+type IdTok = Extract<Tok, { kind: "id" }>;
+
+/** One attribute of a list: its key, and its value token (undefined for a key written alone, which means key=true). */
+interface Attribute {
+  key: string;
+  keyTok: IdTok;
+  value: IdTok | undefined;
+}
+
+/** An open subgraph (or the graph's own braces): its '{' and the nodes mentioned inside it so far. */
+interface Scope {
+  open: Tok;
+  list: string[];
+  set: Set<string>;
+  /** The statement of the enclosing scope this subgraph is an operand of, resumed when it closes. */
+  resume: Statement | undefined;
+}
+
+/** A node or edge statement being read: its operands so far and the arrow waiting for its right operand. */
+interface Statement {
+  /** The first operand was a node ID (a node statement unless an arrow follows). */
+  startsWithNode: boolean;
+  left: string[];
+  pending: Tok | undefined;
+  steps: Array<{ op: Tok; left: string[]; right: string[] }>;
+}
 
 /**
- * Parse a directed graph written in (a subset of) the Graphviz DOT language into a validated
- * causal graph. See the module comment for the subset; docs/graph-format.md has examples.
+ * Parse a directed graph written in the Graphviz DOT language into a validated causal graph.
+ * See the module comment for what is read; docs/graph-format.md has examples. Subgraphs nest to
+ * any depth (an explicit stack, no recursion).
  *
  * Cost: O(n + E log V) for n characters, E arrows (an edge between two subgraphs contributes
  * |left|·|right| arrows) and V nodes.
  * Source: Graphviz documentation, "The DOT Language", https://graphviz.org/doc/info/lang.html
- * (grammar of graphs, statements, edge operands and IDs).
+ * (grammar of graphs, statements, attribute lists, edge operands, ports and IDs).
  *
  * @throws InputError for a syntax error or an undirected graph, message
  *   `file:line:column: what; what to do` followed by the line and a caret.
  * @throws GraphError for a self-arrow (with its position) or a digraph without nodes.
  * @throws CycleError naming one directed cycle, positioned at the arrow of the cycle declared last.
  * @example
- * const { graph } = parseDot('digraph { age -> {sbp smoking} -> stroke; u [unmeasured=true]; u -> sbp }');
+ * const { graph } = parseDot('digraph { age -> {sbp smoking} -> stroke; u [unmeasured=true, label=<<b>U</b>>]; u -> sbp }');
  * graph.parents("stroke"); // ["sbp", "smoking"]
  * graph.isMeasured("u"); // false
  */
@@ -218,33 +268,20 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
   const arrowLine = new Map<string, number>();
   const sites: ArrowSite[] = [];
   const unmeasured = new Map<string, boolean>();
-  const scopes: Array<{ list: string[]; set: Set<string> }> = [];
   let strict = false;
 
-  const mention = (n: string) => {
-    if (!seen.has(n)) {
-      seen.add(n);
-      nodes.push(n);
-    }
-    for (const s of scopes) {
-      if (!s.set.has(n)) {
-        s.set.add(n);
-        s.list.push(n);
-      }
-    }
-  };
+  const isMarker = (t: Tok): boolean => t.kind === "id" && t.value === "+" && !t.quoted;
+  const isPlainId = (t: Tok): t is IdTok => t.kind === "id" && t.keyword === undefined && !isMarker(t);
 
-  const isPlainId = (t: Tok): t is Extract<Tok, { kind: "id" }> => t.kind === "id" && t.keyword === undefined && !(t.value === "+" && !t.quoted);
-
-  const expectId = (what: string): Extract<Tok, { kind: "id" }> => {
+  const expectId = (what: string): IdTok => {
     const t = next();
-    if (t.kind === "id" && !(t.value === "+" && !t.quoted)) return t;
+    if (t.kind === "id" && !isMarker(t)) return t;
     return failAt(t, `expected ${what} but found ${describe(t)}`);
   };
 
-  /** `[k=v, ...]` repeated; returns the pairs with the value tokens. */
-  const readAttrLists = (): Array<{ key: string; value: Extract<Tok, { kind: "id" }> }> => {
-    const out: Array<{ key: string; value: Extract<Tok, { kind: "id" }> }> = [];
+  /** `[k=v, k2=v2; k3]` repeated (attr_list); a key alone has no value token. */
+  const readAttrLists = (): Attribute[] => {
+    const out: Attribute[] = [];
     while (peek().kind === "[") {
       const open = next();
       while (peek().kind !== "]") {
@@ -252,62 +289,58 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
         if (k === "eof" || k === "}" || k === "{" || k === "[" || k === "->" || k === "--") {
           failAt(open, "unclosed '['; close the attribute list with ']'");
         }
+        if (k === "," || k === ";") {
+          next();
+          continue;
+        }
         const key = expectId("an attribute name such as unmeasured");
-        const eq = next();
-        if (eq.kind !== "=") failAt(eq, `expected '=' after attribute ${key.value} but found ${describe(eq)}; write ${key.value}=value`);
-        const value = expectId(`a value for attribute ${key.value}`);
-        out.push({ key: key.value, value });
-        if (peek().kind === "," || peek().kind === ";") next();
+        let value: IdTok | undefined;
+        if (peek().kind === "=") {
+          next();
+          const v = peek();
+          if (v.kind !== "id" || isMarker(v)) failAt(v, `expected a value for attribute ${key.value} but found ${describe(v)}; write ${key.value}=value, or leave the attribute out`);
+          value = expectId(`a value for attribute ${key.value}`);
+        }
+        out.push({ key: key.value, keyTok: key, value });
       }
       next();
     }
     return out;
   };
 
-  const readUnmeasured = (value: Extract<Tok, { kind: "id" }>): boolean => {
-    const v = value.value.toLowerCase();
+  const readUnmeasured = (a: Attribute): boolean => {
+    if (a.value === undefined) return true;
+    const v = a.value.value.toLowerCase();
     if (v === "true" || v === "yes" || v === "1") return true;
     if (v === "false" || v === "no" || v === "0") return false;
-    return failAt(value, `unmeasured=${value.quoted ? `"${value.value}"` : value.value} is not a yes/no value; write unmeasured=true or unmeasured=false`);
+    return failAt(a.value, `unmeasured=${a.value.quoted ? describe(a.value) : a.value.value} is not a yes/no value; write unmeasured=true or unmeasured=false`);
   };
 
-  const warnAttrs = (attrs: ReadonlyArray<{ key: string; value: Extract<Tok, { kind: "id" }> }>, target: "edge" | "node" | "graph") => {
-    for (const { key, value } of attrs) {
-      const k = key.toLowerCase();
-      if (target !== "node" && k === "unmeasured") {
+  const valueText = (a: Attribute): string => a.value?.value ?? "true";
+  const lineOf = (a: Attribute): number => (a.value ?? a.keyTok).line;
+
+  const warnAttrs = (attrs: readonly Attribute[], target: "edge" | "graph") => {
+    for (const a of attrs) {
+      const k = a.key.toLowerCase();
+      if (k === "unmeasured") {
         warnings.push(
-          `${formatSourceLocation(file, value.line)}: unmeasured=${value.value} on ${target === "edge" ? "an edge" : "a graph"} is ignored; ` +
+          `${formatSourceLocation(file, lineOf(a))}: unmeasured=${valueText(a)} on ${target === "edge" ? "an edge" : "a graph"} is ignored; ` +
             `set it on each unmeasured node, e.g. u [unmeasured=true]`,
         );
       }
-      if (target === "edge" && k === "dir" && value.value.toLowerCase() !== "forward") {
+      if (target === "edge" && k === "dir" && valueText(a).toLowerCase() !== "forward") {
         warnings.push(
-          `${formatSourceLocation(file, value.line)}: dir=${value.value} is ignored; every edge is read as cause -> effect ` +
+          `${formatSourceLocation(file, lineOf(a))}: dir=${valueText(a)} is ignored; every edge is read as cause -> effect ` +
             `in the order written, so write the arrow that way round`,
         );
       }
     }
   };
 
-  /** An edge operand or a statement-level subgraph: `{...}` or `subgraph [id] {...}`. */
-  const readSubgraph = (): string[] => {
-    const start = peek();
-    if (start.kind === "id" && start.keyword === "subgraph") {
-      next();
-      if (isPlainId(peek())) next();
-    }
-    const open = next();
-    if (open.kind !== "{") failAt(open, `expected '{' to open the subgraph but found ${describe(open)}`);
-    const scope = { list: [] as string[], set: new Set<string>() };
-    scopes.push(scope);
-    readStatements(open);
-    scopes.pop();
-    return scope.list;
-  };
-
-  /** A node ID with an optional port `:port[:compass]`, which is ignored. */
+  /** A node ID with an optional port `:port[:compass]` (or `:compass`), which is ignored. */
   const readNodeId = (): string => {
     const t = expectId("a node name");
+    if (t.html) failAt(t, `HTML-like IDs '<...>' are read as attribute values, not as node names: a node name must match a data column, so write it in double quotes instead`);
     if (t.keyword !== undefined && !t.quoted) failAt(t, `'${t.value}' is a DOT keyword; to use it as a node name, put it in double quotes`);
     if (t.value.trim() === "") failAt(t, "empty node name; write a name between the quotes");
     if (peek().kind === ":") {
@@ -321,70 +354,52 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
     return t.value;
   };
 
-  const readOperand = (): string[] => {
-    const t = peek();
-    if (t.kind === "{" || (t.kind === "id" && t.keyword === "subgraph")) return readSubgraph();
-    const name = readNodeId();
-    mention(name);
-    return [name];
+  // The open scopes, innermost last: the graph's braces first, then nested subgraphs. A node is
+  // recorded in the innermost scope; a closing scope passes its nodes on to the one around it.
+  const scopes: Scope[] = [];
+  const mention = (n: string) => {
+    if (!seen.has(n)) {
+      seen.add(n);
+      nodes.push(n);
+    }
+    const s = scopes[scopes.length - 1]!;
+    if (!s.set.has(n)) {
+      s.set.add(n);
+      s.list.push(n);
+    }
   };
 
-  const readStatement = () => {
-    const t = peek();
-    if (t.kind === "id" && (t.keyword === "node" || t.keyword === "edge" || t.keyword === "graph") && peek(1).kind === "[") {
+  /** Open a subgraph (`{` or `subgraph [id] {`) as an operand of `resume` (or as a statement of its own). */
+  const openSubgraph = (resume: Statement | undefined): void => {
+    const start = peek();
+    if (start.kind === "id" && start.keyword === "subgraph") {
       next();
-      const attrs = readAttrLists();
-      if (t.keyword === "node") {
-        for (const a of attrs) {
-          if (a.key.toLowerCase() === "unmeasured") {
-            warnings.push(
-              `${formatSourceLocation(file, a.value.line)}: node [unmeasured=${a.value.value}] is ignored; ` +
-                `set it on each unmeasured node, e.g. u [unmeasured=true]`,
-            );
-          }
-        }
-      } else {
-        warnAttrs(attrs, t.keyword);
-      }
-      return;
+      if (isPlainId(peek())) next();
     }
-    if (t.kind === "id" && (t.keyword === "graph" || t.keyword === "digraph" || t.keyword === "strict")) {
-      failAt(t, `unexpected '${t.value}' inside a graph; a file holds one graph, and a nested group is written 'subgraph name { ... }'`);
-    }
-    if (t.kind === "id" && t.keyword === undefined && peek(1).kind === "=") {
-      next();
-      next();
-      expectId(`a value for ${t.value}`);
-      return;
-    }
-    if (t.kind === "--") failAt(t, "'--' is an undirected edge; arrowaudit needs directed arrows, so write '->' from cause to effect");
-    if (t.kind === "->") failAt(t, "expected a node name before '->'; write the name of the cause first");
-    if (!(t.kind === "{" || t.kind === "id")) {
-      failAt(t, `unexpected ${describe(t)}; expected a node, an edge, an attribute or '}'`);
-    }
-    let left = readOperand();
-    if (peek().kind !== "->" && peek().kind !== "--") {
-      if (t.kind === "id" && t.keyword === undefined) {
+    const open = next();
+    if (open.kind !== "{") failAt(open, `expected '{' to open the subgraph but found ${describe(open)}`);
+    scopes.push({ open, list: [], set: new Set(), resume });
+  };
+
+  /** An operand is complete: the first of its statement, or the right side of the pending arrow. */
+  const operandDone = (stmt: Statement, operand: string[]): void => {
+    if (stmt.pending) stmt.steps.push({ op: stmt.pending, left: stmt.left, right: operand });
+    stmt.pending = undefined;
+    stmt.left = operand;
+  };
+
+  /** The end of a node or edge statement: its attribute lists, then its arrows. */
+  const finishStatement = (stmt: Statement): void => {
+    if (stmt.steps.length === 0) {
+      if (stmt.startsWithNode) {
         for (const a of readAttrLists()) {
-          if (a.key.toLowerCase() === "unmeasured") unmeasured.set(left[0]!, readUnmeasured(a.value));
+          if (a.key.toLowerCase() === "unmeasured") unmeasured.set(stmt.left[0]!, readUnmeasured(a));
         }
       }
       return;
-    }
-    const steps: Array<{ op: Tok; left: string[]; right: string[] }> = [];
-    while (peek().kind === "->" || peek().kind === "--") {
-      const op = next();
-      if (op.kind === "--") failAt(op, "'--' is an undirected edge; arrowaudit needs directed arrows, so write '->' from cause to effect");
-      const after = peek();
-      if (!(after.kind === "{" || after.kind === "id") || (after.kind === "id" && after.keyword !== undefined && after.keyword !== "subgraph")) {
-        failAt(after, `expected a node name or '{' after '->' but found ${describe(after)}; write the name of the caused variable, or remove the arrow`);
-      }
-      const right = readOperand();
-      steps.push({ op, left, right });
-      left = right;
     }
     warnAttrs(readAttrLists(), "edge");
-    for (const { op, left: ls, right: rs } of steps) {
+    for (const { op, left: ls, right: rs } of stmt.steps) {
       for (const a of ls) {
         for (const b of rs) {
           if (a === b) {
@@ -409,21 +424,44 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
     }
   };
 
-  function readStatements(open: Tok): void {
-    for (;;) {
-      const t = peek();
-      if (t.kind === "}") {
-        next();
-        return;
+  /** A statement that is not a node, edge or subgraph (attr_stmt, `ID = ID`), or the error for a token that starts none. */
+  const readOtherStatement = (t: Tok): boolean => {
+    if (t.kind === "id" && (t.keyword === "node" || t.keyword === "edge" || t.keyword === "graph") && peek(1).kind === "[") {
+      next();
+      const attrs = readAttrLists();
+      if (t.keyword === "node") {
+        for (const a of attrs) {
+          if (a.key.toLowerCase() === "unmeasured") {
+            warnings.push(
+              `${formatSourceLocation(file, lineOf(a))}: node [unmeasured=${valueText(a)}] is ignored; ` +
+                `set it on each unmeasured node, e.g. u [unmeasured=true]`,
+            );
+          }
+        }
+      } else {
+        warnAttrs(attrs, t.keyword);
       }
-      if (t.kind === "eof") failAt(open, `'{' opened here is never closed; add '}' at the end`);
-      if (t.kind === ";") {
-        next();
-        continue;
-      }
-      readStatement();
+      return true;
     }
-  }
+    if (t.kind === "id" && (t.keyword === "graph" || t.keyword === "digraph" || t.keyword === "strict")) {
+      failAt(t, `unexpected '${t.value}' inside a graph; a file holds one graph, and a nested group is written 'subgraph name { ... }'`);
+    }
+    if (t.kind === "id" && t.keyword === undefined && !isMarker(t) && peek(1).kind === "=") {
+      next();
+      next();
+      const v = peek();
+      if (v.kind !== "id" || isMarker(v)) failAt(v, `expected a value for ${t.value} but found ${describe(v)}; write ${t.value}=value, or leave the statement out`);
+      next();
+      if (t.value.toLowerCase() === "unmeasured") warnAttrs([{ key: t.value, keyTok: t, value: v as IdTok }], "graph");
+      return true;
+    }
+    if (t.kind === "--") failAt(t, "'--' is an undirected edge; arrowaudit needs directed arrows, so write '->' from cause to effect");
+    if (t.kind === "->") failAt(t, "expected a node name before '->'; write the name of the cause first");
+    if (!(t.kind === "{" || t.kind === "id")) {
+      failAt(t, `unexpected ${describe(t)}; expected a node, an edge, an attribute or '}'`);
+    }
+    return false;
+  };
 
   // graph : [strict] (graph | digraph) [ID] '{' stmt_list '}'
   let head = next();
@@ -440,7 +478,68 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
   if (isPlainId(peek())) next();
   const open = next();
   if (open.kind !== "{") failAt(open, `expected '{' after 'digraph' but found ${describe(open)}`);
-  readStatements(open);
+  scopes.push({ open, list: [], set: new Set(), resume: undefined });
+
+  // stmt_list, read with an explicit stack of open subgraphs: `stmt` is the node or edge
+  // statement being read in the innermost scope (after one of its operands), if any.
+  let stmt: Statement | undefined;
+  while (scopes.length > 0) {
+    if (stmt) {
+      const t = peek();
+      if (t.kind !== "->" && t.kind !== "--") {
+        finishStatement(stmt);
+        stmt = undefined;
+        continue;
+      }
+      const op = next();
+      if (op.kind === "--") failAt(op, "'--' is an undirected edge; arrowaudit needs directed arrows, so write '->' from cause to effect");
+      const after = peek();
+      if (!(after.kind === "{" || after.kind === "id") || (after.kind === "id" && after.keyword !== undefined && after.keyword !== "subgraph" && !after.quoted)) {
+        failAt(after, `expected a node name or '{' after '->' but found ${describe(after)}; write the name of the caused variable, or remove the arrow`);
+      }
+      stmt.pending = op;
+      if (after.kind === "{" || (after.kind === "id" && after.keyword === "subgraph")) {
+        openSubgraph(stmt);
+        stmt = undefined;
+      } else {
+        const name = readNodeId();
+        mention(name);
+        operandDone(stmt, [name]);
+      }
+      continue;
+    }
+    const t = peek();
+    if (t.kind === "}") {
+      next();
+      const closed = scopes.pop()!;
+      const outer = scopes[scopes.length - 1];
+      if (outer) {
+        for (const n of closed.list) {
+          if (!outer.set.has(n)) {
+            outer.set.add(n);
+            outer.list.push(n);
+          }
+        }
+        stmt = closed.resume;
+        if (stmt) operandDone(stmt, closed.list);
+        else stmt = { startsWithNode: false, left: closed.list, pending: undefined, steps: [] };
+      }
+      continue;
+    }
+    if (t.kind === "eof") failAt(scopes[scopes.length - 1]!.open, `'{' opened here is never closed; add '}' at the end`);
+    if (t.kind === ";") {
+      next();
+      continue;
+    }
+    if (readOtherStatement(t)) continue;
+    if (t.kind === "{" || (t.kind === "id" && t.keyword === "subgraph")) {
+      openSubgraph(undefined);
+      continue;
+    }
+    const name = readNodeId();
+    mention(name);
+    stmt = { startsWithNode: true, left: [name], pending: undefined, steps: [] };
+  }
   const tail = peek();
   if (tail.kind !== "eof") {
     failAt(tail, `unexpected ${describe(tail)} after the end of the graph; a file holds one digraph, so remove the rest or merge it into the first`);

@@ -168,6 +168,113 @@ describe("parseDot accepted subset", () => {
   });
 });
 
+// Each form below is one production of the DOT grammar published by Graphviz ("The DOT Language",
+// https://graphviz.org/doc/info/lang.html: graph, stmt_list, stmt, attr_stmt, attr_list, a_list,
+// edge_stmt, edgeRHS, node_stmt, node_id, port, subgraph, compass_pt, and the four ID forms);
+// a key without '=' in an attribute list is the earlier published a_list, `ID [ '=' ID ]`.
+// Expected graphs are worked by hand from those productions.
+describe("parseDot reads every attribute and ID form of the DOT grammar", () => {
+  it("HTML strings as attribute values: nested angle brackets, quotes, line ends, '//' and '#' inside (regression: label=<<b>x</b>> was refused)", () => {
+    const text = [
+      "digraph {",
+      "  a [label=<<b>x</b>>]",
+      '  b [label=<<table border="0"><tr><td port="p">a &#8594; b // not a comment, "not a quote</td></tr>',
+      "# still inside",
+      "</table>>, shape=plain]",
+      "  a -> b [label=<x &lt; y>; xlabel=<>]",
+      "}",
+    ].join("\n");
+    const { graph, warnings } = parseDot(text);
+    expect(graph.nodes).toEqual(["a", "b"]);
+    expect(graph.arrows).toEqual([["a", "b"]]);
+    expect(warnings).toEqual([]);
+  });
+
+  it("attribute lists: ',' and ';' and no separator between items, several lists in a row, empty lists, trailing separators", () => {
+    const { graph } = parseDot('digraph { a [a=b; c=d, e] [f="g" h=i][] [j=k,]; a -> b [color=red; style=dashed, penwidth=2.5] [] [;,] }');
+    expect(graph.arrows).toEqual([["a", "b"]]);
+  });
+
+  it("a key without a value is key=true: [unmeasured] marks the node, [e] is ignored", () => {
+    const { graph } = parseDot("digraph { u [style=dashed, unmeasured]; v [e]; u -> v }");
+    expect(graph.isMeasured("u")).toBe(false);
+    expect(graph.isMeasured("v")).toBe(true);
+  });
+
+  it("attribute statements graph/node/edge (any letter case) and ID = ID statements with every ID form as key and value", () => {
+    const text = 'digraph { GRAPH [label=<<i>cohort</i>>]; Node [shape=box]; edge [arrowhead=vee; color="#336699"]; rankdir=LR; "size"="7.5,7.5"; ratio=.75; label=<t>; a -> b }';
+    const { graph, warnings } = parseDot(text);
+    expect(graph.arrows).toEqual([["a", "b"]]);
+    expect(warnings).toEqual([]);
+  });
+
+  it("subgraphs with and without names (bare, quoted, numeral and HTML IDs), nested, as statements and as operands, with statements of their own inside", () => {
+    const text = [
+      "digraph {",
+      "  subgraph cluster_a { label=<A>; rank=same; a1 a2 }",
+      '  subgraph "b group" { b1 -> b2 }',
+      "  subgraph 7 { c1 }",
+      "  subgraph <h> { d1 }",
+      "  subgraph { e1 }",
+      "  { f1 { f2 { f3 } } }",
+      "  subgraph x { a1 a2 } -> subgraph { node [shape=box]; g1 } -> { f3 }",
+      "}",
+    ].join("\n");
+    const { graph } = parseDot(text);
+    expect(graph.nodes).toEqual(["a1", "a2", "b1", "b2", "c1", "d1", "e1", "f1", "f2", "f3", "g1"]);
+    expect(graph.arrows).toEqual([
+      ["b1", "b2"],
+      ["a1", "g1"],
+      ["a2", "g1"],
+      ["g1", "f3"],
+    ]);
+  });
+
+  it("ports: node:port, node:port:compass, node:compass, with quoted and HTML port IDs; the port is ignored", () => {
+    const { graph } = parseDot('digraph { a:p1 -> b:p2:ne; c:sw -> a:"port 1":c; b:<p> -> d:_ ; e:n:s }');
+    expect(graph.nodes).toEqual(["a", "b", "c", "d", "e"]);
+    expect(graph.arrows).toEqual([
+      ["a", "b"],
+      ["c", "a"],
+      ["b", "d"],
+    ]);
+  });
+
+  it("IDs: numerals (−.5, 1., 10), quoted strings joined by several '+', escaped quotes, line continuation; compass names are ordinary IDs elsewhere", () => {
+    const { graph } = parseDot('digraph { -.5 -> 1. -> 10; "sys" + "tolic" + " bp" -> "a \\"b\\""; "lo\\\nng" -> n; ne -> sw }');
+    expect(graph.nodes).toEqual(["-.5", "1.", "10", "systolic bp", 'a "b"', "long", "n", "ne", "sw"]);
+  });
+
+  it("subgraphs nested 3,000 and 100,000 deep (braces, named subgraphs, an HTML label) parse without recursion (regression: stack overflow)", () => {
+    for (const depth of [3000, 100_000]) {
+      const text =
+        "digraph { " + "{".repeat(depth) + " a " + "}".repeat(depth) + " -> b; " +
+        "subgraph s {".repeat(depth) + " c -> d [label=<" + "<i>".repeat(depth) + "x" + "</i>".repeat(depth) + ">] " + "}".repeat(depth) + " }";
+      const { graph } = parseDot(text);
+      expect(graph.arrows).toEqual([
+        ["a", "b"],
+        ["c", "d"],
+      ]);
+    }
+  });
+
+  it("an edge chain through 300 nested subgraphs joins each node to every node inside the next operand", () => {
+    const depth = 300;
+    let text = "digraph { n0";
+    for (let i = 1; i < depth; i++) text += ` -> { n${i}`;
+    text += " }".repeat(depth - 1) + " }";
+    const { graph } = parseDot(text);
+    expect(graph.arrows.length).toBe((depth * (depth - 1)) / 2); // n_i -> n_j for every i < j
+    expect([...graph.parents("n3")].sort()).toEqual(["n0", "n1", "n2"]);
+  });
+
+  it("a nesting left open names the innermost '{' that is never closed", () => {
+    const e = errorOf("digraph {\n { a -> {\n b }");
+    expect(at(e)).toBe("2:2");
+    expect(e.message).toContain("never closed");
+  });
+});
+
 describe("parseDot errors and their positions", () => {
   const cases: Array<[string, string, typeof InputError, string, string]> = [
     ["undirected graph", "graph {\n a -- b\n}", InputError, "1:1", "arrowaudit needs a directed graph"],
@@ -179,7 +286,12 @@ describe("parseDot errors and their positions", () => {
     ["arrow with no cause", "digraph { -> b }", InputError, "1:11", "expected a node name before '->'"],
     ["unclosed brace", "digraph {\n a -> b\n", InputError, "1:9", "never closed"],
     ["unclosed attribute list", "digraph { a [shape=box }", InputError, "1:13", "unclosed '['"],
-    ["attribute without a value", "digraph { a [shape] }", InputError, "1:19", "expected '=' after attribute shape"],
+    ["attribute with '=' but no value", "digraph { a [shape=] }", InputError, "1:20", "expected a value for attribute shape but found ']'"],
+    ["attribute list without a name", "digraph { a [=box] }", InputError, "1:14", "expected an attribute name"],
+    ["graph attribute without a value", "digraph { rankdir = }", InputError, "1:21", "expected a value for rankdir"],
+    ["unterminated HTML-like ID", "digraph { a [label=<<b>x</b>] }", InputError, "1:20", "unterminated HTML-like ID"],
+    ["HTML-like ID as a node name later in a chain", "digraph {\n a -> <b> }", InputError, "2:7", "HTML-like IDs '<...>' are read as attribute values, not as node names"],
+    ["'+' after an HTML-like ID", 'digraph { a [label=<x> + "y"] }', InputError, "1:24", "'+' may only join two quoted strings"],
     ["unterminated string", 'digraph {\n "a -> b }', InputError, "2:2", "unterminated quoted ID"],
     ["unterminated block comment", "digraph { a /* x", InputError, "1:13", "unterminated comment"],
     ["HTML-like ID", "digraph { <b>x</b> -> y }", InputError, "1:11", "HTML-like IDs"],
@@ -260,7 +372,7 @@ describe("parseDot golden messages (one per message shape)", () => {
 
 describe("parseDot documentation", () => {
   it("parseDot @example from its doc comment", () => {
-    const { graph } = parseDot("digraph { age -> {sbp smoking} -> stroke; u [unmeasured=true]; u -> sbp }");
+    const { graph } = parseDot("digraph { age -> {sbp smoking} -> stroke; u [unmeasured=true, label=<<b>U</b>>]; u -> sbp }");
     expect(graph.parents("stroke")).toEqual(["sbp", "smoking"]);
     expect(graph.isMeasured("u")).toBe(false);
   });
