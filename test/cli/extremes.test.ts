@@ -1,0 +1,150 @@
+/**
+ * The command line on extreme numbers, hostile names and deep graphs: one array of cases, each
+ * the arguments, the files they read (written to a temporary folder), the exit code the README
+ * documents (0 success, 2 invalid input; never 10, an internal error) and a fragment the output
+ * must hold (and, where a bug printed one, a fragment it must not). Run in-process like the
+ * golden tests. Each case names the bug it pins.
+ */
+import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { afterAll, describe, expect, it } from "vitest";
+import { run } from "../../cli/program.js";
+import type { Io } from "../../cli/io.js";
+
+const work = mkdtempSync(join(tmpdir(), "arrowaudit-extremes-"));
+afterAll(() => rmSync(work, { recursive: true, force: true }));
+
+/** An invented cohort of 200 rows: z, x = z + noise, y = z² + noise, w noise (seeded LCG). */
+function cohortCsv(edit: (row: { x: number; y: number; z: number; w: number }, i: number) => void = () => {}, header = "x,y,z,w"): string {
+  let s = 20260115;
+  const u = () => ((s = (s * 16807) % 2147483647) / 2147483647);
+  const noise = () => u() + u() + u() - 1.5;
+  const lines = [header];
+  for (let i = 0; i < 200; i++) {
+    const z = 2 * noise();
+    const row = { x: z + noise(), y: z * z + noise(), z, w: noise() };
+    edit(row, i);
+    lines.push([row.x, row.y, row.z, row.w].map((v) => String(v)).join(","));
+  }
+  return lines.join("\n") + "\n";
+}
+
+const GRAPH = "z -> x\nz -> y\nw\n";
+const HOSTILE_GRAPH = "constructor -> __proto__\nconstructor -> toString\nvalueOf\n";
+const at = (v: number) => (row: { x: number }, i: number) => void (i === 13 && (row.x = v));
+
+interface Case {
+  /** What the case checks, and the bug it pins. */
+  name: string;
+  argv: string[];
+  files: Record<string, string>;
+  code: number;
+  fragment: string;
+  absent?: string;
+}
+
+const extremes = [1e155, 1e200, -1e308, 1.7e308];
+const methods = ["auto", "linear", "rank", "chisq", "regression"];
+
+const cases: Case[] = [
+  ...extremes.flatMap((v) =>
+    methods.map((m) => ({
+      name: `one cell of ${v} with --method ${m} is tested (regression: ${
+        m === "linear" ? "exit 10, 'variance of column 0 is Infinity'" : m === "rank" ? "none, mid-ranks were never affected" : "untestable as 'constant' or 'aliased'"
+      })`,
+      argv: ["test", "g.txt", `x${v}.csv`, "--method", m],
+      files: { "g.txt": GRAPH, [`x${v}.csv`]: cohortCsv(at(v)) },
+      code: 0,
+      fragment: "x ⫫ y | z",
+      absent: "constant",
+    })),
+  ),
+  {
+    name: "a column of distinct values near 1e-310 is tested, not reported constant (regression: 'w is constant')",
+    argv: ["test", "g.txt", "tiny.csv", "--json"],
+    files: { "g.txt": GRAPH, "tiny.csv": cohortCsv((r) => void (r.w *= 1e-310)) },
+    code: 0,
+    fragment: '"x": "w"',
+    absent: "constant",
+  },
+  {
+    name: "a whole column near 1e200 and one near 1e-310 with --method regression (regression: exit 10)",
+    argv: ["test", "g.txt", "mixed.csv", "--method", "regression", "--csv"],
+    files: { "g.txt": GRAPH, "mixed.csv": cohortCsv((r, i) => ((r.y *= 1e200), (r.w *= 1e-310), i === 3 && (r.z = -1e308))) },
+    code: 0,
+    fragment: "regression-lr",
+    absent: "NaN",
+  },
+  {
+    name: "DOT with 3,000 nested braces (regression: stack overflow, exit 10)",
+    argv: ["claims", "deep.dot"],
+    files: { "deep.dot": "digraph {\n" + "{".repeat(3000) + " a " + "}".repeat(3000) + " -> b\n c\n}\n" },
+    code: 0,
+    fragment: "a ⫫ c",
+  },
+  {
+    name: "DOT with an HTML-like label and every attribute-list form (regression: label=<<b>x</b>> refused)",
+    argv: ["claims", "html.dot"],
+    files: { "html.dot": 'digraph {\n  graph [label=<<i>cohort</i>>]\n  a [label=<<b>x</b>>; shape=box, peripheries] [color="red"]\n  a:n -> b:p:sw [penwidth=2]\n  subgraph <g> { c }\n}\n' },
+    code: 0,
+    fragment: "a ⫫ c",
+  },
+  {
+    name: "DOT with an HTML string as a node name: a clear error at its line and column",
+    argv: ["claims", "htmlnode.dot"],
+    files: { "htmlnode.dot": "digraph {\n  a -> <b>\n}\n" },
+    code: 2,
+    fragment: "htmlnode.dot:2:8: HTML-like IDs '<...>' are read as attribute values, not as node names",
+  },
+  {
+    name: "DOT with an unterminated HTML-like ID: a clear error at its '<'",
+    argv: ["claims", "open.dot"],
+    files: { "open.dot": "digraph {\n  a [label=<<b>x</b>]\n}\n" },
+    code: 2,
+    fragment: "open.dot:2:12: unterminated HTML-like ID",
+  },
+  ...methods.map((m) => ({
+    name: `node and column names that are properties of every object, --method ${m} (regression: exit 10 'declaredLevels is not iterable')`,
+    argv: ["test", "hostile.txt", "hostile.csv", "--method", m, "--csv"],
+    files: { "hostile.txt": HOSTILE_GRAPH, "hostile.csv": cohortCsv(() => {}, "__proto__,toString,constructor,valueOf") },
+    code: 0,
+    fragment: '__proto__,toString,"[""constructor""]"',
+  })),
+  {
+    name: "hostile names in DOT with a report in Markdown",
+    argv: ["report", "hostile.dot", "hostile.csv", "--out", "hostile.md"],
+    files: { "hostile.dot": 'digraph { constructor -> { "__proto__" toString }; valueOf }', "hostile.csv": cohortCsv(() => {}, "__proto__,toString,constructor,valueOf") },
+    code: 0,
+    fragment: "report written to",
+  },
+];
+
+async function cli(args: string[]) {
+  let stdout = "";
+  let stderr = "";
+  const io: Io = {
+    stdout: (s) => (stdout += s),
+    stderr: (s) => (stderr += s),
+    stdoutIsTTY: false,
+    stderrIsTTY: false,
+    env: {},
+    cwd: work,
+    now: () => new Date("2026-01-15T09:30:00Z"),
+  };
+  const code = await run(args, io);
+  return { code, out: stdout + stderr };
+}
+
+describe("arrowaudit on extreme numbers, hostile names and deep graphs", () => {
+  for (const c of cases) {
+    it(`${c.argv.join(" ")}: ${c.name}`, async () => {
+      for (const [name, text] of Object.entries(c.files)) writeFileSync(join(work, name), text);
+      const r = await cli(c.argv);
+      expect(r.out).not.toContain("internal error");
+      expect(r.code, r.out).toBe(c.code);
+      expect(r.out).toContain(c.fragment);
+      if (c.absent !== undefined) expect(r.out).not.toContain(c.absent);
+    });
+  }
+});
