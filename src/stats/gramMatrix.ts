@@ -5,7 +5,10 @@
  * rows are copied in tiles of TILE_ROWS into a row-major buffer (padded to a multiple of 4
  * columns with zeros) and multiplied by the WebAssembly SIMD kernel of `data/simdCrossProduct.ts`
  * (or, without WebAssembly SIMD, by the same operations in scalar code), a two-level summation:
- * within a tile from zero, then tile sums into G.
+ * within a tile from zero, then tile sums into G. The products are of the values as given:
+ * callers pass columns scaled by powers of two to at most about 1 in magnitude
+ * (`powerOfTwoScale.ts`; the default test's `rowPathFactor`), so that no product or sum
+ * overflows or underflows whatever the data's units.
  */
 import { createSimdCrossProduct, type SimdCrossProduct } from "../data/simdCrossProduct.js";
 
