@@ -9,7 +9,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { runAudit } from "../../src/audit/runAudit.js";
-import { runGcmOn, varianceSample } from "../../src/audit/methods/gcm.js";
+import { columnBasis, runGcmOn, varianceSample } from "../../src/audit/methods/gcm.js";
 import { buildPatternMoments } from "../../src/data/buildPatternMoments.js";
 import { createTable } from "../../src/data/createTable.js";
 import type { Table } from "../../src/data/Table.js";
@@ -167,5 +167,21 @@ describe("gcm moment path: the variance sample must represent the claim's rows",
         expect(viaMoments.outcome.p).toBe(viaRows.outcome.p);
       }
     }
+  });
+
+  it("a claim sent to its rows keeps at most the basis level the moments hold (the moments' compute budget)", () => {
+    const big = cohort(25_000, 3);
+    const sample = varianceSample(big, 1);
+    const inSample = new Set(sample);
+    let outside = observedRow(big, "x", 100);
+    while (inSample.has(outside)) outside = observedRow(big, "x", outside + 1);
+    const t = mapColumnValues(big, ["x"], (v, i) => (i === outside ? 1e10 : v));
+    const basis = new Map([["z", { levels: columnBasis(t.column("z")!, varianceSample(t, 1)).levels.slice(0, 2) }]]);
+    const moments = buildPatternMoments(t, { variables: ["x", "y", "z"], expansions: { basis } });
+    const res = runGcmOn("moments", "gcm", { x: "x", y: "y", given: ["z"] }, { table: t, moments, seed: 1 });
+    if (!res.ok) throw new Error(res.reason);
+    const d = res.outcome.details as { path: string; flexibility: { max_level: number } };
+    expect(d.path).toBe("rows");
+    expect(d.flexibility.max_level).toBe(1); // the rows alone would allow level 5 at 25,000 rows
   });
 });

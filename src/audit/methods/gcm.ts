@@ -25,7 +25,9 @@
  *   nothing per row; the variance of the residual products then needs a pass over rows: all the
  *   claim's complete rows up to `VARIANCE_SAMPLE_ROWS`, else those among a seeded random sample of
  *   that many rows of the table (the same sample for every claim, drawn from the stream of
- *   (`ctx.seed`, "gcm variance rows")).
+ *   (`ctx.seed`, "gcm variance rows")). A sample whose residuals' mean square strays from their
+ *   variance over all the claim's rows by more than a factor SAMPLE_VARIANCE_RATIO (it missed rows
+ *   that dominate them, such as one value of 1e10 among values near 1) sends the claim to its rows.
  * - *Effect.* For one residual product, the residual correlation r (the partial correlation
  *   after flexible adjustment), with the interval of `gcmCorrelationInterval`; for several (a
  *   nominal side), √(1 − exp(−max(0, W − q)/n)) on the common scale (`lrEffect`), with W the
@@ -287,7 +289,8 @@ interface SideValues {
  * factor of their variance over all complete rows (from the moments), side column by side column;
  * otherwise the sample misses rows that dominate the residuals (a value of 1e10 among values near
  * 1, say), its variance of the products would not describe their sum, and the claim is tested on
- * its rows instead. For a sample of 20,000 rows of light-tailed data the ratio is within 1 ± 0.05.
+ * its rows instead, at most at the basis level the moments hold. For a sample of 20,000 rows of
+ * light-tailed data the ratio is within 1 ± 0.05.
  */
 export const SAMPLE_VARIANCE_RATIO = 4;
 
@@ -702,7 +705,7 @@ function twoValues(c: ClaimColumn, factor: number): [number, number] | undefined
   return found ? [found[0] * factor, found[1] * factor] : undefined;
 }
 
-function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult {
+function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext, maxLevel = MAX_BASIS_LEVEL): MethodResult {
   const [xCol, yCol, ...given] = cols as [Column, Column, ...Column[]];
   const idx = completeRows(cols, ctx.table.rows, ctx.rowFilter);
   const n = idx.length;
@@ -714,7 +717,7 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
   const indicatorCount = given.reduce((s, c) => s + (present.has(c) ? present.get(c)!.length - 1 : 0), 0);
   const sample = varianceSample(ctx.table, ctx.seed, ctx.rowFilter);
   const bases = given.filter((c) => !present.has(c)).map((c) => columnBasis(c, sample));
-  const cap = rowPathLevelCap(n, indicatorCount, bases);
+  const cap = Math.min(maxLevel, rowPathLevelCap(n, indicatorCount, bases));
   const { adjustment, entered } = adjustmentColumns(given, present, cap, sample);
   const layout: Layout = { adjustment, sides, entered, cap };
 
@@ -937,9 +940,17 @@ function overallMoments(ctx: TestContext): (index: number) => { mean: number; va
   };
 }
 
-function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MethodResult | undefined {
+/**
+ * What the moment path gives: the claim's result, or that the claim is to be tested on its rows
+ * (the moments lack a column it needs; or its variance sample does not represent its rows, and
+ * then at most at the flexibility level the moments hold, which keeps the cost within their
+ * compute budget).
+ */
+type MomentPathResult = MethodResult | { useRows: true; maxLevel?: number };
+
+function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MomentPathResult {
   const layout = momentLayout(name, cols, ctx);
-  if (!layout) return undefined;
+  if (!layout) return { useRows: true };
   const { adjustment } = layout;
   const sideList = [...layout.sides[0], ...layout.sides[1]];
   const idx = [...adjustment.map((c) => c.index!), ...sideList.map((c) => c.index!)];
@@ -1011,7 +1022,7 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
   };
   // the moments' rows are tested on the rows when the sample does not represent them
   const out = outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: m2 < n });
-  return out === UNREPRESENTATIVE_SAMPLE ? undefined : out;
+  return out === UNREPRESENTATIVE_SAMPLE ? { useRows: true, maxLevel: layout.cap } : out;
 }
 
 /** Per-audit values of sampled columns (the variance sample's rows), keyed by the pattern moments. */
@@ -1130,7 +1141,8 @@ export function runGcmOn(path: "rows" | "moments", name: TestName, claim: Claim,
   }
   if (path === "moments") {
     const viaMoments = runMomentPath(name, claim, cols, ctx);
-    if (viaMoments) return viaMoments;
+    if (!("useRows" in viaMoments)) return viaMoments;
+    return runRowPath(name, claim, cols, ctx, viaMoments.maxLevel);
   }
   return runRowPath(name, claim, cols, ctx);
 }
