@@ -4,6 +4,7 @@ import { closeSync, createReadStream, existsSync, openSync, readSync, readFileSy
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { InputError } from "../src/errors.js";
+import { decodeHead } from "../src/data/readHeader.js";
 
 /** Where the CLI writes: injectable so tests capture output in-process. */
 export interface Io {
@@ -72,7 +73,11 @@ export function writeAtomic(path: string, cwd: string, content: string): string 
   return full;
 }
 
-/** Read at most the first 1 MiB of a file as text (enough for any header row). */
+/**
+ * Read the first bytes of a file as text for `readHeader`: the whole header record, however long
+ * (1 MiB at first, doubling until the header ends), and the complete rows read with it.
+ * @throws InputError when the file cannot be read; DataError when it is not UTF-8 text (see `decodeHead`)
+ */
 export function readHead(path: string, cwd: string): string {
   let fd: number;
   try {
@@ -81,9 +86,24 @@ export function readHead(path: string, cwd: string): string {
     throw new InputError(`${path}: cannot read the file (${(e as NodeJS.ErrnoException).code ?? "error"}); check the path`, { file: path });
   }
   try {
-    const buf = Buffer.alloc(1 << 20);
-    const n = readSync(fd, buf, 0, buf.length, 0);
-    return buf.subarray(0, n).toString("utf8");
+    let buf = Buffer.alloc(1 << 20);
+    let n = 0;
+    for (;;) {
+      let eof = false;
+      while (n < buf.length) {
+        const got = readSync(fd, buf, n, buf.length - n, n);
+        if (got === 0) {
+          eof = true;
+          break;
+        }
+        n += got;
+      }
+      const text = decodeHead(buf.subarray(0, n), eof, path);
+      if (text !== undefined) return text;
+      const grown = Buffer.alloc(2 * buf.length);
+      buf.copy(grown, 0, 0, n);
+      buf = grown;
+    }
   } finally {
     closeSync(fd);
   }

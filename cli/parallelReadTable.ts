@@ -15,7 +15,8 @@ import type { Worker } from "node:worker_threads";
 import type { BuilderState } from "../src/data/columnBuilder.js";
 import { UnquotedRecordReader } from "../src/data/fastNumericScan.js";
 import type { ReadOptions } from "../src/data/readOptions.js";
-import { createBuilder, estimateRecords, planTable, readTable } from "../src/data/readTable.js";
+import { createBuilder, estimateRecords, finishTable, planTable, readTable } from "../src/data/readTable.js";
+import { utf16ByteOrderMark } from "../src/data/textBytes.js";
 import type { Table } from "../src/data/Table.js";
 import type { RangeTask } from "./readRangeWorker.js";
 import { startWorker } from "./startWorker.js";
@@ -56,8 +57,9 @@ export async function parallelReadTable(path: string, options: ReadOptions, opts
     return readTable(createReadStream(path, { highWaterMark: CHUNK }), options, { totalBytes: size });
   };
   if (size < (opts.minBytes ?? 16 * 1024 * 1024) || options.engine === "papaparse") return serial("small file or papaparse engine");
+  if (utf16ByteOrderMark(head)) return serial("UTF-16 (transcoded by the streaming reader)");
   const plan = planTable(head, head.length === size, options);
-  if (!plan || plan.lineEnd !== "\n" || plan.sampleRecords === 0) return serial("no sample records or lone-CR line ends");
+  if (!plan || plan.lineEnd !== "\n" || plan.sampleRecords === 0) return serial("no sample records in the first 256 KiB, or lone-CR line ends");
 
   // Split the data at the first line feed after its middle.
   const dataStart = plan.headerEnd + 1;
@@ -103,7 +105,7 @@ export async function parallelReadTable(path: string, options: ReadOptions, opts
   if (!answer.ok || !answer.state) return serial("quote or rejected record in the second half");
   builder.absorb(answer.state, lineBase, rows0);
   opts.onRead?.(2);
-  return builder.finish();
+  return finishTable(builder);
 }
 
 /** Scan bytes [start, end) of the file into the reader; false at a quote. */

@@ -11,6 +11,7 @@ import { runClaims } from "./commands/claims.js";
 import { runTest } from "./commands/test.js";
 import { runReport } from "./commands/report.js";
 import { runDraw } from "./commands/draw.js";
+import { readOptionsFrom } from "./loadTable.js";
 
 /** Parse a number option in [lo, hi]. */
 export function numberIn(name: string, lo: number, hi: number, integer = false) {
@@ -37,7 +38,8 @@ export const auditOptions = (c: Command): Command =>
     .addOption(new Option("--method <method>", "test per claim: auto picks by variable types").choices(["auto", "linear", "rank", "chisq", "regression"]).default("auto"))
     .option("--min-effect <e>", "relevance floor: |effect| below it is never contradicted", numberIn("--min-effect", 0, 1), 0)
     .addOption(new Option("--rank-by <key>", "rank contradicted claims by adjusted p or by |effect|").choices(["p", "effect"]).default("p"))
-    .option("--missing <codes>", 'extra missing-value codes, comma-separated (e.g. "-9,999")')
+    .option("--missing <codes>", 'extra missing-value codes, comma-separated: a bare code for every column, name=code for one column (e.g. "-9,999,fage=0"); quote a name or code that holds , or = ("...")')
+    .option("--ignore <names>", "comma-separated columns to leave out (never a measured node of the graph)")
     .option("--types <list>", 'declare variable types, e.g. "education=ordinal,region=nominal"')
     .option("--levels <list>", 'order levels, e.g. "education=low|mid|high,region=north|south"')
     .addOption(new Option("--delimiter <d>", "field delimiter (default: detected)").choices([",", ";", "tab", "\\t"]))
@@ -46,7 +48,9 @@ export const auditOptions = (c: Command): Command =>
     .option("--seed <n>", "seed for Monte-Carlo p-values", numberIn("--seed", 0, 2 ** 32 - 1, true), 1)
     .option("--permutations <B>", "Monte-Carlo permutation p-values with B permutations for categorical claims", numberIn("--permutations", 99, 1e7, true))
     .option("--ascii", "ASCII output only: claims as x indep y given a, b", false)
-    .option("--quiet", "print nothing but errors and requested output", false);
+    .option("--quiet", "print nothing but errors and requested output", false)
+    // Reading options that contradict themselves are usage errors before any file is read.
+    .hook("preAction", (_cmd, action) => void readOptionsFrom(action.opts(), ""));
 
 /** Build the program; actions record their exit code in `state`. */
 function buildProgram(io: Io, state: { code: number }, argv: string[]): Command {

@@ -23,10 +23,23 @@
  * level order, 0 to k − 1. So a declared order sets the scores: declaring numeric codes out of
  * increasing order (`pain=3|1|2`) scores them by position, and a warning says so; see
  * {@link scoreLevels}. Nominal values are the level positions.
+ *
+ * Names: a column is found by a name (kept columns, declarations, ignored columns, per-column
+ * missing codes) when both are equal after Unicode normalisation to NFC; a kept column takes the
+ * spelling it was asked for, and a warning says when that differs from the file's. Each kept
+ * column has its own missing codes (the defaults, the codes for every column and its own).
+ * Checks when a column is finished, besides typing: numbers written with a decimal comma in a
+ * semicolon or tab file read with a decimal point stop the read; a sentinel code far outside a
+ * numeric column's values (`findSentinelCodes`) and a categorical column with about one row per
+ * level (`findHighCardinalityColumns`) are warnings.
  */
 import { DataError, UsageError } from "../errors.js";
-import { inferType, MAX_INFERRED_ORDINAL_LEVELS } from "./inferType.js";
-import { DEFAULT_MISSING_CODES } from "./readOptions.js";
+import { findClosestNames } from "../graph/checkColumns.js";
+import { findSentinelCodes } from "./findSentinelCodes.js";
+import { highCardinality, HIGH_CARDINALITY_MIN_LEVELS } from "./findHighCardinalityColumns.js";
+import { checkHeaderNames } from "./headerNames.js";
+import { identifierNote, inferType, MAX_INFERRED_ORDINAL_LEVELS } from "./inferType.js";
+import { DEFAULT_MISSING_CODES, quoteName } from "./readOptions.js";
 import { parseNumberText } from "./parseNumberText.js";
 import type { Column, Table, VariableType } from "./Table.js";
 
@@ -55,12 +68,22 @@ export interface BuilderState {
 export interface BuilderOptions {
   file?: string;
   decimalComma?: boolean;
+  /** The file's delimiter, when the cells come from a file (for the decimal-comma check). */
+  delimiter?: string;
+  /** Whether header field 1 is an unnamed row-label column, left out (see `headerNames`). */
+  rowLabels?: boolean;
   missing?: readonly string[];
+  missingByColumn?: Readonly<Record<string, readonly string[]>>;
   types?: Readonly<Record<string, VariableType>>;
   levels?: Readonly<Record<string, readonly string[]>>;
   /** Keep only these columns; undefined keeps all. */
   columns?: readonly string[];
+  /** Leave these columns out. */
+  ignore?: readonly string[];
 }
+
+/** A text cell that is a number written with a decimal comma: sign, digits, one comma, digits. */
+const DECIMAL_COMMA_CELL = /^[+-]?\d+,\d+$/u;
 
 /** Format a number as a level label (decimal comma when the file uses one). */
 export function numberLabel(v: number, decimalComma: boolean): string {
@@ -104,8 +127,14 @@ export class ColumnBuilder {
   private readonly dict: Map<string, number>[] = [];
   private readonly labels: string[][] = [];
   private readonly firstTexts: { line: number; text: string }[][] = [];
-  private readonly textMissing: Set<string>;
-  private readonly numericMissing: number[];
+  /** Per kept column: the missing codes as text and as numbers (columns without codes of their own share one set). */
+  private readonly textMissing: Set<string>[] = [];
+  private readonly numericMissing: number[][] = [];
+  /** Per kept column: the declared type and levels, if any. */
+  private readonly declaredTypes: (VariableType | undefined)[] = [];
+  private readonly declaredLevels: (readonly string[] | undefined)[] = [];
+  /** Notes about the header and the names, for the table's warnings. */
+  private readonly headerNotes: string[] = [];
   /** Rows where (line − row) changes: parallel arrays, for mapping rows back to lines. */
   private readonly lineRows: number[] = [];
   private readonly lineOffsets: number[] = [];
@@ -116,18 +145,76 @@ export class ColumnBuilder {
     this.file = options.file;
     this.header = header;
     this.decimalComma = options.decimalComma ?? false;
-    const headerSet = new Set(header);
-    const keep = options.columns ? new Set(options.columns) : undefined;
-    checkNamesExist(options.columns ?? [], headerSet, "--columns", header);
-    checkNamesExist(Object.keys(options.types ?? {}), headerSet, "--types", header);
-    checkNamesExist(Object.keys(options.levels ?? {}), headerSet, "--levels", header);
-    checkLevelDeclarations(options.levels ?? {}, options.types ?? {}, this.decimalComma);
+    const rowLabels = options.rowLabels === true && header.length > 1 && header[0] === "";
+    checkHeaderNames(header, this.file);
+    const names = new HeaderIndex(header, rowLabels, this.file);
+
+    // Which fields are kept, and under which name (a requested name keeps its own spelling).
+    const ignored = new Set((options.ignore ?? []).map((n) => names.field(n, "--ignore")));
+    let requested: Map<number, string> | undefined;
+    if (options.columns) {
+      requested = new Map();
+      for (const name of options.columns) {
+        const f = names.field(name, undefined);
+        if (ignored.has(f)) throw new UsageError(`--ignore: column "${header[f]}" is left out with --ignore but is needed (asked for as "${name}"); remove it from --ignore`);
+        const other = requested.get(f);
+        if (other !== undefined && other !== name) {
+          throw new UsageError(`the names "${other}" and "${name}" differ only in their Unicode form and both match column ${f + 1} ("${header[f]}"); use one spelling`);
+        }
+        requested.set(f, name);
+      }
+    }
     this.fieldToColumn = new Int32Array(header.length).fill(-1);
     this.names = [];
     header.forEach((name, f) => {
-      if (keep && !keep.has(name)) return;
+      if ((f === 0 && rowLabels) || ignored.has(f)) return;
+      const as = requested ? requested.get(f) : name;
+      if (as === undefined) return;
+      if (as !== name) {
+        this.headerNotes.push(
+          `column "${name}" is written in another Unicode form in the file than "${as}" (${unicodeForms(name, as)}); they were matched after normalising both to NFC, and the column is called "${as}"`,
+        );
+      }
       this.fieldToColumn[f] = this.names.length;
-      this.names.push(name);
+      this.names.push(as);
+    });
+    if (rowLabels) this.headerNotes.push(`column 1 has no name: it was read as row labels (as R's write.csv writes them) and left out`);
+
+    // Declarations, by header field (checked for every column of the header, kept or not).
+    const typeOf = new Map<number, VariableType>();
+    const levelsOf = new Map<number, readonly string[]>();
+    const codesOf = new Map<number, string[]>();
+    for (const [name, type] of Object.entries(options.types ?? {})) {
+      const f = names.field(name, "--types");
+      if (typeOf.has(f)) throw new UsageError(`--types: column "${header[f]}" is given twice; give it once`);
+      typeOf.set(f, type);
+    }
+    for (const [name, list] of Object.entries(options.levels ?? {})) {
+      const f = names.field(name, "--levels");
+      if (levelsOf.has(f)) throw new UsageError(`--levels: column "${header[f]}" is given twice; give it once`);
+      checkLevelDeclaration(header[f]!, list, typeOf.get(f), this.decimalComma);
+      levelsOf.set(f, list);
+    }
+    for (const [name, list] of Object.entries(options.missingByColumn ?? {})) {
+      const f = names.field(name, "--missing");
+      codesOf.set(f, [...(codesOf.get(f) ?? []), ...list]);
+    }
+    const shared = [...DEFAULT_MISSING_CODES, ...(options.missing ?? [])].map((s) => s.trim());
+    const sharedText = new Set(shared);
+    const sharedNumbers = this.numericCodes(shared);
+    this.fieldToColumn.forEach((c, f) => {
+      if (c < 0) return;
+      this.declaredTypes[c] = typeOf.get(f);
+      this.declaredLevels[c] = levelsOf.get(f);
+      const own = codesOf.get(f);
+      if (own === undefined) {
+        this.textMissing[c] = sharedText;
+        this.numericMissing[c] = sharedNumbers;
+      } else {
+        const all = [...shared, ...own.map((s) => s.trim())];
+        this.textMissing[c] = new Set(all);
+        this.numericMissing[c] = this.numericCodes(all);
+      }
     });
     const k = this.names.length;
     this.missingCount = new Float64Array(k);
@@ -144,13 +231,16 @@ export class ColumnBuilder {
       this.labels.push([]);
       this.firstTexts.push([]);
     }
-    const codes = [...DEFAULT_MISSING_CODES, ...(options.missing ?? [])].map((s) => s.trim());
-    this.textMissing = new Set(codes);
-    this.numericMissing = [];
+  }
+
+  /** The distinct numbers among missing codes (codes that parse as numbers). */
+  private numericCodes(codes: readonly string[]): number[] {
+    const out: number[] = [];
     for (const code of codes) {
       const v = parseNumberText(code, this.decimalComma);
-      if (v !== undefined && !this.numericMissing.includes(v)) this.numericMissing.push(v);
+      if (v !== undefined && !out.includes(v)) out.push(v);
     }
+    return out;
   }
 
   /**
@@ -242,7 +332,7 @@ export class ColumnBuilder {
         if (this.overflow[c] === 0) {
           this.overflow[c] = 1;
           this.distinctN[c] = TRACK_LIMIT;
-          if (this.numericMissing.length === 0) this.plain[c] = 1;
+          if (this.numericMissing[c]!.length === 0) this.plain[c] = 1;
         }
       } else {
         const d = s.distinct[c]!;
@@ -311,7 +401,7 @@ export class ColumnBuilder {
 
   /** A number cell (already parsed). */
   num(c: number, v: number): void {
-    const nm = this.numericMissing;
+    const nm = this.numericMissing[c]!;
     if (nm.length > 0 && nm.includes(v)) {
       this.miss(c);
       return;
@@ -329,7 +419,7 @@ export class ColumnBuilder {
   /** A cell given as text (untrimmed): classified as missing, number or text. */
   text(c: number, raw: string): void {
     const t = raw.trim();
-    if (this.textMissing.has(t)) {
+    if (this.textMissing[c]!.has(t)) {
       this.miss(c);
       return;
     }
@@ -371,7 +461,7 @@ export class ColumnBuilder {
     if (n === TRACK_LIMIT - 1) {
       this.overflow[c] = 1;
       this.distinctN[c] = TRACK_LIMIT;
-      if (this.numericMissing.length === 0) this.plain[c] = 1;
+      if (this.numericMissing[c]!.length === 0) this.plain[c] = 1;
       return;
     }
     d[n] = v;
@@ -406,6 +496,7 @@ export class ColumnBuilder {
       warnings.push(`${this.blankLines} blank line${this.blankLines === 1 ? " was" : "s were"} skipped`);
     }
     if (this.rows === 0) warnings.push("the file has a header but no data rows");
+    warnings.push(...this.headerNotes);
     const columns: Column[] = [];
     for (let c = 0; c < this.names.length; c++) {
       columns.push(this.finishColumn(c, warnings));
@@ -431,17 +522,22 @@ export class ColumnBuilder {
     const missing = this.missingCount[c]!;
     const nText = this.textCount[c]!;
     const observed = this.rows - missing;
-    const declaredLevels = this.options.levels?.[name];
-    let declared = this.options.types?.[name];
+    const declaredLevels = this.declaredLevels[c];
+    let declared = this.declaredTypes[c];
     if (declared === undefined && declaredLevels !== undefined) {
       declared = declaredLevels.length === 2 ? "binary" : "ordinal";
     }
+    // Numeric codes for "unknown" left among the numbers (read before the values become level scores).
+    if (nText === 0 && observed > 0) this.noteSentinels(c, values, warnings);
     if (declared === "continuous") {
       if (nText > 0) this.strayTextError(c, true);
       return { name, type: "continuous", typeSource: "declared", values, missing };
     }
     if (declared !== undefined) {
-      return this.categorical(c, name, declared, "declared", values, texts, missing, declaredLevels, warnings);
+      const notes: string[] = [];
+      const column = this.categorical(c, name, declared, "declared", values, texts, missing, declaredLevels, notes);
+      warnings.push(...notes, ...this.highCardinalityNote(column));
+      return column;
     }
     const inferred = inferType({
       name,
@@ -453,11 +549,81 @@ export class ColumnBuilder {
       distinctTexts: this.labels[c]!.length,
     });
     if (inferred.kind === "strayText") this.strayTextError(c, false);
-    if (inferred.note) warnings.push(inferred.note);
+    if (nText > 0) this.decimalCommaCheck(c, texts!);
     if (inferred.type === "continuous") {
+      if (inferred.note) warnings.push(inferred.note);
       return { name, type: "continuous", typeSource: "inferred", values, missing };
     }
-    return this.categorical(c, name, inferred.type, "inferred", values, texts, missing, undefined, warnings);
+    const notes: string[] = [];
+    const column = this.categorical(c, name, inferred.type, "inferred", values, texts, missing, undefined, notes);
+    const high = this.highCardinalityNote(column);
+    // The high-cardinality warning says more than the identifier note, so it replaces it.
+    const id = identifierNote(name, this.labels[c]!.length, observed);
+    const note = high.length > 0 ? inferred.note?.replace(`; ${id}`, "").replace(id, "") : inferred.note;
+    if (note) warnings.push(note);
+    warnings.push(...notes, ...high);
+    return column;
+  }
+
+  /** The header field (0-based) of kept column c. */
+  private fieldOf(c: number): number {
+    return this.fieldToColumn.indexOf(c);
+  }
+
+  /** Warn about sentinel values far outside a numeric column's other values (see `findSentinelCodes`). */
+  private noteSentinels(c: number, values: Float64Array, warnings: string[]): void {
+    const name = this.names[c]!;
+    for (const f of findSentinelCodes(values, this.rows)) {
+      const code = numberLabel(f.value, this.decimalComma);
+      const fmt = (v: number) => numberLabel(Number(v.toPrecision(6)), this.decimalComma);
+      warnings.push(
+        `column "${name}" has ${f.cells} cell${f.cells === 1 ? "" : "s"} of ${code}, beyond its other values (${fmt(f.min)} to ${fmt(f.max)}) by more than their interquartile range (${fmt(f.iqr)}); ${code} is a common code for "unknown": if it is one here, declare it with --missing ${JSON.stringify(`${quoteName(name)}=${code}`)}`,
+      );
+    }
+  }
+
+  /** The high-cardinality warning of a finished categorical column (see `findHighCardinalityColumns`), or none. */
+  private highCardinalityNote(column: Column): string[] {
+    const found = highCardinality(column);
+    if (!found) return [];
+    const name = quoteName(column.name);
+    const numeric = column.levels!.every((l) => parseNumberText(l, this.decimalComma) !== undefined);
+    return [
+      `column "${column.name}" has ${found.levels} levels among ${found.observed} observed rows (more than half of them, and more than ${HIGH_CARDINALITY_MIN_LEVELS}), like an identifier, so claims that involve it cannot be tested; leave it out (--ignore ${name}, or --unmeasured ${name} when it is a graph node)${numeric ? `, or, if its values are measurements, declare --types ${name}=continuous` : ""}`,
+    ];
+  }
+
+  /**
+   * In a semicolon- or tab-separated file read with a decimal point, stop at a column whose text
+   * cells are mostly numbers written with a decimal comma (`12,5`): read as text they would make
+   * a measurement a nominal variable with a level per value. A *decimal-comma cell* is a text
+   * cell matching `[+-]digits,digits`; the column is refused when at least one such cell exists
+   * and they are more than half of its text cells. Cost: O(rows) when a label matches, else O(labels).
+   * @throws DataError naming the column, the first such cell and its line, and the fix
+   */
+  private decimalCommaCheck(c: number, texts: Int32Array): void {
+    if (this.decimalComma || (this.options.delimiter !== ";" && this.options.delimiter !== "\t")) return;
+    const labels = this.labels[c]!;
+    const isDecimal = labels.map((t) => DECIMAL_COMMA_CELL.test(t));
+    if (!isDecimal.includes(true)) return;
+    let cells = 0;
+    let firstRow = -1;
+    for (let i = 0; i < this.rows; i++) {
+      const t = texts[i]!;
+      if (t >= 0 && isDecimal[t]) {
+        cells++;
+        if (firstRow < 0) firstRow = i;
+      }
+    }
+    if (2 * cells <= this.textCount[c]!) return;
+    const name = this.names[c]!;
+    const line = this.lineOf(firstRow);
+    const example = labels[texts[firstRow]!]!;
+    const delimiter = this.options.delimiter === ";" ? "semicolons" : "tabs";
+    throw new DataError(
+      `${this.where(line)}column "${name}" has ${cells} number${cells === 1 ? "" : "s"} written with a decimal comma ("${example}" on line ${line}) in a file separated by ${delimiter}, but the file is read with a decimal point, which would make them text; read it with --decimal-comma, or, if they are labels, declare --types ${quoteName(name)}=nominal`,
+      { file: this.file, line, column: this.fieldOf(c) + 1 },
+    );
   }
 
   private strayTextError(c: number, declared: boolean): never {
@@ -477,7 +643,7 @@ export class ColumnBuilder {
     hints.push("or fix the file");
     throw new DataError(
       `${this.where(first.line)}column "${name}" has text "${first.text}" among numbers${more}; ${hints.join(", ")}`,
-      { file: this.file, line: first.line, column: this.header.indexOf(name) + 1 },
+      { file: this.file, line: first.line, column: this.fieldOf(c) + 1 },
     );
   }
 
@@ -521,7 +687,7 @@ export class ColumnBuilder {
       if (type === "ordinal" && textSorted.length > 0) {
         throw new DataError(
           `${this.where()}column "${name}" is ordinal but its levels are text (${listLevels(levels)}); give their order low to high with --levels "${name}=${levels.join("|")}"`,
-          { file: this.file, column: this.header.indexOf(name) + 1 },
+          { file: this.file, column: this.fieldOf(c) + 1 },
         );
       }
       levelNumbers = [...nums, ...textSorted.map(() => undefined)];
@@ -529,7 +695,7 @@ export class ColumnBuilder {
     if (type === "binary" && levels.length > 2) {
       throw new DataError(
         `${this.where()}column "${name}" is declared binary but has ${levels.length} distinct values (${listLevels(levels)}); declare it ordinal or nominal`,
-        { file: this.file, column: this.header.indexOf(name) + 1 },
+        { file: this.file, column: this.fieldOf(c) + 1 },
       );
     }
     const { scores, byPosition } = scoreLevels(levelNumbers, type, declaredLevels !== undefined);
@@ -575,7 +741,7 @@ export class ColumnBuilder {
       codes[i] = code;
       out[i] = code < 0 ? NaN : scores[code]!;
     }
-    if (outside !== undefined) this.outsideLevels(name, outside, levels);
+    if (outside !== undefined) this.outsideLevels(c, name, outside, levels);
     return { name, type, typeSource: source, values: out, codes, levels, missing };
   }
 
@@ -584,11 +750,11 @@ export class ColumnBuilder {
    * found by a declaration, as inferred levels hold all values): the first by line, and up to
    * five in all with the line where each first appears.
    */
-  private outsideLevels(name: string, outside: ReadonlyMap<string, number>, levels: readonly string[]): never {
+  private outsideLevels(c: number, name: string, outside: ReadonlyMap<string, number>, levels: readonly string[]): never {
     const found = [...outside].sort((a, b) => a[1] - b[1]);
     const [firstValue, firstRow] = found[0]!;
     const line = this.lineOf(firstRow);
-    const where = { file: this.file, line, column: this.header.indexOf(name) + 1 };
+    const where = { file: this.file, line, column: this.fieldOf(c) + 1 };
     if (found.length === 1) {
       throw new DataError(
         `${this.where(line)}column "${name}" has "${firstValue}", which is not among its levels (${listLevels(levels)}); add it to --levels or declare it with --missing "${firstValue}"`,
@@ -652,48 +818,75 @@ function compareText(a: string, b: string): number {
   return a < b ? -1 : a > b ? 1 : 0;
 }
 
-function checkNamesExist(names: readonly string[], header: Set<string>, flag: string, all: readonly string[]): void {
-  for (const name of names) {
-    if (!header.has(name)) {
-      const shown = all.slice(0, 12).join(", ") + (all.length > 12 ? ", ..." : "");
-      throw new UsageError(`${flag}: column "${name}" is not in the file header (${shown}); check the spelling`);
-    }
+/**
+ * The header's names for lookups by name: a name matches a field when both are equal after
+ * Unicode normalisation to NFC (see `headerNames`); a row-label column has no name to match.
+ */
+class HeaderIndex {
+  private readonly byName = new Map<string, number>();
+  constructor(
+    private readonly header: readonly string[],
+    rowLabels: boolean,
+    private readonly file: string | undefined,
+  ) {
+    header.forEach((name, f) => {
+      if (!(f === 0 && rowLabels)) this.byName.set(name.normalize("NFC"), f);
+    });
+  }
+
+  /**
+   * The field a name matches. `flag` names the option the name came from, for the message.
+   * @throws UsageError for a name that is not in the header (with close names, and a hint when the
+   *   header looks split at the wrong delimiter or, for --missing, when the name may be a code with "=")
+   */
+  field(name: string, flag: string | undefined): number {
+    const f = this.byName.get(name.normalize("NFC"));
+    if (f !== undefined) return f;
+    const all = this.header.filter((n) => n !== "");
+    const shown = all.slice(0, 12).join(", ") + (all.length > 12 ? ", ..." : "");
+    const near = findClosestNames(name, all);
+    const hints = [near.length > 0 ? `did you mean ${near.map((n) => `"${n}"`).join(", ")}?` : "check the spelling"];
+    if (all.length === 1 && /[,;\t]/u.test(all[0]!)) hints.push("the header was read as one column, so the delimiter may be wrong: give it with --delimiter");
+    if (flag === "--missing") hints.push(`a code that holds "=" goes in double quotes (--missing '"${name}=..."')`);
+    const where = this.file !== undefined ? `${this.file}: ` : "";
+    throw new UsageError(`${flag ? flag + ": " : where}column "${name}" is not in the file header (${shown}); ${hints.join("; ")}`);
   }
 }
 
+/** Which Unicode forms two spellings of one name are in, for messages ("NFD in the file, NFC asked for"). */
+function unicodeForms(inFile: string, asked: string): string {
+  const form = (s: string) => (s === s.normalize("NFC") ? "NFC" : s === s.normalize("NFD") ? "NFD" : "another form");
+  return `${form(inFile)} in the file, ${form(asked)} asked for`;
+}
+
 /**
- * Check declared levels before reading: a column declared continuous has no levels, and no
- * level is listed twice, as the same label or as the same number (`1` and `1.0`), since a cell
- * could then belong to either. Cost: O(declared levels).
+ * Check one column's declared levels before reading: a column declared continuous has no levels,
+ * and no level is listed twice, as the same label or as the same number (`1` and `1.0`), since a
+ * cell could then belong to either. Cost: O(declared levels).
  * @throws UsageError naming the column and the clashing declarations
  */
-function checkLevelDeclarations(
-  levels: Readonly<Record<string, readonly string[]>>,
-  types: Readonly<Record<string, VariableType>>,
-  decimalComma: boolean,
-): void {
-  for (const [name, list] of Object.entries(levels)) {
-    if (types[name] === "continuous") {
-      throw new UsageError(`--levels: column "${name}" is declared continuous with --types, and continuous columns have no levels; drop one of the two declarations`);
+function checkLevelDeclaration(name: string, list: readonly string[], type: VariableType | undefined, decimalComma: boolean): void {
+  if (type === "continuous") {
+    throw new UsageError(`--levels: column "${name}" is declared continuous with --types, and continuous columns have no levels; drop one of the two declarations`);
+  }
+  const labels = new Set<string>();
+  const numbers = new Map<number, string>();
+  for (const level of list) {
+    if (labels.has(level)) throw new UsageError(`--levels: column "${name}" lists the level "${level}" twice; list each level once`);
+    labels.add(level);
+    const v = parseNumberText(level.trim(), decimalComma);
+    if (v === undefined) continue;
+    const same = numbers.get(v);
+    if (same !== undefined) {
+      throw new UsageError(`--levels: column "${name}" lists "${same}" and "${level}", which are the same number; list each level once`);
     }
-    const labels = new Set<string>();
-    const numbers = new Map<number, string>();
-    for (const level of list) {
-      if (labels.has(level)) throw new UsageError(`--levels: column "${name}" lists the level "${level}" twice; list each level once`);
-      labels.add(level);
-      const v = parseNumberText(level.trim(), decimalComma);
-      if (v === undefined) continue;
-      const same = numbers.get(v);
-      if (same !== undefined) {
-        throw new UsageError(`--levels: column "${name}" lists "${same}" and "${level}", which are the same number; list each level once`);
-      }
-      numbers.set(v, level);
-    }
+    numbers.set(v, level);
   }
 }
 
 class ColumnTable implements Table {
   private readonly byName: Map<string, Column>;
+  private byNfc: Map<string, Column> | undefined;
   constructor(
     readonly file: string | undefined,
     readonly rows: number,
@@ -702,8 +895,12 @@ class ColumnTable implements Table {
   ) {
     this.byName = new Map(columns.map((col) => [col.name, col]));
   }
+  /** The column of that name; a name in another Unicode form finds it too (compared in NFC). */
   column(name: string): Column | undefined {
-    return this.byName.get(name);
+    const exact = this.byName.get(name);
+    if (exact !== undefined) return exact;
+    if (this.byNfc === undefined) this.byNfc = new Map(this.columns.map((col) => [col.name.normalize("NFC"), col]));
+    return this.byNfc.get(name.normalize("NFC"));
   }
 }
 

@@ -9,8 +9,13 @@
  * the correctly rounded result (Clinger 1990, "How to read floating point numbers accurately",
  * PLDI '90, fast path). Any other cell (text, more digits, larger exponents, surrounding spaces)
  * is decoded and handed to the builder's text path, so both paths give identical values.
+ *
+ * Every byte that is not a number is decoded as text in a cell, or, in a skipped column, checked
+ * for a high bit or a NUL; so a NUL byte or invalid UTF-8 anywhere in the records is refused with
+ * its line (see `textBytes`) at no cost to number cells, which are ASCII digits by grammar.
  */
 import type { ColumnBuilder } from "./columnBuilder.js";
+import { findNonTextByte, nonTextError } from "./textBytes.js";
 
 const LF = 10;
 const QUOTE = 34;
@@ -25,6 +30,7 @@ const MAX_INT_DIGITS = 9;
 const SIGN = Float64Array.of(1, -1);
 const POW10 = Float64Array.from({ length: 23 }, (_, i) => Number(`1e${i}`));
 const utf8 = new TextDecoder("utf-8");
+const strictUtf8 = new TextDecoder("utf-8", { fatal: true });
 
 /** Decode bytes [start, end) as UTF-8 (short ASCII runs without TextDecoder). */
 export function decodeBytes(buf: Uint8Array, start: number, end: number): string {
@@ -38,6 +44,26 @@ export function decodeBytes(buf: Uint8Array, start: number, end: number): string
     return s;
   }
   return utf8.decode(buf.subarray(start, end));
+}
+
+/**
+ * Decode the text cell buf[start, end) of column `c` (or of a skipped column, c < 0) as UTF-8.
+ * Cost: O(end − start).
+ * @throws DataError (not UTF-8 text) for a NUL byte or invalid UTF-8, naming the file, line and column
+ */
+export function decodeCell(buf: Uint8Array, start: number, end: number, b: ColumnBuilder, c: number): string {
+  let ascii = true;
+  for (let i = start; i < end; i++) {
+    const x = buf[i]!;
+    if (x === 0 || x >= 0x80) {
+      ascii = false;
+      break;
+    }
+  }
+  if (ascii) return decodeBytes(buf, start, end);
+  const bad = findNonTextByte(buf, start, end);
+  if (bad) throw nonTextError(b.file, b.line, bad, buf, c >= 0 ? b.names[c] : undefined);
+  return strictUtf8.decode(buf.subarray(start, end));
 }
 
 /**
@@ -121,7 +147,13 @@ export function scanUnquotedRecords(
           x = buf[q]!;
         }
       } else {
-        while (x !== delim && x !== LF) x = buf[++q]!;
+        // A skipped column: only checked to be text (a high bit or a NUL sends it to decodeCell).
+        let odd = 0;
+        while (x !== delim && x !== LF) {
+          odd |= (x & 0x80) | +(x === 0);
+          x = buf[++q]!;
+        }
+        if (odd !== 0) decodeCell(buf, p, q, b, -1);
       }
       f++;
       if (x === delim) {
@@ -198,7 +230,7 @@ function scanOtherCell(buf: Uint8Array, p: number, b: ColumnBuilder, c: number, 
       if (neg) v = -v;
       b.num(c, v);
     } else {
-      b.text(c, decodeBytes(buf, p, q));
+      b.text(c, decodeCell(buf, p, q, b, c));
     }
     return q;
   }
@@ -208,7 +240,7 @@ function scanOtherCell(buf: Uint8Array, p: number, b: ColumnBuilder, c: number, 
   }
   let y = buf[q]!;
   while (y !== delim && y !== LF) y = buf[++q]!;
-  b.text(c, decodeBytes(buf, p, q));
+  b.text(c, decodeCell(buf, p, q, b, c));
   return q;
 }
 

@@ -2,9 +2,22 @@ export type { Column, Table, VariableType } from "./Table.js";
 export { CATEGORICAL_TYPES } from "./Table.js";
 export type { DesignColumn, Moments, PatternMoments } from "./Moments.js";
 export { readTable } from "./readTable.js";
-export { readHeader } from "./readHeader.js";
+export { decodeHead, readHeader } from "./readHeader.js";
 export { createTable, type CellValue, type CreateTableOptions } from "./createTable.js";
-export { DEFAULT_MISSING_CODES, parseLevelDeclarations, parseMissingCodes, parseTypeDeclarations, type ReadOptions } from "./readOptions.js";
+export {
+  DEFAULT_MISSING_CODES,
+  parseLevelDeclarations,
+  parseMissingCodes,
+  parseMissingSpec,
+  parseNameList,
+  parseTypeDeclarations,
+  splitOptionList,
+  type MissingSpec,
+  type ReadOptions,
+} from "./readOptions.js";
 export { inferType } from "./inferType.js";
 export { buildPatternMoments, type PatternMomentsOptions } from "./buildPatternMoments.js";
 export { midRanks, rankColumns } from "./rankColumns.js";
+export { findHighCardinalityColumns, highCardinality, HIGH_CARDINALITY_MIN_LEVELS } from "./findHighCardinalityColumns.js";
+export { findSentinelCodes, SENTINEL_VALUES, type SentinelFinding } from "./findSentinelCodes.js";
+export { findNonTextByte } from "./textBytes.js";

@@ -13,6 +13,7 @@
  * 6. text (possibly mixed with a minority of numbers): nominal; more than 20 levels covering
  *    more than half the observed cells is noted as a likely identifier.
  */
+import { quoteName } from "./readOptions.js";
 import type { VariableType } from "./Table.js";
 
 /** Share of number cells among observed cells from which remaining text cells are stray text. */
@@ -69,12 +70,18 @@ export function inferType(s: ColumnSummary): InferredType {
   if (s.numbers > 0) {
     notes.push(`column "${s.name}" mixes numbers and text (${s.texts} text cells); read as nominal`);
   }
-  if (s.distinctTexts > 20 && s.distinctTexts > 0.5 * s.observed) {
-    notes.push(
-      `column "${s.name}" has ${s.distinctTexts} distinct texts in ${s.observed} rows and looks like an identifier; leave it out with --columns`,
-    );
-  }
+  if (s.distinctTexts > 20 && s.distinctTexts > 0.5 * s.observed) notes.push(identifierNote(s.name, s.distinctTexts, s.observed));
   return notes.length > 0
     ? { kind: "type", type: "nominal", note: notes.join("; ") }
     : { kind: "type", type: "nominal" };
+}
+
+/**
+ * The note for a text column that looks like an identifier (rule 6), naming the options that
+ * leave it out. Cost: O(1).
+ * @example identifierNote("pid", 30, 30)
+ */
+export function identifierNote(name: string, distinctTexts: number, observed: number): string {
+  const n = quoteName(name);
+  return `column "${name}" has ${distinctTexts} distinct texts in ${observed} rows and looks like an identifier; leave it out with --ignore ${n} (or, if it is a graph node, take it out of the graph or declare it unmeasured with --unmeasured ${n})`;
 }

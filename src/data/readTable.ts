@@ -17,8 +17,10 @@ import Papa from "papaparse";
 import { DataError, UsageError } from "../errors.js";
 import { ColumnBuilder } from "./columnBuilder.js";
 import { decodeBytes, scanUnquotedRecords } from "./fastNumericScan.js";
+import { checkHeaderNames } from "./headerNames.js";
 import type { ReadOptions } from "./readOptions.js";
 import type { Table } from "./Table.js";
+import { assertText, findNonTextByte, lineAt, nonTextError, transcodeUtf16, utf16ByteOrderMark } from "./textBytes.js";
 
 const LF = 10;
 const CR = 13;
@@ -36,18 +38,21 @@ export interface ReadHints {
 }
 
 /**
- * Read a table from the bytes of a delimited text file (UTF-8, optional BOM), given whole or
- * as a stream of chunks. Cells are parsed once into typed columns (Float64Array values,
+ * Read a table from the bytes of a delimited text file (UTF-8, optional BOM; UTF-16 with its
+ * byte-order mark is transcoded first, see `textBytes`), given whole or as a stream of chunks. Cells are parsed once into typed columns (Float64Array values,
  * Int32Array codes for categorical columns); types are inferred unless declared (see
  * `inferType`), missing codes are described in `readOptions`, declared levels set the level
  * order and the scores as described in `columnBuilder`. Never mutates the input bytes.
  * Cost: O(bytes) time; memory O(rows · columns) for the columns plus one chunk.
  * Source: RFC 4180 (Shafranovich 2005) for the dialect.
- * @throws DataError for an empty file, empty or duplicate column names, ragged rows, bad quoting,
- *   stray text among numbers, text levels of an ordinal column without --levels, values outside
- *   declared levels
+ * @throws DataError for an empty file, a header without data rows, bytes that are not UTF-8
+ *   text (a NUL byte, invalid UTF-8), empty or duplicate column names (also in two Unicode
+ *   forms), ragged rows, bad quoting, stray text among numbers, numbers written with a decimal
+ *   comma without `decimalComma`, text levels of an ordinal column without --levels, values
+ *   outside declared levels
  * @throws UsageError for contradictory options (a level listed twice, levels for a continuous
- *   column, --decimal-comma with a comma delimiter) or option names not in the header
+ *   column, --decimal-comma with a comma delimiter or on a comma-separated file, a column both
+ *   kept and ignored) or option names not in the header
  * @example await readTable(new TextEncoder().encode("a,b\n1,x\n2,y\n"), { file: "t.csv" }) // 2 rows, a binary, b binary
  */
 export async function readTable(
@@ -57,18 +62,30 @@ export async function readTable(
 ): Promise<Table> {
   const file = options.file;
   const where = (line?: number) => `${file ?? "data"}${line === undefined ? "" : ":" + line}: `;
-  const it = chunksOf(source)[Symbol.asyncIterator]();
+  const it = textChunks(source, file)[Symbol.asyncIterator]();
 
-  // Head: enough bytes for the header record and a sample of rows.
+  // Head: enough bytes for the header record and a sample of rows. The chunks are joined, and
+  // the header looked for, each time the head has doubled, so a long header in small chunks
+  // costs O(bytes), not O(bytes²).
   let head: Uint8Array = new Uint8Array(0);
+  let pending: Uint8Array[] = [];
+  let pendingBytes = 0;
   let done = false;
   let plan: TablePlan | undefined;
   for (;;) {
-    plan = planTable(head, done, options);
-    if (plan) break;
+    if (done || pendingBytes >= Math.max(SAMPLE_BYTES - head.length, head.length)) {
+      head = concatAll([head, ...pending]);
+      pending = [];
+      pendingBytes = 0;
+      plan = planTable(head, done, options);
+      if (plan) break;
+    }
     const next = await it.next();
     if (next.done) done = true;
-    else head = concat(head, next.value);
+    else {
+      pending.push(next.value);
+      pendingBytes += next.value.length;
+    }
   }
   const { delimiter, lineEnd, headerEnd } = plan;
   const builder = createBuilder(plan, options);
@@ -149,13 +166,30 @@ export async function readTable(
       (papa as PapaFeeder).finish();
     }
   }
+  return finishTable(builder);
+}
+
+/**
+ * The table of a finished read. Cost: as {@link ColumnBuilder.finish}.
+ * @throws DataError when the file has a header but no data rows (naming the file)
+ */
+export function finishTable(builder: ColumnBuilder): Table {
+  if (builder.rows === 0) {
+    const blank = builder.blankLines > 0 ? ` (only ${builder.blankLines} blank line${builder.blankLines === 1 ? "" : "s"})` : "";
+    throw new DataError(
+      `${builder.file ?? "data"}: the file has a header line but no data rows${blank}; give a file with one row per participant below the header`,
+      { file: builder.file, line: 2 },
+    );
+  }
   return builder.finish();
 }
 
 /** Where the data start and how the file is written, from its first bytes. */
 export interface TablePlan {
-  /** Header field names (trimmed), in file order. */
+  /** Header field names (trimmed), in file order; a row-label column's name is "". */
   names: string[];
+  /** Whether the first field is an unnamed row-label column (see `headerNames`), left out of the table. */
+  rowLabels: boolean;
   delimiter: Delimiter;
   lineEnd: "\n" | "\r";
   /** Index of the byte that ends the header (its line end), or the head's length. */
@@ -170,8 +204,10 @@ export interface TablePlan {
 /**
  * Read the header and dialect from the first bytes of a file: undefined while `head` is too
  * short to decide (fewer than 64 KiB and not the whole file, `complete` false). Cost: O(head).
- * @throws DataError for an empty file or first line, an unnamed or repeated column name
- * @throws UsageError for --decimal-comma with a comma delimiter
+ * @throws DataError for an empty file or first line, a header that is not UTF-8 text, an unnamed
+ *   or repeated column name (see `checkHeaderNames`)
+ * @throws UsageError for --decimal-comma with a comma delimiter, or without a delimiter on a
+ *   file whose header is separated by commas
  * @example planTable(new TextEncoder().encode("a;b\n1;2\n"), true, {})?.delimiter // ";"
  */
 export function planTable(head: Uint8Array, complete: boolean, options: ReadOptions): TablePlan | undefined {
@@ -198,6 +234,7 @@ export function planTable(head: Uint8Array, complete: boolean, options: ReadOpti
   let bom = 0;
   if (head[0] === 0xef && head[1] === 0xbb && head[2] === 0xbf) bom = 3;
   if (headerEnd < bom) headerEnd = bom;
+  assertText(head, bom, headerEnd, file, 1);
   const headerText = decodeBytes(head, bom, headerEnd);
   if (headerText.trim() === "") {
     throw new DataError(
@@ -210,29 +247,18 @@ export function planTable(head: Uint8Array, complete: boolean, options: ReadOpti
   const sampleEnd = done ? head.length : head.lastIndexOf(lineEnd === "\n" ? LF : CR) + 1;
   const sampleText = decodeBytes(head, bom, Math.max(sampleEnd, headerEnd));
   const delimiter = options.delimiter ?? detectDelimiter(sampleText, lineEnd, decimalComma, !done);
-  const header = Papa.parse<string[]>(headerText, { delimiter, newline: lineEnd }).data[0] ?? [];
-  const names = header.map((s) => s.trim());
-  const firstIndex = new Map<string, number>();
-  names.forEach((name, i) => {
-    if (name === "") {
-      throw new DataError(`${where(1)}column ${i + 1} has no name; name every column in the header line`, {
-        file,
-        line: 1,
-        column: i + 1,
-      });
-    }
-    const prev = firstIndex.get(name);
-    if (prev !== undefined) {
-      throw new DataError(
-        `${where(1)}column name "${name}" appears twice (columns ${prev + 1} and ${i + 1}); make the names unique`,
-        { file, line: 1, column: i + 1 },
-      );
-    }
-    firstIndex.set(name, i);
-  });
+  const fieldsBy = (d: Delimiter) => (Papa.parse<string[]>(headerText, { delimiter: d, newline: lineEnd }).data[0] ?? []).map((s) => s.trim());
+  const fields = fieldsBy(delimiter);
+  if (decimalComma && options.delimiter === undefined && fields.length === 1 && fieldsBy(",").length > 1) {
+    throw new UsageError(
+      `${where(1)}--decimal-comma is for files separated by semicolons or tabs, but this header is separated by commas (${clip(headerText)}); drop --decimal-comma (a comma-separated file writes decimals with a point), or save the file with semicolons`,
+    );
+  }
+  const { rowLabels } = checkHeaderNames(fields, file);
   const nl = lineEnd === "\n" ? LF : CR;
   return {
-    names,
+    names: fields,
+    rowLabels,
     delimiter,
     lineEnd,
     headerEnd,
@@ -252,10 +278,14 @@ export function createBuilder(plan: TablePlan, options: ReadOptions): ColumnBuil
   return new ColumnBuilder(plan.names, {
     file: options.file,
     decimalComma: options.decimalComma ?? false,
+    delimiter: plan.delimiter,
+    rowLabels: plan.rowLabels,
     missing: options.missing,
+    missingByColumn: options.missingByColumn,
     types: options.types,
     levels: options.levels,
     columns: options.columns,
+    ignore: options.ignore,
   });
 }
 
@@ -272,9 +302,11 @@ export function estimateRecords(plan: TablePlan, bytes: number): number {
 
 /** Hands records to the builder from papaparse's incremental parser, keeping line numbers. */
 class PapaFeeder {
-  private readonly decoder = new TextDecoder("utf-8");
+  private readonly decoder = new TextDecoder("utf-8", { fatal: true });
   private readonly parser: Papa.Parser;
   private text = "";
+  /** The bytes of a character cut at the end of the last chunk (at most 3), which the decoder holds back. */
+  private pending: Uint8Array = new Uint8Array(0);
   private rowStart = 0;
   private readonly nl: string;
 
@@ -295,14 +327,38 @@ class PapaFeeder {
 
   feed(bytes: Uint8Array): void {
     if (bytes.length === 0) return;
-    this.text += this.decoder.decode(bytes, { stream: true });
+    this.append(bytes, false);
     this.run(true);
   }
 
   finish(): void {
-    this.text += this.decoder.decode();
+    this.append(new Uint8Array(0), true);
     this.run(true);
     if (this.text.length > 0) this.run(false);
+  }
+
+  /**
+   * Decode bytes as UTF-8 text onto the unparsed text, refusing a NUL byte or invalid UTF-8 with
+   * the line of the first bad byte (the lines of the unparsed text are counted from `line`).
+   */
+  private append(bytes: Uint8Array, last: boolean): void {
+    let piece: string | undefined;
+    try {
+      piece = this.decoder.decode(bytes, { stream: !last });
+    } catch {
+      piece = undefined;
+    }
+    // The decoder holds back a character cut at the end of a chunk; keep the same bytes, to find a bad byte among them.
+    const joined = this.pending.length > 0 ? concat(this.pending, bytes) : bytes;
+    const complete = last ? joined.length : joined.length - incompleteSuffix(joined);
+    if (piece === undefined || piece.includes("\0")) {
+      const bad = findNonTextByte(joined, 0, complete) ?? { at: complete, kind: "invalid" as const };
+      let line = this.line;
+      for (let i = this.text.indexOf(this.nl); i >= 0; i = this.text.indexOf(this.nl, i + 1)) line++;
+      throw nonTextError(this.builder.file, lineAt(joined, 0, bad.at, line, this.nl.charCodeAt(0)), bad, joined);
+    }
+    this.pending = joined.slice(complete);
+    this.text += piece;
   }
 
   private run(ignoreLastRow: boolean): void {
@@ -350,8 +406,9 @@ class PapaFeeder {
 
 /**
  * Choose the delimiter among comma, semicolon and tab. Preferred, in order: a header of more
- * than one field that most sampled rows match; all rows matching the header; more header
- * fields; then the order comma, semicolon, tab. Cost: O(sample).
+ * than one field (a header that splits at a candidate is split at it, even when the rows are
+ * ragged, so that a ragged row is reported as such); one that most sampled rows match; all rows
+ * matching the header; more header fields; then the order comma, semicolon, tab. Cost: O(sample).
  */
 function detectDelimiter(sample: string, newline: "\n" | "\r", decimalComma: boolean, truncated: boolean): Delimiter {
   let best: Delimiter = decimalComma ? ";" : ",";
@@ -365,7 +422,7 @@ function detectDelimiter(sample: string, newline: "\n" | "\r", decimalComma: boo
     if (rows.length === 0) continue;
     const count = rows[0]!.length;
     const matching = rows.filter((r) => r.length === count).length;
-    const score = (count > 1 && 2 * matching > rows.length ? 2e6 : 0) + (matching === rows.length ? 1e6 : 0) + count;
+    const score = (count > 1 ? 4e6 : 0) + (count > 1 && 2 * matching > rows.length ? 2e6 : 0) + (matching === rows.length ? 1e6 : 0) + count;
     if (score > bestScore) {
       bestScore = score;
       best = cand;
@@ -385,6 +442,25 @@ function findRecordEnd(buf: Uint8Array, byte: number): number {
   return -1;
 }
 
+/** A header line for a message: quoted, at most 60 characters. */
+function clip(text: string): string {
+  const t = text.trim();
+  return JSON.stringify(t.length > 60 ? `${t.slice(0, 57)}...` : t);
+}
+
+/** Length (0 to 3) of a UTF-8 sequence that starts near the end of `buf` and needs more bytes than remain. */
+function incompleteSuffix(buf: Uint8Array): number {
+  for (let k = 1; k <= 3 && k <= buf.length; k++) {
+    const b = buf[buf.length - k]!;
+    if (b < 0x80) return 0;
+    if (b >= 0xc0) {
+      const need = b >= 0xf0 ? 4 : b >= 0xe0 ? 3 : 2;
+      return need > k ? k : 0;
+    }
+  }
+  return 0;
+}
+
 function countByte(buf: Uint8Array, byte: number, start: number, end: number): number {
   let n = 0;
   for (let i = start; i < end; i++) if (buf[i] === byte) n++;
@@ -395,6 +471,44 @@ function concat(a: Uint8Array, b: Uint8Array): Uint8Array {
   const out = new Uint8Array(a.length + b.length);
   out.set(a, 0);
   out.set(b, a.length);
+  return out;
+}
+
+/** The input as UTF-8 chunks: as given, or transcoded when it opens with a UTF-16 byte-order mark. */
+async function* textChunks(source: Uint8Array | AsyncIterable<Uint8Array>, file: string | undefined): AsyncIterable<Uint8Array> {
+  const it = chunksOf(source)[Symbol.asyncIterator]();
+  let first: Uint8Array = new Uint8Array(0);
+  let ended = false;
+  while (first.length < 2) {
+    const next = await it.next();
+    if (next.done) {
+      ended = true;
+      break;
+    }
+    first = concat(first, next.value);
+  }
+  async function* rest(): AsyncIterable<Uint8Array> {
+    if (first.length > 0) yield first;
+    if (ended) return;
+    for (;;) {
+      const next = await it.next();
+      if (next.done) return;
+      yield next.value;
+    }
+  }
+  const encoding = utf16ByteOrderMark(first);
+  if (encoding) yield* transcodeUtf16(rest(), encoding, file);
+  else yield* rest();
+}
+
+function concatAll(parts: readonly Uint8Array[]): Uint8Array {
+  if (parts.length === 1) return parts[0]!;
+  const out = new Uint8Array(parts.reduce((n, p) => n + p.length, 0));
+  let at = 0;
+  for (const p of parts) {
+    out.set(p, at);
+    at += p.length;
+  }
   return out;
 }
 

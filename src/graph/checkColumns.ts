@@ -2,8 +2,11 @@
  * Matching graph nodes to data columns.
  *
  * Terms: a graph node is *measured* unless the graph declares it unmeasured or the caller
- * lists it in `options.unmeasured`. Every measured node must be a data column (exact,
- * case-sensitive match). A column that is not a node is *ignored*. For a missing node we
+ * lists it in `options.unmeasured`. Every measured node must be a data column: a case-sensitive
+ * match after Unicode normalisation of both names to NFC (Unicode Standard Annex #15, "Unicode
+ * Normalization Forms"), so `âge` typed as one code point in the graph and as `a` with a
+ * combining circumflex in the file are one name; such pairs are listed in `normalised`. A column
+ * that is not a node is *ignored*. For a missing node we
  * suggest the columns nearest by *edit distance*: the Levenshtein distance (the least number
  * of single-character insertions, deletions and substitutions turning one string into the
  * other; V. I. Levenshtein, 1966, "Binary codes capable of correcting deletions, insertions,
@@ -27,6 +30,8 @@ export interface ColumnCheck {
   ignoredColumns: string[];
   /** Columns whose node is declared unmeasured, in column order: the audit does not use them either. */
   unmeasuredColumns: string[];
+  /** Nodes that match their column only after NFC normalisation (spelled in different Unicode forms). */
+  normalised: { node: string; column: string }[];
 }
 
 /**
@@ -64,7 +69,7 @@ export function findClosestNames(name: string, candidates: readonly string[], li
   candidates.forEach((c, i) => {
     const d = editDistanceIgnoreCase(name, c);
     const allowed = Math.max(2, Math.floor(Math.max(len, Array.from(c).length) / 3));
-    if (d <= allowed && c !== name) scored.push({ c, d, i });
+    if (d <= allowed && c.normalize("NFC") !== name.normalize("NFC")) scored.push({ c, d, i });
   });
   scored.sort((x, y) => x.d - y.d || x.i - y.i);
   return scored.slice(0, limit).map((s) => s.c);
@@ -80,7 +85,7 @@ export function findClosestNames(name: string, candidates: readonly string[], li
  *
  * @throws UnknownNodeError when measured nodes are not columns (one line per missing node, with
  *   up to 3 close column names), or when `options.unmeasured` names a node the graph lacks;
- *   `names` holds the offending names.
+ *   `names` holds the offending names. Names are compared in NFC (see the module comment).
  * @example
  * const g = createGraph({ arrows: [["age", "sbp"]] });
  * checkColumns(g, ["id", "age", "sbp"]).ignoredColumns; // ["id"]
@@ -102,8 +107,9 @@ export function checkColumns(graph: Graph, columns: readonly string[], options: 
   }
   const extraSet = new Set(extra);
   const measured = (n: string) => graph.isMeasured(n) && !extraSet.has(n);
-  const columnSet = new Set(columns);
-  const missing = graph.nodes.filter((n) => measured(n) && !columnSet.has(n));
+  const columnByNfc = new Map(columns.map((c) => [c.normalize("NFC"), c]));
+  const nodeByNfc = new Map(graph.nodes.map((n) => [n.normalize("NFC"), n]));
+  const missing = graph.nodes.filter((n) => measured(n) && !columnByNfc.has(n.normalize("NFC")));
   if (missing.length > 0) {
     const lines = missing.map((n) => {
       const near = findClosestNames(n, columns);
@@ -119,7 +125,12 @@ export function checkColumns(graph: Graph, columns: readonly string[], options: 
       { file: options.file },
     );
   }
-  const ignoredColumns = columns.filter((c) => !graph.hasNode(c));
-  const unmeasuredColumns = columns.filter((c) => graph.hasNode(c) && !measured(c));
-  return { ignoredColumns, unmeasuredColumns };
+  const nodeOf = (c: string) => nodeByNfc.get(c.normalize("NFC"));
+  const ignoredColumns = columns.filter((c) => nodeOf(c) === undefined);
+  const unmeasuredColumns = columns.filter((c) => nodeOf(c) !== undefined && !measured(nodeOf(c)!));
+  const normalised = columns.flatMap((c) => {
+    const node = nodeOf(c);
+    return node !== undefined && node !== c ? [{ node, column: c }] : [];
+  });
+  return { ignoredColumns, unmeasuredColumns, normalised };
 }

@@ -194,12 +194,21 @@ describe("parallelReadTable", () => {
     expect((a as DataError).line).toBe(301);
   });
 
-  it("parallelReadTable reads small files, a header-only file and a one-row file like readTable", async () => {
-    for (const text of ["a,b\n", "a,b\n1,2\n", "a\n1\n\n2\n", generated(50, 3)]) {
+  it("parallelReadTable reads small files and a one-row file like readTable, and refuses a header-only file like it", async () => {
+    for (const text of ["a,b\n1,2\n", "a\n1\n\n2\n", generated(50, 3)]) {
       const path = writeCsv(text);
       const one = await readTable(new TextEncoder().encode(text), { file: path });
       expect(tableSnapshot(await parallelReadTable(path, { file: path }))).toEqual(tableSnapshot(one)); // default: one thread below 16 MiB
       expect(tableSnapshot(await parallelReadTable(path, { file: path }, { minBytes: 0 }))).toEqual(tableSnapshot(one));
+    }
+    // a header-only file (regression: it was a table of zero rows) and one whose rows are all blank, on either path
+    for (const text of ["a,b\n", "a,b\n\n\n"]) {
+      const path = writeCsv(text);
+      const one = await errorOf(readTable(new TextEncoder().encode(text), { file: path }));
+      expect(one).toBeInstanceOf(DataError);
+      expect(one.message).toContain("no data rows");
+      expect((await errorOf(parallelReadTable(path, { file: path }))).message).toBe(one.message);
+      expect((await errorOf(parallelReadTable(path, { file: path }, { minBytes: 0 }))).message).toBe(one.message);
     }
   });
 });

@@ -286,13 +286,13 @@ describe("readTable", () => {
     expect((dup as DataError).column).toBe(3);
   });
 
-  it("readTable reads a header-only file as zero rows, and a one-row file", async () => {
-    const h = await readTable(bytes("a,b\n"));
-    expect(h.rows).toBe(0);
-    expect(h.columns.map((c) => c.name)).toEqual(["a", "b"]);
-    expect(h.warnings.join(" ")).toContain("no data rows");
-    const h2 = await readTable(bytes("a;b"));
-    expect(h2.columns.map((c) => c.name)).toEqual(["a", "b"]);
+  it("readTable refuses a header-only file naming it, and reads a one-row file", async () => {
+    // regression: a header-only file used to give a table of zero rows and an audit that ran on nothing, exit 0
+    const h = await readError(bytes("a,b\n"), { file: "h.csv" });
+    expect(h).toBeInstanceOf(DataError);
+    expect(h.message).toBe("h.csv: the file has a header line but no data rows; give a file with one row per participant below the header");
+    expect((await readError(bytes("a;b"), { file: "h.csv" })).message).toMatch(/^h\.csv: the file has a header line but no data rows/);
+    expect((await readError(bytes("a,b\n\n\n"), { file: "h.csv" })).message).toContain("no data rows (only 2 blank lines)");
     const one = await readTable(bytes("a,b\n1.5,x"));
     expect(one.rows).toBe(1);
     expect(one.column("a")!.values[0]).toBe(1.5);

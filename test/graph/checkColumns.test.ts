@@ -132,6 +132,23 @@ describe("checkColumns", () => {
     expect(e.message).toContain("âge (did you mean age?)");
   });
 
+  it("checkColumns matches a node to a column written in another Unicode form (NFC against NFD, UAX #15) and lists the pair", () => {
+    // regression: the graph's "âge" (U+00E2, NFC) against the file's "âge" (a + U+0302, NFD) gave "âge (did you mean âge?)"
+    const nfc = "\u00e2ge";
+    const nfd = "a\u0302ge";
+    expect(nfc.normalize("NFC")).toBe(nfd.normalize("NFC")); // one name in Unicode's canonical equivalence
+    const g = createGraph({ arrows: [[nfc, "sbp"]] });
+    const r = checkColumns(g, [nfd, "sbp", "id"]);
+    expect(r.ignoredColumns).toEqual(["id"]);
+    expect(r.normalised).toEqual([{ node: nfc, column: nfd }]);
+    const back = checkColumns(createGraph({ arrows: [[nfd, "sbp"]] }), [nfc, "sbp"]);
+    expect(back.normalised).toEqual([{ node: nfd, column: nfc }]);
+    expect(checkColumns(g, [nfc, "sbp"]).normalised).toEqual([]);
+    // a real typo still gets its suggestion, and a name never suggests its own other form
+    expect(errorOf(() => checkColumns(g, ["age", "sbp"])).message).toContain(`${nfc} (did you mean age?)`);
+    expect(findClosestNames(nfc, [nfd, "age"])).toEqual(["age"]);
+  });
+
   it("checkColumns does not modify frozen inputs", () => {
     const columns = Object.freeze(["id", "age", "sbp", "stroke"]);
     const unmeasured = Object.freeze(["sbp"]);
