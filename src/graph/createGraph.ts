@@ -15,7 +15,7 @@ const byCodePoint = (a: string, b: string): number => (a < b ? -1 : a > b ? 1 : 
 /**
  * Build and validate a causal graph from its parts.
  * Duplicate arrows and bidirected edges are merged (callers that want to warn about them check first).
- * Cost: O(V + E log V) (Kahn's algorithm with a sorted ready list).
+ * Cost: O((V + E) log V) (Kahn's algorithm with the ready nodes in a binary heap by name).
  * @throws GraphError for a self-arrow or an empty graph; CycleError naming one directed cycle in full.
  * @example
  * const g = createGraph({ arrows: [["a", "b"], ["b", "c"]] });
@@ -75,23 +75,21 @@ export function createGraph(spec: GraphSpec, pos: SourcePosition = {}): Graph {
     spouses.get(b)!.push(a);
   }
 
-  // Kahn's algorithm; ties broken by name so the order is deterministic.
+  // Kahn's algorithm; ties broken by name so the order is deterministic: the ready node that
+  // comes first by code point is taken next. A heap keeps that O(log V) per node (a sorted list
+  // re-sorted at each step was quadratic for graphs with many roots).
   const indeg = new Map<string, number>();
   for (const n of order) indeg.set(n, parents.get(n)!.length);
-  const ready = order.filter((n) => indeg.get(n) === 0).sort(byCodePoint);
+  const ready = new NameHeap();
+  for (const n of order) if (indeg.get(n) === 0) ready.push(n);
   const topo: string[] = [];
-  while (ready.length > 0) {
-    const n = ready.shift()!;
+  while (ready.size > 0) {
+    const n = ready.pop();
     topo.push(n);
-    const newly: string[] = [];
     for (const c of children.get(n)!) {
       const d = indeg.get(c)! - 1;
       indeg.set(c, d);
-      if (d === 0) newly.push(c);
-    }
-    if (newly.length) {
-      ready.push(...newly);
-      ready.sort(byCodePoint);
+      if (d === 0) ready.push(c);
     }
   }
   if (topo.length < order.length) throw new CycleError(findCycle(order, children, new Set(topo)), pos);
@@ -122,30 +120,81 @@ export function createGraph(spec: GraphSpec, pos: SourcePosition = {}): Graph {
   };
 }
 
-/** One directed cycle among the nodes Kahn's algorithm could not order, first node repeated at the end. */
-function findCycle(order: readonly string[], children: Map<string, string[]>, done: Set<string>): string[] {
-  const state = new Map<string, 1 | 2>(); // 1 on stack, 2 finished
-  const stack: string[] = [];
-  const visit = (n: string): string[] | undefined => {
-    state.set(n, 1);
-    stack.push(n);
-    for (const c of children.get(n)!) {
-      if (done.has(c)) continue;
-      const s = state.get(c);
-      if (s === 1) return [...stack.slice(stack.indexOf(c)), c];
-      if (s === undefined) {
-        const r = visit(c);
-        if (r) return r;
+/** A binary min-heap of node names by code point (the order `byCodePoint` gives). */
+class NameHeap {
+  private readonly items: string[] = [];
+  get size(): number {
+    return this.items.length;
+  }
+  push(name: string): void {
+    const a = this.items;
+    a.push(name);
+    for (let i = a.length - 1; i > 0; ) {
+      const up = (i - 1) >> 1;
+      if (byCodePoint(a[up]!, a[i]!) <= 0) break;
+      [a[up], a[i]] = [a[i]!, a[up]!];
+      i = up;
+    }
+  }
+  /** Remove and return the first name; the heap must not be empty. */
+  pop(): string {
+    const a = this.items;
+    const top = a[0]!;
+    const last = a.pop()!;
+    if (a.length > 0) {
+      a[0] = last;
+      for (let i = 0; ; ) {
+        const l = 2 * i + 1;
+        const r = l + 1;
+        let m = i;
+        if (l < a.length && byCodePoint(a[l]!, a[m]!) < 0) m = l;
+        if (r < a.length && byCodePoint(a[r]!, a[m]!) < 0) m = r;
+        if (m === i) break;
+        [a[m], a[i]] = [a[i]!, a[m]!];
+        i = m;
       }
     }
-    stack.pop();
-    state.set(n, 2);
-    return undefined;
-  };
-  for (const n of order) {
-    if (done.has(n) || state.has(n)) continue;
-    const r = visit(n);
-    if (r) return r;
+    return top;
+  }
+}
+
+/**
+ * One directed cycle among the nodes Kahn's algorithm could not order, first node repeated at
+ * the end: a depth-first search with an explicit stack (a cycle can be hundreds of thousands of
+ * nodes long, deeper than the call stack), which finds the same cycle a recursive search would.
+ */
+function findCycle(order: readonly string[], children: Map<string, string[]>, done: Set<string>): string[] {
+  const state = new Map<string, 1 | 2>(); // 1 on the path, 2 finished
+  const path: string[] = [];
+  const next: number[] = []; // per node on the path: the index of its next child to look at
+  const at = new Map<string, number>(); // position of a node on the path
+  for (const root of order) {
+    if (done.has(root) || state.has(root)) continue;
+    state.set(root, 1);
+    at.set(root, 0);
+    path.push(root);
+    next.push(0);
+    while (path.length > 0) {
+      const top = path.length - 1;
+      const kids = children.get(path[top]!)!;
+      if (next[top]! >= kids.length) {
+        state.set(path[top]!, 2);
+        at.delete(path[top]!);
+        path.pop();
+        next.pop();
+        continue;
+      }
+      const c = kids[next[top]!++]!;
+      if (done.has(c)) continue;
+      const s = state.get(c);
+      if (s === 1) return [...path.slice(at.get(c)!), c];
+      if (s === undefined) {
+        state.set(c, 1);
+        at.set(c, path.length);
+        path.push(c);
+        next.push(0);
+      }
+    }
   }
   return [];
 }

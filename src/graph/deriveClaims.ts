@@ -63,6 +63,27 @@ export interface DerivedClaims {
  * deriveClaims(g).claims; // [{ x: "a", y: "c", given: ["b"] }]
  */
 export function deriveClaims(graph: Graph, options: DeriveClaimsOptions = {}): DerivedClaims {
+  const claims: Claim[] = [];
+  const untestable: UntestableClaim[] = [];
+  const entries = claimEntries(graph, options);
+  for (let r = entries.next(); ; r = entries.next()) {
+    if (r.done) return { claims, untestable, truncatedPairs: r.value.truncatedPairs };
+    if (r.value.kind === "claim") claims.push(r.value.claim);
+    else untestable.push(r.value.untestable);
+  }
+}
+
+/** One entry of the derivation, in order: a claim, or a missing arrow no measured set separates. */
+export type ClaimEntry = { kind: "claim"; claim: Claim } | { kind: "untestable"; untestable: UntestableClaim };
+
+/**
+ * The entries of `deriveClaims` one at a time, in the same order, for callers that write them
+ * out as they come (a graph of 5,000 nodes has 12.5 million missing arrows: the list alone would
+ * fill gigabytes). Returns `{ truncatedPairs }` when done. Memory: O(V + E), whatever the number
+ * of claims. Cost, source and errors: as `deriveClaims` (the errors are thrown by the first `next()`).
+ * @example [...claimEntries(createGraph({ arrows: [["a", "b"], ["b", "c"]] }))] // [{ kind: "claim", claim: { x: "a", y: "c", given: ["b"] } }]
+ */
+export function* claimEntries(graph: Graph, options: DeriveClaimsOptions = {}): Generator<ClaimEntry, { truncatedPairs: number }, undefined> {
   const sets = options.sets ?? "union-parents";
   if (sets !== "union-parents" && sets !== "minimal" && sets !== "all-minimal") {
     throw new UsageError(`unknown separating-set choice "${String(sets)}": use "union-parents", "minimal" or "all-minimal"`);
@@ -76,8 +97,6 @@ export function deriveClaims(graph: Graph, options: DeriveClaimsOptions = {}): D
   for (let i = 0; i < e.userCount; i++) if (e.measured[i]) measured.push(i);
   const hasLatent = e.size > e.userCount || measured.length < e.userCount;
   const restrict = (n: string) => graph.isMeasured(n);
-  const claims: Claim[] = [];
-  const untestable: UntestableClaim[] = [];
   let truncatedPairs = 0;
 
   const adjacent = new Uint8Array(e.userCount); // 1 arrow, 2 only <->
@@ -93,17 +112,20 @@ export function deriveClaims(graph: Graph, options: DeriveClaimsOptions = {}): D
       if (j <= i || adjacent[j] === 1) continue;
       const yName = e.names[j]!;
       if (adjacent[j] === 2) {
-        untestable.push({
-          x: xName,
-          y: yName,
-          reason: `no set of measured variables separates ${JSON.stringify(xName)} and ${JSON.stringify(yName)}: they share the unmeasured common cause ${JSON.stringify(xName)} <-> ${JSON.stringify(yName)}`,
-        });
+        yield {
+          kind: "untestable",
+          untestable: {
+            x: xName,
+            y: yName,
+            reason: `no set of measured variables separates ${JSON.stringify(xName)} and ${JSON.stringify(yName)}: they share the unmeasured common cause ${JSON.stringify(xName)} <-> ${JSON.stringify(yName)}`,
+          },
+        };
         continue;
       }
       if (sets === "union-parents") {
         const given = unionParents(e, i, j);
         if (given !== undefined && (!hasLatent || dSeparatedIndex(e, [i], [j], given))) {
-          claims.push({ x: xName, y: yName, given: given.map((k) => e.names[k]!) });
+          yield { kind: "claim", claim: { x: xName, y: yName, given: given.map((k) => e.names[k]!) } };
           continue;
         }
       }
@@ -111,23 +133,39 @@ export function deriveClaims(graph: Graph, options: DeriveClaimsOptions = {}): D
         const list = listMinimalSeparators(graph, xName, yName, { restrict, cap });
         if (list.truncated) truncatedPairs++;
         if (list.sets.length > 0) {
-          for (const given of list.sets) claims.push({ x: xName, y: yName, given });
+          for (const given of list.sets) yield { kind: "claim", claim: { x: xName, y: yName, given } };
           continue;
         }
       } else {
         const given = findMinimalSeparator(graph, xName, yName, { restrict });
         if (given !== undefined) {
-          claims.push({ x: xName, y: yName, given });
+          yield { kind: "claim", claim: { x: xName, y: yName, given } };
           continue;
         }
       }
-      untestable.push({ x: xName, y: yName, reason: explainInseparable(graph, e, xName, yName) });
+      yield { kind: "untestable", untestable: { x: xName, y: yName, reason: explainInseparable(graph, e, xName, yName) } };
     }
     for (const p of e.parents[i]!) if (p < e.userCount) adjacent[p] = 0;
     for (const c of e.children[i]!) adjacent[c] = 0;
     for (const sp of graph.spouses(xName)) adjacent[e.index.get(sp)!] = 0;
   }
-  return { claims, untestable, truncatedPairs };
+  return { truncatedPairs };
+}
+
+/**
+ * Count-missing-arrows: the number of unordered pairs of measured nodes joined by no arrow (a
+ * pair joined only by `<->` counts), which is the number of entries `deriveClaims` gives with
+ * "union-parents" or "minimal" (one claim or untestable entry each; "all-minimal" may give more).
+ * m(m − 1)/2 for m measured nodes, less the arrows between measured nodes. Exact up to 2⁵³.
+ * Cost: O(V + E), so callers can refuse a graph too large to list before listing it.
+ * @example countMissingArrows(createGraph({ arrows: [["a", "b"], ["b", "c"]] })) // 1 (a and c)
+ */
+export function countMissingArrows(graph: Graph): number {
+  let m = 0;
+  for (const n of graph.nodes) if (graph.isMeasured(n)) m++;
+  let joined = 0;
+  for (const [a, b] of graph.arrows) if (graph.isMeasured(a) && graph.isMeasured(b)) joined++;
+  return (m * Math.max(0, m - 1)) / 2 - joined; // max: no −0 for an empty graph
 }
 
 /** pa(i) ∪ pa(j) in topological order, or undefined when one of them is unmeasured or hidden. */
