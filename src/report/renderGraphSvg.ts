@@ -30,6 +30,9 @@ export interface GraphSvgOptions {
   standalone?: boolean;
 }
 
+/** Said under a drawing made by the simple layout of large graphs (see `chooseLayout`). */
+const LAYOUT_NOTE = "Large graph: nodes placed in layers by their longest path from a source, without crossing reduction; arrows are straight and may pass over nodes.";
+
 /** Round to 0.1 px so output is short and stable across platforms. */
 function n(v: number): string {
   const r = Math.round(v * 10) / 10;
@@ -148,8 +151,10 @@ export function renderGraphSvg(layout: GraphLayout, options: GraphSvgOptions = {
   const title = options.title ?? "Causal graph";
   const withLegend = options.legend ?? true;
   const lg = withLegend ? legend(id, Math.max(layout.width, 560), layout.height + 4) : undefined;
-  const width = Math.ceil(Math.max(layout.width, lg?.width ?? 0));
-  const height = Math.ceil(layout.height + (lg ? lg.height + 8 : 0));
+  const noteText = layout.method === "layered-simple" ? LAYOUT_NOTE : undefined;
+  const noteTop = layout.height + (lg ? lg.height + 8 : 0);
+  const width = Math.ceil(Math.max(layout.width, lg?.width ?? 0, noteText ? estimateTextWidth(noteText, 12) + 28 : 0));
+  const height = Math.ceil(noteTop + (noteText ? 24 : 0));
   const ns = options.standalone ? ` xmlns="http://www.w3.org/2000/svg"` : "";
 
   const arrows = layout.arrows
@@ -185,6 +190,7 @@ export function renderGraphSvg(layout: GraphLayout, options: GraphSvgOptions = {
     markers(id) +
     `<g class="arrows">${arrows}</g><g class="bidirected-edges">${bidirected}</g><g class="nodes">${nodes}</g><g class="contradictions">${contradictions}</g>` +
     (lg ? `<line x1="0" x2="${width}" y1="${n(layout.height + 2)}" y2="${n(layout.height + 2)}" stroke="${INK.rule}"/>` + lg.svg : "") +
+    (noteText ? `<text class="layout-note" x="14" y="${n(noteTop + 12)}" dy="0.35em" font-size="12" fill="${INK.muted}">${escapeXml(noteText)}</text>` : "") +
     `</svg>`
   );
 }
