@@ -1,9 +1,12 @@
 /** File and process plumbing for the CLI; the library in src/ never touches these. */
-import { createHash, randomBytes } from "node:crypto";
-import { closeSync, createReadStream, existsSync, openSync, readSync, readFileSync, renameSync, rmSync, writeFileSync } from "node:fs";
+import { createHash } from "node:crypto";
+import { closeSync, createReadStream, existsSync, openSync, readSync, readFileSync } from "node:fs";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
-import { InputError } from "../src/errors.js";
+import { errnoCode, readFailure } from "./fileErrors.js";
+import { deferTerminationSignals } from "./signals.js";
+import { writeStderr, writeStdout } from "./standardStreams.js";
+import { writeOutputs } from "./writeOutputs.js";
 import { decodeHead } from "../src/data/readHeader.js";
 
 /** Where the CLI writes: injectable so tests capture output in-process. */
@@ -17,16 +20,22 @@ export interface Io {
   cwd: string;
   /** The date written into reports, ISO 8601; tests fix it. */
   now: () => Date;
+  /** Standard input, for `-` as a file name; absent when the caller offers none. */
+  stdin?: AsyncIterable<Uint8Array>;
+  /** Called before output files are written: from then on SIGINT/SIGTERM wait for them (cli/signals.ts). */
+  deferSignals?: () => void;
 }
 
 export const processIo = (): Io => ({
-  stdout: (s) => process.stdout.write(s),
-  stderr: (s) => process.stderr.write(s),
+  stdout: writeStdout,
+  stderr: writeStderr,
   stdoutIsTTY: !!process.stdout.isTTY,
   stderrIsTTY: !!process.stderr.isTTY,
   env: process.env,
   cwd: process.cwd(),
   now: () => (process.env.ARROWAUDIT_DATE ? new Date(process.env.ARROWAUDIT_DATE) : new Date()),
+  stdin: process.stdin,
+  deferSignals: deferTerminationSignals,
 });
 
 /** The project root (the folder holding package.json), from the running module's location. */
@@ -43,12 +52,12 @@ export function toolVersion(): string {
   return (JSON.parse(readFileSync(join(packageRoot(), "package.json"), "utf8")) as { version: string }).version;
 }
 
-/** Read a whole input file, with an error that names it when it cannot be read. */
-export function readInput(path: string, cwd: string): Uint8Array {
+/** Read a whole input file, with an error that names it, its role (`what`) and the cause when it cannot be read. */
+export function readInput(path: string, cwd: string, what = "file"): Uint8Array {
   try {
     return readFileSync(resolve(cwd, path));
   } catch (e) {
-    throw new InputError(`${path}: cannot read the file (${(e as NodeJS.ErrnoException).code ?? "error"}); check the path`, { file: path });
+    throw readFailure(path, e, what);
   }
 }
 
@@ -59,18 +68,9 @@ export async function sha256File(path: string, cwd: string): Promise<string> {
   return h.digest("hex");
 }
 
-/** Write a file atomically: a temporary file beside it, then rename over the target. */
+/** Write one file atomically (a temporary beside it, then a rename); see `writeOutputs` for groups and signals. */
 export function writeAtomic(path: string, cwd: string, content: string): string {
-  const full = resolve(cwd, path);
-  const tmp = join(dirname(full), `.${randomBytes(6).toString("hex")}.arrowaudit.tmp`);
-  try {
-    writeFileSync(tmp, content);
-    renameSync(tmp, full);
-  } catch (e) {
-    rmSync(tmp, { force: true });
-    throw new InputError(`${path}: cannot write the output file (${(e as NodeJS.ErrnoException).code ?? "error"}); check the folder exists and is writable`, { file: path });
-  }
-  return full;
+  return writeOutputs({ cwd }, [{ path, content }]);
 }
 
 /**
@@ -83,7 +83,7 @@ export function readHead(path: string, cwd: string): string {
   try {
     fd = openSync(resolve(cwd, path), "r");
   } catch (e) {
-    throw new InputError(`${path}: cannot read the file (${(e as NodeJS.ErrnoException).code ?? "error"}); check the path`, { file: path });
+    throw readFailure(path, e, "data file");
   }
   try {
     let buf = Buffer.alloc(1 << 20);
@@ -104,6 +104,8 @@ export function readHead(path: string, cwd: string): string {
       buf.copy(grown, 0, 0, n);
       buf = grown;
     }
+  } catch (e) {
+    throw errnoCode(e) === undefined ? e : readFailure(path, e, "data file"); // EISDIR: a folder opens but cannot be read
   } finally {
     closeSync(fd);
   }

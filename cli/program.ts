@@ -143,7 +143,7 @@ export async function run(argv: string[], io: Io): Promise<number> {
       return EXIT.usage;
     }
     const { code, message } = exitFor(e);
-    io.stderr(message.endsWith("\n") ? message : message + "\n");
+    if (message !== "") io.stderr(message.endsWith("\n") ? message : message + "\n"); // "" after EPIPE: stop quietly
     return code;
   }
 }

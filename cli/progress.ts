@@ -24,3 +24,23 @@ export function progressBar(io: Io, quiet: boolean): { update: (done: number, to
     },
   };
 }
+
+/**
+ * A one-line status on stderr for a step that cannot report its progress (such as a layout
+ * computed in one call), on a TTY only, replaced by the next status and cleared by `done`.
+ * No-op functions otherwise.
+ */
+export function statusLine(io: Io, quiet: boolean): { show: (text: string) => void; done: () => void } {
+  if (quiet || !io.stderrIsTTY) return { show: () => {}, done: () => {} };
+  let width = 0;
+  return {
+    show(text) {
+      io.stderr(`\r${text}${" ".repeat(Math.max(0, width - text.length))}`);
+      width = text.length;
+    },
+    done() {
+      if (width > 0) io.stderr("\r" + " ".repeat(width) + "\r");
+      width = 0;
+    },
+  };
+}

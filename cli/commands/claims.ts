@@ -1,37 +1,47 @@
-import { deriveClaims } from "../../src/graph/deriveClaims.js";
+import { claimEntries, deriveClaims } from "../../src/graph/deriveClaims.js";
 import { checkColumns } from "../../src/graph/checkColumns.js";
 import { readHeader } from "../../src/data/readHeader.js";
 import { renderClaimsText } from "../../src/report/terminal.js";
+import { checkInputFile } from "../checkPaths.js";
 import { EXIT } from "../exitCodes.js";
 import { type Io, readHead } from "../io.js";
+import { checkClaimCount, MAX_LISTED_CLAIMS, MAX_TEXT_CLAIMS } from "../limits.js";
 import { loadGraph } from "../loadGraph.js";
+import { checkOneStdin, inputName, isStreamInput, openStreamData } from "../readStdin.js";
+import { writeClaimsJson } from "../writeClaimsJson.js";
 import { graphSummary } from "../../src/graph/graphSummary.js";
 
-/** `arrowaudit claims <graph>`: list the implied independencies. */
+/** `arrowaudit claims <graph>`: list the implied independencies (`--json` is written as the claims are derived). */
 export async function runClaims(io: Io, graphPath: string, opts: Record<string, unknown>): Promise<number> {
-  const graph = loadGraph(io, graphPath, opts);
+  checkOneStdin({ graph: graphPath, "--columns file": opts.columns });
+  if (typeof opts.columns === "string") checkInputFile(io, { path: opts.columns, role: "data file" });
+  const graph = await loadGraph(io, graphPath, opts);
+  const graphName = inputName(graphPath);
   let ignored: string[] | undefined;
   if (typeof opts.columns === "string") {
-    const header = readHeader(readHead(opts.columns, io.cwd), { file: opts.columns });
-    ignored = checkColumns(graph, header, { file: opts.columns }).ignoredColumns;
+    const file = inputName(opts.columns);
+    const head = isStreamInput(io, opts.columns) ? (await openStreamData(io, opts.columns)).head : readHead(opts.columns, io.cwd);
+    ignored = checkColumns(graph, readHeader(head, { file }), { file }).ignoredColumns;
   }
   const sets = opts.sets as "union-parents" | "minimal" | "all-minimal";
   const cap = opts.maxSets as number;
-  const { claims, untestable, truncatedPairs } = deriveClaims(graph, { sets, cap });
-  const doc = {
-    graph: graphSummary(graph),
-    claims,
-    untestable,
+  const tail = (truncatedPairs: number) => ({
     ...(ignored ? { ignored_columns: ignored } : {}),
     ...(sets === "all-minimal" ? { max_sets: cap, truncated_pairs: truncatedPairs } : {}),
-  };
+  });
+  let truncatedPairs: number;
+  checkClaimCount(graph, graphName, MAX_LISTED_CLAIMS, "claims lists", "list the claims of the part of the graph you are asking about (a graph file with those nodes and their ancestors), or declare the nodes you will not test unmeasured (--unmeasured)");
+  if (opts.json) {
+    truncatedPairs = writeClaimsJson(io.stdout, { graph: graphSummary(graph) }, claimEntries(graph, { sets, cap }), (t) => tail(t.truncatedPairs)).truncatedPairs;
+  } else {
+    checkClaimCount(graph, graphName, MAX_TEXT_CLAIMS, "the text listing of claims holds", `use --json, which is written as the claims are derived (up to ${MAX_LISTED_CLAIMS.toLocaleString("en-US")} claims)`);
+    const derived = deriveClaims(graph, { sets, cap });
+    truncatedPairs = derived.truncatedPairs;
+    io.stdout(renderClaimsText({ graph: graphSummary(graph), claims: derived.claims, untestable: derived.untestable }, { ascii: !!opts.ascii }));
+    if (ignored?.length) io.stdout(`columns not in the graph (ignored): ${ignored.join(", ")}\n`);
+  }
   if (truncatedPairs > 0) {
     io.stderr(`note: ${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than ${cap} minimal separating sets; only the first ${cap} of each are listed (raise --max-sets to see more)\n`);
-  }
-  if (opts.json) io.stdout(JSON.stringify(doc, null, 2) + "\n");
-  else {
-    io.stdout(renderClaimsText(doc, { ascii: !!opts.ascii }));
-    if (ignored?.length) io.stdout(`columns not in the graph (ignored): ${ignored.join(", ")}\n`);
   }
   return EXIT.ok;
 }

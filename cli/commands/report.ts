@@ -8,7 +8,10 @@ import { renderTestText } from "../../src/report/terminal.js";
 import { escapeTerminal } from "../../src/report/escapeTerminal.js";
 import type { ReportContext } from "../../src/report/ReportContext.js";
 import { EXIT } from "../exitCodes.js";
-import { type Io, sha256File, toolVersion, writeAtomic } from "../io.js";
+import { refuseOverwritingInputs } from "../checkPaths.js";
+import { type Io, sha256File, toolVersion } from "../io.js";
+import { inputName, isStreamInput, streamDigest } from "../readStdin.js";
+import { type OutputFile, writeOutputs } from "../writeOutputs.js";
 import { audit, textWidth, useColor } from "./test.js";
 
 /** The command line as typed, each argument quoted for a POSIX shell when needed. */
@@ -38,6 +41,16 @@ export function demoTestCommand(argv: readonly string[], opts: Record<string, un
 }
 
 /**
+ * An input as a report records it: its path (as `shown`) and the SHA-256 of the file; for an
+ * input read as a stream (standard input, a pipe), its name and the SHA-256 of the bytes read
+ * from it, since there is no file to hash again.
+ */
+async function inputRecord(io: Io, path: string, shown: string): Promise<{ path: string; sha256: string }> {
+  if (isStreamInput(io, path)) return { path: inputName(path), sha256: streamDigest(io, path) ?? "not computed: the stream was not read to its end" };
+  return { path: shown, sha256: await sha256File(path, io.cwd) };
+}
+
+/**
  * `arrowaudit report <graph> <data> --out file.html|file.md|file.txt`, and `arrowaudit demo`.
  * A Markdown report is written with its drawing beside it (`report.md` → `report.svg`); a `.txt`
  * file gets the methods paragraphs and their references alone, as plain text.
@@ -46,13 +59,19 @@ export async function runReport(io: Io, graphPath: string, dataPath: string, opt
   const out = String(opts.out);
   const ext = extname(out).toLowerCase();
   if (ext !== ".html" && ext !== ".htm" && ext !== ".md" && ext !== ".txt") throw new UsageError(`--out ${out}: the report file must end in .html, .md or .txt (the methods text alone)`);
+  const svgName = out.slice(0, out.length - ext.length) + ".svg";
+  refuseOverwritingInputs(
+    io,
+    [{ path: out, role: `--out ${out}` }, ...(ext === ".md" ? [{ path: svgName, role: `the drawing ${svgName} written beside --out ${out}` }] : [])],
+    [{ path: graphPath, role: "graph file" }, { path: dataPath, role: "data file" }],
+  );
   const result = await audit(io, graphPath, dataPath, opts);
   const context: ReportContext = {
     command: commandLine(argv),
     date: io.now().toISOString(),
     inputs: [
-      { path: demo ? `data/demo/${basename(graphPath)}` : graphPath, sha256: await sha256File(graphPath, io.cwd) },
-      { path: demo ? `data/demo/${basename(dataPath)}` : dataPath, sha256: await sha256File(dataPath, io.cwd) },
+      await inputRecord(io, graphPath, demo ? `data/demo/${basename(graphPath)}` : graphPath),
+      await inputRecord(io, dataPath, demo ? `data/demo/${basename(dataPath)}` : dataPath),
     ],
     toolVersion: toolVersion(),
     demo,
@@ -63,18 +82,21 @@ export async function runReport(io: Io, graphPath: string, dataPath: string, opt
     io.stdout(renderTestText(result, { ascii: !!opts.ascii, color: useColor(io), width: textWidth(io) }));
     if (context.equivalentCommand) io.stdout(`\nthe same audit as a test command:\n  ${escapeTerminal(context.equivalentCommand)}\n`);
   }
-  let written: string;
+  let files: OutputFile[];
   if (ext === ".txt") {
-    written = writeAtomic(out, io.cwd, renderMethodsText(result, context));
+    files = [{ path: out, content: renderMethodsText(result, context) }];
   } else if (ext === ".md") {
-    const svgName = out.slice(0, out.length - ext.length) + ".svg";
+    // The drawing first, the report last: both are written in full before either replaces its file (cli/writeOutputs.ts).
     const svgs = await renderReportSvgs(result, { standalone: true });
-    writeAtomic(svgName, io.cwd, svgs.graph);
-    written = writeAtomic(out, io.cwd, renderMarkdownReport(result, context, { svgFile: basename(svgName) }));
+    files = [
+      { path: svgName, content: svgs.graph },
+      { path: out, content: renderMarkdownReport(result, context, { svgFile: basename(svgName) }) },
+    ];
   } else {
     const svgs = await renderReportSvgs(result);
-    written = writeAtomic(out, io.cwd, renderHtmlReport(result, context, svgs));
+    files = [{ path: out, content: renderHtmlReport(result, context, svgs) }];
   }
+  const written = writeOutputs(io, files);
   if (demo && !opts.quiet) io.stdout(`\nreport written to ${escapeTerminal(written)}\n${ext === ".txt" ? "plain text, ready to paste" : "open it in a browser; it works offline"}\n`);
   else if (!opts.quiet) io.stderr(`report written to ${escapeTerminal(written)}\n`);
   return opts.failOnContradiction && result.global.contradicted > 0 ? EXIT.contradiction : EXIT.ok;

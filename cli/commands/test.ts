@@ -7,9 +7,12 @@ import { renderCsv } from "../../src/report/csv.js";
 import { claimHelper } from "../claimHelper.js";
 import { parallelPatternMoments } from "../parallelPatternMoments.js";
 import { EXIT } from "../exitCodes.js";
-import { type Io, readHead, toolVersion } from "../io.js";
+import { checkInputFile } from "../checkPaths.js";
+import { type Io, toolVersion } from "../io.js";
+import { checkClaimCount, MAX_TESTED_CLAIMS } from "../limits.js";
 import { loadGraph } from "../loadGraph.js";
-import { loadTable, readOptionsFrom } from "../loadTable.js";
+import { readOptionsFrom } from "../loadTable.js";
+import { checkOneStdin, inputName, openData } from "../readStdin.js";
 import { progressBar } from "../progress.js";
 
 /** Audit settings from parsed command-line options. */
@@ -29,12 +32,17 @@ export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettin
 
 /** Load the graph and the data and run the audit (shared by test, report and demo). */
 export async function audit(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<AuditResult> {
-  const graph = loadGraph(io, graphPath, opts);
+  checkOneStdin({ graph: graphPath, data: dataPath });
+  checkInputFile(io, { path: graphPath, role: "graph file" });
+  checkInputFile(io, { path: dataPath, role: "data file" });
+  const graph = await loadGraph(io, graphPath, opts);
+  checkClaimCount(graph, inputName(graphPath), MAX_TESTED_CLAIMS, "test and report test", "test the part of the graph you are asking about (a graph file with those nodes and their ancestors), or declare the nodes you will not test unmeasured (--unmeasured)");
   const measured = graph.nodes.filter((n) => graph.isMeasured(n));
-  const { delimiter } = readOptionsFrom(opts, dataPath);
-  const header = readHeader(readHead(dataPath, io.cwd), { file: dataPath, ...(delimiter ? { delimiter } : {}) });
-  checkColumns(graph, header, { file: dataPath });
-  const table = await loadTable(io, dataPath, opts, measured);
+  const data = await openData(io, dataPath, opts);
+  const { delimiter } = readOptionsFrom(opts, data.name);
+  const header = readHeader(data.head, { file: data.name, ...(delimiter ? { delimiter } : {}) });
+  checkColumns(graph, header, { file: data.name });
+  const table = await data.load(measured);
   const bar = progressBar(io, !!opts.quiet);
   try {
     return await runAuditParallel(graph, table, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update, helper: claimHelper, buildMoments: (t, o) => parallelPatternMoments(t, o) });
