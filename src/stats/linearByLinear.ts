@@ -22,14 +22,16 @@
  * in which x or y takes a single score, has V_s = 0 and T_s = E_s: it contributes nothing and is
  * counted as unused. T_s − E_s is computed as Σ_ij (u_i − ū_s)(v_j − v̄_s) n_ij with the stratum's
  * mean scores ū_s, v̄_s, which is the same number in exact arithmetic and keeps its accuracy when
- * the scores are large (e.g. calendar years). The sums run on the scores multiplied by a power of
- * two that brings the largest |score| of each variable into [0.5, 1) (`powerOfTwoScale.ts`): Q and
- * r_w are unchanged to the last digit, and scores of 1e155 or more (whose squares overflow) or
- * near 1e-310 (whose squares underflow) give a finite statistic; T, E, V and Σ (T − E) are
- * reported in the scores' own units (±Infinity or 0 where those leave the double range).
+ * the scores are large (e.g. calendar years). Each stratum's sums run on its scores multiplied by
+ * powers of two that bring its largest |score| of each variable into [0.5, 1)
+ * (`powerOfTwoScale.ts`), and the strata are added in common units: Q and r_w are unchanged to the
+ * last digit, and scores of 1e155 or more (whose squares overflow) or near 1e-310 (whose squares
+ * underflow) give a finite statistic, also in strata next to ones whose scores are far larger; T,
+ * E, V and Σ (T − E) are reported in the scores' own units (±Infinity or 0 where those leave the
+ * double range).
  */
 import { chiSquareUpper, logChiSquareUpper } from "./pvalues.js";
-import { maxAbsFinite, scaleExponent, timesPowerOfTwo } from "./powerOfTwoScale.js";
+import { scaleExponent, timesPowerOfTwo } from "./powerOfTwoScale.js";
 
 /** One stratum's table, `rows` × `cols` counts row-major, with a score per row and per column. */
 export interface ScoredStratum {
@@ -85,6 +87,13 @@ function margins(s: ScoredStratum, k: number): { row: Float64Array; col: Float64
   return { row, col, total };
 }
 
+/** Largest finite |score| among those with a positive weight (margin); 0 when none. Cost: O(length). */
+function presentMax(scores: ArrayLike<number>, weights: ArrayLike<number>): number {
+  let m = 0;
+  for (let i = 0; i < scores.length; i++) if (weights[i]! > 0) m = Math.max(m, Math.abs(scores[i]!));
+  return m;
+}
+
 /**
  * Scores centred on their weighted mean: u_i − ū with ū = Σ w_i u_i / Σ w_i (the stratum's mean
  * score when the weights are its margins), and the weighted sum of squares Σ w_i (u_i − ū)²
@@ -125,29 +134,24 @@ export function centredScores(scores: ArrayLike<number>, weights: ArrayLike<numb
  * linearByLinear([{ rows: 2, cols: 2, counts: [4, 2, 1, 5], rowScores: [0, 1], colScores: [0, 1] }]).q // 2.8286 = 11 · 0.5071²
  */
 export function linearByLinear(strata: readonly ScoredStratum[]): LinearByLinearResult {
-  // one power of two per variable, over all strata (a common factor leaves Q unchanged)
-  const eu = scaleExponent(strata.reduce((m, s) => Math.max(m, maxAbsFinite(s.rowScores)), 0));
-  const ev = scaleExponent(strata.reduce((m, s) => Math.max(m, maxAbsFinite(s.colScores)), 0));
-  const fu = 2 ** eu;
-  const fv = 2 ** ev;
-  let t = 0;
-  let e = 0;
-  let v = 0;
-  let deviation = 0;
-  let suu = 0;
-  let svv = 0;
-  let used = 0;
+  // Each stratum's sums on its own scores times powers of two 2^a (rows) and 2^b (columns) that
+  // bring its largest |score| with a non-zero margin into [0.5, 1); the strata are then added in
+  // common units (a power of two per quantity), which changes no digit where nothing overflows.
+  const parts: Array<{ t: number; e: number; v: number; d: number; suu: number; svv: number; a: number; b: number }> = [];
   let n = 0;
   strata.forEach((s, k) => {
     const m = margins(s, k);
     n += m.total;
     if (m.total < 2) return;
+    const a = scaleExponent(presentMax(s.rowScores, m.row));
+    const b = scaleExponent(presentMax(s.colScores, m.col));
+    const fu = 2 ** a;
+    const fv = 2 ** b;
     const rowScores = Float64Array.from(s.rowScores, (x) => x * fu);
     const colScores = Float64Array.from(s.colScores, (x) => x * fv);
     const u = centredScores(rowScores, m.row);
     const w = centredScores(colScores, m.col);
     if (!(u.sumSquares > 0) || !(w.sumSquares > 0)) return;
-    used++;
     let ts = 0;
     let ds = 0;
     for (let i = 0; i < s.rows; i++) {
@@ -161,25 +165,41 @@ export function linearByLinear(strata: readonly ScoredStratum[]): LinearByLinear
       ts += rowScores[i]! * rowT;
       ds += u.centred[i]! * rowD;
     }
-    t += ts;
-    e += u.mean * w.mean * m.total; // (Σ u n_i+)(Σ v n_+j)/n_s
-    v += (u.sumSquares * w.sumSquares) / (m.total - 1);
-    deviation += ds;
-    suu += u.sumSquares;
-    svv += w.sumSquares;
+    // e: (Σ u n_i+)(Σ v n_+j)/n_s
+    parts.push({ t: ts, e: u.mean * w.mean * m.total, v: (u.sumSquares * w.sumSquares) / (m.total - 1), d: ds, suu: u.sumSquares, svv: w.sumSquares, a, b });
   });
+  const used = parts.length;
+  // common units: 2^E for T, E and Σ (T − E), 2^2E for V, 2^2A and 2^2B for S_uu and S_vv
+  const E = used > 0 ? Math.min(...parts.map((q) => q.a + q.b)) : 0;
+  const A = used > 0 ? Math.min(...parts.map((q) => q.a)) : 0;
+  const B = used > 0 ? Math.min(...parts.map((q) => q.b)) : 0;
+  let t = 0;
+  let e = 0;
+  let v = 0;
+  let deviation = 0;
+  let suu = 0;
+  let svv = 0;
+  for (const q of parts) {
+    const k = E - q.a - q.b;
+    t += timesPowerOfTwo(q.t, k);
+    e += timesPowerOfTwo(q.e, k);
+    v += timesPowerOfTwo(q.v, 2 * k);
+    deviation += timesPowerOfTwo(q.d, k);
+    suu += timesPowerOfTwo(q.suu, 2 * (A - q.a));
+    svv += timesPowerOfTwo(q.svv, 2 * (B - q.b));
+  }
   const q = v > 0 ? (deviation * deviation) / v : 0;
-  // back to the scores' units
-  const unscale = (x: number, times: number): number => timesPowerOfTwo(timesPowerOfTwo(x, -times * eu), -times * ev);
+  // r_w = Σ (T − E) / √(S_uu·S_vv), its numerator in units 2^E and its denominator in 2^(A + B)
+  const correlation = used > 0 ? timesPowerOfTwo(deviation, A + B - E) / Math.sqrt(suu * svv) : NaN;
   return {
     q,
     p: chiSquareUpper(q, 1),
     logP: logChiSquareUpper(q, 1),
-    t: unscale(t, 1),
-    e: unscale(e, 1),
-    v: unscale(v, 2),
-    deviation: unscale(deviation, 1),
-    correlation: used > 0 ? deviation / Math.sqrt(suu * svv) : NaN,
+    t: timesPowerOfTwo(t, -E),
+    e: timesPowerOfTwo(e, -E),
+    v: timesPowerOfTwo(v, -2 * E),
+    deviation: timesPowerOfTwo(deviation, -E),
+    correlation,
     strataUsed: used,
     strataTotal: strata.length,
     n,

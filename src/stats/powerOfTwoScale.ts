@@ -55,10 +55,12 @@ export function scaleExponent(maxAbs: number): number {
  * x·2^e for any integer e, exact whenever the result is a normal double. When 2^e is not a
  * double (e > 1023 or e < −1022) the remainder is applied first and then whole steps of 2^1023 or
  * 2^−1022, so a result that underflows is rounded once. Cost: O(1 + |e|/1022).
+ * @throws RangeError when e is not an integer (e.g. ±Infinity)
  * @example timesPowerOfTwo(3, -1) // 1.5
  */
 export function timesPowerOfTwo(x: number, e: number): number {
   if (e >= -1022 && e <= MAX_SCALE_EXPONENT) return x * 2 ** e;
+  if (!Number.isInteger(e)) throw new RangeError(`the exponent must be an integer, got ${e}`);
   const step = e > 0 ? MAX_SCALE_EXPONENT : -1022;
   let rest = e;
   let steps = 0;

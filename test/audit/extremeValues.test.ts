@@ -113,6 +113,28 @@ describe("runAudit on extreme numbers, every --method", () => {
   });
 });
 
+describe("linear-by-linear on ordinal scores at the ends of the double range", () => {
+  it("two ordinal variables scored up to 1e200 and from −1e308 to 1e-310: tested with finite numbers, and details hold no value JSON writes as null (regression: T, E, V of ±Infinity)", () => {
+    const rng = createRng(4, "ordinal extremes");
+    const rows = 300;
+    const g = Array.from({ length: rows }, () => ["a", "b"][rng.nextInt(2)]!);
+    const o1 = g.map((s) => [1, 2, 3, 1e200][Math.min(3, rng.nextInt(3) + (s === "b" ? 1 : 0))]!);
+    const o2 = g.map((s) => [-1e308, 0, 1e-310, 5][Math.min(3, rng.nextInt(3) + (s === "b" ? 1 : 0))]!);
+    const t = createTable({ o1, o2, g }, { types: { o1: "ordinal", o2: "ordinal", g: "nominal" } });
+    const gr = createGraph({ arrows: [["g", "o1"], ["g", "o2"]] });
+    for (const permutations of [undefined, 300]) {
+      const r = runAudit(gr, t, { settings: { ...(permutations ? { permutations } : {}) } });
+      expect(r.claims.map((c) => c.test)).toEqual(["linear-by-linear"]);
+      const c = r.claims[0]!;
+      for (const v of [c.statistic, c.p, c.effect, ...c.ci]) expect(Number.isFinite(v)).toBe(true);
+      expect(JSON.stringify(c)).not.toMatch(/NaN|[:,[]null[,\]}]/u);
+      // a power of two leaves the statistic as it is (IEEE 754: exact scaling)
+      const scaled = runAudit(gr, mapColumnValues(t, ["o1"], (v) => v * 2 ** -600), { settings: { ...(permutations ? { permutations } : {}) } });
+      expect(scaled.claims[0]!.p).toBe(c.p);
+    }
+  });
+});
+
 describe("runAudit results are invariant to multiplying a column by a power of two", () => {
   /** p-values by claim, in a fixed order. */
   const pOf = (r: AuditResult) => new Map(r.claims.map((c) => [`${c.x}|${c.y}|${c.given.join(",")}`, c.p]));

@@ -161,6 +161,20 @@ describe("linearByLinear properties", () => {
     expect(Number.isFinite(wild.q) && Number.isFinite(wild.p) && Number.isFinite(wild.correlation)).toBe(true);
   });
 
+  it("a stratum with ordinary scores next to one scored up to 1e200 still counts as used, and Q is that of the dominant stratum (regression: 'never both vary' when one scale served all strata)", () => {
+    const ordinary = stratum([[3, 1, 0], [1, 3, 1], [0, 1, 3]], [1, 2, 3], [1, 2, 3]);
+    const huge = stratum([[2, 1, 0], [1, 2, 1], [0, 1, 2]], [2, 3, 1e200], [1, 2, 3]);
+    const both = linearByLinear([ordinary, huge]);
+    expect(both.strataUsed).toBe(2);
+    // exact arithmetic: D and V of the ordinary stratum are 1e-199 or less of the other's, so Q is the dominant stratum's
+    expect(rel(both.q, linearByLinear([huge]).q)).toBeLessThan(1e-12);
+    expect(Number.isFinite(both.correlation) && Math.abs(both.correlation) <= 1).toBe(true);
+    // scores spanning −1e308 to 1e-310 in one stratum and 1e-310 to 5 in the other: both used, all finite
+    const wide = linearByLinear([stratum([[3, 1, 0], [1, 3, 1], [0, 1, 3]], [1, 2, 3], [-1e308, 0, 1e-310]), stratum([[2, 1, 0], [1, 2, 1], [0, 1, 2]], [2, 3, 1e200], [0, 1e-310, 5])]);
+    expect(wide.strataUsed).toBe(2);
+    expect([wide.q, wide.p, wide.correlation].every(Number.isFinite)).toBe(true);
+  });
+
   it("centredScores centres on the weighted mean (doc example, hand computation)", () => {
     const c = centredScores([0, 1, 3], [2, 1, 1]);
     expect(Array.from(c.centred)).toEqual([-1, 0, 2]);

@@ -75,6 +75,8 @@ describe("timesPowerOfTwo", () => {
     expect(timesPowerOfTwo(0.75, 2000)).toBe(Infinity);
     expect(timesPowerOfTwo(1e300, -2000)).toBe(1e300 * 2 ** -1000 * 2 ** -1000);
     expect(timesPowerOfTwo(3, -1)).toBe(1.5); // doc example
+    expect(() => timesPowerOfTwo(1, Infinity)).toThrow(RangeError);
+    expect(() => timesPowerOfTwo(1, 2000.5)).toThrow(RangeError);
   });
 });
 

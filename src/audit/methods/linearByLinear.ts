@@ -39,7 +39,7 @@ import { lrToEffect, signedRootEffectCI } from "../../stats/effectScale.js";
 import { centredScores, linearByLinear as linearByLinearStatistic, type ScoredStratum } from "../../stats/linearByLinear.js";
 import { createScoredTableSampler, permutationFloorWarning, scoredTableSum, sequentialMonteCarloPValue, type ScoredMargins } from "../../stats/permutation.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
-import { maxAbsFinite, scaleExponent } from "../../stats/powerOfTwoScale.js";
+import { scaleExponent, timesPowerOfTwo } from "../../stats/powerOfTwoScale.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import { strataAdjustment } from "./adjustmentDetails.js";
 import type { Claim, TestOutcome } from "../types.js";
@@ -90,30 +90,44 @@ function stratumMargins(t: ScoredStratum): { row: Float64Array; col: Float64Arra
 /**
  * Permutation p-value of |Σ_s (T_s − E_s)|: x permuted within each stratum, up to B draws,
  * stopping after {@link STOP_AFTER_HITS} permuted statistics reach the observed one. Scores are
- * centred within each stratum, so each stratum's permuted score sum is its T*_s − E_s; they are
- * first multiplied by a power of two per variable that brings the largest |score| into [0.5, 1)
- * (`stats/powerOfTwoScale.ts`), which orders the statistics as before and keeps extreme scores'
- * products finite. Cost: O(Σ_s n_s) once, then O(draws · Σ_s (r_s·c_s + draws' spread)).
+ * centred within each stratum, so each stratum's permuted score sum is its T*_s − E_s. Each
+ * stratum's scores are first multiplied by powers of two that bring its largest |score| of each
+ * variable into [0.5, 1) (`stats/powerOfTwoScale.ts`), and its x scores then by the power of two
+ * that puts every stratum's sum in common units (as `stats/linearByLinear.ts` adds them): the
+ * statistics order as before, and extreme scores' products stay finite.
+ * Cost: O(Σ_s n_s) once, then O(draws · Σ_s (r_s·c_s + draws' spread)).
  */
 function permutationP(strata: readonly ScoredStratum[], B: number, seed: number, key: string): { p: number; draws: number } {
-  const used: ScoredMargins[] = [];
-  const observedTables: { counts: ArrayLike<number>; a: Float64Array; b: Float64Array }[] = [];
-  const fu = 2 ** scaleExponent(strata.reduce((m, s) => Math.max(m, maxAbsFinite(s.rowScores)), 0));
-  const fv = 2 ** scaleExponent(strata.reduce((m, s) => Math.max(m, maxAbsFinite(s.colScores)), 0));
+  const kept: Array<{ row: Float64Array; col: Float64Array; u: Float64Array; v: Float64Array; a: number; b: number; counts: ArrayLike<number> }> = [];
   for (const s of strata) {
     const { row, col } = stratumMargins(s);
-    const u = centredScores(Float64Array.from(s.rowScores, (x) => x * fu), row);
-    const v = centredScores(Float64Array.from(s.colScores, (x) => x * fv), col);
     let total = 0;
     for (let i = 0; i < row.length; i++) total += row[i]!;
-    if (total < 2 || !(u.sumSquares > 0) || !(v.sumSquares > 0)) continue;
-    used.push({ rowMargins: row, colMargins: col, rowScores: u.centred, colScores: v.centred });
-    observedTables.push({ counts: s.counts, a: u.centred, b: v.centred });
+    if (total < 2) continue;
+    const a = scaleExponent(presentMax(s.rowScores, row));
+    const b = scaleExponent(presentMax(s.colScores, col));
+    const u = centredScores(Float64Array.from(s.rowScores, (x) => x * 2 ** a), row);
+    const v = centredScores(Float64Array.from(s.colScores, (x) => x * 2 ** b), col);
+    if (!(u.sumSquares > 0) || !(v.sumSquares > 0)) continue;
+    kept.push({ row, col, u: u.centred, v: v.centred, a, b, counts: s.counts });
   }
+  const E = kept.length > 0 ? Math.min(...kept.map((k) => k.a + k.b)) : 0;
+  const used: ScoredMargins[] = [];
   let observed = 0;
-  for (const t of observedTables) observed += scoredTableSum(t.counts, t.a, t.b);
+  for (const k of kept) {
+    const rowScores = k.u.map((x) => timesPowerOfTwo(x, E - k.a - k.b));
+    used.push({ rowMargins: k.row, colMargins: k.col, rowScores, colScores: k.v });
+    observed += scoredTableSum(k.counts, rowScores, k.v);
+  }
   const sampler = createScoredTableSampler(used, createRng(seed, key));
   return sequentialMonteCarloPValue(Math.abs(observed), B, STOP_AFTER_HITS, () => Math.abs(sampler()));
+}
+
+/** Largest |score| among those with a positive margin; 0 when none. Cost: O(length). */
+function presentMax(scores: ArrayLike<number>, margins: ArrayLike<number>): number {
+  let m = 0;
+  for (let i = 0; i < scores.length; i++) if (margins[i]! > 0) m = Math.max(m, Math.abs(scores[i]!));
+  return m;
 }
 
 /**
@@ -192,10 +206,8 @@ export function runLinearByLinear(claim: Claim, ctx: TestContext): MethodResult 
     return { levels, scores: values };
   };
   const details: Record<string, unknown> = {
-    t: res.t,
-    e: res.e,
-    v: res.v,
-    t_minus_e: res.deviation,
+    // in the scores' units: left out where they leave the double range (scores of 1e155 or more, or near 1e-310)
+    ...([res.t, res.e, res.v, res.deviation].every(Number.isFinite) && res.v >= 2 ** -1022 ? { t: res.t, e: res.e, v: res.v, t_minus_e: res.deviation } : {}),
     stratified_correlation: res.correlation,
     p_asymptotic: res.p,
     strata_used: res.strataUsed,

@@ -72,7 +72,7 @@ import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
 import { gaussianLRFromMoments } from "../../stats/gaussianLRFromMoments.js";
-import { columnScaleExponent } from "../../stats/powerOfTwoScale.js";
+import { scaleExponent } from "../../stats/powerOfTwoScale.js";
 import { scaledCovarianceOf } from "../../stats/scaledCovariance.js";
 import { designCrossProduct, logisticRegressionDesign, type FactorDesign, type LogisticFit } from "../../stats/logisticRegression.js";
 import { multinomialLogitDesign, type MultinomialFit } from "../../stats/multinomialLogit.js";
@@ -318,8 +318,9 @@ function gatherCodes(codes: Int32Array, idx: Int32Array, nLevels: number, mix?: 
 }
 
 /**
- * raw[t·stride + a] = values[idx[t]]·2^e, e the column's scale exponent (`stats/powerOfTwoScale.ts`:
- * the scaled values are at most 1 in magnitude, so their squares neither overflow nor underflow);
+ * raw[t·stride + a] = values[idx[t]]·2^e, e the scale exponent of the values on these rows
+ * (`stats/powerOfTwoScale.ts`: the scaled values are at most 1 in magnitude, so their squares
+ * neither overflow nor underflow);
  * returns their mean and their sum of squared deviations, from sums shifted by the first value (no
  * division per row). Standardising undoes the scale, so the model columns are those of the
  * unscaled values. Cost: O(n).
@@ -327,7 +328,10 @@ function gatherCodes(codes: Int32Array, idx: Int32Array, nLevels: number, mix?: 
 function gatherStrided(raw: Float64Array, values: Float64Array, idx: Int32Array, a: number, stride: number): [number, number] {
   const n = idx.length;
   if (n === 0) return [0, 0];
-  const f = 2 ** columnScaleExponent(values);
+  // the scale of the complete rows themselves: a value of 1e200 on a row left out does not make the others underflow
+  let top = 0;
+  for (let t = 0; t < n; t++) top = Math.max(top, Math.abs(values[idx[t]!]!));
+  const f = 2 ** scaleExponent(top);
   const shift = values[idx[0]!]! * f;
   let s = 0;
   let ss = 0;
