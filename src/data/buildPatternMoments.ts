@@ -14,15 +14,26 @@
  * The American Statistician 37(3):242–247, the shifted-data algorithm). Rows are summed in tiles
  * of TILE rows, and tiles into the pattern totals, a two-level (blocked) summation.
  *
- * Scaling: every scored design column enters multiplied by 2^e, e the scale exponent of the
- * array it reads (`stats/powerOfTwoScale.ts`: its largest |value| times 2^e lies in [0.5, 1)), a
- * basis term with its knots scaled alike; shifts, sums and cross-products are all of the scaled
- * values, so they stay finite for any finite data (a value of 1e155 or more has a square beyond
- * the double range; a spline term is cubic in the value) and distinct subnormal values stay
- * distinct. `momentsFor*` undo the scale (mean·2^−e_j, cov·2^−(e_j+e_k)), which changes no digit
- * where the result is a normal double; where it is not (a variance beyond 1.8e308 or below
- * 2.2e-308) the returned covariance carries its scaled twin (`stats/scaledCovariance.ts`), from
- * which scale-free statistics are computed exactly.
+ * Extreme values (`stats/powerOfTwoScale.ts` for the terms). A value of 1e155 or more has a square
+ * beyond the double range, a spline term is cubic in the value, and distinct values near 1e-310
+ * have squares that underflow to 0; and one such value must not spoil the moments of the rows
+ * without it. So:
+ * - the shift c_j is the median of the column over evenly spaced rows (at most MEDIAN_ROWS), which
+ *   a few extreme values do not pull away from the bulk of the rows (the mean would);
+ * - a column's values are first multiplied by a power of two 2^p_j: for a spline term the one that
+ *   brings its largest |value| into [0.5, 1) (its knots scaled alike), for other columns 1, or a
+ *   small power below 1 when |values| reach 2^1021, so that v − c never overflows;
+ * - each pattern then has a gain 2^g_pj per column, the power of two that brings that pattern's
+ *   largest |T(v) − c_j| into [0.5, 1) (a basis term T is nondecreasing in v, so the pattern's
+ *   smallest and largest value give it); staged values are (T(v·2^p) − c)·2^g, at most 1, and the
+ *   pattern's sums and cross-products are those of the rows times powers of two;
+ * - a request adds its patterns in the coarsest pattern's units per column (a power of two per
+ *   pattern), so rows without the extreme value keep every digit when the request leaves it out,
+ *   and are rounded relative to it when it is in (as exact arithmetic would weigh them).
+ * All of this multiplies by powers of two, which changes no digit where nothing leaves the normal
+ * range. `momentsFor*` undo the scale (mean·2^−E_j, cov·2^−(E_j+E_k)); where the result is not a
+ * normal double (a variance beyond 1.8e308 or below 2.2e-308) the returned covariance carries its
+ * scaled twin (`stats/scaledCovariance.ts`), from which scale-free statistics are computed exactly.
  *
  * Memory: O(P · d²) for P patterns and d design columns (only the columns observed in a pattern
  * are stored for it), plus two Int32 arrays of n while building. When that would exceed
@@ -38,8 +49,8 @@
 import { UnknownNodeError } from "../errors.js";
 import { rankColumns } from "./rankColumns.js";
 import { createSimdCrossProduct } from "./simdCrossProduct.js";
-import { basisTermLabel, fillBasisValues, scaleBasisTerm, splineAt, splineConstants, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
-import { columnScaleExponent, timesPowerOfTwo } from "../stats/powerOfTwoScale.js";
+import { basisTermLabel, basisValue, fillBasisValues, scaleBasisTerm, splineAt, splineConstants, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
+import { columnScaleExponent, scaleExponent, timesPowerOfTwo } from "../stats/powerOfTwoScale.js";
 import { attachScaledCovariance } from "../stats/scaledCovariance.js";
 import type { DesignColumn, IndexedDesignColumn, Moments, PatternMoments } from "./Moments.js";
 import type { Table } from "./Table.js";
@@ -57,8 +68,13 @@ const CACHED_STAGING_BYTES = 4 * 1024 * 1024;
 const STAGING_BYTES = 48 * 1024 * 1024;
 const WORD_BITS = 26;
 const DEFAULT_MAX_PATTERN_BYTES = 512 * 1024 * 1024;
-/** Rows (evenly spaced) behind the shift of a rank or basis column. */
-const SHIFT_ROWS = 65536;
+/**
+ * The exponent of a pattern's column whose values all equal its shift: its sums are 0 in any
+ * units, so it sets no units for a request (which takes the smallest exponent of its patterns).
+ */
+const NO_EXPONENT = 2 ** 31 - 1;
+/** Rows (evenly spaced) behind the shift (median) of a scored column. */
+const MEDIAN_ROWS = 4096;
 
 export interface PatternMomentsOptions {
   /** Variables (column names) the statistics cover; later requests may use any subset. */
@@ -95,7 +111,7 @@ export interface MomentExpansions {
 export interface PassColumn {
   /** Scores (NaN missing), or undefined for a dummy. */
   scores?: Float64Array;
-  /** The power of two 2^e the scores are multiplied by before anything else (1 for a dummy). */
+  /** The power of two 2^p the scores are multiplied by before anything else (1 for a dummy). */
   factor: number;
   /** A basis term applied to the scaled scores, its knots scaled alike (see `stats/flexibleBasis.ts`), if any. */
   term?: BasisTerm;
@@ -108,7 +124,7 @@ export interface PassColumn {
 interface DesignSource extends PassColumn {
   column: DesignColumn;
   variable: number;
-  /** Scale exponent e of the column (factor = 2^e). */
+  /** Exponent p of the column's first power of two (factor = 2^p). */
   exponent: number;
 }
 
@@ -119,8 +135,10 @@ interface DesignSource extends PassColumn {
 export interface PatternPass {
   /** The design columns' values, in design order. */
   columns: PassColumn[];
-  /** Shift c_j per design column (its mean over the observed, filtered rows), of the scaled values. */
+  /** Shift c_j per design column (the median of its scaled values, or an indicator's mean), of the values times `factor`. */
   shift: Float64Array;
+  /** Per pattern p and design column j, the gain 2^g at `p·D + j` (see the module comment). */
+  gains: Float64Array;
   /** Pattern index of every row, -1 for a row left out by the row filter. */
   patternOfRow: Int32Array;
   /** Per pattern, its observed design columns (ascending design indices). */
@@ -153,6 +171,8 @@ export interface PatternPlan {
 
 interface Pattern {
   count: number;
+  /** Per design column, the exponent E = p + g of this pattern's sums (their units are 2^E). */
+  exponent: Int32Array;
   mask: Uint32Array;
   /** Global design index → position among this pattern's observed design columns, or -1. */
   pos: Int32Array;
@@ -220,8 +240,11 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   const wantRanks = new Set(exp.ranks ?? []);
   const extraRanks = wantRanks.size > 0 ? rankColumns(table, variables.filter((v) => wantRanks.has(v) && table.column(v)!.type !== "nominal"), filter) : undefined;
   const design: DesignSource[] = [];
-  const scaleOf = (values: Float64Array): { factor: number; exponent: number } => {
-    const exponent = columnScaleExponent(values);
+  // the first power of two: that of the largest |value| for a spline term (cubic), else 1, or
+  // below 1 only as far as keeps v − c finite for values reaching 2^1021
+  const scaleOf = (values: Float64Array, cubic = false): { factor: number; exponent: number } => {
+    const e = columnScaleExponent(values);
+    const exponent = cubic ? e : Math.min(0, e + 1021);
     return { factor: 2 ** exponent, exponent };
   };
   const designOf: number[][] = [];
@@ -258,7 +281,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
           if (basisLevel === 0) return; // the linear term is the score itself
           for (const term of terms) {
             idx.push(design.length);
-            const scale = scaleOf(col.values);
+            const scale = scaleOf(col.values, term.kind === "spline");
             design.push({ column: { name: basisTermLabel(name, term), source: name, kind: "basis", term, basisLevel }, variable: vi, scores: col.values, term: scaleBasisTerm(term, scale.factor), level: -1, ...scale });
           }
         });
@@ -271,8 +294,9 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   const V = variables.length;
   const words = Math.max(1, Math.ceil(V / WORD_BITS));
 
-  // One pass per design source: shift (mean over observed, filtered rows) and, for the
-  // variables that are ever missing, a bit per row in the row's missing-pattern key.
+  // One pass per design source: shift (the median of a scored column's scaled values over evenly
+  // spaced rows, an indicator's mean over the observed, filtered rows) and, for the variables
+  // that are ever missing, a bit per row in the row's missing-pattern key.
   const shift = new Float64Array(D);
   const keyLo = new Int32Array(n);
   const keyHi = new Int32Array(n);
@@ -283,61 +307,26 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   const keyed = new Uint8Array(V);
   const firstOfVariable = new Uint8Array(D);
   for (const idx of designOf) if (idx.length > 0) firstOfVariable[idx[0]!] = 1;
-  let basisScratch = new Float64Array(0);
+  const medians = new Map<Float64Array, number | undefined>();
   for (let j = 0; j < D; j++) {
     const src = design[j]!;
-    if (src.scores && firstOfVariable[j] === 0) {
-      // A further column of a scored variable (rank or basis term): its shift is its mean over
-      // evenly spaced rows (at most SHIFT_ROWS of them). The shift only keeps the sums well
-      // conditioned, so a value near the mean serves as well as the mean itself.
-      const step = Math.max(1, Math.floor(n / SHIFT_ROWS));
-      const picked = Math.ceil(n / step);
-      if (basisScratch.length < picked) basisScratch = new Float64Array(picked);
-      let m = 0;
-      for (let i = 0; i < n; i += step) basisScratch[m++] = src.scores[i]! * src.factor;
-      const vals = basisScratch.subarray(0, m);
-      if (src.term) fillBasisValues(src.term, vals, vals);
-      let sum = 0;
-      let cnt = 0;
-      for (let t = 0, i = 0; t < m; t++, i += step) {
-        const v = vals[t]!;
-        if (v === v && (!filter || filter[i] !== 0)) {
-          sum += v;
-          cnt++;
-        }
-      }
-      shift[j] = cnt > 0 ? sum / cnt : 0;
-      continue;
+    if (src.scores) {
+      // the median value of the column's array, through the column's factor and term (both nondecreasing)
+      if (!medians.has(src.scores)) medians.set(src.scores, sampleMedian(src.scores, n, filter));
+      const mid = medians.get(src.scores);
+      shift[j] = mid === undefined ? 0 : src.term ? basisValue(src.term, mid * src.factor) : mid * src.factor;
     }
+    if (src.scores && firstOfVariable[j] === 0) continue; // a rank or basis column: its variable's bits are set
     let sum = 0;
     let cnt = 0;
     let missing = 0;
     const b = activeVars;
     const word = b < 31 ? keyLo : keyHi;
     const bit = b < 53 ? 1 << b % 31 : 0;
-    const f = src.factor;
-    if (src.scores && !filter) {
+    if (src.scores) {
       const s = src.scores;
       for (let i = 0; i < n; i++) {
-        const v = s[i]!;
-        if (v === v) sum += v * f;
-        else {
-          missing++;
-          word[i] |= bit;
-        }
-      }
-      cnt = n - missing;
-      if (missing > 0 && bit !== 0) keyed[src.variable] = 1;
-    } else if (src.scores) {
-      const s = src.scores;
-      for (let i = 0; i < n; i++) {
-        const v = s[i]!;
-        if (v === v) {
-          if (filter![i] !== 0) {
-            sum += v * f;
-            cnt++;
-          }
-        } else {
+        if (s[i] !== s[i]) {
           missing++;
           word[i] |= bit;
         }
@@ -354,8 +343,8 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
           }
         } else missing++;
       }
+      shift[j] = cnt > 0 ? sum / cnt : 0;
     }
-    shift[j] = cnt > 0 ? sum / cnt : 0;
     if (missing > 0 && bitOfVar[src.variable] === -1) bitOfVar[src.variable] = activeVars++;
   }
   // A nominal variable with one level has no design column but can still be missing.
@@ -467,10 +456,12 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   let bytes = 0;
   for (let p = 0; p < P; p++) {
     const d = observedDesign(masks[p]!).length;
-    bytes += 8 * (d * d + d) + 4 * D + 64;
+    bytes += 8 * (d * d + d) + 16 * D + 64;
   }
 
   const kernel = new CrossProductKernel(design, shift);
+  /** Per design column: its first power of two's exponent p_j. */
+  const pre = Int32Array.from(design, (src) => src.exponent);
   const variableIndex = (name: string): number => {
     const vi = variables.indexOf(name);
     if (vi < 0) {
@@ -493,17 +484,20 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
     return { designIdx: [...indices], req: maskOf([...new Set(indices.map((j) => design[j]!.variable))], words) };
   };
   const columnsOf = (name: string): IndexedDesignColumn[] => designOf[variableIndex(name)]!.map((j) => ({ index: j, column: { ...design[j]!.column } }));
-  // Moments of the scaled columns, then the scale undone (exact where the result is a normal
-  // double); the scaled ones stay attached to the covariance as its twin.
-  const finish = (designIdx: number[], count: number, S: Float64Array, C: Float64Array): Moments => {
+  // Moments of the columns in units 2^E (S and C are sums of (T(v·2^p) − c)·2^(E − p)), then the
+  // scale undone (exact where the result is a normal double); the scaled ones, with the shifts in
+  // the same units, stay attached to the covariance as its twin.
+  const finish = (designIdx: number[], count: number, S: Float64Array, C: Float64Array, exponent: Int32Array): Moments => {
     const d = designIdx.length;
-    const exponent = Int32Array.from(designIdx, (j) => design[j]!.exponent);
     const scaledMeans = new Float64Array(d);
+    const scaledShift = new Float64Array(d);
     const scaledCov = new Float64Array(d * d);
     const means = new Float64Array(d);
     const cov = new Float64Array(d * d);
     for (let a = 0; a < d; a++) {
-      scaledMeans[a] = count > 0 ? shift[designIdx[a]!]! + S[a]! / count : NaN;
+      const j = designIdx[a]!;
+      scaledShift[a] = timesPowerOfTwo(shift[j]!, exponent[a]! - pre[j]!);
+      scaledMeans[a] = count > 0 ? scaledShift[a]! + S[a]! / count : NaN;
       means[a] = timesPowerOfTwo(scaledMeans[a]!, -exponent[a]!);
     }
     for (let a = 0; a < d; a++) {
@@ -516,7 +510,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
         cov[b * d + a] = u;
       }
     }
-    attachScaledCovariance(cov, { means: scaledMeans, cov: scaledCov, exponent });
+    attachScaledCovariance(cov, { means: scaledMeans, cov: scaledCov, exponent, shifts: scaledShift });
     return { n: count, design: designIdx.map((j) => ({ ...design[j]!.column })), means, cov };
   };
 
@@ -531,8 +525,28 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
       const d = designIdx.length;
       const S = new Float64Array(d);
       const C = new Float64Array(d * d);
-      kernel.accumulate(Int32Array.from(rows), 0, rows.length, designIdx, S, C);
-      return finish(designIdx, rows.length, S, C);
+      // the gains of these rows (as for a pattern of its own)
+      const gains = new Float64Array(D).fill(1);
+      const exponent = new Int32Array(d);
+      designIdx.forEach((j, a) => {
+        const src = design[j]!;
+        let g = 0;
+        if (src.scores) {
+          let lo = Infinity;
+          let hi = -Infinity;
+          for (const i of rows) {
+            const v = src.scores[i]!;
+            if (v < lo) lo = v;
+            if (v > hi) hi = v;
+          }
+          const top = deviationOf(src, shift[j]!)(lo, hi);
+          g = top > 0 ? scaleExponent(top) : 0;
+        }
+        gains[j] = 2 ** g;
+        exponent[a] = pre[j]! + g;
+      });
+      kernel.accumulate(Int32Array.from(rows), 0, rows.length, designIdx, S, C, gains);
+      return finish(designIdx, rows.length, S, C, exponent);
     };
     const rowMoments: PatternMoments = {
       patterns: P,
@@ -546,6 +560,8 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
   }
 
   const observed = masks.map((m) => observedDesign(m));
+  // Per pattern and column, the gain 2^g and the exponent E = p + g of the pattern's sums.
+  const { gains, exponents } = patternGains(design, shift, patternOfRow, P, observed);
   const pass: PatternPass = {
     columns: design.map((src) => ({ ...(src.scores ? { scores: src.scores } : { codes: src.codes! }), factor: src.factor, ...(src.term ? { term: src.term } : {}), level: src.level })),
     shift,
@@ -555,6 +571,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
     // (which every path stores), so wide designs keep the one-pass staged path
     maxStagingBytes: options.maxStagingBytes ?? STAGING_BYTES + 8 * P * (Math.ceil(Math.max(1, D) / 4) * 4) ** 2,
     simd: options.simd ?? true,
+    gains,
   };
   const finishWith = (parts: readonly PatternPart[]): PatternMoments => {
     if (parts.length === 0) throw new RangeError("patternMomentsFromParts needs at least one part; pass accumulatePatternRange(plan.pass, 0, plan.rows)");
@@ -577,7 +594,7 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
       // Mirror the lower triangle, so that requests in any column order read it directly.
       const dp = sums.length;
       for (let a = 0; a < dp; a++) for (let b = 0; b < a; b++) cross[b * dp + a] = cross[a * dp + b]!;
-      patterns.push({ count: counts[p]!, mask: masks[p]!, pos, sums, cross });
+      patterns.push({ count: counts[p]!, mask: masks[p]!, pos, sums, cross, exponent: exponents.subarray(p * D, (p + 1) * D) });
     }
     return momentsFromPatterns(patterns);
   };
@@ -589,24 +606,45 @@ export function planPatternMoments(table: Table, options: PatternMomentsOptions)
       const C = new Float64Array(d * d);
       let count = 0;
       const local = new Int32Array(d);
-      for (let p = 0; p < patterns.length; p++) {
-        const pat = patterns[p]!;
+      // the request's units per column: the coarsest of its patterns' (the smallest exponent)
+      const exponent = new Int32Array(d).fill(NO_EXPONENT);
+      const included: Pattern[] = [];
+      for (const pat of patterns) {
         if (!containsMask(pat.mask, req)) continue;
+        included.push(pat);
+        for (let a = 0; a < d; a++) exponent[a] = Math.min(exponent[a]!, pat.exponent[designIdx[a]!]!);
+      }
+      const down = new Float64Array(d);
+      for (const pat of included) {
         count += pat.count;
         const sums = pat.sums;
         const cross = pat.cross;
         const pos = pat.pos;
         const dp = sums.length;
-        for (let a = 0; a < d; a++) local[a] = pos[designIdx[a]!]!;
+        let same = true;
+        for (let a = 0; a < d; a++) {
+          local[a] = pos[designIdx[a]!]!;
+          // 2^(E − E_p) ≤ 1: this pattern's sums in the request's units (0 below the double range)
+          down[a] = 2 ** (exponent[a]! - pat.exponent[designIdx[a]!]!);
+          if (down[a] !== 1) same = false;
+        }
         for (let a = 0; a < d; a++) {
           const pa = local[a]!;
-          S[a] += sums[pa]!;
           const row = pa * dp;
           const out = a * d;
-          for (let b = 0; b <= a; b++) C[out + b] += cross[row + local[b]!]!;
+          if (same) {
+            S[a] += sums[pa]!;
+            for (let b = 0; b <= a; b++) C[out + b] += cross[row + local[b]!]!;
+          } else {
+            const fa = down[a]!;
+            S[a] += sums[pa]! * fa;
+            for (let b = 0; b <= a; b++) C[out + b] += cross[row + local[b]!]! * fa * down[b]!;
+          }
         }
       }
-      return finish(designIdx, count, S, C);
+      // columns equal to their shift in every pattern (or no pattern at all): their first power of two
+      for (let a = 0; a < d; a++) if (exponent[a] === NO_EXPONENT || included.length === 0) exponent[a] = pre[designIdx[a]!]!;
+      return finish(designIdx, count, S, C, exponent);
     };
     return {
       patterns: P,
@@ -643,8 +681,8 @@ export function accumulatePatternRange(pass: PatternPass, from: number, to: numb
     if (p >= 0) counts[p]!++;
   }
   const Z =
-    accumulateByPattern(pass.columns, pass.shift, pass.patternOfRow, from, to, counts, pass.observed, pass.maxStagingBytes, pass.simd) ??
-    accumulateSorted(new CrossProductKernel(pass.columns, pass.shift), pass.patternOfRow, from, to, counts, pass.observed);
+    accumulateByPattern(pass.columns, pass.shift, pass.gains, pass.patternOfRow, from, to, counts, pass.observed, pass.maxStagingBytes, pass.simd) ??
+    accumulateSorted(new CrossProductKernel(pass.columns, pass.shift), pass.gains, pass.patternOfRow, from, to, counts, pass.observed);
   return { sums: Z.map((z) => z.sums), cross: Z.map((z) => z.cross) };
 }
 
@@ -675,6 +713,7 @@ interface PatternSums {
  */
 function accumulateSorted(
   kernel: CrossProductKernel,
+  gains: Float64Array,
   patternOfRow: Int32Array,
   from: number,
   to: number,
@@ -695,7 +734,8 @@ function accumulateSorted(
     const d = observed[p]!.length;
     const sums = new Float64Array(d);
     const cross = new Float64Array(d * d);
-    kernel.accumulate(order, start[p]!, start[p + 1]!, observed[p]!, sums, cross);
+    const D = gains.length / P;
+    kernel.accumulate(order, start[p]!, start[p + 1]!, observed[p]!, sums, cross, gains.subarray(p * D, (p + 1) * D));
     out.push({ sums, cross });
   }
   return out;
@@ -713,6 +753,7 @@ function accumulateSorted(
 function accumulateByPattern(
   design: readonly PassColumn[],
   shift: Float64Array,
+  gains: Float64Array,
   patternOfRow: Int32Array,
   from: number,
   to: number,
@@ -754,6 +795,8 @@ function accumulateByPattern(
   const blockCount = new Int32Array(P);
   const S = Array.from({ length: P }, () => new Float64Array(dpad));
   const rowBase = new Int32Array(BLOCK_ROWS);
+  /** gains[rowGain[r] + k] is row r's gain for design column k (its pattern's row of gains). */
+  const rowGain = new Int32Array(BLOCK_ROWS);
 
   const flush = (p: number): void => {
     const m = fill[p]!;
@@ -791,6 +834,7 @@ function accumulateByPattern(
         blockCount[p] = 0;
       }
       rowBase[r] = offOf[p]! + fill[p]!++ * dpad;
+      rowGain[r] = p * D;
     }
     for (let k = 0; k < D; k++) {
       const c = shift[k]!;
@@ -798,13 +842,13 @@ function accumulateByPattern(
       const f = factors[k]!;
       const term = terms[k];
       // (a basis column's term is never the linear one: that is the score column itself)
-      if (term !== undefined) stageBasis(stage, rowBase, s!, f, i0, len, k, c, term);
+      if (term !== undefined) stageBasis(stage, rowBase, rowGain, gains, s!, f, i0, len, k, c, term);
       else if (s !== undefined) {
         for (let r = 0; r < len; r++) {
           const o = rowBase[r]!;
           if (o < 0) continue;
           const v = s[i0 + r]!;
-          stage[o + k] = v === v ? v * f - c : 0;
+          stage[o + k] = v === v ? (v * f - c) * gains[rowGain[r]! + k]! : 0;
         }
       } else {
         const codes = design[k]!.codes!;
@@ -837,17 +881,19 @@ function accumulateByPattern(
 
 /**
  * Stage basis-term values of one design column (a hinge or a spline term, its knots scaled by
- * f) for a block of rows: stage[rowBase[r] + k] = term(f·s[i0 + r]) − c, 0 where s is missing;
- * rows with rowBase −1 are skipped. Cost: O(len).
+ * f) for a block of rows: stage[rowBase[r] + k] = (term(f·s[i0 + r]) − c)·gain, 0 where s is
+ * missing, the gain that of the row's pattern; rows with rowBase −1 are skipped. Cost: O(len).
  */
-function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, f: number, i0: number, len: number, k: number, c: number, term: BasisTerm): void {
+function stageBasis(
+  stage: Float64Array, rowBase: Int32Array, rowGain: Int32Array, gains: Float64Array, s: Float64Array, f: number, i0: number, len: number, k: number, c: number, term: BasisTerm,
+): void {
   if (term.kind === "hinge") {
     const t = term.knot;
     for (let r = 0; r < len; r++) {
       const o = rowBase[r]!;
       if (o < 0) continue;
       const v = s[i0 + r]! * f;
-      stage[o + k] = v === v ? (v > t ? v - t : 0) - c : 0;
+      stage[o + k] = v === v ? ((v > t ? v - t : 0) - c) * gains[rowGain[r]! + k]! : 0;
     }
   } else if (term.kind === "spline") {
     const sc = splineConstants(term);
@@ -855,7 +901,7 @@ function stageBasis(stage: Float64Array, rowBase: Int32Array, s: Float64Array, f
       const o = rowBase[r]!;
       if (o < 0) continue;
       const v = s[i0 + r]! * f;
-      stage[o + k] = v === v ? splineAt(v, sc) - c : 0;
+      stage[o + k] = v === v ? (splineAt(v, sc) - c) * gains[rowGain[r]! + k]! : 0;
     }
   }
 }
@@ -917,8 +963,11 @@ class CrossProductKernel {
     this.scratch = new Float64Array(dpad * dpad);
   }
 
-  /** Add rows[from, to) over design columns `cols` into sums (d) and cross (d × d, lower triangle). */
-  accumulate(rows: Int32Array, from: number, to: number, cols: readonly number[], sums: Float64Array, cross: Float64Array): void {
+  /**
+   * Add rows[from, to) over design columns `cols` into sums (d) and cross (d × d, lower triangle),
+   * each column's values times its gain (`gains[design index]`).
+   */
+  accumulate(rows: Int32Array, from: number, to: number, cols: readonly number[], sums: Float64Array, cross: Float64Array, gains: ArrayLike<number>): void {
     const d = cols.length;
     const dpad = Math.ceil(d / 4) * 4;
     const X = this.tile;
@@ -930,6 +979,7 @@ class CrossProductKernel {
       for (let k = 0; k < d; k++) {
         const src = this.design[cols[k]!]!;
         const c = this.shift[cols[k]!]!;
+        const g = gains[cols[k]!]!;
         const off = k * TILE;
         if (src.term) {
           const s = src.scores!;
@@ -937,15 +987,15 @@ class CrossProductKernel {
           for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]! * f;
           const view = X.subarray(off, off + m);
           fillBasisValues(src.term, view, view);
-          for (let t = 0; t < m; t++) X[off + t] = X[off + t]! - c;
+          for (let t = 0; t < m; t++) X[off + t] = (X[off + t]! - c) * g;
         } else if (src.scores) {
           const s = src.scores;
           const f = src.factor;
-          for (let t = 0; t < m; t++) X[off + t] = s[rows[t0 + t]!]! * f - c;
+          for (let t = 0; t < m; t++) X[off + t] = (s[rows[t0 + t]!]! * f - c) * g;
         } else {
           const codes = src.codes!;
           const level = src.level;
-          for (let t = 0; t < m; t++) X[off + t] = (codes[rows[t0 + t]!] === level ? 1 : 0) - c;
+          for (let t = 0; t < m; t++) X[off + t] = ((codes[rows[t0 + t]!] === level ? 1 : 0) - c) * g;
         }
         let s = 0;
         for (let t = 0; t < m; t++) s += X[off + t]!;
@@ -990,6 +1040,91 @@ class CrossProductKernel {
     }
     for (let i = 0; i < d; i++) for (let j = 0; j <= i; j++) cross[i * d + j] += Z[i * dpad + j]!;
   }
+}
+
+/**
+ * The gains of the rows' patterns: per pattern p and design column j it observes, the exponent g
+ * for which max |T(v·2^p_j) − c_j| over the pattern's rows times 2^g lies in [0.5, 1) (0 for an
+ * indicator), and E = p_j + g, the exponent of the units of the pattern's sums (NO_EXPONENT for a
+ * column equal to c_j throughout p). Basis terms are nondecreasing in v (a hinge plainly; a natural
+ * spline term's derivative is a concave quadratic between its last two knots and nonnegative at
+ * both), so the pattern's smallest and largest value of the variable give the largest |T − c|.
+ * Cost: O(n · S + P · D) for S score arrays (values or mid-ranks).
+ */
+function patternGains(design: readonly DesignSource[], shift: Float64Array, patternOfRow: Int32Array, P: number, observed: readonly number[][]): { gains: Float64Array; exponents: Int32Array } {
+  const D = design.length;
+  // the smallest and largest value of each score array per pattern
+  const ranges = new Map<Float64Array, { lo: Float64Array; hi: Float64Array }>();
+  for (const src of design) {
+    if (!src.scores || ranges.has(src.scores)) continue;
+    const s = src.scores;
+    const lo = new Float64Array(P).fill(Infinity);
+    const hi = new Float64Array(P).fill(-Infinity);
+    for (let i = 0; i < patternOfRow.length; i++) {
+      const p = patternOfRow[i]!;
+      if (p < 0) continue;
+      const v = s[i]!;
+      if (v < lo[p]!) lo[p] = v;
+      if (v > hi[p]!) hi[p] = v;
+    }
+    ranges.set(s, { lo, hi });
+  }
+  const gains = new Float64Array(P * D).fill(1);
+  const exponents = new Int32Array(P * D);
+  const deviation = design.map((src, j) => (src.scores ? deviationOf(src, shift[j]!) : undefined));
+  const range = design.map((src) => (src.scores ? ranges.get(src.scores)! : undefined));
+  for (let p = 0; p < P; p++) {
+    for (const j of observed[p]!) {
+      const dev = deviation[j];
+      const r = range[j];
+      const top = dev && r ? dev(r.lo[p]!, r.hi[p]!) : 1;
+      // a column equal to its shift throughout the pattern sets no units (its sums are 0)
+      const g = top > 0 ? (dev ? scaleExponent(top) : 0) : undefined;
+      gains[p * D + j] = g === undefined ? 1 : 2 ** g;
+      exponents[p * D + j] = g === undefined ? NO_EXPONENT : design[j]!.exponent + g;
+    }
+  }
+  return { gains, exponents };
+}
+
+/**
+ * max |T(v·2^p) − c| over values lo..hi of a scored column (T its basis term or the identity,
+ * nondecreasing), as a function of (lo, hi); 0 when lo > hi (no values). Cost: O(1) per call.
+ */
+function deviationOf(src: PassColumn, c: number): (lo: number, hi: number) => number {
+  const f = src.factor;
+  const term = src.term;
+  const at =
+    term === undefined || term.kind === "linear"
+      ? (v: number) => v * f
+      : term.kind === "hinge"
+        ? (v: number) => Math.max(0, v * f - term.knot)
+        : ((k) => (v: number) => splineAt(v * f, k))(splineConstants(term));
+  return (lo, hi) => (lo <= hi ? Math.max(Math.abs(at(lo) - c), Math.abs(at(hi) - c)) : 0);
+}
+
+
+
+/**
+ * The median of an array's observed values over evenly spaced rows within the filter (at most
+ * MEDIAN_ROWS of them; the first such row when none of them is observed; undefined when no row is).
+ * Any value amid the bulk of the rows serves as a shift, and a median is not pulled away from it
+ * by a few extreme values. Cost: O(n / step + m log m) for m ≤ MEDIAN_ROWS values.
+ */
+function sampleMedian(s: Float64Array, n: number, filter: Uint8Array | undefined): number | undefined {
+  const step = Math.max(1, Math.floor(n / MEDIAN_ROWS));
+  const picked = new Float64Array(Math.ceil(n / step));
+  let m = 0;
+  for (let i = 0; i < n; i += step) {
+    const v = s[i]!;
+    if (v === v && (!filter || filter[i] !== 0)) picked[m++] = v;
+  }
+  if (m === 0) {
+    for (let i = 0; i < n; i++) if (s[i] === s[i] && (!filter || filter[i] !== 0)) return s[i]!;
+    return undefined;
+  }
+  const vals = picked.subarray(0, m).sort();
+  return vals[m >> 1]!;
 }
 
 function isObserved(mask: Uint32Array, variable: number): boolean {

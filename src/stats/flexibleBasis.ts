@@ -20,6 +20,8 @@
  * values can still duplicate the linear term, and the regressions then drop it as aliased).
  */
 
+import { timesPowerOfTwo } from "./powerOfTwoScale.js";
+
 /** One basis term of a continuous variable. */
 export type BasisTerm =
   | { kind: "linear" }
@@ -159,6 +161,17 @@ export function scaleBasisTerm(term: BasisTerm, factor: number): BasisTerm {
   if (factor === 1 || term.kind === "linear") return term;
   if (term.kind === "hinge") return { kind: "hinge", knot: term.knot * factor };
   return { kind: "spline", knots: term.knots.map((t) => t * factor), j: term.j };
+}
+
+/**
+ * {@link scaleBasisTerm} by 2^e for any integer e, also where 2^e itself is not a double (knots
+ * times 2^e by `timesPowerOfTwo`). Cost: O(knots).
+ * @example scaleBasisTermByExponent({ kind: "hinge", knot: 3 }, -1) // { kind: "hinge", knot: 1.5 }
+ */
+export function scaleBasisTermByExponent(term: BasisTerm, e: number): BasisTerm {
+  if (e === 0 || term.kind === "linear") return term;
+  if (term.kind === "hinge") return { kind: "hinge", knot: timesPowerOfTwo(term.knot, e) };
+  return { kind: "spline", knots: term.knots.map((t) => timesPowerOfTwo(t, e)), j: term.j };
 }
 
 /**

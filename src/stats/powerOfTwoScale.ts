@@ -46,8 +46,9 @@ export function scaleExponent(maxAbs: number): number {
   if (!(maxAbs > 0) || maxAbs === Infinity) return 0;
   // k with 2^(k−1) ≤ maxAbs < 2^k, corrected where log2 rounds across a power of two
   let k = Math.floor(Math.log2(maxAbs)) + 1;
-  if (timesPowerOfTwo(maxAbs, -k) >= 1) k++;
-  else if (timesPowerOfTwo(maxAbs, -k) < 0.5) k--;
+  const y = k >= -1022 && k <= MAX_SCALE_EXPONENT ? maxAbs * 2 ** -k : timesPowerOfTwo(maxAbs, -k);
+  if (y >= 1) k++;
+  else if (y < 0.5) k--;
   return Math.max(MIN_SCALE_EXPONENT, Math.min(MAX_SCALE_EXPONENT, -k)) || 0; // never −0
 }
 

@@ -3,7 +3,7 @@
  *
  * Terms. The *scaled twin* of the covariance matrix C of columns x_1..x_k holds the means and the
  * covariance of the scaled columns 2^(e_j)·x_j, e_j the column's scale exponent
- * (`powerOfTwoScale.ts`): C'_jk = 2^(e_j + e_k)·C_jk, but computed from the scaled values, so it is
+ * (`powerOfTwoScale.ts`; any exponents that bring the columns' values near 1): C'_jk = 2^(e_j + e_k)·C_jk, but computed from the scaled values, so it is
  * finite and exact where C itself overflowed to ±Infinity (values of 1e155 or more) or underflowed
  * to 0 or lost digits among the subnormal numbers (values near 1e-310). The pattern moments attach
  * the twin to every covariance they return. Functions whose result does not change when a column
@@ -20,6 +20,12 @@ export interface ScaledCovariance {
   readonly cov: Float64Array;
   /** The scale exponent of each column. */
   readonly exponent: Int32Array;
+  /**
+   * The point each column's sums were shifted by, in the same units, when known: cov_jj + (mean_j −
+   * shift_j)² is the second moment the sums were computed from, which bounds the rounding error of
+   * cov_jj (Chan, Golub & LeVeque 1983).
+   */
+  readonly shifts?: Float64Array;
 }
 
 const twins = new WeakMap<object, ScaledCovariance>();

@@ -113,6 +113,37 @@ describe("runAudit on extreme numbers, every --method", () => {
   });
 });
 
+describe("an extreme value on a row a claim leaves out does not change the claim", () => {
+  /** x ⫫ y | z on its complete rows, with z's cell on a row where x is missing set to `v`. */
+  function claimWith(t: Table, v: number | undefined, method: AuditSettings["method"]) {
+    const missingX = t.column("x")!.values.findIndex((x) => Number.isNaN(x));
+    const u = v === undefined ? t : mapColumnValues(t, ["z"], (z, i) => (i === missingX ? v : z));
+    const r = runAudit(createGraph({ arrows: [["z", "x"], ["z", "y"]] }), u, { settings: { method } });
+    const c = r.claims.find((k) => k.x === "x" && k.y === "y");
+    if (!c) throw new Error(`x ⫫ y | z untestable: ${JSON.stringify(r.untestable)}`);
+    return c;
+  }
+
+  it("z = 1e20, 1e200 or −1e308 where x is missing: linear and regression give the p-value of the ordinary cell (to 1e-9), and the default and rank tests their linear check's, never a contradiction (regression: the column's mean or scale was set by that cell, the claim's rows lost every digit, and the true claim was contradicted with p < 1e-10)", () => {
+    for (const [t, label] of [[base, "400 rows (row path)"], [cohort(25_000, 5), "25,000 rows (moment path)"]] as const) {
+      const ref = { linear: claimWith(t, undefined, "linear"), regression: claimWith(t, undefined, "regression") };
+      for (const v of [1e20, 1e200, -1e308]) {
+        for (const method of ["linear", "regression"] as const) {
+          const c = claimWith(t, v, method);
+          expect(Math.abs(c.p - ref[method].p), `${label}, z = ${v}, --method ${method}`).toBeLessThanOrEqual(1e-9 * ref[method].p);
+        }
+        for (const method of ["auto", "rank"] as const) {
+          const c = claimWith(t, v, method);
+          const lin = (c.details as { linear_adjustment?: { p: number } }).linear_adjustment!;
+          if (method === "auto") expect(Math.abs(lin.p - ref.linear.p), `${label}, z = ${v}: linear check`).toBeLessThanOrEqual(1e-9 * ref.linear.p); // the partial-correlation test on the same rows
+          expect(c.p, `${label}, z = ${v}, --method ${method}`).toBeGreaterThan(1e-3);
+          expect(c.verdict).toBe("consistent");
+        }
+      }
+    }
+  });
+});
+
 describe("linear-by-linear on ordinal scores at the ends of the double range", () => {
   it("two ordinal variables scored up to 1e200 and from −1e308 to 1e-310: tested with finite numbers, and details hold no value JSON writes as null (regression: T, E, V of ±Infinity)", () => {
     const rng = createRng(4, "ordinal extremes");

@@ -50,13 +50,13 @@ import type { IndexedDesignColumn, Moments } from "../../data/Moments.js";
 import { midRanks } from "../../data/rankColumns.js";
 import { lrEffect, lrEffectCIAtAlpha } from "../../stats/effectScale.js";
 import { chiSquareUpperQuantileLog } from "../../stats/quantiles.js";
-import { fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, scaleBasisTerm, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
+import { fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, scaleBasisTerm, scaleBasisTermByExponent, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
 import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
 import { gramMatrix } from "../../stats/gramMatrix.js";
 import { bestLevel, CONSTANT_TOLERANCE, NestedAdjustment } from "../../stats/nestedAdjustment.js";
 import { chiSquareUpper, logChiSquareUpper, logStudentTTwoSided, studentTTwoSided } from "../../stats/pvalues.js";
 import { createRng } from "../../stats/rng.js";
-import { columnScaleExponent } from "../../stats/powerOfTwoScale.js";
+import { columnScaleExponent, scaleExponent, timesPowerOfTwo } from "../../stats/powerOfTwoScale.js";
 import { scaledCovarianceOf } from "../../stats/scaledCovariance.js";
 import { cholesky, choleskySolve } from "../../stats/linalg.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
@@ -629,7 +629,12 @@ const shiftOf = new WeakMap<Float64Array, number>();
  * Cost: O(rows) the first time per array.
  */
 function rowPathFactor(c: ClaimColumn): number {
-  return c.code !== undefined ? 1 : 2 ** columnScaleExponent(c.values ?? c.column.values);
+  return 2 ** rowPathExponent(c);
+}
+
+/** The exponent of {@link rowPathFactor}. */
+function rowPathExponent(c: ClaimColumn): number {
+  return c.code !== undefined ? 0 : columnScaleExponent(c.values ?? c.column.values);
 }
 
 /**
@@ -679,10 +684,10 @@ const twoValuesMemo = new WeakMap<object, [number, number] | null>();
 /**
  * [a, b] when a side column takes exactly two distinct values a < b over every observed row of
  * its variable (a binary variable, a nominal side with one indicator, their mid-ranks), times
- * `factor` (the scale of the values they are compared with); else undefined. Cached per column
- * and kind. Cost: O(rows) the first time.
+ * 2^e (the scale of the values they are compared with); else undefined. Cached per column and
+ * kind. Cost: O(rows) the first time.
  */
-function twoValues(c: ClaimColumn, factor: number): [number, number] | undefined {
+function twoValues(c: ClaimColumn, e: number): [number, number] | undefined {
   if (c.code !== undefined) return [0, 1];
   const source: object = c.values ?? c.column;
   let found = twoValuesMemo.get(source);
@@ -702,7 +707,61 @@ function twoValues(c: ClaimColumn, factor: number): [number, number] | undefined
     if (i === v.length && b === b) found = a < b ? [a, b] : [b, a];
     twoValuesMemo.set(source, found);
   }
-  return found ? [found[0] * factor, found[1] * factor] : undefined;
+  return found ? [timesPowerOfTwo(found[0], e), timesPowerOfTwo(found[1], e)] : undefined;
+}
+
+/** The exponent e of a shifted array: its entries plus its shift are the column's values times 2^e. */
+const exponentOfShifted = new WeakMap<Float64Array, number>();
+
+/** Below this share of their second moment about the shift, a column's variance on a claim's rows has lost over half its digits. */
+const CANCELLATION_SHARE = 2 ** -26;
+/** A column's second moment on a claim's rows below this is near the bottom of the double range. */
+const TINY_SECOND_MOMENT = 2 ** -400;
+
+/**
+ * Whether a shifted column (`shiftedValues`) is fit for a claim's rows, from its Gram entries
+ * there: its sum of squares `gg` and its sum `s` over the n rows. Not fit when its variance there
+ * is below CANCELLATION_SHARE of its second moment about the shift (the shift, the mean of the
+ * whole column, lies far from these rows: one value of 1e20 among values near 1 on a row the
+ * claim leaves out), or when the second moment is below TINY_SECOND_MOMENT (the column's scale
+ * was set by such a value); 0 is fit (the column is 0 on these rows). Cost: O(1).
+ */
+function fitForRows(gg: number, s: number, n: number): boolean {
+  return gg === 0 || (gg >= TINY_SECOND_MOMENT && gg - (s * s) / n >= CANCELLATION_SHARE * gg);
+}
+
+/**
+ * A claim column's values shifted and scaled for the claim's rows alone (for a column not
+ * {@link fitForRows}): at the rows of `idx`, (u − m)·2^g with u the values scaled as on the row
+ * path, m their mean over these rows and 2^g the power of two that brings the largest |u − m| into
+ * [0.5, 1); 0 elsewhere. Its shift (m·2^g) and exponent are recorded as for `shiftedValues`.
+ * Cost: O(rows).
+ */
+function claimShiftedValues(c: ClaimColumn, idx: Int32Array, rows: number): Float64Array {
+  const n = idx.length;
+  const u = new Float64Array(n);
+  const e0 = rowPathExponent(c);
+  if (c.code !== undefined) {
+    const codes = c.column.codes!;
+    for (let t = 0; t < n; t++) u[t] = codes[idx[t]!] === c.code ? 1 : 0;
+  } else {
+    const f = 2 ** e0;
+    const src = c.values ?? c.column.values;
+    for (let t = 0; t < n; t++) u[t] = src[idx[t]!]! * f;
+    if (c.term) fillBasisValues(scaleBasisTerm(c.term, f), u, u);
+  }
+  let sum = 0;
+  for (let t = 0; t < n; t++) sum += u[t]!;
+  const m = n > 0 ? sum / n : 0;
+  let top = 0;
+  for (let t = 0; t < n; t++) top = Math.max(top, Math.abs(u[t]! - m));
+  const g = top > 0 ? scaleExponent(top) : 0;
+  const k = 2 ** g;
+  const v = new Float64Array(rows);
+  for (let t = 0; t < n; t++) v[idx[t]!] = (u[t]! - m) * k;
+  shiftOf.set(v, m * k);
+  exponentOfShifted.set(v, e0 + g);
+  return v;
 }
 
 function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext, maxLevel = MAX_BASIS_LEVEL): MethodResult {
@@ -727,9 +786,17 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
   const ones = onesColumn(ctx.table.rows);
   const sideAll = [...sides[0], ...sides[1]];
   const sideVals = sideAll.map(shiftedValues);
-  const sideGram = gramMatrix([...sideVals, ones], idx);
+  let sideGram = gramMatrix([...sideVals, ones], idx);
   const sq = sideAll.length;
   const sideSum = (r: number) => sideGram[r * (sq + 1) + sq]!;
+  // columns whose whole-column shift or scale does not suit these rows get their own
+  let refit = false;
+  sideAll.forEach((c, r) => {
+    if (fitForRows(sideGram[r * (sq + 1) + r]!, sideSum(r), n)) return;
+    sideVals[r] = claimShiftedValues(c, idx, ctx.table.rows);
+    refit = true;
+  });
+  if (refit) sideGram = gramMatrix([...sideVals, ones], idx);
   const varies = sideAll.map((_, r) => {
     const g = sideGram[r * (sq + 1) + r]!;
     return g - (sideSum(r) * sideSum(r)) / n > 1e-14 * g;
@@ -765,10 +832,19 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
     for (; j < A && adjustment[j]!.level === level; j++);
     if (level > gramLevel) {
       gramLevel = level === 0 ? Math.min(cap, 2) : level;
+      const fromCol = gramCols;
       while (gramCols < A && adjustment[gramCols]!.level <= gramLevel) vectors.push(shiftedValues(adjustment[gramCols++]!));
       const all = [...vectors, ...respVals, ones];
       d = all.length;
       G = gramMatrix(all, idx);
+      // as for the sides: the new columns that do not suit these rows get their own shift and scale
+      let again = false;
+      for (let a = fromCol; a < gramCols; a++) {
+        if (fitForRows(G[a * d + a]!, G[a * d + d - 1]!, n)) continue;
+        vectors[a] = all[a] = claimShiftedValues(adjustment[a]!, idx, ctx.table.rows);
+        again = true;
+      }
+      if (again) G = gramMatrix(all, idx);
     }
     // the sides sit after the gram's adjustment columns
     const side = (r: number) => gramCols + r;
@@ -808,7 +884,7 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
     adjustment: (c) => ({ offset: slot.get(c)! * n, mean: sums[c]! / n }),
     side: (r) => {
       const c = respCols[r]!;
-      const two = twoValues(c, rowPathFactor(c));
+      const two = twoValues(c, exponentOfShifted.get(respVals[r]!) ?? rowPathExponent(c));
       return { offset: (used.length + r) * n, mean: respSums[r]! / n, shift: shiftOf.get(respVals[r]!)!, ...(two ? { twoPoint: two } : {}) };
     },
   };
@@ -913,11 +989,11 @@ function momentLayout(name: TestName, cols: Column[], ctx: TestContext): Layout 
 }
 
 /**
- * Moments in the scale the pattern moments summed them in (each design column times 2^e, its
- * scale exponent: `stats/scaledCovariance.ts`), finite where the unscaled ones overflow; moments
+ * Moments in the units the pattern moments added them in (each design column times 2^e:
+ * `stats/scaledCovariance.ts`), finite where the unscaled ones overflow or underflow; moments
  * without a scaled twin are taken as they are (exponent 0).
  */
-function scaledMoments(m: Moments): { means: Float64Array; cov: Float64Array; exponent: Int32Array } {
+function scaledMoments(m: Moments): { means: Float64Array; cov: Float64Array; exponent: Int32Array; shifts?: Float64Array } {
   return scaledCovarianceOf(m.cov) ?? { means: m.means, cov: m.cov, exponent: new Int32Array(m.means.length) };
 }
 
@@ -959,17 +1035,21 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted([claim.x, claim.y, ...claim.given])} observed` };
   // the fit and the variance pass work in the moments' scaled units (see `scaledMoments`)
   const m = scaledMoments(moments);
-  const factorOf = (a: number): number => 2 ** m.exponent[a]!;
+  const exponentOf = (a: number): number => m.exponent[a]!;
   const A = adjustment.length;
   const d = idx.length;
   const cov = (a: number, b: number) => m.cov[a * d + b]!;
-  // Side columns that vary among the complete rows. Each column's scale: its variance over all its variable's observed rows plus the squared
-  // distance of its mean on the complete rows from its overall mean, which bounds the rounding
-  // error of its variance on the complete rows (the moments' shifts are near the overall means);
-  // a variance below CONSTANT_TOLERANCE of it is a column constant on the complete rows.
-  const overall = overallMoments(ctx);
+  // Side columns that vary among the complete rows. Each column's scale bounds the rounding error
+  // of its variance on the complete rows: the second moment about the point its sums were shifted
+  // by, cov + (mean − shift)² (moments without shifts: its variance over all its variable's
+  // observed rows plus the squared distance of its mean here from its overall mean, as those
+  // moments' shifts are near the overall means); a variance below CONSTANT_TOLERANCE of it is a
+  // column constant on the complete rows.
+  const shifts = m.shifts;
+  const overall = shifts ? undefined : overallMoments(ctx);
   const columnScale = (a: number): number => {
-    const o = overall(idx[a]!);
+    if (shifts) return cov(a, a) + (m.means[a]! - shifts[a]!) ** 2;
+    const o = overall!(idx[a]!);
     return o.variance + (m.means[a]! - o.mean) ** 2;
   };
   const keepSide = sideList.map((_, r) => cov(A + r, A + r) > CONSTANT_TOLERANCE * columnScale(A + r));
@@ -1013,11 +1093,11 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
     ...(m2 < n ? { sampled: true } : {}),
     ...(m2 !== cache.size ? { index: complete } : {}),
     data: () => cache.data(),
-    adjustment: (j) => ({ offset: cache.offset(adjustment[j]!, factorOf(j)), mean: m.means[j]! }),
+    adjustment: (j) => ({ offset: cache.offset(adjustment[j]!, exponentOf(j)), mean: m.means[j]! }),
     side: (r) => {
-      const f = factorOf(respPos[r]!);
-      const two = twoValues(sidesKept[r]!, f);
-      return { offset: cache.offset(sidesKept[r]!, f), mean: m.means[respPos[r]!]!, shift: 0, ...(two ? { twoPoint: two } : {}) };
+      const e = exponentOf(respPos[r]!);
+      const two = twoValues(sidesKept[r]!, e);
+      return { offset: cache.offset(sidesKept[r]!, e), mean: m.means[respPos[r]!]!, shift: 0, ...(two ? { twoPoint: two } : {}) };
     },
   };
   // the moments' rows are tested on the rows when the sample does not represent them
@@ -1031,8 +1111,8 @@ interface SampleCache {
   size: number;
   /** Positions (into the sample) of the sampled rows complete on all the columns. */
   completeOn(cols: readonly Column[]): Int32Array;
-  /** Where a claim column's values times `factor` (a power of two) on every sampled row start in `data()` (NaN where its variable is missing). */
-  offset(c: ClaimColumn, factor: number): number;
+  /** Where a claim column's values times 2^e on every sampled row start in `data()` (NaN where its variable is missing). */
+  offset(c: ClaimColumn, e: number): number;
   /** The buffer of the sampled columns (a new one after `offset` has added columns). */
   data(): Float64Array;
 }
@@ -1074,8 +1154,8 @@ function sampleCache(ctx: TestContext): SampleCache {
       for (let t = 0, u = 0; t < M; t++) if ((and[t >>> 5]! >>> (t & 31)) & 1) out[u++] = t;
       return out;
     },
-    offset(c, factor) {
-      const k = `${c.variable}\u0000${c.values ? "rank" : "value"}\u0000${termKey(c)}\u0000${factor}`;
+    offset(c, e) {
+      const k = `${c.variable}\u0000${c.values ? "rank" : "value"}\u0000${termKey(c)}\u0000${e}`;
       let at = byColumn.get(k);
       if (at === undefined) {
         if ((used + 1) * M > buffer.length) {
@@ -1093,8 +1173,8 @@ function sampleCache(ctx: TestContext): SampleCache {
           }
         } else {
           const src = c.values ?? c.column.values;
-          for (let t = 0; t < M; t++) view[t] = src[sample[t]!]! * factor;
-          if (c.term) fillBasisValues(scaleBasisTerm(c.term, factor), view, view);
+          for (let t = 0; t < M; t++) view[t] = timesPowerOfTwo(src[sample[t]!]!, e);
+          if (c.term) fillBasisValues(scaleBasisTermByExponent(c.term, e), view, view);
           // a categorical column's missing cells are marked by codes, not by NaN values
           if (c.column.codes && CATEGORICAL_TYPES.has(c.column.type)) for (let t = 0; t < M; t++) if (c.column.codes[sample[t]!]! < 0) view[t] = NaN;
         }
