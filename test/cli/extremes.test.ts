@@ -60,6 +60,14 @@ const cases: Case[] = [
       absent: "constant",
     })),
   ),
+  ...methods.map((m) => ({
+    name: `z = 1e200 on the row where x is missing leaves x ⫫ y | z as on ordinary data, --method ${m} (regression: contradicted with p < 1e-10, or 'z is constant')`,
+    argv: ["test", "g.txt", "left-out.csv", "--method", m, "--csv"],
+    files: { "g.txt": GRAPH, "left-out.csv": cohortCsv((r, i) => i === 40 && ((r.x = NaN), (r.z = 1e200))).replace(/^NaN,/mu, ",") },
+    code: 0,
+    fragment: ',x,y,"[""z""]",199,',
+    absent: ",contradicted,",
+  })),
   {
     name: "a column of distinct values near 1e-310 is tested, not reported constant (regression: 'w is constant')",
     argv: ["test", "g.txt", "tiny.csv", "--json"],
