@@ -275,7 +275,59 @@ const ROWS: Row[] = [
   { pins: "a results document without claims is refused", files: { "g.txt": CHAIN, "r.json": "{}" }, argv: ["draw", "g.txt", "--results", "r.json"], code: 2, stderr: '"claims" is missing; expected a list of claims' },
   { pins: "a results file that is not JSON is refused", files: { "g.txt": CHAIN, "r.json": "{claims" }, argv: ["draw", "g.txt", "--results", "r.json"], code: 2, stderr: "r.json: not a JSON document" },
   { pins: "a valid results file draws its contradiction", files: { "g.txt": CHAIN, "r.json": results([aClaim, { ...aClaim, verdict: "consistent", rank: 2 }]) }, argv: ["draw", "g.txt", "--results", "r.json"], code: 0, stdout: 'class="contradiction" data-x="age" data-y="sbp"' },
+
+  // 10. Reading data files as they come from spreadsheets, statistics packages and other countries (readingCsv below).
+  { pins: "a header over 1 MiB (9,003 columns) was cut, and its last columns reported missing", files: { "g.txt": CHAIN, "d.csv": wideCsv(9_003) }, argv: ["test", "g.txt", "d.csv"], code: 0, stdout: "d.csv: 60 rows read" },
+  { pins: "decimal commas in a ;-file read without --decimal-comma became nominal columns tested by chi-square", files: { "g.txt": CHAIN, "d.csv": readingCsv({ sep: ";", mark: "," }) }, argv: ["test", "g.txt", "d.csv"], code: 2, stderr: /d\.csv:2: column "age" has 60 numbers written with a decimal comma .*; read it with --decimal-comma/ },
+  { pins: "the same file with --decimal-comma is read as numbers", files: { "g.txt": CHAIN, "d.csv": readingCsv({ sep: ";", mark: "," }) }, argv: ["test", "g.txt", "d.csv", "--decimal-comma"], code: 0, stdout: "age (continuous*), bmi (continuous*), sbp (continuous*)" },
+  { pins: "a UTF-16 file without a byte-order mark got 'did you mean' the same names", files: { "g.txt": CHAIN, "d.csv": new Uint8Array(Buffer.from(readingCsv(), "utf16le")) }, argv: ["test", "g.txt", "d.csv"], code: 2, stderr: "d.csv:1: the file is not UTF-8 text: line 1 has a NUL byte (0x00); every other byte is NUL, so this looks like UTF-16" },
+  { pins: "a UTF-16 file with a byte-order mark (a spreadsheet's Unicode text) is read", files: { "g.txt": CHAIN, "d.csv": new Uint8Array(Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(readingCsv(), "utf16le")])) }, argv: ["test", "g.txt", "d.csv"], code: 0, stdout: "d.csv: 60 rows read" },
+  { pins: "a Latin-1 byte in the data is an input error naming the file and its line", files: { "g.txt": CHAIN, "d.csv": Uint8Array.from(readingCsv({ extra: ["town", (i) => (i === 41 ? "Z\u00fcrich" : "Bergen")] }), (c) => c.charCodeAt(0)) }, argv: ["test", "g.txt", "d.csv"], code: 2, stderr: "d.csv:43: the file is not UTF-8 text: line 43 has the byte 0xFC, which is not valid UTF-8; save the file as CSV UTF-8" },
+  { pins: "a binary file (a spreadsheet saved as .csv) is not UTF-8 text, with the hint", files: { "g.txt": CHAIN, "d.csv": Uint8Array.of(0x50, 0x4b, 0x03, 0x04, 0x14, 0x00, 0x06, 0x00, 0x08, 0x00) }, argv: ["test", "g.txt", "d.csv"], code: 2, stderr: "looks like a spreadsheet or ZIP archive" },
+  { pins: "a graph name in NFC against a header in NFD got 'âge (did you mean âge?)'", files: { "g.txt": "\u00e2ge -> bmi -> sbp\n", "d.csv": readingCsv({ names: ["a\u0302ge", "bmi", "sbp"] }) }, argv: ["test", "g.txt", "d.csv"], code: 0, stdout: /they were matched after normalising\s+both to NFC/ },
+  { pins: "two columns whose names differ only in Unicode form are an input error", files: { "g.txt": CHAIN, "d.csv": readingCsv({ extra: ["a\u0302ge", () => "1"], names: ["\u00e2ge", "bmi", "sbp"] }) }, argv: ["claims", "g.txt", "--columns", "d.csv"], code: 2, stderr: "written in two Unicode forms (NFC and NFD)" },
+  { pins: "--decimal-comma --delimiter , is a usage error whatever the file holds", files: { "g.txt": CHAIN }, argv: ["test", "g.txt", "nothere.csv", "--decimal-comma", "--delimiter", ","], code: 1, stderr: "--decimal-comma needs a semicolon or tab delimiter" },
+  { pins: "--decimal-comma on a comma-separated file said '--columns: column \"age\" is not in the file header'", files: { "g.txt": CHAIN, "d.csv": readingCsv() }, argv: ["test", "g.txt", "d.csv", "--decimal-comma"], code: 1, stderr: "d.csv:1: --decimal-comma is for files separated by semicolons or tabs, but this header is separated by commas" },
+  { pins: "a ragged row reported '--columns: column \"age\" is not in the file header', an option never given", files: { "g.txt": CHAIN, "d.csv": "age,bmi,sbp\n1,2\n" }, argv: ["test", "g.txt", "d.csv"], code: 2, stderr: "d.csv:2: row has 2 fields but the header has 3; check the delimiter and quoting on this line" },
+  { pins: "a header-only file gave exit 0 and '0 rows read'", files: { "g.txt": CHAIN, "d.csv": "age,bmi,sbp\n" }, argv: ["test", "g.txt", "d.csv"], code: 2, stderr: "d.csv: the file has a header line but no data rows" },
+  { pins: "R's write.csv (an unnamed row-name column) was refused with 'column 1 has an empty name'", files: { "g.txt": CHAIN, "d.csv": readingCsv({ rNames: true }) }, argv: ["test", "g.txt", "d.csv"], code: 0, stdout: /column 1 has no name: it was read as row labels/ },
+  { pins: "--ignore leaves columns out of test", files: { "g.txt": CHAIN, "d.csv": readingCsv({ extra: ["id", (i) => `P${i}`] }) }, argv: ["test", "g.txt", "d.csv", "--ignore", "id"], code: 0, stdout: "d.csv: 60 rows read" },
+  { pins: "--ignore naming a measured node of the graph is a usage error saying what to do", files: { "g.txt": CHAIN, "d.csv": readingCsv() }, argv: ["test", "g.txt", "d.csv", "--ignore", "bmi"], code: 1, stderr: '--ignore: "bmi" is a measured node of the graph, which the audit needs; remove it from --ignore, or declare it unmeasured (--unmeasured bmi)' },
+  { pins: "--ignore naming no column is a usage error with a suggestion", files: { "g.txt": CHAIN, "d.csv": readingCsv({ extra: ["id", (i) => `P${i}`] }) }, argv: ["test", "g.txt", "d.csv", "--ignore", "ID"], code: 1, stderr: '--ignore: column "ID" is not in the file header (age, bmi, sbp, id); did you mean "id"?' },
+  { pins: "an ID-like column in a claim took 34 s to end untestable; it is named up front with --ignore", files: { "g.txt": "age -> pid -> sbp\n", "d.csv": readingCsv({ names: ["age", "bmi", "sbp"], extra: ["pid", (i) => `P${i}`] }) }, argv: ["test", "g.txt", "d.csv", "--ignore", "bmi"], code: 0, stdout: /column "pid" has 60 levels among 60 observed rows \(more than half of them, and more than\s+50\), like an identifier, so claims that involve it cannot be tested; leave it out \(--ignore pid,\s+or --unmeasured pid/ },
+  { pins: "per-column missing codes: 0 is unknown in fage, a real value in kids", files: { "g.txt": "fage -> kids -> sbp\n", "d.csv": readingCsv({ names: ["fage", "kids", "sbp"], zeros: true }) }, argv: ["test", "g.txt", "d.csv", "--missing", "fage=0,-9", "--json"], code: 0, check: (r) => expect(JSON.parse(r.stdout).variables.map((v: { name: string; missing: number }) => [v.name, v.missing])).toEqual([["fage", 6], ["kids", 0], ["sbp", 0]]) },
+  { pins: "a numeric sentinel far outside a column's values is named with the --missing that declares it", files: { "g.txt": GRAPH, "d.csv": COHORT }, argv: ["test", "g.txt", "d.csv", "--levels", "education=primary|secondary|tertiary"], code: 0, stdout: /column "sbp" has 65 cells of 999, beyond its other values \(71 to 178\) by more than their\s+interquartile range \(20\)/ },
+  { pins: "an unclosed quote in --missing is a usage error", files: { "g.txt": CHAIN, "d.csv": readingCsv() }, argv: ["test", "g.txt", "d.csv", "--missing", '"open'], code: 1, stderr: "--missing: a double quote is never closed" },
+  { pins: "a column named constructor with --types, --levels and --missing crashed ('declaredLevels is not iterable')", files: { "g.txt": "constructor -> __proto__ -> toString\n", "d.csv": readingCsv({ names: ["constructor", "__proto__", "toString"], zeros: true }) }, argv: ["test", "g.txt", "d.csv", "--types", "constructor=continuous,toString=continuous", "--levels", "__proto__=0|1|2|3", "--missing", "constructor=0"], code: 0, stdout: "variables: constructor (continuous, 6 missing), __proto__ (ordinal), toString (continuous)" },
 ];
+
+/**
+ * A seeded CSV of 60 rows for the reading rows: age, bmi, sbp (or `names`), written with `sep`
+ * and decimal `mark`, optionally with R's unnamed row-name column first, `extra` columns (a
+ * name and a cell per row index), or zeros in the first column every tenth row.
+ */
+function readingCsv(o: { sep?: string; mark?: string; names?: string[]; rNames?: boolean; extra?: [string, (i: number) => string]; zeros?: boolean } = {}): string {
+  const sep = o.sep ?? ",";
+  let s = 11;
+  const rnd = () => ((s = (s * 16807) % 2147483647) / 2147483647);
+  const head = [...(o.rNames ? ['""'] : []), ...(o.names ?? ["age", "bmi", "sbp"]), ...(o.extra ? [o.extra[0]] : [])];
+  const lines = [head.join(sep)];
+  for (let i = 0; i < 60; i++) {
+    const age = 40 + rnd() * 40;
+    const bmi = 20 + rnd() * 10;
+    const sbp = 100 + 0.5 * age + bmi + rnd() * 10;
+    const cells = [o.zeros && i % 10 === 0 ? "0" : age.toFixed(1), o.zeros ? String(Math.floor(rnd() * 4)) : bmi.toFixed(2), sbp.toFixed(1)].map((c) => c.replace(".", o.mark ?? "."));
+    lines.push([...(o.rNames ? [`"${i + 1}"`] : []), ...cells, ...(o.extra ? [o.extra[1](i)] : [])].join(sep));
+  }
+  return lines.join("\n") + "\n";
+}
+
+/** A CSV whose header holds `n` columns of about 126 characters (over 1 MiB for 9,003), age, bmi and sbp last. */
+function wideCsv(n: number): string {
+  const base = readingCsv().trimEnd().split("\n").map((l) => l.split(","));
+  const pad = Array.from({ length: n - 3 }, (_, i) => `unused_${String(i).padStart(5, "0")}_${"x".repeat(112)}`);
+  return base.map((cells, r) => [...(r === 0 ? pad : pad.map((_, i) => String(i % 10))), ...cells].join(",")).join("\n") + "\n";
+}
 
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-catalogue-"));
 if (IS_ROOT) chmodSync(work, 0o755); // rows run as another user must reach their folder
