@@ -724,10 +724,14 @@ const TINY_SECOND_MOMENT = 2 ** -400;
  * is below CANCELLATION_SHARE of its second moment about the shift (the shift, the mean of the
  * whole column, lies far from these rows: one value of 1e20 among values near 1 on a row the
  * claim leaves out), or when the second moment is below TINY_SECOND_MOMENT (the column's scale
- * was set by such a value); 0 is fit (the column is 0 on these rows). Cost: O(1).
+ * was set by such a value, and squares of the values here may have underflowed to 0) unless every
+ * value on these rows is 0. Cost: O(1), or O(n) when the second moment is tiny.
  */
-function fitForRows(gg: number, s: number, n: number): boolean {
-  return gg === 0 || (gg >= TINY_SECOND_MOMENT && gg - (s * s) / n >= CANCELLATION_SHARE * gg);
+function fitForRows(gg: number, s: number, vec: Float64Array, idx: Int32Array): boolean {
+  const n = idx.length;
+  if (gg >= TINY_SECOND_MOMENT) return gg - (s * s) / n >= CANCELLATION_SHARE * gg;
+  for (let t = 0; t < n; t++) if (vec[idx[t]!] !== 0) return false;
+  return true;
 }
 
 /**
@@ -792,7 +796,7 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
   // columns whose whole-column shift or scale does not suit these rows get their own
   let refit = false;
   sideAll.forEach((c, r) => {
-    if (fitForRows(sideGram[r * (sq + 1) + r]!, sideSum(r), n)) return;
+    if (fitForRows(sideGram[r * (sq + 1) + r]!, sideSum(r), sideVals[r]!, idx)) return;
     sideVals[r] = claimShiftedValues(c, idx, ctx.table.rows);
     refit = true;
   });
@@ -840,7 +844,7 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
       // as for the sides: the new columns that do not suit these rows get their own shift and scale
       let again = false;
       for (let a = fromCol; a < gramCols; a++) {
-        if (fitForRows(G[a * d + a]!, G[a * d + d - 1]!, n)) continue;
+        if (fitForRows(G[a * d + a]!, G[a * d + d - 1]!, all[a]!, idx)) continue;
         vectors[a] = all[a] = claimShiftedValues(adjustment[a]!, idx, ctx.table.rows);
         again = true;
       }
