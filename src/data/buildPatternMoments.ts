@@ -2,14 +2,14 @@
  * Pattern-grouped sufficient statistics for linear methods (see `Moments.ts` for the terms
  * *design column* and *pattern*).
  *
- * Each design column j gets a shift c_j, the mean of its observed values (of a sample of them
- * for rank and basis columns: any value near the mean serves). For every pattern p
+ * Each design column j gets a shift c_j, a value amid its observed values (the median of a sample
+ * of them, an indicator's mean; see "Extreme values" below). For every pattern p
  * we keep the row count n_p, the shifted sums S_p[j] = Σ (x_j − c_j) and the shifted
  * cross-products C_p[j,k] = Σ (x_j − c_j)(x_k − c_k) over the design columns observed in p.
  * For variables V, the rows complete on V are exactly the rows of the patterns that contain V,
  * so with n = Σ n_p, S = Σ S_p, C = Σ C_p over those patterns:
  *   mean_j = c_j + S_j / n,   cov_jk = (C_jk − S_j S_k / n) / (n − 1)   (Bessel-corrected).
- * Shifting by a value close to the mean keeps the subtraction well conditioned (Chan, Golub &
+ * Shifting by a value close to the rows' center keeps the subtraction well conditioned (Chan, Golub &
  * LeVeque 1983, "Algorithms for computing the sample variance: analysis and recommendations",
  * The American Statistician 37(3):242–247, the shifted-data algorithm). Rows are summed in tiles
  * of TILE rows, and tiles into the pattern totals, a two-level (blocked) summation.
@@ -198,8 +198,9 @@ export function buildPatternMoments(table: Table, options: PatternMomentsOptions
 }
 
 /**
- * Pattern-moments plan: the design columns of `variables`, their shifts (column means over the
- * observed, filtered rows), the missing-data pattern of every row and the pattern counts, as
+ * Pattern-moments plan: the design columns of `variables`, their shifts (medians over evenly
+ * spaced observed, filtered rows), the missing-data pattern of every row, the pattern counts and
+ * the patterns' gains (powers of two, see the module comment), as
  * the first of the three steps of {@link buildPatternMoments}. Cost: O(n · v) time, O(n) memory
  * (O(n log n) per column more with `useRanks`). Source: as {@link buildPatternMoments}.
  * @throws UnknownNodeError when a variable is not a column of the table
