@@ -1001,7 +1001,10 @@ function scaledMoments(m: Moments): { means: Float64Array; cov: Float64Array; ex
   return scaledCovarianceOf(m.cov) ?? { means: m.means, cov: m.cov, exponent: new Int32Array(m.means.length) };
 }
 
-/** Per pattern moments, the mean and variance of each design column over all its variable's observed rows (scaled as {@link scaledMoments}). */
+/**
+ * Per pattern moments, the mean and variance of each design column over all its variable's
+ * observed rows (for moments without a scaled twin, whose units are the data's).
+ */
 const overallMemo = new WeakMap<object, Map<number, { mean: number; variance: number }>>();
 
 function overallMoments(ctx: TestContext): (index: number) => { mean: number; variance: number } {
@@ -1012,8 +1015,7 @@ function overallMoments(ctx: TestContext): (index: number) => { mean: number; va
     let o = cache.get(index);
     if (!o) {
       const mm = ctx.moments.momentsForColumns([index]);
-      const sm = scaledMoments(mm);
-      o = { mean: sm.means[0]!, variance: mm.n > 1 && sm.cov[0]! > 0 ? sm.cov[0]! : 0 };
+      o = { mean: mm.means[0]!, variance: mm.n > 1 && mm.cov[0]! > 0 ? mm.cov[0]! : 0 };
       cache.set(index, o);
     }
     return o;
@@ -1050,6 +1052,7 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
   // moments' shifts are near the overall means); a variance below CONSTANT_TOLERANCE of it is a
   // column constant on the complete rows.
   const shifts = m.shifts;
+  // (moments with a twin always carry its shifts; the overall moments serve those without one)
   const overall = shifts ? undefined : overallMoments(ctx);
   const columnScale = (a: number): number => {
     if (shifts) return cov(a, a) + (m.means[a]! - shifts[a]!) ** 2;
