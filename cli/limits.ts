@@ -7,6 +7,7 @@ import { GraphError } from "../src/errors.js";
 import type { Graph } from "../src/graph/Graph.js";
 import { countMissingArrows } from "../src/graph/deriveClaims.js";
 import { formatCount } from "../src/report/format.js";
+import { MAX_AUDIT_CLAIMS } from "../src/audit/runAudit.js";
 
 /**
  * Most missing arrows `claims` lists. `--json` is written as the claims are derived, in constant
@@ -19,13 +20,8 @@ export const MAX_LISTED_CLAIMS = 50_000_000;
  * claims (2,000 measured nodes) took 12 s and 1.5 GB peak RSS, 124 MB of text.
  */
 export const MAX_TEXT_CLAIMS = 2_000_000;
-/**
- * Most missing arrows `test` and `report` test. Each claim's result is kept for ranking and
- * adjustment, about 20 kB of memory and 2.2 kB of `--json` each (measured: 10,725 claims of 150
- * continuous columns × 1,000 rows, 346 MB peak RSS, 24 MB of JSON, 10 s), so 100,000 claims need
- * about 2 GB and a 225 MB JSON document, within Node's heap and string limits.
- */
-export const MAX_TESTED_CLAIMS = 100_000;
+/** Most missing arrows `test` and `report` test: the library's own limit (src/audit/runAudit.ts), checked here before the data are read. */
+export const MAX_TESTED_CLAIMS = MAX_AUDIT_CLAIMS;
 
 /**
  * Refuse a graph with more missing arrows among its measured nodes than `limit`, counted in

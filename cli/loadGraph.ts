@@ -1,3 +1,4 @@
+import { escapeTerminalMessage } from "../src/report/escapeTerminal.js";
 import { readGraphSource } from "../src/graph/readGraphSource.js";
 import { withUnmeasured } from "../src/graph/withUnmeasured.js";
 import type { Graph } from "../src/graph/Graph.js";
@@ -17,6 +18,7 @@ export async function loadGraph(io: Io, path: string, opts: Record<string, unkno
   checkInputFile(io, { path, role: "graph file" });
   const bytes = isStreamInput(io, path) ? await readStreamBytes(io, path) : readInput(path, io.cwd, "graph file");
   const parsed = readGraphSource(bytes, { file: inputName(path), format: (opts.format as "auto" | "arrows" | "dot") ?? "auto" });
-  if (!opts.quiet) for (const w of parsed.warnings) io.stderr(`warning: ${w}\n`);
+  // warnings quote names and lines of the graph file: control characters are shown, not obeyed
+  if (!opts.quiet) for (const w of parsed.warnings) io.stderr(`warning: ${escapeTerminalMessage(w)}\n`);
   return withUnmeasured(parsed.graph, splitList(opts.unmeasured));
 }

@@ -2,6 +2,7 @@
  * The arrowaudit command line: parses flags, calls one library function per command,
  * renders, writes, and maps the outcome to an exit code (cli/exitCodes.ts) in one place.
  */
+import { escapeTerminal } from "../src/report/escapeTerminal.js";
 import { Command, CommanderError, InvalidArgumentError, Option } from "commander";
 import { join } from "node:path";
 import { UsageError } from "../src/errors.js";
@@ -59,7 +60,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
     .version(toolVersion(), "-V, --version")
     .showHelpAfterError("(run with --help for usage)")
     .exitOverride()
-    .configureOutput({ writeOut: io.stdout, writeErr: io.stderr });
+    .configureOutput({ writeOut: io.stdout, writeErr: (s) => io.stderr(escapeTerminal(s, true)) }); // commander echoes typed arguments
 
   graphOptions(
     program

@@ -2,6 +2,8 @@ import { claimEntries, deriveClaims } from "../../src/graph/deriveClaims.js";
 import { checkColumns } from "../../src/graph/checkColumns.js";
 import { readHeader } from "../../src/data/readHeader.js";
 import { renderClaimsText } from "../../src/report/terminal.js";
+import { escapeTerminal } from "../../src/report/escapeTerminal.js";
+import { textWidth } from "./test.js";
 import { checkInputFile } from "../checkPaths.js";
 import { EXIT } from "../exitCodes.js";
 import { type Io, readHead } from "../io.js";
@@ -37,8 +39,9 @@ export async function runClaims(io: Io, graphPath: string, opts: Record<string, 
     checkClaimCount(graph, graphName, MAX_TEXT_CLAIMS, "the text listing of claims holds", `use --json, which is written as the claims are derived (up to ${MAX_LISTED_CLAIMS.toLocaleString("en-US")} claims)`);
     const derived = deriveClaims(graph, { sets, cap });
     truncatedPairs = derived.truncatedPairs;
-    io.stdout(renderClaimsText({ graph: graphSummary(graph), claims: derived.claims, untestable: derived.untestable }, { ascii: !!opts.ascii }));
-    if (ignored?.length) io.stdout(`columns not in the graph (ignored): ${ignored.join(", ")}\n`);
+    io.stdout(renderClaimsText({ graph: graphSummary(graph), claims: derived.claims, untestable: derived.untestable }, { ascii: !!opts.ascii, width: textWidth(io) }));
+    // column names come raw from the data file's header: control characters are shown, not obeyed
+    if (ignored?.length) io.stdout(`columns not in the graph (ignored): ${ignored.map((n) => escapeTerminal(n)).join(", ")}\n`);
   }
   if (truncatedPairs > 0) {
     io.stderr(`note: ${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than ${cap} minimal separating sets; only the first ${cap} of each are listed (raise --max-sets to see more)\n`);

@@ -10,4 +10,4 @@ export { ancestors } from "./ancestors.js";
 export { dSeparated } from "./dSeparated.js";
 export { findMinimalSeparator, type SeparatorOptions } from "./findMinimalSeparator.js";
 export { listMinimalSeparators, type ListSeparatorsOptions, type SeparatorList } from "./listMinimalSeparators.js";
-export { deriveClaims, type ClaimSets, type DeriveClaimsOptions, type DerivedClaims } from "./deriveClaims.js";
+export { deriveClaims, claimEntries, countMissingArrows, type ClaimEntry, type ClaimSets, type DeriveClaimsOptions, type DerivedClaims } from "./deriveClaims.js";

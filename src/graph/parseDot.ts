@@ -26,6 +26,7 @@
  * per file. Comments: `//` and `/* *\/`, and lines that start with `#`.
  */
 import { GraphError, InputError } from "../errors.js";
+import { duplicateWarnings } from "./duplicateWarnings.js";
 import {
   type ArrowSite,
   type ParsedGraph,
@@ -262,6 +263,7 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
   const next = (): Tok => toks[Math.min(p++, toks.length - 1)]!;
 
   const warnings: string[] = [];
+  const repeats = duplicateWarnings(warnings);
   const nodes: string[] = [];
   const seen = new Set<string>();
   const arrows: Array<readonly [string, string]> = [];
@@ -409,10 +411,7 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
           const prev = arrowLine.get(key);
           if (prev !== undefined) {
             if (!strict) {
-              warnings.push(
-                `${formatSourceLocation(file, op.line)}: arrow ${displayName(a)} -> ${displayName(b)} is declared twice ` +
-                  `(first on line ${prev}); the duplicate is ignored`,
-              );
+              repeats.repeat(key, (times) => `arrow ${displayName(a)} -> ${displayName(b)} is declared ${times}`, formatSourceLocation(file, op.line), prev, op.line);
             }
           } else {
             arrowLine.set(key, op.line);

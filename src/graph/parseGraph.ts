@@ -16,6 +16,7 @@
 import { CycleError, GraphError, InputError } from "../errors.js";
 import type { Graph } from "./Graph.js";
 import { createGraph, type GraphSpec } from "./createGraph.js";
+import { duplicateWarnings } from "./duplicateWarnings.js";
 
 /** A parsed graph plus the non-fatal remarks about its source (duplicates and the like). */
 export interface ParsedGraph {
@@ -319,6 +320,7 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
   const file = options.file;
   const lines = splitSourceLines(text);
   const warnings: string[] = [];
+  const repeats = duplicateWarnings(warnings);
   const nodes: string[] = [];
   const seenNodes = new Set<string>();
   const arrows: Array<readonly [string, string]> = [];
@@ -393,10 +395,7 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
         mention(n.value);
         const prev = unmeasuredLine.get(n.value);
         if (prev !== undefined) {
-          warnings.push(
-            `${formatSourceLocation(file, line)}: ${displayName(n.value)} is declared unmeasured twice ` +
-              `(first on line ${prev}); the duplicate is ignored`,
-          );
+          repeats.repeat(`u:${n.value}`, (times) => `${displayName(n.value)} is declared unmeasured ${times}`, formatSourceLocation(file, line), prev, line);
         } else {
           unmeasuredLine.set(n.value, line);
           unmeasured.push(n.value);
@@ -483,10 +482,7 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
             const key = JSON.stringify([a.value, b.value]);
             const prev = arrowLine.get(key);
             if (prev !== undefined) {
-              warnings.push(
-                `${formatSourceLocation(file, line)}: arrow ${displayName(a.value)} -> ${displayName(b.value)} is declared twice ` +
-                  `(first on line ${prev}); the duplicate is ignored`,
-              );
+              repeats.repeat(`a:${key}`, (times) => `arrow ${displayName(a.value)} -> ${displayName(b.value)} is declared ${times}`, formatSourceLocation(file, line), prev, line);
             } else {
               arrowLine.set(key, line);
               arrows.push([a.value, b.value]);
@@ -504,10 +500,7 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
             const key = JSON.stringify(a.value < b.value ? [a.value, b.value] : [b.value, a.value]);
             const prev = biLine.get(key);
             if (prev !== undefined) {
-              warnings.push(
-                `${formatSourceLocation(file, line)}: shared cause ${displayName(a.value)} <-> ${displayName(b.value)} is declared twice ` +
-                  `(first on line ${prev}); the duplicate is ignored`,
-              );
+              repeats.repeat(`b:${key}`, (times) => `shared cause ${displayName(a.value)} <-> ${displayName(b.value)} is declared ${times}`, formatSourceLocation(file, line), prev, line);
             } else {
               biLine.set(key, line);
               bidirected.push([a.value, b.value]);

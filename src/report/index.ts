@@ -22,8 +22,9 @@ export {
   typographicMinus,
 } from "./format.js";
 export type { ReportContext } from "./ReportContext.js";
-export { layoutGraph, contradictionMarks } from "./layoutGraph.js";
-export type { GraphLayout, GraphMarks, ContradictionMark, NodeBox, ArrowRoute, Connector, ReportGraph } from "./layoutGraph.js";
+export { layoutGraph, contradictionMarks, chooseLayout, LAYOUT_THRESHOLDS } from "./layoutGraph.js";
+export { placeInLayers, longestPathLayers } from "./placeInLayers.js";
+export type { LayoutChoice, LayoutMethod, GraphLayout, GraphMarks, ContradictionMark, NodeBox, ArrowRoute, Connector, ReportGraph } from "./layoutGraph.js";
 export { renderGraphSvg } from "./renderGraphSvg.js";
 export type { GraphSvgOptions } from "./renderGraphSvg.js";
 export { renderForestPlot } from "./renderForestPlot.js";

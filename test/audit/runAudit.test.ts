@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { runAudit } from "../../src/audit/runAudit.js";
+import { MAX_AUDIT_CLAIMS, runAudit } from "../../src/audit/runAudit.js";
 import { createGraph } from "../../src/graph/createGraph.js";
 import { createTable } from "../../src/data/createTable.js";
 import { normalQuantile } from "../../src/stats/quantiles.js";
@@ -83,6 +83,40 @@ describe("runAudit on linear Gaussian data", () => {
     const u = result.untestable.find((x) => x.reason.includes('"c" is constant'));
     expect(u).toBeDefined();
     expect(result.claims.some((c) => c.given.includes("c") || c.x === "c" || c.y === "c")).toBe(false);
+  });
+});
+
+describe("runAudit refuses what no test can use and what it cannot hold", () => {
+  it("a claim on an identifier-like nominal column (one row per level) is untestable with the reason, the others are tested", () => {
+    // 200 rows, "pid" has 200 distinct labels: a chi-square table would have one count per cell
+    const data = simulateLinear({ arrows: [["a", "b"], ["b", "c"]] }, 200, 5);
+    const pid = Array.from({ length: 200 }, (_, i) => `P${String(i).padStart(4, "0")}`);
+    const graph = createGraph({ nodes: ["pid"], arrows: [["a", "b"], ["b", "c"]] }); // pid: no arrows
+    const result = runAudit(graph, createTable({ ...data, pid }));
+    const u = result.untestable.filter((x) => x.x === "pid" || x.y === "pid" || (x.given ?? []).includes("pid"));
+    expect(u.length).toBeGreaterThan(0);
+    for (const x of u) expect(x.reason).toMatch(/"pid" has 200 levels among 200 observed rows/);
+    expect(result.claims.some((c) => c.x === "pid" || c.y === "pid" || c.given.includes("pid"))).toBe(false);
+    // a ⫫ c | b does not involve pid and is still tested
+    expect(result.claims.some((c) => [c.x, c.y].sort().join() === "a,c")).toBe(true);
+  });
+
+  it("a nominal column with many rows per level is tested as before", () => {
+    const data = simulateLinear({ arrows: [["a", "b"], ["b", "c"]] }, 600, 6);
+    const site = Array.from({ length: 600 }, (_, i) => `S${i % 60}`); // 60 levels, 10 rows each
+    const graph = createGraph({ arrows: [["a", "b"], ["b", "c"], ["site", "c"]] });
+    const result = runAudit(graph, createTable({ ...data, site }));
+    expect(result.untestable.some((x) => x.reason.includes('"site"'))).toBe(false);
+    expect(result.claims.some((c) => c.x === "site" || c.y === "site")).toBe(true);
+  });
+
+  it("a graph with more missing arrows than MAX_AUDIT_CLAIMS is refused before any claim is derived", () => {
+    // 450 measured nodes with no arrows: 450 · 449 / 2 = 101,025 missing arrows > 100,000
+    const nodes = Array.from({ length: 450 }, (_, i) => `v${i}`);
+    const graph = createGraph({ nodes, arrows: [] });
+    const table = createTable(Object.fromEntries(nodes.map((n) => [n, [1, 2, 3]])));
+    expect(MAX_AUDIT_CLAIMS).toBe(100_000);
+    expect(() => runAudit(graph, table)).toThrow(/101,025 missing arrows among 450 measured nodes.*at most 100,000/);
   });
 });
 

@@ -299,6 +299,18 @@ const ROWS: Row[] = [
   { pins: "a numeric sentinel far outside a column's values is named with the --missing that declares it", files: { "g.txt": GRAPH, "d.csv": COHORT }, argv: ["test", "g.txt", "d.csv", "--levels", "education=primary|secondary|tertiary"], code: 0, stdout: /column "sbp" has 65 cells of 999, beyond its other values \(71 to 178\) by more than their\s+interquartile range \(20\)/ },
   { pins: "an unclosed quote in --missing is a usage error", files: { "g.txt": CHAIN, "d.csv": readingCsv() }, argv: ["test", "g.txt", "d.csv", "--missing", '"open'], code: 1, stderr: "--missing: a double quote is never closed" },
   { pins: "a column named constructor with --types, --levels and --missing crashed ('declaredLevels is not iterable')", files: { "g.txt": "constructor -> __proto__ -> toString\n", "d.csv": readingCsv({ names: ["constructor", "__proto__", "toString"], zeros: true }) }, argv: ["test", "g.txt", "d.csv", "--types", "constructor=continuous,toString=continuous", "--levels", "__proto__=0|1|2|3", "--missing", "constructor=0"], code: 0, stdout: "variables: constructor (continuous, 6 missing), __proto__ (ordinal), toString (continuous)" },
+  // 11. Messages that quote the inputs are shown, not obeyed, and said once.
+  { pins: "claims --columns printed an extra column's name raw (an escape sequence in the header drove the terminal)", files: { "g.txt": CHAIN, "d.csv": 'age,bmi,sbp,"z\u001b[31mred"\n1,2,3,4\n' }, argv: ["claims", "g.txt", "--columns", "d.csv"], code: 0, stdout: "columns not in the graph (ignored): z\\x1b[31mred", check: (r) => expect(r.stdout + r.stderr).not.toContain("\u001b") },
+  { pins: "graph warnings printed quoted names raw", files: { "g.txt": 'age -> bmi\n"a\u001b[2Jx" -> bmi\n"a\u001b[2Jx" -> bmi\n' }, argv: ["claims", "g.txt"], code: 0, stderr: 'g.txt:3: arrow "a\\x1b[2Jx" -> bmi is declared twice', check: (r) => expect(r.stdout + r.stderr).not.toContain("\u001b") },
+  { pins: "commander echoed a typed option raw in its error", files: { "g.txt": CHAIN }, argv: ["claims", "g.txt", "--fo\u001b[2Jo"], code: 1, stderr: "unknown option '--fo\\x1b[2Jo'", check: (r) => expect(r.stderr).not.toContain("\u001b") },
+  { pins: "an arrow repeated 2,000 times on one line printed 1,999 warnings", files: { "g.txt": `age -> ${Array(2000).fill("bmi").join(", ")}\nbmi -> sbp\n` }, argv: ["claims", "g.txt"], code: 0, stderr: "g.txt:1: arrow age -> bmi is declared 2,000 times (first on line 1, again on line 1); the duplicates are ignored", check: (r) => expect(r.stderr.trim().split("\n")).toHaveLength(1) },
+  { pins: "the warning said an identifier column's claims cannot be tested, but they were tested (one count per cell)", files: { "g.txt": "age -> bmi -> sbp\npid\n", "d.csv": readingCsv({ extra: ["pid", (i) => `P${i}`] }) }, argv: ["test", "g.txt", "d.csv", "--json"], code: 0, check: (r) => {
+    const doc = JSON.parse(r.stdout) as { claims: { x: string; y: string; given: string[] }[]; untestable: { x: string; y: string; reason: string }[] };
+    expect(doc.claims.some((c) => [c.x, c.y, ...c.given].includes("pid"))).toBe(false);
+    const pid = doc.untestable.filter((u) => u.x === "pid" || u.y === "pid");
+    expect(pid).toHaveLength(3);
+    for (const u of pid) expect(u.reason).toMatch(/"pid" has 60 levels among 60 observed rows/);
+  } },
 ];
 
 /**

@@ -147,6 +147,11 @@ describe("parseDot accepted subset", () => {
     expect(strict.graph.arrows).toEqual([["a", "b"]]);
   });
 
+  it("parseDot gives one warning for an arrow repeated many times (a -> b; a -> b; ...)", () => {
+    const w = parseDot(`digraph {\n ${Array(500).fill("a -> b").join("; ")}\n a -> b }`, { file: "g.dot" }).warnings;
+    expect(w).toEqual(["g.dot:2: arrow a -> b is declared 501 times (first on line 2, again on lines 2 and 3); the duplicates are ignored"]);
+  });
+
   it("parseDot reads back any name written as a quoted DOT ID with \\\" escapes (property)", () => {
     // a trailing backslash cannot be written in a DOT string before the closing quote, so none here;
     // a name of white space only is refused by design (see "empty node name" below), so none here either

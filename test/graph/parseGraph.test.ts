@@ -193,6 +193,24 @@ describe("parseGraph warnings", () => {
     ]);
   });
 
+  it("parseGraph gives one warning per repeated declaration, with a count, however often it repeats", () => {
+    // 2,000 copies of one arrow on one line once printed 1,999 warnings
+    const { graph, warnings } = parseGraph(`c -> d\na -> ${Array(2000).fill("b").join(", ")}\nc -> d\nc -> d\nx <-> y\ny <-> x\nx <-> y`, { file: "g.txt" });
+    expect(graph.arrows).toEqual([["c", "d"], ["a", "b"]]);
+    expect(warnings).toEqual([
+      "g.txt:2: arrow a -> b is declared 2,000 times (first on line 2, again on line 2); the duplicates are ignored",
+      "g.txt:3: arrow c -> d is declared 3 times (first on line 1, again on lines 3 and 4); the duplicates are ignored",
+      "g.txt:6: shared cause y <-> x is declared 3 times (first on line 5, again on lines 6 and 7); the duplicates are ignored",
+    ]);
+    const many = parseGraph(Array(9).fill("a -> b").join("\n")).warnings;
+    expect(many).toEqual(["line 2: arrow a -> b is declared 9 times (first on line 1, again on lines 2, 3, 4, 5, 6 and 3 more); the duplicates are ignored"]);
+  });
+
+  it("parseGraph: a node named like a placeholder is printed as written in a collapsed warning", () => {
+    const { warnings } = parseGraph('"{n}" -> b\n"{n}" -> b\n"{n}" -> b');
+    expect(warnings).toEqual(['line 2: arrow "{n}" -> b is declared 3 times (first on line 1, again on lines 2 and 3); the duplicates are ignored']);
+  });
+
   it("parseGraph gives no warning for an arrow and a shared cause between the same pair", () => {
     const { graph, warnings } = parseGraph("a -> b\na <-> b");
     expect(warnings).toEqual([]);
