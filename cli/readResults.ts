@@ -42,7 +42,7 @@ function claimProblem(c: unknown, where: string): string | undefined {
   if (!Array.isArray(c.given)) return field("given", "a list of node names (empty for none)");
   const bad = c.given.findIndex((g) => typeof g !== "string" || g === "");
   if (bad >= 0) return `${where}.given[${bad}] is ${describe(c.given[bad])}; expected a node name`;
-  if (typeof c.test !== "string" || !(c.test in TEST_NAMES)) return field("test", `one of ${Object.keys(TEST_NAMES).join(", ")}`);
+  if (typeof c.test !== "string" || !Object.hasOwn(TEST_NAMES, c.test)) return field("test", `one of ${Object.keys(TEST_NAMES).join(", ")}`);
   if (!isFiniteNumber(c.effect) || Math.abs(c.effect) > 1) return field("effect", "a number from -1 to 1");
   if (!Array.isArray(c.ci) || c.ci.length !== 2 || !c.ci.every(isFiniteNumber) || c.ci[0] > c.ci[1]) {
     return field("ci", "two numbers [lower, upper], lower first");

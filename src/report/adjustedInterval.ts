@@ -17,7 +17,7 @@
  * used (see src/audit/methods/), at the new level; at level 0.95 it reproduces the stored `ci`.
  */
 import type { TestedClaim } from "../audit/types.js";
-import { lrEffectCI, lrEffectCIAtAlpha, permutationLrEffect, signedRootEffectCI } from "../stats/effectScale.js";
+import { lrEffectCIAtAlpha, lrEffectInterval, permutationLrEffect, signedRootEffectCI } from "../stats/effectScale.js";
 import { gcmCorrelationInterval } from "../stats/generalisedCovariance.js";
 import { chiSquareUpperQuantileLog, normalQuantile } from "../stats/quantiles.js";
 
@@ -55,7 +55,7 @@ function signed(ci: [number, number], sign: -1 | 0 | 1): [number, number] {
  * columns), the one-sided noncentral chi-square inversion of its chi-square-scale statistic for
  * several products (`lrEffectCIAtAlpha`), Fisher's z interval on n − c − 3 = df − 1 for the
  * partial correlation, the signed-root interval for the linear-by-linear test, the noncentral
- * chi-square inversion for likelihood-ratio statistics (`lrEffectCI`), and the two-moment
+ * interval that agrees with the test for likelihood-ratio statistics (`lrEffectInterval`), and the two-moment
  * permutation calibration for permutation p-values of stratified tables. Undefined when the
  * numbers it needs are missing or not finite. Cost: about 100 tail evaluations.
  *
@@ -99,18 +99,18 @@ export function effectIntervalAt(claim: TestedClaim, level: number): [number, nu
       }
       case "stratified-chisq": {
         if (lr < 0) return undefined;
-        if (top) return c.df === 1 ? unsignedRange : [0, 1];
+        if (top) return c.df === 1 && c.p_method === "permutation" ? unsignedRange : c.df === 1 ? [-1, 1] : [0, 1];
         if (c.p_method === "permutation") {
           const mean = Number(c.details?.g2_null_mean);
           const variance = Number(c.details?.g2_null_variance);
           return permutationLrEffect(lr, c.df, c.n, { mean, variance }, c.p, sign, level).ci;
         }
-        return signed(lrEffectCI(lr, c.df, c.n, level), c.df === 1 ? sign : 1);
+        return lrEffectInterval(lr, c.df, c.n, sign, level);
       }
       case "regression-lr": {
         if (lr < 0) return undefined;
-        if (top) return c.df === 1 ? unsignedRange : [0, 1];
-        return signed(lrEffectCI(lr, c.df, c.n, level), c.df === 1 ? sign : 1);
+        if (top) return c.df === 1 ? [-1, 1] : [0, 1];
+        return lrEffectInterval(lr, c.df, c.n, sign, level);
       }
     }
   } catch {

@@ -360,7 +360,7 @@ function testsParagraph(result: AuditResult, refs: Set<RefKey>): string | undefi
     refs.add("magee1990");
     refs.add("steiger1990");
     text +=
-      " Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a 95% interval from the noncentral chi-square distribution (Steiger 1990).";
+      " Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a 95% interval from the noncentral chi-square distribution (Steiger 1990) whose lower end is the one-sided bound at 0.05, so that it excludes 0 exactly when the test rejects at 0.05; one-degree-of-freedom results take the signed-root interval, sign·√LR ± 1.96 mapped to the same scale.";
   }
   const mh = claims.filter((c) => c.details?.mantel_haenszel !== undefined);
   if (mh.length > 0) {

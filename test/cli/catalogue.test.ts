@@ -263,6 +263,7 @@ const ROWS: Row[] = [
   { pins: "draw of more nodes than can be read is refused saying how to draw a part", files: { "g.txt": Array.from({ length: MAX_DRAWN_NODES + 1 }, (_, i) => `n${i}`).join("\n") + "\n" }, argv: ["draw", "g.txt"], code: 2, stderr: "draw the part you want to see" },
 
   // 9. Validating draw --results.
+  { pins: 'draw --results accepted "constructor" (a property of every object) as a test name', files: { "g.txt": CHAIN, "r.json": results([{ ...aClaim, test: "constructor" }]) }, argv: ["draw", "g.txt", "--results", "r.json"], code: 2, stderr: "r.json: claims[0].test" },
   { pins: 'draw --results {"claims":[null]} crashed', files: { "g.txt": CHAIN, "r.json": results([null]) }, argv: ["draw", "g.txt", "--results", "r.json"], code: 2, stderr: `r.json: claims[0] is null; ${JSON_SHAPE}` },
   { pins: "draw --results with missing fields drew 'undefined = n/a'", files: { "g.txt": CHAIN, "r.json": results([{ x: "age", y: "sbp", verdict: "contradicted", rank: 1 }]) }, argv: ["draw", "g.txt", "--results", "r.json"], code: 2, stderr: "r.json: claims[0].given is missing; expected a list of node names" },
   { pins: "a results claim with a non-numeric effect is refused with its place", files: { "g.txt": CHAIN, "r.json": results([aClaim, { ...aClaim, effect: "big" }]) }, argv: ["draw", "g.txt", "--results", "r.json"], code: 2, stderr: 'claims[1].effect is "big"; expected a number from -1 to 1' },

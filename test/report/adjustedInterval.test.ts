@@ -86,10 +86,16 @@ describe("effectIntervalAt", () => {
     expect(q[0]).toBeCloseTo(0.14393013776145264, 8);
     expect(q[1]).toBeCloseTo(0.28193472582683954, 8);
     const lr = { ...base, test: "regression-lr", effect: 0.1, statistic: 12, df: 2, n: 500 } as unknown as TestedClaim;
-    // scipy: brentq on stats.ncx2.sf(12, 2, λ) = a/2 and 1 − a/2 with a = 0.005, mapped by sqrt(-expm1(-λ/500))
+    // scipy: brentq on stats.ncx2.sf(12, 2, λ) = a (the lower end agrees with the test at a) and
+    // 1 − a/2 with a = 0.005, mapped by sqrt(-expm1(-λ/500)); chi2.sf(12, 2) = 0.00248 < a, so above 0
     const l = effectIntervalAt(lr, 1 - 0.005)!;
-    expect(l[0]).toBeCloseTo(0.002388827438716123, 6);
-    expect(l[1]).toBeCloseTo(0.2704865390811708, 6);
+    expect(l[0]).toBeCloseTo(0.024270735411424497, 6);
+    expect(l[1]).toBeCloseTo(0.2704865390811704, 6);
+    const lr1 = { ...base, test: "regression-lr", effect: -Math.sqrt(-Math.expm1(-3 / 400)), statistic: 3, df: 1, n: 400 } as unknown as TestedClaim;
+    // 1 df: the signed root z = −√3 ± stats.norm.ppf(0.995), mapped by sign(δ)·sqrt(-expm1(-δ²/400))
+    const l1 = effectIntervalAt(lr1, 0.99)!;
+    expect(l1[0]).toBeCloseTo(-0.212919707088214, 10);
+    expect(l1[1]).toBeCloseTo(0.04217015868494316, 10);
   });
 });
 

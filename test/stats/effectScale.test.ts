@@ -2,7 +2,7 @@ import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { lrEffect, lrEffectCI, lrEffectCIAtAlpha, lrToEffect, permutationLrEffect, signedRootEffectCI } from "../../src/stats/effectScale.js";
+import { lrEffect, lrEffectCI, lrEffectCIAtAlpha, lrEffectInterval, lrToEffect, permutationLrEffect, signedRootEffectCI } from "../../src/stats/effectScale.js";
 import { chiSquareUpper } from "../../src/stats/pvalues.js";
 import { noncentralChiSquareUpper } from "../../src/stats/noncentralChiSquare.js";
 import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
@@ -306,5 +306,45 @@ describe(`lrEffectCIAtAlpha against scipy (${atAlpha.source})`, () => {
     expect(() => lrEffectCIAtAlpha(3, 0, 500)).toThrow(RangeError);
     expect(() => lrEffectCIAtAlpha(3, 2, 0)).toThrow(RangeError);
     expect(() => lrEffectCIAtAlpha(3, 2, 100, 1)).toThrow(RangeError);
+  });
+});
+
+describe("lrEffectInterval (the interval reported beside lrEffect)", () => {
+  it("a 1-df LR far below its df got [0, 0] beside a positive effect; the signed-root interval contains it", () => {
+    // regression-lr on the demo, activity_days ⫫ sbp with --method regression: effect 0.0002, interval [0, 0]
+    const n = 2900;
+    const lr = 1.2e-4;
+    expect(lrEffectCI(lr, 1, n)).toEqual([0, 0]); // the two-sided noncentral inversion collapses
+    const point = lrEffect(lr, 1, n, 1);
+    const [lo, hi] = lrEffectInterval(lr, 1, n, 1);
+    expect(lo).toBeLessThan(point);
+    expect(hi).toBeGreaterThan(point);
+    // sign·√LR ± z₀.₉₇₅ mapped by sign(δ)·√(1 − exp(−δ²/n)) (definition; z₀.₉₇₅ = 1.959963984540054, scipy.stats.norm.ppf(0.975))
+    const m = (d: number) => Math.sign(d) * Math.sqrt(-Math.expm1(-(d * d) / n));
+    expect(lo).toBeCloseTo(m(Math.sqrt(lr) - 1.959963984540054), 12);
+    expect(hi).toBeCloseTo(m(Math.sqrt(lr) + 1.959963984540054), 12);
+  });
+
+  it("contains its effect and excludes 0 exactly when P(χ²(df) ≥ LR) < 0.05, for every LR, df, n and sign (property)", () => {
+    fc.assert(
+      fc.property(
+        fc.double({ min: 0, max: 300, noNaN: true }),
+        fc.integer({ min: 1, max: 30 }),
+        fc.integer({ min: 30, max: 200000 }),
+        fc.constantFrom(-1 as const, 1 as const),
+        (lr, df, n, sign) => {
+          const effect = lrEffect(lr, df, n, sign);
+          const [lo, hi] = lrEffectInterval(lr, df, n, sign);
+          const slack = 1e-9;
+          expect(lo).toBeLessThanOrEqual(effect + slack);
+          expect(hi).toBeGreaterThanOrEqual(effect - slack);
+          const p = chiSquareUpper(lr, df);
+          if (Math.abs(p - 0.05) < 1e-6) return; // at the boundary either answer is rounding
+          const excludes = df === 1 ? lo > 0 || hi < 0 : lo > 0;
+          expect(excludes, `lr=${lr} df=${df} p=${p}`).toBe(p < 0.05);
+        },
+      ),
+      { numRuns: 400 },
+    );
   });
 });

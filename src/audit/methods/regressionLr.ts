@@ -65,12 +65,13 @@
  *   `warnings` entry and the test goes on at the last iterate. The p-value is always asymptotic
  *   (permutations are not used by this method; see `stratified-chisq` for the permutation test).
  * - Effect: sign·√(1 − exp(−LR/n)) for 1-df tests, signed by the added coefficient; for more df,
- *   √(1 − exp(−max(0, LR − df)/n)) (`lrEffect`); 95% interval by noncentral chi-square inversion
- *   (Steiger 1990).
+ *   √(1 − exp(−max(0, LR − df)/n)) (`lrEffect`); the 95% interval agrees with the test at 5%
+ *   (`lrEffectInterval`: the signed root ± 1.96 for 1 df, noncentral chi-square inversion with a
+ *   one-sided lower end for more, Steiger 1990).
  */
 import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
-import { lrEffect, lrEffectCI } from "../../stats/effectScale.js";
+import { lrEffect, lrEffectInterval } from "../../stats/effectScale.js";
 import { gaussianLRFromMoments } from "../../stats/gaussianLRFromMoments.js";
 import { scaleExponent } from "../../stats/powerOfTwoScale.js";
 import { scaledCovarianceOf } from "../../stats/scaledCovariance.js";
@@ -863,7 +864,7 @@ function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, detail
   const pAsym = chiSquareUpper(lr, df);
   const logP = logChiSquareUpper(lr, df);
   const effect = lrEffect(lr, df, n, sign);
-  const [lo, hi] = lrEffectCI(lr, df, n, 0.95);
+  const ci = lrEffectInterval(lr, df, n, sign, 0.95);
   return {
     test: "regression-lr",
     n,
@@ -872,7 +873,7 @@ function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, detail
     p: pAsym > 0 ? pAsym : Number.MIN_VALUE,
     log_p: logP,
     effect,
-    ci: df === 1 && sign < 0 ? [-hi, -lo] : [lo, hi],
+    ci,
     p_method: "asymptotic",
     details,
     ...(warnings.length ? { warnings } : {}),

@@ -43,7 +43,7 @@
  */
 import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
-import { lrEffect, lrEffectCI, permutationLrEffect, type NullMoments } from "../../stats/effectScale.js";
+import { lrEffect, lrEffectInterval, permutationLrEffect, type NullMoments } from "../../stats/effectScale.js";
 import { mantelHaenszel } from "../../stats/mantelHaenszel.js";
 import {
   BASE_PERMUTATIONS, createTableStatisticSampler, permutationFloorWarning, permutationsForFloor, sequentialMonteCarloNull,
@@ -201,8 +201,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     details.g2_null_variance = nullMoments.variance;
   } else {
     effect = lrEffect(res.g2, res.df, n, sign);
-    const [lo, hi] = lrEffectCI(res.g2, res.df, n, 0.95);
-    ci = sign < 0 ? [-hi, -lo] : [lo, hi];
+    ci = lrEffectInterval(res.g2, res.df, n, sign, 0.95);
   }
   const outcome: TestOutcome = {
     test: "stratified-chisq",
