@@ -39,7 +39,7 @@ import { findSentinelCodes } from "./findSentinelCodes.js";
 import { highCardinality, HIGH_CARDINALITY_MIN_LEVELS } from "./findHighCardinalityColumns.js";
 import { checkHeaderNames } from "./headerNames.js";
 import { identifierNote, inferType, MAX_INFERRED_ORDINAL_LEVELS } from "./inferType.js";
-import { DEFAULT_MISSING_CODES, quoteName } from "./readOptions.js";
+import { DEFAULT_MISSING_CODES, quoteName, type ReadOptions } from "./readOptions.js";
 import { parseNumberText } from "./parseNumberText.js";
 import type { Column, Table, VariableType } from "./Table.js";
 
@@ -65,21 +65,13 @@ export interface BuilderState {
   blankLines: number;
 }
 
-export interface BuilderOptions {
+/** What the column builder needs of the read options (documented on {@link ReadOptions}), and where the cells come from. */
+export interface BuilderOptions extends Pick<ReadOptions, "decimalComma" | "missing" | "missingByColumn" | "types" | "levels" | "columns" | "ignore"> {
   file?: string;
-  decimalComma?: boolean;
   /** The file's delimiter, when the cells come from a file (for the decimal-comma check). */
   delimiter?: string;
   /** Whether header field 1 is an unnamed row-label column, left out (see `headerNames`). */
   rowLabels?: boolean;
-  missing?: readonly string[];
-  missingByColumn?: Readonly<Record<string, readonly string[]>>;
-  types?: Readonly<Record<string, VariableType>>;
-  levels?: Readonly<Record<string, readonly string[]>>;
-  /** Keep only these columns; undefined keeps all. */
-  columns?: readonly string[];
-  /** Leave these columns out. */
-  ignore?: readonly string[];
 }
 
 /** A text cell that is a number written with a decimal comma: sign, digits, one comma, digits. */

@@ -1,4 +1,5 @@
 import { InputError } from "../errors.js";
+import { findNonTextByte } from "../data/textBytes.js";
 import { parseDot } from "./parseDot.js";
 import { type ParsedGraph, parseGraph } from "./parseGraph.js";
 
@@ -9,41 +10,6 @@ export interface ReadGraphSourceOptions {
   file?: string;
   /** "arrows" (arrowaudit's own format), "dot", or "auto" (the default: by extension, then by content). */
   format?: GraphFormat;
-}
-
-/**
- * Byte offset of the first byte that breaks UTF-8 (RFC 3629: no overlongs, no surrogates,
- * nothing above U+10FFFF), or -1 when all of `bytes` is valid UTF-8. O(n).
- */
-function findInvalidUtf8(bytes: Uint8Array): number {
-  let i = 0;
-  while (i < bytes.length) {
-    const b = bytes[i]!;
-    if (b < 0x80) {
-      i++;
-      continue;
-    }
-    let need: number;
-    let lo = 0x80;
-    let hi = 0xbf;
-    if (b >= 0xc2 && b <= 0xdf) need = 1;
-    else if (b >= 0xe0 && b <= 0xef) {
-      need = 2;
-      if (b === 0xe0) lo = 0xa0;
-      if (b === 0xed) hi = 0x9f;
-    } else if (b >= 0xf0 && b <= 0xf4) {
-      need = 3;
-      if (b === 0xf0) lo = 0x90;
-      if (b === 0xf4) hi = 0x8f;
-    } else return i;
-    for (let k = 1; k <= need; k++) {
-      const c = bytes[i + k];
-      if (c === undefined) return i;
-      if (k === 1 ? c < lo || c > hi : c < 0x80 || c > 0xbf) return i;
-    }
-    i += need + 1;
-  }
-  return -1;
 }
 
 /** 1-based line of byte offset `at` (counts LF bytes before it). */
@@ -117,7 +83,7 @@ export function readGraphSource(bytes: Uint8Array, options: ReadGraphSourceOptio
       { file, line: lineOfByte(bytes, nul) },
     );
   }
-  const bad = findInvalidUtf8(bytes);
+  const bad = findNonTextByte(bytes)?.at ?? -1; // no NUL is left by now, so this is a byte that breaks UTF-8
   if (bad >= 0) {
     throw new InputError(
       `${label}: this is not a text file: byte ${bad} (line ${lineOfByte(bytes, bad)}) is not valid UTF-8; ` +

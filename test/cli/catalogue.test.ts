@@ -1,7 +1,7 @@
 /**
  * The catalogue of hostile inputs to the command line: each row writes its files to a fresh
  * temporary folder, runs one command line and states the exit code and a fragment of the
- * message. Rows run in-process through `run(argv, io)` unless they need a real process (a
+ * message. Rows run in-process (test/helpers/runCli.ts) unless they need a real process (a
  * reader that closes standard output, a full device, a signal, another user), which runs
  * test/cli/catalogueChild.ts (cli/main.ts with a signal hook) under tsx.
  *
@@ -21,8 +21,7 @@ import { dirname, join } from "node:path";
 import { Readable } from "node:stream";
 import { pathToFileURL } from "node:url";
 import { afterAll, describe, expect, it } from "vitest";
-import type { Io } from "../../cli/io.js";
-import { run } from "../../cli/program.js";
+import { runCli } from "../helpers/runCli.js";
 import { MAX_DRAWN_NODES, MAX_LISTED_CLAIMS, MAX_TESTED_CLAIMS, MAX_TEXT_CLAIMS } from "../../cli/limits.js";
 import { deriveClaims } from "../../src/graph/deriveClaims.js";
 import { graphSummary } from "../../src/graph/graphSummary.js";
@@ -376,22 +375,9 @@ function snapshot(dir: string, files: Record<string, FileSpec>): Map<string, Buf
 }
 
 async function runInProcess(row: Row, dir: string): Promise<{ code: number; stdout: string; stderr: string }> {
-  let stdout = "";
-  let stderr = "";
-  const io: Io = {
-    stdout: (s) => (stdout += s),
-    stderr: (s) => (stderr += s),
-    stdoutIsTTY: false,
-    stderrIsTTY: false,
-    env: {},
-    cwd: dir,
-    now: () => new Date("2026-01-15T09:30:00Z"),
-    ...(row.stdin !== undefined ? { stdin: Readable.from([Buffer.from(row.stdin)]) } : {}),
-  };
   // Feed the named pipes: each open waits (on a thread of the pool) until the run opens the pipe to read it.
   for (const [name, spec] of Object.entries(row.files ?? {})) if (typeof spec === "object" && "fifo" in spec) createWriteStream(join(dir, name)).end(spec.fifo);
-  const code = await run(row.argv, io);
-  return { code, stdout, stderr };
+  return runCli(row.argv, { cwd: dir, ...(row.stdin !== undefined ? { stdin: Readable.from([Buffer.from(row.stdin)]) } : {}) });
 }
 
 const tsxLoader = pathToFileURL(createRequire(join(root, "package.json")).resolve("tsx")).href;

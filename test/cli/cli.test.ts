@@ -5,9 +5,8 @@
 import { copyFileSync, existsSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
+import { runCli } from "../helpers/runCli.js";
 import { afterAll, describe, expect, it } from "vitest";
-import { run } from "../../cli/program.js";
-import type { Io } from "../../cli/io.js";
 
 const root = join(import.meta.dirname, "..", "..");
 const fixtures = join(root, "test", "fixtures", "cli");
@@ -19,20 +18,9 @@ copyFileSync(join(demo, "cohort.csv"), join(work, "demo-cohort.csv"));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
 
 async function cli(args: string[], env: Record<string, string> = {}, cwd = work) {
-  let stdout = "";
-  let stderr = "";
-  const io: Io = {
-    stdout: (s) => (stdout += s),
-    stderr: (s) => (stderr += s),
-    stdoutIsTTY: false,
-    stderrIsTTY: false,
-    env,
-    cwd,
-    now: () => new Date("2026-01-15T09:30:00Z"),
-  };
-  const code = await run(args, io);
+  const r = await runCli(args, { cwd, env });
   const clean = (s: string) => s.split(work).join("<tmp>");
-  return { code, stdout: clean(stdout), stderr: clean(stderr) };
+  return { code: r.code, stdout: clean(r.stdout), stderr: clean(r.stderr) };
 }
 
 function golden(name: string, args: string[], r: { code: number; stdout: string; stderr: string }) {

@@ -8,9 +8,8 @@
 import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
+import { runCli } from "../helpers/runCli.js";
 import { afterAll, describe, expect, it } from "vitest";
-import { run } from "../../cli/program.js";
-import type { Io } from "../../cli/io.js";
 
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-extremes-"));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
@@ -129,19 +128,8 @@ const cases: Case[] = [
 ];
 
 async function cli(args: string[]) {
-  let stdout = "";
-  let stderr = "";
-  const io: Io = {
-    stdout: (s) => (stdout += s),
-    stderr: (s) => (stderr += s),
-    stdoutIsTTY: false,
-    stderrIsTTY: false,
-    env: {},
-    cwd: work,
-    now: () => new Date("2026-01-15T09:30:00Z"),
-  };
-  const code = await run(args, io);
-  return { code, out: stdout + stderr };
+  const r = await runCli(args, { cwd: work });
+  return { code: r.code, out: r.stdout + r.stderr };
 }
 
 describe("arrowaudit on extreme numbers, hostile names and deep graphs", () => {

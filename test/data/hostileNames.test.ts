@@ -9,8 +9,7 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import fc from "fast-check";
 import { afterAll, describe, expect, it } from "vitest";
-import { run } from "../../cli/program.js";
-import type { Io } from "../../cli/io.js";
+import { runCli } from "../helpers/runCli.js";
 
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-names-"));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
@@ -29,13 +28,7 @@ const graphName = (n: string) => `"${n.replace(/\\/g, "\\\\").replace(/"/g, '\\"
 const csvField = (n: string) => `"${n.replace(/"/g, '""')}"`;
 const listName = (n: string) => `"${n.replace(/"/g, '""')}"`; // the option-list grammar of src/data/readOptions.ts
 
-async function cli(args: string[]) {
-  let stdout = "";
-  let stderr = "";
-  const io: Io = { stdout: (s) => (stdout += s), stderr: (s) => (stderr += s), stdoutIsTTY: false, stderrIsTTY: false, env: {}, cwd: work, now: () => new Date("2026-01-15T09:30:00Z") };
-  const code = await run(args, io);
-  return { code, stdout, stderr };
-}
+const cli = (args: string[]) => runCli(args, { cwd: work });
 
 describe("names that are properties of every object", () => {
   it("arrowaudit test reads and audits columns named constructor, __proto__, toString, ... with --types, --levels and --missing on them (property)", async () => {
