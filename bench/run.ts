@@ -53,7 +53,7 @@ async function endToEnd(name: string, categorical: number, extra: string[] = [])
 }
 
 mkdirSync(out, { recursive: true });
-if (!existsSync(cli)) throw new Error("build first: npm run build");
+if (!existsSync(cli)) throw new Error("build first: npm run build (npm run bench does)");
 const results: Record<string, unknown> = {};
 results.claims = await benchClaims();
 console.log(JSON.stringify(results.claims, null, 2));

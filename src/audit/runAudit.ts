@@ -106,7 +106,10 @@ interface AuditPlan {
   warnings: string[];
   moments: PatternMoments;
   ctx: TestContext;
+  /** Why a variable cannot be tested at all (constant, no observed value, identifier-like), by name. */
   constant: Map<string, string>;
+  /** Identifier-like categorical columns (see findHighCardinalityColumns), left out of the moments. */
+  identifiers: Set<string>;
 }
 
 /**
@@ -299,10 +302,12 @@ function planClaims(graph: Graph, table: Table, options: AuditOptions): ClaimPla
 
   const rowFilter = settings.listwise ? listwiseFilter(table, measured) : undefined;
   const constant = constantColumns(table, measured, rowFilter);
-  // identifier-like categorical columns (about one row per level): no test can use them
-  for (const [name, reason] of findHighCardinalityColumns(table, measured)) if (!constant.has(name)) constant.set(name, reason);
+  // identifier-like categorical columns (about one row per level): no test can use them, and their
+  // level indicators would make the moments as wide as the table is long
+  const identifiers = findHighCardinalityColumns(table, measured);
+  for (const [name, reason] of identifiers) if (!constant.has(name)) constant.set(name, reason);
   const decisionFloor = settings.adjust === "none" ? settings.alpha : settings.alpha / Math.max(1, claims.length);
-  return { settings, decisionFloor, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, constant, ...(rowFilter ? { rowFilter } : {}) };
+  return { settings, decisionFloor, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, constant, identifiers: new Set(identifiers.keys()), ...(rowFilter ? { rowFilter } : {}) };
 }
 
 /** The plan with the pattern moments of the measured variables and the test context. Cost: O(rows · d²). */
@@ -310,10 +315,15 @@ function withMoments(plan: ClaimPlan, table: Table): AuditPlan {
   return withBuiltMoments(plan, table, buildPatternMoments(table, momentOptions(plan, table)));
 }
 
-/** What the pattern moments of an audit are built over: the measured variables, the row filter and the claims' expansions. */
+/**
+ * What the pattern moments of an audit are built over: the measured variables but identifier-like
+ * ones, the row filter and the expansions of the claims that pass {@link precheck}.
+ */
 function momentOptions(plan: ClaimPlan, table: Table): PatternMomentsOptions {
   const { measured, rowFilter, settings } = plan;
-  return { variables: measured, rowFilter, expansions: momentExpansions(plan.claims, table, settings, measured, rowFilter) };
+  const variables = measured.filter((n) => !plan.identifiers.has(n));
+  const claims = plan.claims.filter((c) => precheck(c, plan.constant) === undefined);
+  return { variables, rowFilter, expansions: momentExpansions(claims, table, settings, variables, rowFilter) };
 }
 
 /** The plan with its pattern moments and the test context. */

@@ -50,7 +50,7 @@ import { UnknownNodeError } from "../errors.js";
 import { rankColumns } from "./rankColumns.js";
 import { createSimdCrossProduct } from "./simdCrossProduct.js";
 import { basisTermLabel, basisValue, fillBasisValues, scaleBasisTerm, splineAt, splineConstants, type BasisTerm, type VariableBasis } from "../stats/flexibleBasis.js";
-import { columnScaleExponent, scaleExponent, timesPowerOfTwo } from "../stats/powerOfTwoScale.js";
+import { columnMagnitudes, columnScaleExponent, scaleExponent, timesPowerOfTwo } from "../stats/powerOfTwoScale.js";
 import { attachScaledCovariance } from "../stats/scaledCovariance.js";
 import type { DesignColumn, IndexedDesignColumn, Moments, PatternMoments } from "./Moments.js";
 import type { Table } from "./Table.js";
@@ -73,6 +73,22 @@ const DEFAULT_MAX_PATTERN_BYTES = 512 * 1024 * 1024;
  * units, so it sets no units for a request (which takes the smallest exponent of its patterns).
  */
 const NO_EXPONENT = 2 ** 31 - 1;
+/**
+ * Patterns whose own gain is within this many binary orders of a column's coarsest pattern gain
+ * share that gain (see patternGains): ordinary data then give every pattern the same units, and
+ * only a pattern set apart by an extreme value elsewhere (2^64 ≈ 1.8·10¹⁹ times larger) keeps
+ * finer units of its own.
+ */
+const SNAP_BITS = 64;
+/**
+ * A column whose finite non-zero |values| span at most 2^UNIFORM_RANGE_BITS (about 10³⁶) gives
+ * every pattern the gain of its whole range. Scaled by it, a pattern's values are at least
+ * 2^−120 of its own largest ones' scale, a cubic term's at least 2^−360, so their products stay
+ * above 2^−720, far inside the normal range: per-pattern ranges (a pass over the rows per column)
+ * would change no digit. Only a column with values far apart (a stray 1e200 among values near 1)
+ * gets gains per pattern, so that patterns without the stray value keep units of their own.
+ */
+const UNIFORM_RANGE_BITS = 120;
 /** Rows (evenly spaced) behind the shift (median) of a scored column. */
 const MEDIAN_ROWS = 4096;
 
@@ -1047,18 +1063,25 @@ class CrossProductKernel {
  * The gains of the rows' patterns: per pattern p and design column j it observes, the exponent g
  * for which max |T(v·2^p_j) − c_j| over the pattern's rows times 2^g lies in [0.5, 1) (0 for an
  * indicator), and E = p_j + g, the exponent of the units of the pattern's sums (NO_EXPONENT for a
- * column equal to c_j throughout p). Basis terms are nondecreasing in v (a hinge plainly; a natural
+ * column equal to c_j throughout p). A pattern whose g is within SNAP_BITS of the column's
+ * smallest (coarsest) g takes that smallest one, so that ordinary data give all patterns one unit. Basis terms are nondecreasing in v (a hinge plainly; a natural
  * spline term's derivative is a concave quadratic between its last two knots and nonnegative at
  * both), so the pattern's smallest and largest value of the variable give the largest |T − c|.
  * Cost: O(n · S + P · D) for S score arrays (values or mid-ranks).
  */
 function patternGains(design: readonly DesignSource[], shift: Float64Array, patternOfRow: Int32Array, P: number, observed: readonly number[][]): { gains: Float64Array; exponents: Int32Array } {
   const D = design.length;
-  // the smallest and largest value of each score array per pattern
+  // the smallest and largest value of each score array per pattern; an array whose non-zero
+  // magnitudes span at most 2^UNIFORM_RANGE_BITS takes its whole range for every pattern (no pass)
   const ranges = new Map<Float64Array, { lo: Float64Array; hi: Float64Array }>();
   for (const src of design) {
     if (!src.scores || ranges.has(src.scores)) continue;
     const s = src.scores;
+    const whole = columnMagnitudes(s);
+    if (!(whole.maxAbs > 0) || whole.maxAbs <= whole.minAbs * 2 ** UNIFORM_RANGE_BITS) {
+      ranges.set(s, { lo: new Float64Array(P).fill(whole.lo), hi: new Float64Array(P).fill(whole.hi) });
+      continue;
+    }
     const lo = new Float64Array(P).fill(Infinity);
     const hi = new Float64Array(P).fill(-Infinity);
     for (let i = 0; i < patternOfRow.length; i++) {
@@ -1074,15 +1097,33 @@ function patternGains(design: readonly DesignSource[], shift: Float64Array, patt
   const exponents = new Int32Array(P * D);
   const deviation = design.map((src, j) => (src.scores ? deviationOf(src, shift[j]!) : undefined));
   const range = design.map((src) => (src.scores ? ranges.get(src.scores)! : undefined));
+  // each pattern's own gain g (undefined: the column equals its shift throughout the pattern)
+  const own = new Float64Array(P * D).fill(NaN);
+  const coarsest = new Float64Array(D).fill(Infinity);
   for (let p = 0; p < P; p++) {
     for (const j of observed[p]!) {
       const dev = deviation[j];
       const r = range[j];
       const top = dev && r ? dev(r.lo[p]!, r.hi[p]!) : 1;
-      // a column equal to its shift throughout the pattern sets no units (its sums are 0)
-      const g = top > 0 ? (dev ? scaleExponent(top) : 0) : undefined;
-      gains[p * D + j] = g === undefined ? 1 : 2 ** g;
-      exponents[p * D + j] = g === undefined ? NO_EXPONENT : design[j]!.exponent + g;
+      if (!(top > 0)) continue; // a column equal to its shift throughout the pattern sets no units (its sums are 0)
+      const g = dev ? scaleExponent(top) : 0;
+      own[p * D + j] = g;
+      if (g < coarsest[j]!) coarsest[j] = g;
+    }
+  }
+  for (let p = 0; p < P; p++) {
+    for (const j of observed[p]!) {
+      const g0 = own[p * D + j]!;
+      if (g0 !== g0) {
+        exponents[p * D + j] = NO_EXPONENT;
+        continue;
+      }
+      // within SNAP_BITS of the coarsest pattern, a pattern takes the column's common gain: its
+      // scaled values stay within [2^−SNAP_BITS, 1] of its own largest, exactly as precise (powers of
+      // two scale without rounding), and requests then add patterns without rescaling them
+      const g = g0 - coarsest[j]! <= SNAP_BITS ? coarsest[j]! : g0;
+      gains[p * D + j] = 2 ** g;
+      exponents[p * D + j] = design[j]!.exponent + g;
     }
   }
   return { gains, exponents };

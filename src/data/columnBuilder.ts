@@ -36,6 +36,7 @@
 import { DataError, UsageError } from "../errors.js";
 import { findClosestNames } from "../graph/checkColumns.js";
 import { findSentinelCodes } from "./findSentinelCodes.js";
+import { magnitudesOf, rememberMagnitudes } from "../stats/powerOfTwoScale.js";
 import { highCardinality, HIGH_CARDINALITY_MIN_LEVELS } from "./findHighCardinalityColumns.js";
 import { checkHeaderNames } from "./headerNames.js";
 import { identifierNote, inferType, MAX_INFERRED_ORDINAL_LEVELS } from "./inferType.js";
@@ -519,10 +520,13 @@ export class ColumnBuilder {
     if (declared === undefined && declaredLevels !== undefined) {
       declared = declaredLevels.length === 2 ? "binary" : "ordinal";
     }
-    // Numeric codes for "unknown" left among the numbers (read before the values become level scores).
-    if (nText === 0 && observed > 0) this.noteSentinels(c, values, warnings);
+    // Numeric codes for "unknown" left among the numbers (read before the values become level
+    // scores); a column that stays continuous keeps its magnitudes for the moments' scaling
+    const magnitudes = nText === 0 ? magnitudesOf(values) : undefined;
+    if (magnitudes && observed > 0) this.noteSentinels(c, values, magnitudes, warnings);
     if (declared === "continuous") {
       if (nText > 0) this.strayTextError(c, true);
+      if (magnitudes) rememberMagnitudes(values, magnitudes);
       return { name, type: "continuous", typeSource: "declared", values, missing };
     }
     if (declared !== undefined) {
@@ -544,6 +548,7 @@ export class ColumnBuilder {
     if (nText > 0) this.decimalCommaCheck(c, texts!);
     if (inferred.type === "continuous") {
       if (inferred.note) warnings.push(inferred.note);
+      if (magnitudes) rememberMagnitudes(values, magnitudes);
       return { name, type: "continuous", typeSource: "inferred", values, missing };
     }
     const notes: string[] = [];
@@ -563,9 +568,9 @@ export class ColumnBuilder {
   }
 
   /** Warn about sentinel values far outside a numeric column's other values (see `findSentinelCodes`). */
-  private noteSentinels(c: number, values: Float64Array, warnings: string[]): void {
+  private noteSentinels(c: number, values: Float64Array, range: { lo: number; hi: number }, warnings: string[]): void {
     const name = this.names[c]!;
-    for (const f of findSentinelCodes(values, this.rows)) {
+    for (const f of findSentinelCodes(values, this.rows, range)) {
       const code = numberLabel(f.value, this.decimalComma);
       const fmt = (v: number) => numberLabel(Number(v.toPrecision(6)), this.decimalComma);
       warnings.push(

@@ -11,6 +11,7 @@
  * interquartile range). A far sentinel is very likely a code, not a measurement.
  */
 import { quantileSortedType7 } from "../stats/flexibleBasis.js";
+import { magnitudesOf } from "../stats/powerOfTwoScale.js";
 
 export const SENTINEL_VALUES: readonly number[] = [-9, -99, -999, 99, 999, 9999, 99999];
 /** Fewest other observed values for quartiles worth comparing with. */
@@ -29,21 +30,16 @@ export interface SentinelFinding {
 
 /**
  * The sentinel values that lie far from the other values of `values[0, n)` (NaN is missing), by
- * the rule in the module comment, in the order of {@link SENTINEL_VALUES}. A far value is an
+ * the rule in the module comment, in the order of {@link SENTINEL_VALUES}; `range` is the finite
+ * range of those values when the caller has it (see magnitudesOf). A far value is an
  * extreme of the column, so a column whose minimum and maximum are not sentinel values costs one
  * pass; otherwise O(n log n) for the quartiles.
  * Source: Hyndman, R. J. & Fan, Y. (1996), "Sample quantiles in statistical packages",
  * The American Statistician 50:361–365 (definition 7).
  * @example findSentinelCodes(Float64Array.of(20, 25, 31, 40, 44, 999)) // [{ value: 999, cells: 1, min: 20, max: 44, iqr: 15 }]
  */
-export function findSentinelCodes(values: ArrayLike<number>, n = values.length): SentinelFinding[] {
-  let lo = Infinity;
-  let hi = -Infinity;
-  for (let i = 0; i < n; i++) {
-    const v = values[i]!;
-    if (v < lo) lo = v;
-    if (v > hi) hi = v;
-  }
+export function findSentinelCodes(values: ArrayLike<number>, n = values.length, range: { lo: number; hi: number } = magnitudesOf(values, n)): SentinelFinding[] {
+  const { lo, hi } = range;
   if (!SENTINEL_VALUES.includes(lo) && !SENTINEL_VALUES.includes(hi)) return [];
   const counts = new Map<number, number>();
   const others: number[] = [];

@@ -22,6 +22,7 @@ import { Readable } from "node:stream";
 import { pathToFileURL } from "node:url";
 import { afterAll, describe, expect, it } from "vitest";
 import { runCli } from "../helpers/runCli.js";
+import { EXTREME_CASES } from "./extremeCases.js";
 import { MAX_DRAWN_NODES, MAX_LISTED_CLAIMS, MAX_TESTED_CLAIMS, MAX_TEXT_CLAIMS } from "../../cli/limits.js";
 import { deriveClaims } from "../../src/graph/deriveClaims.js";
 import { graphSummary } from "../../src/graph/graphSummary.js";
@@ -311,6 +312,21 @@ const ROWS: Row[] = [
     expect(pid).toHaveLength(3);
     for (const u of pid) expect(u.reason).toMatch(/"pid" has 60 levels among 60 observed rows/);
   } },
+  // 12. Extreme numbers, hostile names and deep graphs (test/cli/extremeCases.ts).
+  ...EXTREME_CASES.map((c): Row => {
+    const out = c.argv[c.argv.indexOf("--out") + 1];
+    return {
+      pins: c.name,
+      files: c.files,
+      argv: c.argv,
+      code: c.code,
+      ...(c.argv.includes("--out") && out ? { written: [out, out.replace(/\.md$/, ".svg")] } : {}),
+      check: (r) => {
+        expect(r.stdout + r.stderr).toContain(c.fragment);
+        if (c.absent !== undefined) expect(r.stdout + r.stderr).not.toContain(c.absent);
+      },
+    };
+  }),
 ];
 
 /**

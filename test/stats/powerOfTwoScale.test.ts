@@ -5,7 +5,7 @@
  */
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { columnScaleExponent, maxAbsFinite, MAX_SCALE_EXPONENT, MIN_SCALE_EXPONENT, scaleExponent, timesPowerOfTwo } from "../../src/stats/powerOfTwoScale.js";
+import { columnMagnitudes, columnScaleExponent, maxAbsFinite, MAX_SCALE_EXPONENT, MIN_SCALE_EXPONENT, scaleExponent, timesPowerOfTwo } from "../../src/stats/powerOfTwoScale.js";
 
 describe("scaleExponent", () => {
   it("scaleExponent(|x|) is −k of math.frexp(x) = (m, k), clamped to [−1074, 1023]", () => {
@@ -86,5 +86,30 @@ describe("columnScaleExponent", () => {
     expect(columnScaleExponent(a)).toBe(-665); // python3 math.frexp(1e200)[1] = 665
     expect(columnScaleExponent(a)).toBe(-665);
     expect(columnScaleExponent(Float64Array.from([1e-310, 3e-310]))).toBe(1023); // doc example: the clamp
+  });
+});
+
+describe("columnMagnitudes", () => {
+  it("gives the finite range, the largest and the smallest non-zero magnitude, skipping NaN and ±Infinity (definition, against a sort)", () => {
+    fc.assert(
+      fc.property(fc.array(fc.oneof(fc.double({ noNaN: false }), fc.constantFrom(0, -0, Infinity, -Infinity, NaN, 5e-324)), { minLength: 0, maxLength: 60 }), (xs) => {
+        const m = columnMagnitudes(Float64Array.from(xs));
+        const finite = xs.filter((v) => Number.isFinite(v)).sort((a, b) => a - b);
+        const nonzero = finite.map(Math.abs).filter((a) => a > 0);
+        // == so that −0 and +0, equal values, may stand for each other
+        expect(m.lo == (finite.length ? finite[0]! : Infinity)).toBe(true);
+        expect(m.hi == (finite.length ? finite[finite.length - 1]! : -Infinity)).toBe(true);
+        expect(m.maxAbs).toBe(finite.length ? Math.max(...finite.map(Math.abs)) : 0);
+        expect(m.minAbs).toBe(nonzero.length ? Math.min(...nonzero) : Infinity);
+        expect(m.maxAbs).toBe(maxAbsFinite(xs));
+      }),
+      { numRuns: 300 },
+    );
+  });
+
+  it("is cached per array (columns are not changed after they are read)", () => {
+    const v = Float64Array.of(1, -4, NaN);
+    expect(columnMagnitudes(v)).toBe(columnMagnitudes(v));
+    expect(columnMagnitudes(v)).toEqual({ lo: -4, hi: 1, maxAbs: 4, minAbs: 1 });
   });
 });

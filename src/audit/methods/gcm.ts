@@ -1180,7 +1180,10 @@ function sampleCache(ctx: TestContext): SampleCache {
           }
         } else {
           const src = c.values ?? c.column.values;
-          for (let t = 0; t < M; t++) view[t] = timesPowerOfTwo(src[sample[t]!]!, e);
+          if (e >= -1022 && e <= 1023) {
+            const f = 2 ** e; // a double: the product is timesPowerOfTwo(v, e)
+            for (let t = 0; t < M; t++) view[t] = src[sample[t]!]! * f;
+          } else for (let t = 0; t < M; t++) view[t] = timesPowerOfTwo(src[sample[t]!]!, e);
           if (c.term) fillBasisValues(scaleBasisTermByExponent(c.term, e), view, view);
           // a categorical column's missing cells are marked by codes, not by NaN values
           if (c.column.codes && CATEGORICAL_TYPES.has(c.column.type)) for (let t = 0; t < M; t++) if (c.column.codes[sample[t]!]! < 0) view[t] = NaN;

@@ -1,18 +1,10 @@
 /**
- * The command line on extreme numbers, hostile names and deep graphs: one array of cases, each
- * the arguments, the files they read (written to a temporary folder), the exit code the README
- * documents (0 success, 2 invalid input; never 10, an internal error) and a fragment the output
- * must hold (and, where a bug printed one, a fragment it must not). Run in-process like the
- * golden tests. Each case names the bug it pins.
+ * The catalogue's cases of extreme numbers, hostile names and deep graphs (section 12 of
+ * test/cli/catalogue.test.ts, which runs them with its invariants): each the arguments, the files
+ * they read, the exit code the README documents (0 success, 2 invalid input; never 10, an
+ * internal error) and a fragment the output must hold (and, where a bug printed one, a fragment
+ * it must not). Each case names the bug it pins.
  */
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { join } from "node:path";
-import { runCli } from "../helpers/runCli.js";
-import { afterAll, describe, expect, it } from "vitest";
-
-const work = mkdtempSync(join(tmpdir(), "arrowaudit-extremes-"));
-afterAll(() => rmSync(work, { recursive: true, force: true }));
 
 /** An invented cohort of 200 rows: z, x = z + noise, y = z² + noise, w noise (seeded LCG). */
 function cohortCsv(edit: (row: { x: number; y: number; z: number; w: number }, i: number) => void = () => {}, header = "x,y,z,w"): string {
@@ -33,7 +25,7 @@ const GRAPH = "z -> x\nz -> y\nw\n";
 const HOSTILE_GRAPH = "constructor -> __proto__\nconstructor -> toString\nvalueOf\n";
 const at = (v: number) => (row: { x: number }, i: number) => void (i === 13 && (row.x = v));
 
-interface Case {
+export interface ExtremeCase {
   /** What the case checks, and the bug it pins. */
   name: string;
   argv: string[];
@@ -46,7 +38,7 @@ interface Case {
 const extremes = [1e155, 1e200, -1e308, 1.7e308];
 const methods = ["auto", "linear", "rank", "chisq", "regression"];
 
-const cases: Case[] = [
+export const EXTREME_CASES: ExtremeCase[] = [
   ...extremes.flatMap((v) =>
     methods.map((m) => ({
       name: `one cell of ${v} with --method ${m} is tested (regression: ${
@@ -126,21 +118,3 @@ const cases: Case[] = [
     fragment: "report written to",
   },
 ];
-
-async function cli(args: string[]) {
-  const r = await runCli(args, { cwd: work });
-  return { code: r.code, out: r.stdout + r.stderr };
-}
-
-describe("arrowaudit on extreme numbers, hostile names and deep graphs", () => {
-  for (const c of cases) {
-    it(`${c.argv.join(" ")}: ${c.name}`, async () => {
-      for (const [name, text] of Object.entries(c.files)) writeFileSync(join(work, name), text);
-      const r = await cli(c.argv);
-      expect(r.out).not.toContain("internal error");
-      expect(r.code, r.out).toBe(c.code);
-      expect(r.out).toContain(c.fragment);
-      if (c.absent !== undefined) expect(r.out).not.toContain(c.absent);
-    });
-  }
-});
