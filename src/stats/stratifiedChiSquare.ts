@@ -11,7 +11,9 @@
  * Wilks 1938, Annals of Mathematical Statistics 9:60–62; see Agresti 2013, Categorical Data
  * Analysis, 3rd ed., §3.2 and §6.4). A stratum with r_s < 2 or c_s < 2 (including a stratum of
  * one row) has df_s = 0, contributes nothing and is counted as unused. A *sparse cell* is a cell
- * of a used stratum whose expected count is below 5 (Cochran 1954, Biometrics 10:417–451).
+ * of a used stratum whose expected count is below 5, a *tiny cell* one whose expected count is
+ * below 1: Cochran's rule for the χ² approximation asks for no tiny cell and at most 20% sparse
+ * cells (Cochran 1954, Biometrics 10:417–451; Agresti 2013, §3.2.4 — from memory).
  */
 
 /** One stratum's table: `rows` × `cols` counts, row-major; empty rows and columns are allowed. */
@@ -37,11 +39,16 @@ export interface StratifiedChiSquareResult {
   cells: number;
   /** Of those, cells with expected count below 5. */
   sparseCells: number;
+  /** Of those, cells with expected count below 1. */
+  tinyCells: number;
+  /** Smallest expected count of a cell of a used stratum; Infinity when no stratum is used. */
+  minExpected: number;
 }
 
 /**
  * Stratified Pearson X² and likelihood-ratio G² with df summed over the strata that have at
- * least two levels of each variable. Cost: O(Σ r_s·c_s).
+ * least two levels of each variable, with the cell counts of Cochran's rule (expected counts
+ * below 5 and below 1, and the smallest). Cost: O(Σ r_s·c_s).
  * Source: Agresti (2013), Categorical Data Analysis, 3rd ed., Wiley, §3.2 (X², G²) and §6.4.
  * @throws RangeError when a count is negative or not finite, or a table's size does not match
  * @example
@@ -55,6 +62,8 @@ export function stratifiedChiSquare(strata: readonly ContingencyStratum[]): Stra
   let n = 0;
   let cells = 0;
   let sparseCells = 0;
+  let tinyCells = 0;
+  let minExpected = Infinity;
   for (let s = 0; s < strata.length; s++) {
     const { rows: r, cols: c, counts } = strata[s]!;
     if (counts.length !== r * c) throw new RangeError(`stratum ${s}: ${counts.length} counts for a ${r}×${c} table; pass rows·cols counts`);
@@ -86,6 +95,8 @@ export function stratifiedChiSquare(strata: readonly ContingencyStratum[]): Stra
         const e = (rowT[i]! * colT[j]!) / tot;
         cells++;
         if (e < 5) sparseCells++;
+        if (e < 1) tinyCells++;
+        if (e < minExpected) minExpected = e;
         x2 += ((o - e) * (o - e)) / e;
         if (o > 0) g2 += 2 * o * Math.log(o / e);
       }
@@ -93,5 +104,30 @@ export function stratifiedChiSquare(strata: readonly ContingencyStratum[]): Stra
   }
   // G² is a sum of terms of both signs that is ≥ 0 in exact arithmetic.
   if (g2 < 0) g2 = 0;
-  return { x2, g2, df, strataUsed, strataTotal: strata.length, n, cells, sparseCells };
+  return { x2, g2, df, strataUsed, strataTotal: strata.length, n, cells, sparseCells, tinyCells, minExpected };
+}
+
+/** Cochran's rule: at most this share of the cells of the used strata may have an expected count below 5. */
+export const COCHRAN_SPARSE_SHARE = 0.2;
+/** Cochran's rule: no cell of a used stratum may have an expected count below this. */
+export const COCHRAN_MIN_EXPECTED = 1;
+
+/** The part of Cochran's rule a table breaks: a cell expected below 1, or more than 20% of the cells expected below 5. */
+export type CochranFailure = "expected-below-1" | "over-20%-below-5";
+
+/**
+ * The parts of Cochran's rule for the χ² approximation that a stratified table breaks, in the
+ * order: some expected count below 1; more than 20% of the expected counts below 5. Empty when
+ * the rule holds (and when no stratum is used). Cost: O(1).
+ * Source: Cochran (1954), Some methods for strengthening the common χ² tests, Biometrics
+ * 10:417–451 (the rule as restated by Agresti 2013, §3.2.4 — from memory).
+ * @example cochranRuleFailures(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [10, 20, 30, 40] }])) // []
+ * @example cochranRuleFailures(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [1, 0, 20, 30] }])) // ["expected-below-1", "over-20%-below-5"]
+ */
+export function cochranRuleFailures(res: Pick<StratifiedChiSquareResult, "cells" | "sparseCells" | "tinyCells">): CochranFailure[] {
+  const out: CochranFailure[] = [];
+  if (res.cells === 0) return out;
+  if (res.tinyCells > 0) out.push("expected-below-1");
+  if (res.sparseCells / res.cells > COCHRAN_SPARSE_SHARE) out.push("over-20%-below-5");
+  return out;
 }

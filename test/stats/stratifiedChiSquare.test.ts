@@ -2,7 +2,7 @@ import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { stratifiedChiSquare } from "../../src/stats/stratifiedChiSquare.js";
+import { cochranRuleFailures, stratifiedChiSquare } from "../../src/stats/stratifiedChiSquare.js";
 
 interface Dept { dept: string; men_admitted: number; men_rejected: number; women_admitted: number; women_rejected: number }
 interface ScipyRef { departments: { dept: string; x2: number; g2: number }[]; x2_sum: number; g2_sum: number }
@@ -106,5 +106,33 @@ describe("stratifiedChiSquare", () => {
   it("stratifiedChiSquare example: [[10, 20], [30, 40]] has X² = 0.7937", () => {
     // hand computation: expected 12, 18, 28, 42 (common practice)
     expect(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [10, 20, 30, 40] }]).x2).toBeCloseTo(4 / 12 + 4 / 18 + 4 / 28 + 4 / 42, 12);
+  });
+
+  it("stratifiedChiSquare counts the cells of Cochran's rule (expected below 5, below 1, the smallest) over used strata only", () => {
+    // Expected counts E_ij = R_i·C_j/n_s, by hand (definition; scipy.stats.contingency.expected_freq gives the same):
+    // stratum 1 [[1, 9], [29, 61]]: E = 3, 7, 27, 63 — one below 5, none below 1
+    // stratum 2 [[0, 2, 1], [40, 30, 27]]: E = 1.2, 0.96, 0.84 | 38.8, 31.04, 27.16 — three below 5, two below 1
+    // stratum 3 [[5, 0], [7, 0]]: one column empty, unused
+    const r = stratifiedChiSquare([
+      { rows: 2, cols: 2, counts: [1, 9, 29, 61] },
+      { rows: 2, cols: 3, counts: [0, 2, 1, 40, 30, 27] },
+      { rows: 2, cols: 2, counts: [5, 0, 7, 0] },
+    ]);
+    expect(r.cells).toBe(10);
+    expect(r.sparseCells).toBe(4);
+    expect(r.tinyCells).toBe(2);
+    expect(r.minExpected).toBeCloseTo(0.84, 12);
+    // Cochran (1954): no expected count below 1 and at most 20% below 5 — both parts broken here (40% below 5)
+    expect(cochranRuleFailures(r)).toEqual(["expected-below-1", "over-20%-below-5"]);
+    expect(cochranRuleFailures(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [1, 9, 29, 61] }]))).toEqual(["over-20%-below-5"]); // 1 of 4 = 25%
+    expect(cochranRuleFailures(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [10, 20, 30, 40] }]))).toEqual([]);
+    // exactly 20% below 5 passes ("more than 20%" fails): rows 100/100, columns 44, 44, 44, 44, 4 → E = 2 in 2 of 10 cells
+    const edge = stratifiedChiSquare([{ rows: 2, cols: 5, counts: [22, 22, 22, 22, 2, 22, 22, 22, 22, 2] }]);
+    expect(edge.minExpected).toBe(2);
+    expect(edge.sparseCells / edge.cells).toBe(0.2);
+    expect(cochranRuleFailures(edge)).toEqual([]);
+    // the empty list breaks nothing, and its smallest expected count is Infinity
+    expect(stratifiedChiSquare([]).minExpected).toBe(Infinity);
+    expect(cochranRuleFailures(stratifiedChiSquare([]))).toEqual([]);
   });
 });

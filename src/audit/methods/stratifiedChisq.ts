@@ -12,8 +12,9 @@
  * Robins–Breslow–Greenland 95% interval and the Cochran–Mantel–Haenszel statistic, with and
  * without continuity correction, are added to the details.
  *
- * *Sparse rule*: when more than 20% of the cells of the used strata have an expected count below
- * 5 (Cochran 1954, Biometrics 10:417–451 — common practice), or when the user asks for
+ * *Sparse rule*: when a table breaks Cochran's rule — some cell of the used strata has an
+ * expected count below 1, or more than 20% of them have one below 5 (Cochran 1954, Biometrics
+ * 10:417–451 — common practice; `cochranRuleFailures`) — or when the user asks for
  * permutations, the p-value is a Monte-Carlo permutation p-value: x is permuted within each
  * stratum (the stratum's x and y margins stay fixed) up to B times and
  * p = (1 + #{G²* ≥ G²})/(1 + B); sequentially (Besag & Clifford 1991, Biometrika 78:301–304), the
@@ -50,7 +51,9 @@ import {
 } from "../../stats/permutation.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
-import { stratifiedChiSquare } from "../../stats/stratifiedChiSquare.js";
+import {
+  COCHRAN_SPARSE_SHARE, cochranRuleFailures, stratifiedChiSquare, type CochranFailure, type StratifiedChiSquareResult,
+} from "../../stats/stratifiedChiSquare.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { Claim, TestOutcome } from "../types.js";
 import { strataAdjustment } from "./adjustmentDetails.js";
@@ -58,8 +61,17 @@ import { groupStrata, neverBothVary, unusedStrataWarning, type CompactStratum } 
 
 /** Fewest Monte-Carlo permutations when the sparse rule applies and the user gave none (more when the decision floor asks; see `permutationsForFloor`). */
 export const DEFAULT_PERMUTATIONS = BASE_PERMUTATIONS;
-/** Share of sparse cells (expected count < 5) above which the permutation p-value is used. */
-export const SPARSE_SHARE = 0.2;
+/** Share of sparse cells (expected count < 5) above which the permutation p-value is used (also used whenever an expected count is below 1). */
+export const SPARSE_SHARE = COCHRAN_SPARSE_SHARE;
+
+/** The warning of a claim whose p-value is permuted because its table breaks Cochran's rule, naming the part(s) broken. */
+function sparseRuleWarning(res: StratifiedChiSquareResult, failures: readonly CochranFailure[], B: number): string {
+  const parts = failures.map((f) =>
+    f === "expected-below-1"
+      ? `${res.tinyCells} of ${res.cells} expected counts are below 1 (smallest ${res.minExpected.toPrecision(2)})`
+      : `${(100 * res.sparseCells / res.cells).toFixed(0)}% of expected counts are below 5`);
+  return `${parts.join(" and ")} (Cochran's rule); p-value from ${B} permutations within strata`;
+}
 /** Draws reaching the observed G² after which the sequential permutation test stops (Besag & Clifford 1991). */
 export const STOP_AFTER_HITS = 20;
 /** Fewest permuted G² behind the null mean and variance that calibrate the effect (draws continue past the sequential stop). */
@@ -141,7 +153,8 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   const unused = unusedStrataWarning(claim, res.strataUsed, res.strataTotal);
   if (unused) warnings.push(unused);
   const sparseShare = res.cells > 0 ? res.sparseCells / res.cells : 0;
-  const sparse = sparseShare > SPARSE_SHARE;
+  const sparseRule = cochranRuleFailures(res);
+  const sparse = sparseRule.length > 0;
   const permute = sparse || ctx.permutations !== undefined;
   const pAsymptotic = chiSquareUpper(res.g2, res.df);
   const logPAsymptotic = logChiSquareUpper(res.g2, res.df);
@@ -157,7 +170,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     logP = Math.log(p);
     nullMoments = perm.null;
     if (perm.draws < B) B = perm.draws;
-    if (sparse) warnings.push(`${(100 * sparseShare).toFixed(0)}% of expected counts are below 5; p-value from ${B} permutations within strata`);
+    if (sparse) warnings.push(sparseRuleWarning(res, sparseRule, B));
     if (floorWarning) warnings.push(floorWarning);
   } else {
     logP = logPAsymptotic;
@@ -173,6 +186,9 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     cells: res.cells,
     sparse_cells: res.sparseCells,
     sparse_share: sparseShare,
+    tiny_cells: res.tinyCells,
+    ...(Number.isFinite(res.minExpected) ? { min_expected: res.minExpected } : {}),
+    sparse_rule: sparseRule,
     adjustment: strataAdjustment(claim.given),
     sides: [claim.x, claim.y].map((variable) => ({ variable, model: "categories within each stratum" })),
   };
