@@ -2,5 +2,5 @@ export { runAudit, DEFAULT_SETTINGS, MAX_AUDIT_CLAIMS, MAX_SETS_PER_PAIR, type A
 export type { AuditResult, AuditSettings, Claim, GlobalTest, TestedClaim, TestName, TestOutcome, UntestableClaim, VariableSummary, Verdict } from "./types.js";
 export type { ClaimTypes, MethodResult, TestContext, TestMethod } from "./TestMethod.js";
 export { METHODS, chooseMethod } from "./methods/index.js";
-export { repairArrows, isAncestor } from "./repairArrows.js";
+export { repairArrows, repairTimeNote, isAncestor } from "./repairArrows.js";
 export { compareClaims } from "./rankClaims.js";

@@ -21,7 +21,7 @@ import type { PatternMoments } from "../data/Moments.js";
 import { adjustPValues } from "../stats/adjustPValues.js";
 import { fisherC } from "../stats/fisherC.js";
 import { chooseMethod } from "./methods/index.js";
-import { repairArrows } from "./repairArrows.js";
+import { repairArrows, repairTimeNote } from "./repairArrows.js";
 import { compareClaims } from "./rankClaims.js";
 import type { MethodResult, TestContext, TestMethod } from "./TestMethod.js";
 import type { AuditResult, AuditSettings, Claim, TestedClaim, TestOutcome, UntestableClaim } from "./types.js";
@@ -367,7 +367,9 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
       lin.verdict = linearVerdict;
       lin.verdict_differs = linearVerdict !== verdict;
     }
-    return { ...t, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y) };
+    const timeNote = verdict === "contradicted" ? repairTimeNote(graph, t.x, t.y) : undefined;
+    const warned = timeNote ? { warnings: [...(t.warnings ?? []), timeNote] } : {};
+    return { ...t, ...warned, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y) };
   });
   const differing = result.filter((c) => linearAdjustmentOf(c)?.verdict_differs);
   if (differing.length > 0) {

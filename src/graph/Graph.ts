@@ -25,4 +25,22 @@ export interface Graph {
   readonly topologicalOrder: readonly string[];
   /** Position of a node in `topologicalOrder`. */
   orderIndex(name: string): number;
+  /** What the graph file says about time: periods in order and fixed traits; absent when it says nothing. */
+  readonly timeOrder?: TimeOrder;
+}
+
+/**
+ * Time order declared with the graph. A *period* is a group of nodes measured or determined at
+ * the same stage; periods are numbered from 1 (earliest). A node in a later period cannot cause a
+ * node in an earlier one; nodes in one period, or outside every period, may cause each other.
+ * A *fixed* node (a trait such as the year of birth) has no cause at all, measured or not.
+ */
+export interface TimeOrder {
+  /** The periods, earliest first, each its nodes in declaration order. */
+  readonly periods: ReadonlyArray<readonly string[]>;
+  /** The fixed nodes, in declaration order. */
+  readonly fixed: readonly string[];
+  /** The period (1-based) of a node, or undefined when it is in none. */
+  periodOf(name: string): number | undefined;
+  isFixed(name: string): boolean;
 }

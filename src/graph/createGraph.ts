@@ -1,5 +1,6 @@
 import { CycleError, GraphError, type SourcePosition } from "../errors.js";
 import type { Graph } from "./Graph.js";
+import { createTimeOrder, timeOrderMessage, timeOrderViolation } from "./timeOrder.js";
 
 /** What a parser collects before the graph is validated. */
 export interface GraphSpec {
@@ -8,6 +9,10 @@ export interface GraphSpec {
   arrows?: ReadonlyArray<readonly [string, string]>;
   bidirected?: ReadonlyArray<readonly [string, string]>;
   unmeasured?: readonly string[];
+  /** Periods of the time order, earliest first (see `timeOrder.ts`). */
+  periods?: ReadonlyArray<readonly string[]>;
+  /** Fixed nodes: nothing can cause them. */
+  fixed?: readonly string[];
 }
 
 const byCodePoint = (a: string, b: string): number => (a < b ? -1 : a > b ? 1 : 0);
@@ -16,7 +21,8 @@ const byCodePoint = (a: string, b: string): number => (a < b ? -1 : a > b ? 1 : 
  * Build and validate a causal graph from its parts.
  * Duplicate arrows and bidirected edges are merged (callers that want to warn about them check first).
  * Cost: O((V + E) log V) (Kahn's algorithm with the ready nodes in a binary heap by name).
- * @throws GraphError for a self-arrow or an empty graph; CycleError naming one directed cycle in full.
+ * @throws GraphError for a self-arrow, an empty graph, a node in two periods, or an arrow or shared
+ *   cause against the time order; CycleError naming one directed cycle in full.
  * @example
  * const g = createGraph({ arrows: [["a", "b"], ["b", "c"]] });
  * g.parents("c"); // ["b"]
@@ -56,6 +62,11 @@ export function createGraph(spec: GraphSpec, pos: SourcePosition = {}): Graph {
     }
   }
   for (const u of spec.unmeasured ?? []) add(u);
+  for (const g of spec.periods ?? []) for (const n of g) add(n);
+  for (const n of spec.fixed ?? []) add(n);
+  const timeOrder = createTimeOrder(spec.periods, spec.fixed);
+  const against = timeOrderViolation(timeOrder, arrows, bidirected);
+  if (against) throw new GraphError(`${pos.file ? pos.file + ": " : ""}${timeOrderMessage(against)}`, pos);
   if (order.length === 0) throw new GraphError(`${pos.file ? pos.file + ": " : ""}the graph is empty: declare at least one node or arrow`, pos);
 
   const parents = new Map<string, string[]>();
@@ -117,6 +128,7 @@ export function createGraph(spec: GraphSpec, pos: SourcePosition = {}): Graph {
       if (i === undefined) throw new GraphError(`unknown node "${n}"`);
       return i;
     },
+    ...(timeOrder ? { timeOrder } : {}),
   };
 }
 

@@ -1,4 +1,5 @@
-export type { Graph } from "./Graph.js";
+export type { Graph, TimeOrder } from "./Graph.js";
+export { createTimeOrder, arrowAgainstTime, sharedCauseAgainstTime } from "./timeOrder.js";
 export { createGraph, type GraphSpec } from "./createGraph.js";
 export { parseGraph, type ParsedGraph, type ParseGraphOptions } from "./parseGraph.js";
 export { parseDot, type ParseDotOptions } from "./parseDot.js";

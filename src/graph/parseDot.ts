@@ -16,7 +16,9 @@
  * - *attribute list*: `[key=value, key=value; key]`, repeatable (`[a=b][c=d]`); items are
  *   separated by `,`, `;` or nothing; a key alone (from the earlier published grammar,
  *   `a_list : ID [ '=' ID ]`) means key=true. The node attribute `unmeasured=true` marks a node
- *   that is not a column of the data; all other attributes, and `graph/node/edge [...]` and
+ *   that is not a column of the data, `period=N` (a whole number from 1, earliest) puts it in a
+ *   period of the time order and `fixed=true` says nothing can cause it (see `timeOrder.ts`);
+ *   all other attributes, and `graph/node/edge [...]` and
  *   `key=value` statements, are read and ignored (a few that would change the meaning draw a
  *   warning).
  *
@@ -27,9 +29,14 @@
  */
 import { GraphError, InputError } from "../errors.js";
 import { duplicateWarnings } from "./duplicateWarnings.js";
+import { createTimeOrder } from "./timeOrder.js";
+
+/** Largest period number a DOT node may carry (periods are numbered from 1, earliest). */
+export const MAX_PERIOD = 10_000;
 import {
   type ArrowSite,
   type ParsedGraph,
+  checkTimeOrderSites,
   createGraphWithSites,
   displayName,
   formatSourceLocation,
@@ -270,6 +277,8 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
   const arrowLine = new Map<string, number>();
   const sites: ArrowSite[] = [];
   const unmeasured = new Map<string, boolean>();
+  const periodOf = new Map<string, number>();
+  const fixedNodes = new Map<string, boolean>();
   let strict = false;
 
   const isMarker = (t: Tok): boolean => t.kind === "id" && t.value === "+" && !t.quoted;
@@ -316,6 +325,23 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
     if (v === "true" || v === "yes" || v === "1") return true;
     if (v === "false" || v === "no" || v === "0") return false;
     return failAt(a.value, `unmeasured=${a.value.quoted ? describe(a.value) : a.value.value} is not a yes/no value; write unmeasured=true or unmeasured=false`);
+  };
+
+  const readFixed = (a: Attribute): boolean => {
+    if (a.value === undefined) return true;
+    const v = a.value.value.toLowerCase();
+    if (v === "true" || v === "yes" || v === "1") return true;
+    if (v === "false" || v === "no" || v === "0") return false;
+    return failAt(a.value, `fixed=${a.value.quoted ? describe(a.value) : a.value.value} is not a yes/no value; write fixed=true or fixed=false`);
+  };
+
+  const readPeriod = (a: Attribute): number => {
+    const text = a.value?.value ?? "";
+    const v = /^[0-9]+$/u.test(text) ? Number(text) : NaN;
+    if (!(Number.isInteger(v) && v >= 1 && v <= MAX_PERIOD)) {
+      return failAt(a.value ?? a.keyTok, `period=${text === "" ? "(nothing)" : text} is not a period number; write a whole number from 1 (the earliest period) to ${MAX_PERIOD}, e.g. period=2`);
+    }
+    return v;
   };
 
   const valueText = (a: Attribute): string => a.value?.value ?? "true";
@@ -395,7 +421,10 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
     if (stmt.steps.length === 0) {
       if (stmt.startsWithNode) {
         for (const a of readAttrLists()) {
-          if (a.key.toLowerCase() === "unmeasured") unmeasured.set(stmt.left[0]!, readUnmeasured(a));
+          const key = a.key.toLowerCase();
+          if (key === "unmeasured") unmeasured.set(stmt.left[0]!, readUnmeasured(a));
+          else if (key === "fixed") fixedNodes.set(stmt.left[0]!, readFixed(a));
+          else if (key === "period") periodOf.set(stmt.left[0]!, readPeriod(a));
         }
       }
       return;
@@ -430,10 +459,16 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
       const attrs = readAttrLists();
       if (t.keyword === "node") {
         for (const a of attrs) {
-          if (a.key.toLowerCase() === "unmeasured") {
+          const key = a.key.toLowerCase();
+          if (key === "unmeasured") {
             warnings.push(
               `${formatSourceLocation(file, lineOf(a))}: node [unmeasured=${valueText(a)}] is ignored; ` +
                 `set it on each unmeasured node, e.g. u [unmeasured=true]`,
+            );
+          } else if (key === "period" || key === "fixed") {
+            warnings.push(
+              `${formatSourceLocation(file, lineOf(a))}: node [${key}=${valueText(a)}] is ignored; ` +
+                `set it on each node, e.g. ${key === "period" ? "age [period=1]" : "sex [fixed=true]"}`,
             );
           }
         }
@@ -551,6 +586,16 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
     );
   }
   const unmeasuredNames = nodes.filter((n) => unmeasured.get(n) === true);
-  const graph = createGraphWithSites({ nodes, arrows, unmeasured: unmeasuredNames }, sites, file, lines);
+  // periods by number (a gap in the numbers is an empty period, so messages keep the file's numbers)
+  const periods: string[][] = [];
+  for (const n of nodes) {
+    const k = periodOf.get(n);
+    if (k === undefined) continue;
+    while (periods.length < k) periods.push([]);
+    periods[k - 1]!.push(n);
+  }
+  const fixed = nodes.filter((n) => fixedNodes.get(n) === true);
+  checkTimeOrderSites(createTimeOrder(periods, fixed), sites, [], file, lines);
+  const graph = createGraphWithSites({ nodes, arrows, unmeasured: unmeasuredNames, periods, fixed }, sites, file, lines);
   return { graph, warnings };
 }

@@ -8,14 +8,17 @@
  * - *list*: one or more names separated by commas.
  * - *chain*: lists joined by `->` (direct cause: every name on the left causes every
  *   name on the right) or `<->` (every left/right pair shares an unmeasured common cause).
- * - *keyword statement*: `unmeasured: name, name` marks nodes that are not columns of the data.
+ * - *keyword statement*: `unmeasured: name, name` marks nodes that are not columns of the data;
+ *   `period: name, name` declares the next period of the time order (the first `period:` line is
+ *   the earliest); `fixed: name, name` marks nodes that nothing can cause (see `timeOrder.ts`).
  *
  * The full grammar, with examples, is in docs/graph-format.md. Positions in messages are
  * 1-based lines and columns, columns counted in Unicode code points.
  */
 import { CycleError, GraphError, InputError } from "../errors.js";
-import type { Graph } from "./Graph.js";
+import type { Graph, TimeOrder } from "./Graph.js";
 import { createGraph, type GraphSpec } from "./createGraph.js";
+import { arrowAgainstTime, createTimeOrder, sharedCauseAgainstTime, timeOrderMessage } from "./timeOrder.js";
 import { duplicateWarnings } from "./duplicateWarnings.js";
 
 /** A parsed graph plus the non-fatal remarks about its source (duplicates and the like). */
@@ -291,7 +294,15 @@ class LineTokenizer {
 // The parser
 // ---------------------------------------------------------------------------
 
-const KEYWORDS = ["unmeasured"] as const;
+const KEYWORDS = ["unmeasured", "period", "fixed"] as const;
+/** How messages name the keywords. */
+const KEYWORD_LIST = '"unmeasured:", "period:" and "fixed:"';
+/** An example list per keyword, for the message when the list is empty. */
+const KEYWORD_EXAMPLE: Record<(typeof KEYWORDS)[number], string> = {
+  unmeasured: "list the variables that are not in the data, e.g. unmeasured: u, v",
+  period: "list the variables of this period, e.g. period: age, sex",
+  fixed: "list the variables nothing can cause, e.g. fixed: sex, birth_year",
+};
 
 /**
  * Parse a graph written in the arrowaudit plain-text format (see docs/graph-format.md) into a
@@ -330,6 +341,11 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
   const biLine = new Map<string, number>();
   const unmeasured: string[] = [];
   const unmeasuredLine = new Map<string, number>();
+  const periods: string[][] = [];
+  const periodSite = new Map<string, { period: number; line: number }>();
+  const fixed: string[] = [];
+  const fixedLine = new Map<string, number>();
+  const biSites: ArrowSite[] = [];
   let statements = 0;
 
   const mention = (n: string) => {
@@ -361,10 +377,11 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
       if (!(KEYWORDS as readonly string[]).includes(word)) {
         fail(
           first.col,
-          `unknown keyword "${first.value}:"; the only keyword is "unmeasured:" ` +
+          `unknown keyword "${first.value}:"; the keywords are ${KEYWORD_LIST} ` +
             `(put a node name that contains ':' in double quotes)`,
         );
       }
+      const keyword = word as (typeof KEYWORDS)[number];
       k = 2;
       const names: Array<Extract<Token, { kind: "name" }>> = [];
       for (;;) {
@@ -373,7 +390,7 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
           if (names.length === 0) {
             fail(
               t?.col ?? tokens[1]!.end,
-              `expected a node name after "${first.value}:"; list the variables that are not in the data, e.g. unmeasured: u, v`,
+              `expected a node name after "${first.value}:"; ${KEYWORD_EXAMPLE[keyword]}`,
             );
           }
           fail(t?.col ?? endColumn(), `expected a node name after ','; add a name or remove the trailing comma`);
@@ -391,14 +408,33 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
         }
         k++;
       }
+      if (keyword === "period") periods.push([]);
       for (const n of names) {
         mention(n.value);
-        const prev = unmeasuredLine.get(n.value);
+        if (keyword === "period") {
+          const seen = periodSite.get(n.value);
+          if (seen !== undefined && seen.period !== periods.length) {
+            fail(
+              n.col,
+              `${displayName(n.value)} is already in period ${seen.period} (line ${seen.line}); a variable belongs to one period, so remove it from one of the two lines`,
+              GraphError,
+            );
+          }
+          if (seen !== undefined) {
+            repeats.repeat(`p:${n.value}`, (times) => `${displayName(n.value)} is listed in period ${seen.period} ${times}`, formatSourceLocation(file, line), seen.line, line);
+          } else {
+            periodSite.set(n.value, { period: periods.length, line });
+            periods[periods.length - 1]!.push(n.value);
+          }
+          continue;
+        }
+        const lineOf = keyword === "fixed" ? fixedLine : unmeasuredLine;
+        const prev = lineOf.get(n.value);
         if (prev !== undefined) {
-          repeats.repeat(`u:${n.value}`, (times) => `${displayName(n.value)} is declared unmeasured ${times}`, formatSourceLocation(file, line), prev, line);
+          repeats.repeat(`${keyword[0]}:${n.value}`, (times) => `${displayName(n.value)} is declared ${keyword} ${times}`, formatSourceLocation(file, line), prev, line);
         } else {
-          unmeasuredLine.set(n.value, line);
-          unmeasured.push(n.value);
+          lineOf.set(n.value, line);
+          (keyword === "fixed" ? fixed : unmeasured).push(n.value);
         }
       }
       return;
@@ -461,7 +497,7 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
       if (op.kind === ":") {
         fail(
           op.col,
-          `unexpected ':'; the only keyword is "unmeasured:" at the start of a line, ` +
+          `unexpected ':'; the keywords ${KEYWORD_LIST} go at the start of a line, ` +
             `and a node name that contains ':' goes in double quotes`,
         );
       }
@@ -504,6 +540,7 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
             } else {
               biLine.set(key, line);
               bidirected.push([a.value, b.value]);
+              biSites.push({ from: a.value, to: b.value, line, column: op.col });
             }
           }
         }
@@ -519,6 +556,29 @@ export function parseGraph(text: string, options: ParseGraphOptions = {}): Parse
       { file },
     );
   }
-  const graph = createGraphWithSites({ nodes, arrows, bidirected, unmeasured }, sites, file, lines);
+  checkTimeOrderSites(createTimeOrder(periods, fixed), sites, biSites, file, lines);
+  const graph = createGraphWithSites({ nodes, arrows, bidirected, unmeasured, periods, fixed }, sites, file, lines);
   return { graph, warnings };
+}
+
+/**
+ * Stop at the first declared arrow (then shared cause) that breaks the time order, with its line,
+ * column and a caret. Cost: O(E).
+ * @throws GraphError positioned at the arrow, naming the periods or the fixed node.
+ * @example checkTimeOrderSites(createTimeOrder([["a"], ["b"]]), [{ from: "b", to: "a", line: 3, column: 3 }], [], "g.txt", lines)
+ */
+export function checkTimeOrderSites(
+  order: TimeOrder | undefined,
+  sites: readonly ArrowSite[],
+  biSites: readonly ArrowSite[],
+  file: string | undefined,
+  lines: readonly string[],
+): void {
+  if (!order) return;
+  for (const [kind, list] of [["->", sites], ["<->", biSites]] as const) {
+    for (const s of list) {
+      const why = kind === "->" ? arrowAgainstTime(order, s.from, s.to) : sharedCauseAgainstTime(order, s.from, s.to);
+      if (why) throw sourceError(GraphError, file, lines, s.line, s.column, timeOrderMessage({ kind, from: s.from, to: s.to, why }, displayName));
+    }
+  }
 }

@@ -18,5 +18,6 @@ export function withUnmeasured(graph: Graph, names: readonly string[]): Graph {
     );
   }
   const unmeasured = [...graph.nodes.filter((n) => !graph.isMeasured(n)), ...names];
-  return createGraph({ nodes: graph.nodes, arrows: graph.arrows, bidirected: graph.bidirected, unmeasured });
+  const time = graph.timeOrder;
+  return createGraph({ nodes: graph.nodes, arrows: graph.arrows, bidirected: graph.bidirected, unmeasured, ...(time ? { periods: time.periods, fixed: time.fixed } : {}) });
 }

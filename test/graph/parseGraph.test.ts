@@ -240,7 +240,7 @@ describe("parseGraph errors and their positions", () => {
     ["unknown character", "a -> b@c", InputError, "1:7", "unexpected character '@'"],
     ["reversed arrow", "b <- a", InputError, "1:3", "reversed arrow '<-' is not supported; write the cause first with '->': a -> b"],
     ["two names without an operator", "blood pressure -> stroke", InputError, "1:7", 'e.g. "blood pressure"'],
-    ["unknown keyword", "a -> b\nlatent: u", InputError, "2:1", 'unknown keyword "latent:"; the only keyword is "unmeasured:"'],
+    ["unknown keyword", "a -> b\nlatent: u", InputError, "2:1", 'unknown keyword "latent:"; the keywords are "unmeasured:", "period:" and "fixed:"'],
     ["empty unmeasured list", "unmeasured:   ", InputError, "1:12", 'expected a node name after "unmeasured:"'],
     ["arrow in the unmeasured list", "unmeasured: u -> a", InputError, "1:15", "separate names with commas"],
     ["stray colon", "a -> b: c", InputError, "1:7", "unexpected ':'"],
@@ -327,7 +327,7 @@ describe("parseGraph golden messages (one per message shape)", () => {
     ["a => b", "graph.txt:1:3: unknown arrow '=>'; write '->' for a direct cause (or '<->' for a shared unmeasured cause)\n  a => b\n    ^"],
     [
       "Latent: u",
-      'graph.txt:1:1: unknown keyword "Latent:"; the only keyword is "unmeasured:" (put a node name that contains \':\' in double quotes)\n  Latent: u\n  ^',
+      'graph.txt:1:1: unknown keyword "Latent:"; the keywords are "unmeasured:", "period:" and "fixed:" (put a node name that contains \':\' in double quotes)\n  Latent: u\n  ^',
     ],
     ["x -> x", "graph.txt:1:3: self-arrow x -> x: a variable cannot cause itself; remove x from one side of the arrow\n  x -> x\n    ^"],
     ["y <- x", "graph.txt:1:3: reversed arrow '<-' is not supported; write the cause first with '->': x -> y\n  y <- x\n    ^"],
