@@ -1,11 +1,14 @@
 #!/usr/bin/env python3
 """Reference values for the effect of a G² tested by permutations, from numpy and scipy.
 
-  intervals     for (G2, df, n, null mean m, null variance v): the two-moment scaled chi-square
-                a * chi2(nu), a = v / (2 m), nu = 2 m^2 / v; the noncentralities lambda' with
-                scipy.stats.ncx2.sf(G2 / a, nu, lambda') = 0.025 and 0.975 (scipy.optimize.brentq,
-                0 when the central tail is already above the target), mapped to the effect scale
-                by sqrt(1 - exp(-a lambda' / n)); the point sqrt(1 - exp(-max(0, G2 - m) / n))
+  intervals     for (G2, df, n, null mean m, null variance v, permutation p): the two-moment scaled
+                chi-square a * chi2(nu), a = v / (2 m), nu = 2 m^2 / v; on several df the
+                noncentralities lambda' with Phi(Phi^-1(scipy.stats.ncx2.sf(G2 / a, nu, lambda')) + d)
+                = 0.05 (lower, 0 when p >= 0.05) and 0.975 (upper), d = Phi^-1(p) - Phi^-1(central
+                tail) (scipy.optimize.brentq), mapped to the effect scale by
+                sqrt(1 - exp(-a lambda' / n)), and the point sqrt(1 - exp(-max(0, G2 - m) / n)); on
+                1 df the signed root sqrt(G2) -+ 1.96 sqrt(G2) / Phi^-1(1 - p/2) mapped by
+                sign(d) sqrt(1 - exp(-d^2 / n)); p is the central tail where none is listed
   exact_null    a small stratified table (two strata, 3 x 3 and 2 x 3): every table with each
                 stratum's margins, its multivariate hypergeometric probability
                 prod(r_i!) prod(c_j!) / (n! prod(n_ij!)), and G2 of each; the exact mean and
@@ -40,26 +43,49 @@ def bound(x, nu, target):
     return float(optimize.brentq(lambda lam: sf(lam) - target, 0.0, hi, xtol=1e-14, rtol=1e-14, maxiter=500))
 
 
-def intervals():
+def intervals(alpha=0.05):
+    """The recalibrated inversion (see the module docstring) at level 1 - alpha."""
     rows = []
-    for g2, df, n, m, v in [
-        (104.6, 56, 100, 82.3, 45.0),
-        (48.1, 13, 90, 22.6, 26.0),
-        (126.7, 65, 80, 83.2, 51.0),
-        (20.0, 4, 200, 4.0, 8.0),
-        (69.0, 44, 100, 70.0, 42.0),
-        (30.0, 1, 60, 1.3, 3.1),
+    level = 1 - alpha
+    for g2, df, n, m, v, p in [
+        (104.6, 56, 100, 82.3, 45.0, None),
+        (48.1, 13, 90, 22.6, 26.0, None),
+        (126.7, 65, 80, 83.2, 51.0, None),
+        (20.0, 4, 200, 4.0, 8.0, None),
+        (69.0, 44, 100, 70.0, 42.0, None),
+        (30.0, 1, 60, 1.3, 3.1, None),
+        (104.6, 56, 100, 82.3, 45.0, 0.03),
+        (104.6, 56, 100, 82.3, 45.0, 0.07),
+        (48.1, 13, 90, 22.6, 26.0, 0.004),
+        (20.0, 4, 200, 4.0, 8.0, 0.0449),
+        (30.0, 1, 60, 1.3, 3.1, 0.03),
+        (3.0, 1, 60, 1.3, 3.1, 0.2),
     ]:
         a = v / (2 * m)
         nu = 2 * m * m / v
-        lam_lo = bound(g2 / a, nu, 0.025)
-        lam_hi = bound(g2 / a, nu, 0.975)
-        point = g2 if df == 1 else max(0.0, g2 - m)
+        tail0 = float(stats.chi2.sf(g2 / a, nu))
+        if p is None:
+            p = tail0
         to_e = lambda lam: math.sqrt(-math.expm1(-lam / n))
+        if df == 1:
+            # signed root with the standard error implied by p: sqrt(G2) -+ z_{1-alpha/2} sqrt(G2) / z_{1-p/2}
+            z = math.sqrt(g2)
+            half = stats.norm.isf(alpha / 2) * z / stats.norm.isf(p / 2)
+            m_ = lambda d: math.copysign(math.sqrt(-math.expm1(-d * d / n)), d)
+            ci = [m_(z - half), m_(z + half)]
+            lam = [None, None]
+            effect = to_e(g2)
+        else:
+            delta = stats.norm.ppf(p) - stats.norm.ppf(tail0)
+            target = lambda t: float(stats.norm.cdf(stats.norm.ppf(t) - delta))
+            lam_lo = bound(g2 / a, nu, target(alpha)) if p < alpha else 0.0
+            lam_hi = bound(g2 / a, nu, target((1 + level) / 2))
+            lam = [a * lam_lo, a * lam_hi]
+            ci = [to_e(a * lam_lo), to_e(a * lam_hi)]
+            effect = to_e(max(0.0, g2 - m))
         rows.append({
-            "g2": g2, "df": df, "n": n, "mean": m, "variance": v, "scale": a, "nu": nu,
-            "lambda": [a * lam_lo, a * lam_hi], "ci": [to_e(a * lam_lo), to_e(a * lam_hi)], "effect": to_e(point),
-            "central_tail": float(stats.chi2.sf(g2 / a, nu)),
+            "g2": g2, "df": df, "n": n, "mean": m, "variance": v, "scale": a, "nu": nu, "p": p,
+            "lambda": lam, "ci": ci, "effect": effect, "central_tail": tail0,
         })
     return rows
 

@@ -6,6 +6,7 @@
 import type { Table, VariableType } from "../data/Table.js";
 import type { PatternMoments } from "../data/Moments.js";
 import type { Claim, TestName, TestOutcome } from "./types.js";
+import type { MonteCarloRequest } from "../stats/monteCarloDecision.js";
 
 export interface TestContext {
   table: Table;
@@ -19,8 +20,14 @@ export interface TestContext {
   rowFilter?: Uint8Array;
   /** Seed for Monte-Carlo p-values; a method derives its own stream from (seed, claim). */
   seed: number;
-  /** Monte-Carlo permutations forced by the user (--permutations), if any. */
+  /** Cap on the Monte-Carlo draws of a claim, and permutation p-values forced (--permutations), if given. */
   permutations?: number;
+  /**
+   * How Monte-Carlo p-values are drawn (`stats/monteCarloDecision.ts`): the resampling risk, the
+   * claims sharing it, the band of thresholds the p can face, and, when the audit asks a claim for
+   * more, the exact draws. Absent: risk 1e-3 for this claim alone, band [decisionFloor, 0.05].
+   */
+  monteCarlo?: MonteCarloRequest;
   /**
    * The smallest threshold a claim's unadjusted p-value can be compared with once adjusted for
    * the number of claims (alpha/k for Holm and Benjamini–Hochberg with k claims, alpha without
@@ -28,6 +35,12 @@ export interface TestContext {
    * Absent: 0.05.
    */
   decisionFloor?: number;
+  /**
+   * The significance level of the verdicts (--alpha). Every method reports its interval at
+   * confidence 1 − alpha, so that the interval excludes 0 exactly when the unadjusted p < alpha.
+   * Absent: 0.05.
+   */
+  alpha?: number;
 }
 
 export interface ClaimTypes {

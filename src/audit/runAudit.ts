@@ -266,6 +266,7 @@ export function helperContext(table: Table, settings: AuditSettings, rowFilter?:
     seed: settings.seed,
     ...(settings.permutations !== undefined ? { permutations: settings.permutations } : {}),
     decisionFloor: decisionFloor ?? settings.alpha,
+    alpha: settings.alpha,
   };
 }
 
@@ -336,6 +337,7 @@ function withBuiltMoments(plan: ClaimPlan, table: Table, moments: PatternMoments
     seed: settings.seed,
     permutations: settings.permutations,
     decisionFloor: plan.decisionFloor,
+    alpha: settings.alpha,
   };
   return { ...plan, moments, ctx };
 }

@@ -31,16 +31,23 @@
  *   v well below 2m), so it is matched in its first two moments by a scaled chi-square
  *   a·χ²(ν), a = v/(2m), ν = 2m²/v (Satterthwaite 1946, Biometrics Bulletin 2:110–114; Box 1954,
  *   Annals of Mathematical Statistics 25:290–302), with m and v the mean and variance of the
- *   permuted G². The noncentrality is estimated by the mean shift, λ̂ = max(0, G² − m) (G²
- *   itself for 1 df, as above), and its interval comes from the noncentral chi-square
- *   inversion above applied to G²/a on ν df, mapped back by λ = a·λ′. With m = df and v = 2df
- *   (dense tables) this is the asymptotic construction. The interval's lower end is set to 0
- *   whenever the p-value actually used is ≥ (1 − level)/2 — the rule the asymptotic interval
- *   follows with its own p-value — so no interval excludes 0 for a claim that its test does not
- *   reject at that level.
+ *   permuted G². The noncentrality is estimated by the mean shift, λ̂ = max(0, G² − m), and the
+ *   alternatives are the noncentral members a·χ²(ν, λ/a) of that family. The matched family's
+ *   tail at the observed G², F(λ) = P(χ²(ν, λ/a) ≥ G²/a), does not reproduce the permutation
+ *   p-value at λ = 0, so it is recalibrated on the normal-quantile scale: F*(λ) =
+ *   Φ(Φ⁻¹(F(λ)) + δ) with δ = Φ⁻¹(p) − Φ⁻¹(F(0)), a shift that makes F*(0) = p exactly and keeps
+ *   F* increasing in λ (a probit-scale location calibration, as in the double bootstrap's
+ *   calibration of a nominal level: Beran 1987, Biometrika 74:457–468; Hall 1992, The Bootstrap
+ *   and Edgeworth Expansion, §3.11). The interval inverts F* as {@link lrEffectCIAtAlpha} inverts
+ *   the asymptotic tail: F*(λ_L) = α one-sided, F*(λ_U) = (1 + level)/2, so its lower end is above
+ *   0 exactly when the permutation p-value is below α. On 1 df the signed-root interval with the
+ *   standard error implied by the permutation p-value is used instead (see above), as for the
+ *   asymptotic 1-df statistics. With m = df and v = 2df and p the χ²(df) p-value (dense tables)
+ *   this is the asymptotic construction.
  */
 import { noncentralChiSquareUpper } from "./noncentralChiSquare.js";
 import { normalQuantile } from "./quantiles.js";
+import erfc from "@stdlib/math-base-special-erfc";
 
 /**
  * Likelihood-ratio effect: sign·√(1 − exp(−LR/n)), the effect scale shared by all tests; equal
@@ -55,8 +62,10 @@ export function lrToEffect(lr: number, n: number, sign: -1 | 0 | 1 = 1): number 
   if (!(n > 0)) throw new RangeError(`sample size must be positive, got ${n}`);
   if (sign !== -1 && sign !== 0 && sign !== 1) throw new RangeError(`sign must be -1, 0 or 1, got ${String(sign)}`);
   if (!(lr > 0)) return 0;
-  // 1 − exp(−u) as −expm1(−u) keeps its accuracy for small LR/n
-  return sign * Math.sqrt(-Math.expm1(-lr / n));
+  // 1 − exp(−u) as −expm1(−u) keeps its accuracy for small LR/n; below 1e-16 it is u to double
+  // precision, taken as √LR/√n so that a subnormal LR/n does not round the effect to 0
+  const u = lr / n;
+  return sign * (u < 1e-16 ? Math.sqrt(lr) / Math.sqrt(n) : Math.sqrt(-Math.expm1(-u)));
 }
 
 /**
@@ -191,7 +200,13 @@ export function signedRootEffectCI(q: number, n: number, sign: -1 | 0 | 1, level
     const zp = -normalQuantile(p / 2); // Φ⁻¹(1 − p/2), accurate for small p
     half = zp > 0 && root > 0 ? (zc * root) / zp : Math.max(zc, root);
   }
-  const map = (delta: number): number => (delta === 0 ? 0 : Math.sign(delta) * Math.sqrt(-Math.expm1(-(delta * delta) / n)));
+  const rootN = Math.sqrt(n);
+  // √(1 − exp(−δ²/n)) = |δ|/√n·(1 + O(δ²/n)): the first form where δ² would underflow
+  const map = (delta: number): number => {
+    if (delta === 0) return 0;
+    const s = delta / rootN;
+    return Math.abs(s) < 1e-8 ? s : Math.sign(delta) * Math.sqrt(-Math.expm1(-s * s));
+  };
   return [map(z - half), map(z + half)];
 }
 
@@ -213,16 +228,20 @@ export interface PermutationLrEffect {
 /**
  * Likelihood-ratio effect for a statistic tested against its permutation distribution (see the
  * module comment): the null is matched by a·χ²(ν) with a = v/(2m), ν = 2m²/v from its mean m and
- * variance v; the point is λ̂ = max(0, LR − m) (LR itself for df = 1) mapped by
- * sign·√(1 − exp(−λ̂/n)); the interval maps a·λ′ for the noncentralities λ′ with
- * P(χ²(ν, λ′) ≥ LR/a) = (1 ∓ level)/2, mirrored for a negative sign, and its end nearer 0 is 0
- * whenever the p-value actually used is ≥ (1 − level)/2. The interval is widened to the point
- * if rounding in the bisection left it outside. When m or v is not a positive finite number,
- * a = 1, ν = df and m = df (the asymptotic construction, with the same rule for the lower end).
+ * variance v; the point is λ̂ = max(0, LR − m) mapped by √(1 − exp(−λ̂/n)). For df > 1 the
+ * interval maps a·λ′ for the noncentralities λ′ that solve the recalibrated tail
+ * Φ(Φ⁻¹(P(χ²(ν, λ′) ≥ LR/a)) + δ) = α (lower end, one-sided) and = (1 + level)/2 (upper end),
+ * δ = Φ⁻¹(p) − Φ⁻¹(P(χ²(ν) ≥ LR/a)), so that the lower end is above 0 exactly when p < α =
+ * 1 − level. For df = 1 the point is sign·√(1 − exp(−LR/n)) and the interval the signed-root
+ * one with the standard error the permutation p-value implies ({@link signedRootEffectCI} with p),
+ * which excludes 0 exactly when p < α. When m or v is not a positive finite number, a = 1, ν = df
+ * and m = df. A point outside the interval (a statistic below its null mean with p < α, possible
+ * only for a very skewed null, or bisection rounding) is moved to the nearer end.
  * Cost: that of {@link lrEffectCI}.
  * Sources: Satterthwaite (1946), Biometrics Bulletin 2:110–114 and Box (1954), Annals of
  * Mathematical Statistics 25:290–302 (two-moment scaled chi-square); Steiger (1990),
- * Multivariate Behavioral Research 25:173–180 (the interval).
+ * Multivariate Behavioral Research 25:173–180 (the inversion); Beran (1987), Biometrika
+ * 74:457–468 (calibrating a nominal tail to an achieved one).
  * @throws {RangeError} when LR is negative or not finite, df or n is not positive, sign is not
  * −1, 0 or 1, p is not in (0, 1], or level is not in (0, 1)
  * @example permutationLrEffect(69, 44, 100, { mean: 70, variance: 42 }, 0.55) // { effect: 0, ci: [0, …], … }: G² is at its null mean
@@ -239,14 +258,31 @@ export function permutationLrEffect(lr: number, df: number, n: number, nullMomen
   const m = usable ? mean : df;
   const a = usable ? variance / (2 * mean) : 1;
   const nu = usable ? (2 * mean * mean) / variance : df;
-  const point = df === 1 ? lr : Math.max(0, lr - m);
-  let lo = a * solveNoncentrality(lr / a, nu, (1 - level) / 2);
-  let hi = a * solveNoncentrality(lr / a, nu, (1 + level) / 2);
-  if (p >= (1 - level) / 2) lo = 0;
-  if (lo > point) lo = point;
-  if (hi < point) hi = point;
   const map = (lambda: number): number => (lambda === Infinity ? 1 : Math.sqrt(-Math.expm1(-lambda / n)));
-  const effect = sign === 0 ? 0 : sign * map(point);
-  const ci: [number, number] = sign < 0 ? [-map(hi), -map(lo)] : [map(lo), map(hi)];
+  if (df === 1) {
+    const ci = signedRootEffectCI(lr, n, sign, level, p);
+    const effect = lrToEffect(lr, n, sign);
+    return { effect: effect === 0 ? 0 : effect, ci, scale: a, dfMatched: nu };
+  }
+  const alpha = 1 - level;
+  const point = Math.max(0, lr - m);
+  // probit-scale shift that makes the matched family's tail at λ = 0 equal to p
+  const tail0 = noncentralChiSquareUpper(lr / a, nu, 0);
+  const delta = normalQuantile(p) - normalQuantile(Math.min(Math.max(tail0, Number.MIN_VALUE), 1 - Number.EPSILON / 2));
+  const target = (t: number): number => normalCdf(normalQuantile(t) - delta);
+  let lo = p < alpha ? a * solveNoncentrality(lr / a, nu, target(alpha)) : 0;
+  let hi = a * solveNoncentrality(lr / a, nu, target((1 + level) / 2));
+  if (p < alpha && !(lo > 0)) lo = a * Number.EPSILON; // the solver stops at 0 when rounding leaves the tail at its target
+  if (hi < lo) hi = lo;
+  // the mean-shift point lies inside but for a statistic below its null mean with p < α (a very
+  // skewed null) or bisection rounding: it is then moved to the nearer end
+  const inside = Math.min(Math.max(point, lo), hi);
+  const effect = sign === 0 ? 0 : map(inside);
+  const ci: [number, number] = [map(lo), map(hi)];
   return { effect: effect === 0 ? 0 : effect, ci, scale: a, dfMatched: nu };
+}
+
+/** Standard normal distribution function Φ(z), by the complementary error function. */
+function normalCdf(z: number): number {
+  return 0.5 * erfc(-z / Math.SQRT2);
 }

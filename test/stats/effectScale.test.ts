@@ -197,10 +197,10 @@ function calibratedReference(): { ref: CalRef; from: string } {
 const cal = calibratedReference();
 
 describe(`permutationLrEffect [reference: ${cal.from}]`, () => {
-  it("permutationLrEffect matches scipy's noncentral inversion on the scaled chi-square matched to the null (1e-8)", () => {
+  it("permutationLrEffect matches scipy's recalibrated noncentral inversion on the scaled chi-square matched to the null, and the signed root on 1 df (1e-8)", () => {
     for (const r of cal.ref.intervals) {
-      // scipy.optimize.brentq on scipy.stats.ncx2.sf, scripts/calibrated_effect_reference.py
-      const e = permutationLrEffect(r.g2, r.df, r.n, { mean: r.mean, variance: r.variance }, r.central_tail);
+      // scipy.optimize.brentq on scipy.stats.ncx2.sf with the probit shift Φ⁻¹(p) − Φ⁻¹(central tail); scipy.stats.norm for 1 df; scripts/calibrated_effect_reference.py
+      const e = permutationLrEffect(r.g2, r.df, r.n, { mean: r.mean, variance: r.variance }, r.p);
       const where = `G²=${r.g2} df=${r.df} m=${r.mean} v=${r.variance}`;
       expect(relErr(e.scale, r.scale), where).toBeLessThan(1e-12);
       expect(relErr(e.dfMatched, r.nu), where).toBeLessThan(1e-12);
@@ -211,11 +211,11 @@ describe(`permutationLrEffect [reference: ${cal.from}]`, () => {
     }
   });
 
-  it("permutationLrEffect with the asymptotic null moments (mean df, variance 2df) is lrEffect with lrEffectCI", () => {
+  it("permutationLrEffect with the asymptotic null moments (mean df, variance 2df) and the χ²(df) p-value is lrEffect with lrEffectInterval", () => {
     for (const [lr, df, n] of [[26, 6, 500], [20, 1, 100], [3, 6, 500], [80, 12, 300]] as const) {
-      const e = permutationLrEffect(lr, df, n, { mean: df, variance: 2 * df }, 1e-4);
+      const e = permutationLrEffect(lr, df, n, { mean: df, variance: 2 * df }, chiSquareUpper(lr, df));
       expect(e.effect).toBeCloseTo(lrEffect(lr, df, n), 14);
-      const [lo, hi] = lrEffectCI(lr, df, n);
+      const [lo, hi] = lrEffectInterval(lr, df, n, 1);
       expect(e.ci[0]).toBeCloseTo(lo, 12);
       expect(e.ci[1]).toBeCloseTo(hi, 12);
     }
@@ -236,22 +236,24 @@ describe(`permutationLrEffect [reference: ${cal.from}]`, () => {
     expect(lrEffectCI(69, 44, 100)[0]).toBeGreaterThan(0);
   });
 
-  it("permutationLrEffect: the point lies in its interval, and no interval excludes 0 when p ≥ 0.025 (property)", () => {
+  it("permutationLrEffect: the point lies in its interval, which excludes 0 exactly when p < alpha, at alpha 0.05 and 0.01 (property)", () => {
     fc.assert(
       fc.property(
         fc.double({ min: 0, max: 300, noNaN: true }), fc.integer({ min: 1, max: 40 }), fc.integer({ min: 10, max: 20000 }),
         fc.double({ min: 0.3, max: 3, noNaN: true }), fc.double({ min: 0.1, max: 2, noNaN: true }), fc.double({ min: 1e-5, max: 1, noNaN: true }),
-        fc.constantFrom(-1 as const, 0 as const, 1 as const),
-        (lr, df, n, meanRatio, varRatio, p, sign) => {
+        fc.constantFrom(-1 as const, 0 as const, 1 as const), fc.constantFrom(0.05, 0.01),
+        (lr, df, n, meanRatio, varRatio, p, sign, alpha) => {
+          // on 1 df a statistic of 0 has permutation p-value 1 (every draw reaches it), and a 2×2 table without direction (odds ratio 1) has G² = 0
+          fc.pre(df > 1 || p === 1 || (lr > 0 && sign !== 0));
           const s = df === 1 ? sign : 1;
           const mean = meanRatio * df;
-          const e = permutationLrEffect(lr, df, n, { mean, variance: varRatio * 2 * mean }, p, s);
+          const e = permutationLrEffect(lr, df, n, { mean, variance: varRatio * 2 * mean }, p, s, 1 - alpha);
           expect(e.ci[0]).toBeLessThanOrEqual(e.effect);
           expect(e.ci[1]).toBeGreaterThanOrEqual(e.effect);
-          if (p >= 0.025) expect(e.ci[0] <= 0 && e.ci[1] >= 0).toBe(true);
+          expect(e.ci[0] <= 0 && e.ci[1] >= 0).toBe(p >= alpha);
         },
       ),
-      { numRuns: 150, seed: 23 },
+      { numRuns: 300, seed: 23 },
     );
   });
 
