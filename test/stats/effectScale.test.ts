@@ -185,7 +185,7 @@ describe("signedRootEffectCI", () => {
   });
 });
 
-interface CalRef { intervals: { g2: number; df: number; n: number; mean: number; variance: number; scale: number; nu: number; ci: [number, number]; effect: number; central_tail: number }[] }
+interface CalRef { intervals: { g2: number; df: number; n: number; mean: number; variance: number; scale: number; nu: number; p: number; ci: [number, number]; effect: number; central_tail: number }[] }
 function calibratedReference(): { ref: CalRef; from: string } {
   const script = new URL("../../scripts/calibrated_effect_reference.py", import.meta.url).pathname;
   if (!process.env.ARROWAUDIT_FIXTURES_ONLY) {
