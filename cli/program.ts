@@ -12,6 +12,7 @@ import { runClaims } from "./commands/claims.js";
 import { runTest } from "./commands/test.js";
 import { runReport } from "./commands/report.js";
 import { runDraw } from "./commands/draw.js";
+import { runSimulate } from "./commands/simulate.js";
 import { readOptionsFrom } from "./loadTable.js";
 
 /** Parse a number option in [lo, hi]. */
@@ -111,6 +112,27 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
     .option("--unmeasured <names>", "comma-separated nodes that are not in the data")
     .action(async (graph: string, opts: Record<string, unknown>) => {
       state.code = await runDraw(io, graph, opts);
+    });
+
+  program
+    .command("simulate")
+    .description("write invented data from the graph's structural model (linear Gaussian; binary, ordinal by thresholds; nominal by multinomial logit; <-> by a shared latent term)")
+    .argument("<graph>", "graph file")
+    .requiredOption("--n <rows>", "number of rows", numberIn("--n", 1, 10_000_000, true))
+    .option("--seed <n>", "seed of the random streams", numberIn("--seed", 0, 2 ** 32 - 1, true), 1)
+    .option("--effects <e>", 'weight of every arrow and <-> on standardised parents, or "random" (each ±U[0.1, 0.5])', (v: string) => {
+      if (v === "random") return v;
+      return numberIn("--effects", -10, 10)(v);
+    }, 0.3)
+    .option("--types <list>", 'variable types, e.g. "smoker=binary,education=ordinal,region=nominal" (others continuous)')
+    .option("--missing-rate <r>", "share of written cells left empty, completely at random", numberIn("--missing-rate", 0, 0.99), 0)
+    .option("--out <file>", "CSV file to write (default: standard output); the model goes beside it as <name>.model.json")
+    .option("--model <file>", "write the model's coefficients (JSON) here instead")
+    .addOption(new Option("--format <format>", "graph file format").choices(["auto", "arrows", "dot"]).default("auto"))
+    .option("--unmeasured <names>", "comma-separated nodes to generate but not write")
+    .option("--quiet", "print nothing but errors and the data", false)
+    .action(async (graph: string, opts: Record<string, unknown>) => {
+      state.code = await runSimulate(io, graph, opts);
     });
 
   auditOptions(
