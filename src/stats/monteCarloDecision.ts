@@ -1,0 +1,364 @@
+/**
+ * Monte-Carlo p-values decided at the threshold that makes the verdict.
+ *
+ * Terms.
+ * - A Monte-Carlo claim draws statistics T*₁, T*₂, … from its permutation distribution; a *hit* is
+ *   a draw at least as extreme as the observed T. The hits are Bernoulli(π), where π, the
+ *   *permutation p-value*, is what an infinite number of draws would give. After n draws with h
+ *   hits the reported p-value is p̂ = (1 + h)/(1 + n) (Davison & Hinkley 1997, eq. 4.11).
+ * - *Looks*: draws are judged only at the fixed schedule n = 200, 400, 800, … (doubling) and at the
+ *   cap B (`--permutations`), J looks in all ({@link lookSchedule}).
+ * - *Confidence sequence*: at every look the Clopper–Pearson interval (Clopper & Pearson 1934) for π
+ *   at miss probability δ = ε/(m·J), where ε is the *resampling risk* (`--resampling-risk`, default
+ *   1e-3) and m the number of Monte-Carlo claims that share it. By Bonferroni's inequality all
+ *   m·J intervals cover their π at once with probability ≥ 1 − ε, whenever the drawing stops
+ *   (the intervals are fixed in advance for every look, so any rule choosing when to stop keeps
+ *   that guarantee). The interval used is widened, if need be, to contain p̂ (never needed at the
+ *   levels used here, but it makes the agreement below exact).
+ * - *Critical value* of a claim: the threshold t such that the claim is rejected by the adjustment
+ *   (Holm step-down, Benjamini–Hochberg step-up, or none) exactly when its p < t, the other claims'
+ *   p-values held fixed ({@link criticalValues}): α for none, α/(k − s) for Holm (s the claims
+ *   rejected before it), α(M + 1)/k for Benjamini–Hochberg (M the others' step-up count).
+ * - *Decided*: Holm and Benjamini–Hochberg are monotone (lowering any p-value never removes a
+ *   rejection). So with every Monte-Carlo p at its interval's upper end the rejections are a subset
+ *   of those with every p at its true value, and with every p at its lower end a superset. A claim
+ *   whose verdict is the same at both ends is *decided*: when the intervals cover, its verdict is the
+ *   one the exact permutation p-values would give, so the chance that any decided verdict differs
+ *   from that one is at most ε (Gandy & Hahn 2016, Scand. J. Statist. 43:1046–1063, "A framework
+ *   for Monte Carlo based multiple testing"; Gandy 2009, JASA 104:1504–1511, for one threshold —
+ *   cited from memory). Because p̂ lies in every interval, the verdicts computed from the reported
+ *   p̂ agree with every decided verdict. An *undecided* claim gets more draws (the next look) until
+ *   it is decided or reaches the cap; then it is flagged, with the draws that would decide it.
+ * - With `--adjust none` each claim's verdict depends on its own p only, so each claim gets the
+ *   whole risk (m = 1): the chance that a given claim's verdict is wrong is at most ε. With Holm
+ *   and Benjamini–Hochberg a verdict depends on every p, so m is the number of Monte-Carlo claims.
+ */
+import type { AdjustMethod } from "./adjustPValues.js";
+import { adjustPValues } from "./adjustPValues.js";
+import { clopperPearson, clopperPearsonMissing } from "./clopperPearson.js";
+import { normalQuantile } from "./quantiles.js";
+
+/** The first look: draws before the first judgement (also the draws behind the null moments of the effect calibration). */
+export const FIRST_LOOK = 200;
+/** Default resampling risk ε: the chance that any Monte-Carlo verdict differs from the exact permutation verdict. */
+export const DEFAULT_RESAMPLING_RISK = 1e-3;
+/** Fewest draws of the default cap (more when the smallest threshold asks for more; see {@link defaultPermutationCap}). */
+export const MIN_DEFAULT_CAP = 10_000;
+/** Most draws of any cap (and of a proposal: a decision needing more is reported as out of reach). */
+export const MAX_CAP = 10_000_000;
+/** Confidence level of the interval reported for each Monte-Carlo p-value. */
+export const REPORTED_LEVEL = 0.99;
+
+/**
+ * The looks of a stream capped at `cap` draws: 200, 400, 800, … below the cap, then the cap.
+ * Cost: O(log cap).
+ * @throws RangeError when cap is not a positive integer
+ * @example lookSchedule(1000) // [200, 400, 800, 1000]
+ * @example lookSchedule(99)   // [99]
+ */
+export function lookSchedule(cap: number): number[] {
+  if (!(Number.isInteger(cap) && cap >= 1)) throw new RangeError(`the cap on draws must be a positive integer, got ${cap}`);
+  const out: number[] = [];
+  for (let n = FIRST_LOOK; n < cap; n *= 2) out.push(n);
+  out.push(cap);
+  return out;
+}
+
+/**
+ * The first look after `draws` (the cap when none is left before it). Cost: O(log cap).
+ * @example nextLook(400, 1000) // 800
+ * @example nextLook(800, 1000) // 1000
+ */
+export function nextLook(draws: number, cap: number): number {
+  for (const n of lookSchedule(cap)) if (n > draws) return n;
+  return cap;
+}
+
+/**
+ * Miss probability δ = ε/(m·J) of each interval of the confidence sequence: ε split over the m
+ * claims sharing it and the J looks of a stream capped at `cap` (Bonferroni). Cost: O(log cap).
+ * @throws RangeError when risk is not in (0, 1) or family is not a positive integer
+ * @example lookRisk(1e-3, 1, 1000) // 2.5e-4 (4 looks)
+ */
+export function lookRisk(risk: number, family: number, cap: number): number {
+  if (!(risk > 0 && risk < 1)) throw new RangeError(`resampling risk must be in (0, 1), got ${risk}; pass e.g. 0.001`);
+  if (!(Number.isInteger(family) && family >= 1)) throw new RangeError(`number of claims sharing the risk must be a positive integer, got ${family}`);
+  return risk / (family * lookSchedule(cap).length);
+}
+
+/**
+ * The interval of the confidence sequence for π after `draws` draws with `hits` hits (a look of the
+ * schedule of `cap`): Clopper–Pearson at miss probability {@link lookRisk}, widened to contain
+ * p̂ = (1 + hits)/(1 + draws). Cost: O(log cap) plus two beta quantiles.
+ * Sources: Clopper & Pearson (1934), Biometrika 26:404–413; Bonferroni's inequality over looks and claims.
+ * @throws RangeError as clopperPearsonMissing and lookRisk
+ * @example sequenceInterval(0, 20000, 20000, 1e-3, 1) // [0, ≈ 0.00054]
+ */
+export function sequenceInterval(hits: number, draws: number, cap: number, risk: number, family: number): [number, number] {
+  const [lo, hi] = clopperPearsonMissing(hits, draws, lookRisk(risk, family, cap));
+  const p = (1 + hits) / (1 + draws);
+  return [Math.min(lo, p), Math.max(hi, p)];
+}
+
+/** What a Monte-Carlo test needs to know to draw: the cap, the risk, and when to stop on its own. */
+export interface MonteCarloPlan {
+  /** Most draws (`--permutations`). */
+  cap: number;
+  /** Resampling risk ε. */
+  risk: number;
+  /** Claims sharing the risk when the test judges on its own (an upper bound on the Monte-Carlo claims is safe). */
+  family: number;
+  /**
+   * The range [smallest, largest] of the thresholds the claim's p can face once adjusted (α/k and α
+   * for Holm and Benjamini–Hochberg with k claims; α and α without adjustment).
+   */
+  band: [number, number];
+  /** When set, draw exactly this many (a look of the schedule, at most the cap) and do not stop earlier. */
+  draws?: number;
+}
+
+/** Hits and draws of a Monte-Carlo test, with the mean and variance of its draws ({@link runMonteCarloTest}). */
+export interface MonteCarloRun {
+  /** Draws at least as extreme as the observed statistic. */
+  hits: number;
+  /** Draws made for the p-value. */
+  draws: number;
+  /** p̂ = (1 + hits)/(1 + draws). */
+  p: number;
+  /** Mean of all draws made (at least `nullDraws`). */
+  mean: number;
+  /** Their sample variance (denominator count − 1; 0 with one draw). */
+  variance: number;
+  /** Draws behind the mean and variance. */
+  nullDraws: number;
+}
+
+/**
+ * Draws a Monte-Carlo test stream by the confidence sequence of the module comment. With
+ * `plan.draws` it draws exactly that many; otherwise it stops at the first look where its interval
+ * lies below the band (rejected at any threshold), at or above it (rejected at none), or inside it
+ * (its verdict then depends on the other claims, which the audit judges), or at the cap. A draw
+ * counts as a hit when T* ≥ T − 1e-9·max(1, |T|) (ties up to rounding, common practice). Draws
+ * continue past the test to at least `nullDraws` for the mean and variance (Welford 1962,
+ * Technometrics 4:419–420), which do not change the hits.
+ * Cost: O(draws made) calls of `draw`, at most max(cap, nullDraws); O(J) interval computations.
+ * @throws RangeError when the observed statistic is not finite, the plan is invalid, or nullDraws
+ * is not a non-negative integer
+ * @example runMonteCarloTest(0, () => 1, { cap: 20000, risk: 1e-3, family: 1, band: [0.05, 0.05] }) // { hits: 200, draws: 200, p: 1, … }
+ */
+export function runMonteCarloTest(observed: number, draw: () => number, plan: MonteCarloPlan, nullDraws = 0): MonteCarloRun {
+  if (!Number.isFinite(observed)) throw new RangeError(`observed statistic must be finite, got ${observed}`);
+  if (!(Number.isInteger(nullDraws) && nullDraws >= 0)) throw new RangeError(`draws for the null moments must be a non-negative integer, got ${nullDraws}`);
+  const { cap, risk, family, band } = plan;
+  const delta = lookRisk(risk, family, cap);
+  if (plan.draws !== undefined && !(Number.isInteger(plan.draws) && plan.draws >= 1 && plan.draws <= cap)) {
+    throw new RangeError(`draws must be an integer from 1 to the cap ${cap}, got ${plan.draws}`);
+  }
+  const [floor, top] = band;
+  const bar = observed - 1e-9 * Math.max(1, Math.abs(observed));
+  let mean = 0;
+  let m2 = 0;
+  let count = 0;
+  let hits = 0;
+  const looks = plan.draws !== undefined ? [plan.draws] : lookSchedule(cap);
+  let draws = 0;
+  for (const look of looks) {
+    while (count < look) {
+      const v = draw();
+      count++;
+      const d = v - mean;
+      mean += d / count;
+      m2 += d * (v - mean);
+      if (v >= bar) hits++;
+    }
+    draws = look;
+    if (plan.draws !== undefined || look === cap) break;
+    const p = (1 + hits) / (1 + draws);
+    const [lo, hi] = clopperPearsonMissing(hits, draws, delta);
+    const lower = Math.min(lo, p);
+    const upper = Math.max(hi, p);
+    if (upper < floor || lower >= top || (lower >= floor && upper < top)) break;
+  }
+  while (count < nullDraws) {
+    const v = draw();
+    count++;
+    const d = v - mean;
+    mean += d / count;
+    m2 += d * (v - mean);
+  }
+  return { hits, draws, p: (1 + hits) / (1 + draws), mean, variance: count > 1 ? m2 / (count - 1) : 0, nullDraws: count };
+}
+
+/**
+ * Draws that let a claim with no hit at all be decided against `floor` (its interval's upper end
+ * below it), doubled for room, at least {@link MIN_DEFAULT_CAP} and at most {@link MAX_CAP}: with
+ * no hit the upper Clopper–Pearson end is 1 − (δ/2)^(1/n), below the floor from
+ * n > ln(2/δ)/(−ln(1 − floor)) ≈ ln(2mJ/ε)/floor draws. J depends on the cap, so the cap is found
+ * by iteration (it converges in a few steps). A missing or invalid floor counts as 0.05.
+ * Cost: O(log cap) per step, a few steps.
+ * @example defaultPermutationCap(0.05, 1e-3, 1)        // 10000
+ * @example defaultPermutationCap(0.05 / 120, 1e-3, 120) // 70,000 or so
+ */
+export function defaultPermutationCap(floor: number | undefined, risk: number, family: number): number {
+  const f = floor !== undefined && floor > 0 && floor <= 1 ? floor : 0.05;
+  let cap = MIN_DEFAULT_CAP;
+  for (let it = 0; it < 20; it++) {
+    const delta = lookRisk(risk, family, cap);
+    const n = Math.ceil(Math.log(2 / delta) / -Math.log1p(-f));
+    const next = Math.min(MAX_CAP, Math.max(MIN_DEFAULT_CAP, 2 * n));
+    if (next <= cap) break;
+    cap = next;
+  }
+  return cap;
+}
+
+/**
+ * Critical values of the claims' verdicts: t[i] such that claim i is rejected by the adjustment at
+ * level α exactly when p[i] < t[i], the other p-values held fixed (see the module comment).
+ * Holm: with the others sorted q₁ ≤ … ≤ q_{k−1}, s the length of their longest prefix with
+ * q_j < α/(k − j + 1), t = α/(k − s). Benjamini–Hochberg: M the largest m with q_m < α(m + 1)/k
+ * (0 if none), t = α(M + 1)/k. None: t = α. Derived from the step-down and step-up rules of Holm
+ * (1979) and Benjamini & Hochberg (1995).
+ * Cost: O(k log k).
+ * @throws RangeError when a p-value is not in [0, 1]
+ * @example criticalValues([0.01, 0.04, 0.03], "holm", 0.05) // [0.05/3, 0.05/2, 0.05/2]
+ */
+export function criticalValues(p: readonly number[], adjust: AdjustMethod, alpha: number): number[] {
+  p.forEach((v, i) => {
+    if (!(v >= 0 && v <= 1)) throw new RangeError(`p-value at position ${i} is ${v}; every p-value must be a number between 0 and 1`);
+  });
+  const k = p.length;
+  if (adjust === "none" || k <= 1) return p.map(() => alpha);
+  const order = Array.from({ length: k }, (_, i) => i).sort((a, b) => p[a]! - p[b]! || a - b);
+  const sorted = order.map((i) => p[i]!);
+  const pos = new Int32Array(k);
+  order.forEach((i, r) => (pos[i] = r));
+  const out = new Array<number>(k);
+  if (adjust === "holm") {
+    // others at rank j (1-based): sorted[j − 1] when j ≤ pos, sorted[j] when j > pos (0-based pos)
+    // A: first failing rank among the unshifted prefix; B[j]: first failing rank ≥ j among the shifted.
+    let firstA = Infinity;
+    for (let j = 1; j <= k; j++) {
+      if (!(Math.min(1, (k - j + 1) * sorted[j - 1]!) < alpha)) {
+        firstA = j;
+        break;
+      }
+    }
+    const firstB = new Float64Array(k + 1).fill(Infinity); // firstB[j], j = 1..k−1
+    for (let j = k - 1; j >= 1; j--) firstB[j] = !(Math.min(1, (k - j + 1) * sorted[j]!) < alpha) ? j : firstB[j + 1]!;
+    for (let i = 0; i < k; i++) {
+      const r = pos[i]!; // the claim's 0-based position; others' ranks 1..r are unshifted
+      const fail = firstA <= r ? firstA : r + 1 <= k - 1 ? firstB[r + 1]! : Infinity;
+      const s = Number.isFinite(fail) ? fail - 1 : k - 1;
+      out[i] = alpha / (k - s);
+    }
+    return out;
+  }
+  if (adjust === "bh") {
+    // others at rank m: sorted[m − 1] for m ≤ pos, sorted[m] for m > pos; the conditions are written
+    // as adjustPValues computes them (k·q/(m + 1) < α, not q < α(m + 1)/k), so that rounding agrees
+    const lastA = new Float64Array(k + 1); // lastA[r]: largest m ≤ r with sorted[m − 1] < α(m + 1)/k
+    for (let m = 1; m <= k; m++) lastA[m] = Math.min(1, (k * sorted[m - 1]!) / (m + 1)) < alpha ? m : lastA[m - 1]!;
+    const lastB = new Float64Array(k + 1); // lastB[r]: largest m > r (m ≤ k − 1) with sorted[m] < α(m + 1)/k
+    for (let r = k - 2; r >= 0; r--) {
+      const m = r + 1; // the smallest candidate; larger ones are lastB[r + 1]'s
+      lastB[r] = lastB[r + 1]! > 0 ? lastB[r + 1]! : Math.min(1, (k * sorted[m]!) / (m + 1)) < alpha ? m : 0;
+    }
+    for (let i = 0; i < k; i++) {
+      const r = pos[i]!;
+      const M = lastB[r]! > 0 ? lastB[r]! : lastA[r]!;
+      out[i] = (alpha * (M + 1)) / k;
+    }
+    return out;
+  }
+  throw new RangeError(`unknown adjustment method "${String(adjust)}"; use "holm", "bh" or "none"`);
+}
+
+/** One claim for {@link bracketVerdicts}: its p-value's interval (a point for a p-value without Monte-Carlo error) and whether its effect is large enough to be contradicted at all. */
+export interface BracketClaim {
+  lower: number;
+  upper: number;
+  /** |effect| ≥ the relevance floor: the p-value decides. Otherwise never contradicted. */
+  relevant: boolean;
+}
+
+/**
+ * Verdicts with every p-value at its interval's upper end and at its lower end (see the module
+ * comment): rejected[i] at the upper ends implies rejected at the true values implies rejected at
+ * the lower ends (monotone adjustments). `decided[i]` when the two agree.
+ * Cost: O(k log k). Sources: Gandy & Hahn (2016), Scand. J. Statist. 43:1046–1063 (from memory).
+ * @example bracketVerdicts([{ lower: 0.01, upper: 0.02, relevant: true }], "holm", 0.05) // { decided: [true], rejectedHigh: [true], … }
+ */
+export function bracketVerdicts(claims: readonly BracketClaim[], adjust: AdjustMethod, alpha: number): { decided: boolean[]; rejectedHigh: boolean[]; rejectedLow: boolean[] } {
+  const high = adjustPValues(claims.map((c) => c.upper), adjust);
+  const low = adjustPValues(claims.map((c) => c.lower), adjust);
+  const rejectedHigh = claims.map((c, i) => c.relevant && high[i]! < alpha);
+  const rejectedLow = claims.map((c, i) => c.relevant && low[i]! < alpha);
+  return { decided: rejectedHigh.map((r, i) => r === rejectedLow[i]), rejectedHigh, rejectedLow };
+}
+
+/**
+ * Draws that would likely decide a claim whose estimate p̂ sits near its threshold t: the n at
+ * which the half-width z·√(p̂(1 − p̂)/n) of the sequence's interval (z = Φ⁻¹(1 − δ/2), δ at that
+ * n's cap) falls below |p̂ − t| (normal approximation to the binomial), rounded up to two
+ * significant digits; `undefined` when that is more than {@link MAX_CAP} (or p̂ = t).
+ * Cost: O(log n) per step, a few steps.
+ * @example proposedDraws(0.061, 0.05, 1e-3, 1) // about 8,000
+ */
+export function proposedDraws(pHat: number, threshold: number, risk: number, family: number): number | undefined {
+  const gap = Math.abs(pHat - threshold);
+  if (!(gap > 0)) return undefined;
+  const v = Math.max(pHat * (1 - pHat), 1e-12);
+  let n = FIRST_LOOK;
+  for (let it = 0; it < 30; it++) {
+    const z = normalQuantile(1 - lookRisk(risk, family, Math.min(MAX_CAP, Math.max(1, Math.ceil(n)))) / 2);
+    const need = (z * z * v) / (gap * gap);
+    if (need <= n) break;
+    n = need;
+    if (n > MAX_CAP) return undefined;
+  }
+  const digits = 10 ** Math.max(0, Math.floor(Math.log10(n)) - 1);
+  return Math.min(MAX_CAP, Math.ceil(n / digits) * digits);
+}
+
+/** What each Monte-Carlo claim reports about its p-value ({@link monteCarloSummary}). */
+export interface MonteCarloSummary {
+  /** Draws made (also the claim's `B`). */
+  draws: number;
+  /** Draws at least as extreme as the observed statistic. */
+  hits: number;
+  /** The cap on draws. */
+  cap: number;
+  /** Monte-Carlo standard error of p: √(p̂(1 − p̂)/draws). */
+  se: number;
+  /** 99% Clopper–Pearson interval for the permutation p-value at the draws made (not the sequence's wider one). */
+  ci99: [number, number];
+}
+
+/**
+ * The Monte-Carlo standard error √(p̂(1 − p̂)/n) and the 99% Clopper–Pearson interval of a
+ * p-value from `hits` in `draws` draws capped at `cap`. Cost: O(1).
+ * Source: Clopper & Pearson (1934), Biometrika 26:404–413.
+ * @throws RangeError as clopperPearson
+ * @example monteCarloSummary(5, 200, 10000) // { draws: 200, hits: 5, cap: 10000, se: ≈ 0.0113, ci99: [≈ 0.0054, ≈ 0.069] }
+ */
+export function monteCarloSummary(hits: number, draws: number, cap: number): MonteCarloSummary {
+  const p = (1 + hits) / (1 + draws);
+  return { draws, hits, cap, se: Math.sqrt((p * (1 - p)) / draws), ci99: clopperPearson(hits, draws, REPORTED_LEVEL) };
+}
+
+/** The part of a {@link MonteCarloPlan} the audit hands to a test method (the cap comes from `--permutations` or {@link defaultPermutationCap}). */
+export type MonteCarloRequest = Omit<MonteCarloPlan, "cap">;
+
+/**
+ * The plan of one claim's Monte-Carlo test from its context: cap `permutations`, else
+ * {@link defaultPermutationCap} of the decision floor; risk, sharing and band from `monteCarlo`,
+ * else ε = 1e-3 for this claim alone and the band [floor, max(floor, 0.05)]. Cost: O(log cap).
+ * @example planOf({ decisionFloor: 0.05 }) // { cap: 10000, risk: 0.001, family: 1, band: [0.05, 0.05] }
+ */
+export function planOf(ctx: { permutations?: number; decisionFloor?: number; monteCarlo?: MonteCarloRequest }): MonteCarloPlan {
+  const floor = ctx.decisionFloor !== undefined && ctx.decisionFloor > 0 && ctx.decisionFloor <= 1 ? ctx.decisionFloor : 0.05;
+  const req: MonteCarloRequest = ctx.monteCarlo ?? { risk: DEFAULT_RESAMPLING_RISK, family: 1, band: [floor, Math.max(floor, 0.05)] };
+  const cap = ctx.permutations ?? defaultPermutationCap(req.band[0], req.risk, req.family);
+  return { ...req, cap };
+}
