@@ -48,7 +48,8 @@ export const auditOptions = (c: Command): Command =>
     .option("--decimal-comma", "numbers use a decimal comma (1,5)", false)
     .option("--listwise", "use only rows complete on every measured variable", false)
     .option("--seed <n>", "seed for Monte-Carlo p-values", numberIn("--seed", 0, 2 ** 32 - 1, true), 1)
-    .option("--permutations <B>", "Monte-Carlo permutation p-values with B permutations for categorical claims", numberIn("--permutations", 99, 1e7, true))
+    .option("--permutations <B>", "Monte-Carlo permutation p-values for categorical claims, with at most B permutations each (default: drawn as the verdicts need)", numberIn("--permutations", 99, 1e7, true))
+    .option("--resampling-risk <e>", "largest chance that Monte-Carlo draws change a verdict (default 0.001)", numberIn("--resampling-risk", 1e-9, 0.25))
     .option("--ascii", "ASCII output only: claims as x indep y given a, b", false)
     .option("--quiet", "print nothing but errors and requested output", false)
     // Reading options that contradict themselves are usage errors before any file is read.

@@ -20,6 +20,9 @@ import { momentExpansions } from "./momentExpansions.js";
 import type { PatternMoments } from "../data/Moments.js";
 import { adjustPValues } from "../stats/adjustPValues.js";
 import { fisherC } from "../stats/fisherC.js";
+import {
+  bracketVerdicts, criticalValues, DEFAULT_RESAMPLING_RISK, MAX_CAP, nextLook, proposedDraws, sequenceInterval, type MonteCarloRequest,
+} from "../stats/monteCarloDecision.js";
 import { chooseMethod } from "./methods/index.js";
 import { repairArrows, repairTimeNote } from "./repairArrows.js";
 import { compareClaims } from "./rankClaims.js";
@@ -129,6 +132,7 @@ export function runAudit(graph: Graph, table: Table, options: AuditOptions = {})
     options.onProgress?.(i + 1, plan.claims.length);
     return r;
   });
+  refineMonteCarlo(plan, results);
   return finishAudit(graph, table, plan, results, options);
 }
 
@@ -215,6 +219,7 @@ export async function runAuditParallel(graph: Graph, table: Table, options: Para
     results[queue[k]!] = got ?? testClaimMethod(claims[queue[k]!]!, plan.ctx, settings);
   }
   options.onProgress?.(total, total);
+  refineMonteCarlo(plan, results as MethodResult[]);
   return finishAudit(graph, table, plan, results as MethodResult[], options);
 }
 
@@ -266,6 +271,7 @@ export function helperContext(table: Table, settings: AuditSettings, rowFilter?:
     seed: settings.seed,
     ...(settings.permutations !== undefined ? { permutations: settings.permutations } : {}),
     decisionFloor: decisionFloor ?? settings.alpha,
+    monteCarlo: monteCarloRequest(settings, decisionFloor ?? settings.alpha),
     alpha: settings.alpha,
   };
 }
@@ -337,6 +343,7 @@ function withBuiltMoments(plan: ClaimPlan, table: Table, moments: PatternMoments
     seed: settings.seed,
     permutations: settings.permutations,
     decisionFloor: plan.decisionFloor,
+    monteCarlo: monteCarloRequest(settings, plan.decisionFloor),
     alpha: settings.alpha,
   };
   return { ...plan, moments, ctx };
@@ -354,6 +361,7 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
   });
 
   const padj = adjustPValues(tested.map((t) => t.p), settings.adjust);
+  const monteCarloVerdict = monteCarloAnnotator(tested, settings);
   const decide = (p: number, effect: number) => (p < settings.alpha && Math.abs(effect) >= settings.min_effect ? "contradicted" : "consistent");
   // The same claims decided with linear adjustment (the classic test each flexible test reports
   // in `details.linear_adjustment`; claims without one keep their own p-value and effect).
@@ -371,8 +379,20 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
     }
     const timeNote = verdict === "contradicted" ? repairTimeNote(graph, t.x, t.y) : undefined;
     const warned = timeNote ? { warnings: [...(t.warnings ?? []), timeNote] } : {};
-    return { ...t, ...warned, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y) };
+    return { ...t, ...warned, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y), ...monteCarloVerdict(t, i) };
   });
+  const undecided = result.filter((c) => c.p_undecided);
+  if (undecided.length > 0) {
+    const proposals = undecided.map((c) => c.p_proposed_B).filter((b): b is number => b !== undefined);
+    warnings.push(
+      `${undecided.length} verdict${undecided.length > 1 ? "s were" : " was"} not resolved by the cap on Monte-Carlo draws (p_undecided: ${undecided
+        .slice(0, 5)
+        .map((c) => `${c.x} ⫫ ${c.y}`)
+        .join("; ")}${undecided.length > 5 ? "; …" : ""}); read ${undecided.length > 1 ? "them" : "it"} as provisional${
+        proposals.length > 0 ? ` and rerun with --permutations ${Math.max(...proposals)}` : ""
+      }`,
+    );
+  }
   const differing = result.filter((c) => linearAdjustmentOf(c)?.verdict_differs);
   if (differing.length > 0) {
     warnings.push(
@@ -420,6 +440,103 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
       ...(notes.length ? { note: notes.join("; ") } : {}),
     },
     warnings,
+  };
+}
+
+/**
+ * What Monte-Carlo methods are told to draw (see `stats/monteCarloDecision.ts`): the resampling
+ * risk, the claims sharing it while a claim judges on its own (k, the number of claims, an upper
+ * bound on the Monte-Carlo ones, recovered from the floor α/k so that a helper thread derives the
+ * same; 1 without adjustment, where each verdict depends on its own p only) and the band of
+ * thresholds [α/k, α]. Cost: O(1).
+ */
+function monteCarloRequest(settings: AuditSettings, decisionFloor: number): MonteCarloRequest {
+  const family = settings.adjust === "none" ? 1 : Math.max(1, Math.round(settings.alpha / decisionFloor));
+  return { risk: settings.resampling_risk ?? DEFAULT_RESAMPLING_RISK, family, band: [Math.min(decisionFloor, settings.alpha), settings.alpha] };
+}
+
+/**
+ * The confidence-sequence interval of every Monte-Carlo outcome (ε shared by the m Monte-Carlo
+ * claims, or by one without adjustment) and which verdicts are decided: the same with every
+ * Monte-Carlo p at its interval's upper end and at its lower end (`bracketVerdicts`).
+ * Cost: O(k log k) plus two beta quantiles per Monte-Carlo claim.
+ */
+function judgeMonteCarlo(outcomes: readonly TestOutcome[], settings: AuditSettings): { intervals: ([number, number] | undefined)[]; decided: boolean[]; risk: number; family: number } {
+  const risk = settings.resampling_risk ?? DEFAULT_RESAMPLING_RISK;
+  const m = outcomes.filter((o) => o.monte_carlo).length;
+  const family = settings.adjust === "none" ? 1 : Math.max(1, m);
+  const intervals = outcomes.map((o) => (o.monte_carlo ? sequenceInterval(o.monte_carlo.hits, o.monte_carlo.draws, o.monte_carlo.cap, risk, family) : undefined));
+  const { decided } = bracketVerdicts(
+    outcomes.map((o, i) => ({ lower: intervals[i]?.[0] ?? o.p, upper: intervals[i]?.[1] ?? o.p, relevant: Math.abs(o.effect) >= settings.min_effect })),
+    settings.adjust,
+    settings.alpha,
+  );
+  return { intervals, decided, risk, family };
+}
+
+/**
+ * The audit's Monte-Carlo loop (Gandy & Hahn 2016, Scand. J. Statist. 43:1046–1063, from memory):
+ * while some verdict is undecided (see {@link judgeMonteCarlo}), every undecided Monte-Carlo claim
+ * below its cap is tested again with the draws of its next look (about double). Its random stream
+ * is fixed by (seed, claim), so the new draws extend the same sequence; the claim is re-run from
+ * the start on this thread, which costs at most twice the draws of its last run. When only claims
+ * without Monte-Carlo error are undecided, the Monte-Carlo claims whose intervals still meet the
+ * band of thresholds get the draws. Ends when every verdict is decided or no claim that could
+ * decide it has draws left (each round adds draws to at least one claim, so it ends).
+ * Cost: the re-runs, O(Σ final draws) in all, and O(k log k) per round.
+ */
+function refineMonteCarlo(plan: AuditPlan, results: MethodResult[]): void {
+  const { settings, ctx } = plan;
+  for (;;) {
+    const index: number[] = [];
+    const outcomes: TestOutcome[] = [];
+    results.forEach((r, i) => {
+      if (r.ok) {
+        index.push(i);
+        outcomes.push(r.outcome);
+      }
+    });
+    if (!outcomes.some((o) => o.monte_carlo)) return;
+    const judged = judgeMonteCarlo(outcomes, settings);
+    const open = (k: number) => outcomes[k]!.monte_carlo !== undefined && outcomes[k]!.monte_carlo!.draws < outcomes[k]!.monte_carlo!.cap;
+    let active = outcomes.map((_, k) => k).filter((k) => !judged.decided[k] && open(k));
+    if (active.length === 0 && judged.decided.some((d) => !d)) {
+      const [floor, top] = ctx.monteCarlo?.band ?? [plan.decisionFloor, settings.alpha];
+      active = outcomes.map((_, k) => k).filter((k) => open(k) && !(judged.intervals[k]![1] < floor || judged.intervals[k]![0] >= top));
+    }
+    if (active.length === 0) return;
+    for (const k of active) {
+      const mc = outcomes[k]!.monte_carlo!;
+      const i = index[k]!;
+      const request: MonteCarloRequest = { ...(ctx.monteCarlo ?? monteCarloRequest(settings, plan.decisionFloor)), draws: nextLook(mc.draws, mc.cap) };
+      results[i] = testClaimMethod(plan.claims[i]!, { ...ctx, monteCarlo: request }, settings);
+    }
+  }
+}
+
+/**
+ * For each tested claim, what the audit adds about its Monte-Carlo decision: the threshold its p
+ * faces (`criticalValues` at the reported p-values), the risk and the interval the decision used,
+ * `p_undecided` when the verdict is not decided, and for an undecided Monte-Carlo claim the draws
+ * that would likely decide it (`proposedDraws`, at least twice the cap). Cost: O(k log k) once.
+ */
+function monteCarloAnnotator(tested: readonly TestOutcome[], settings: AuditSettings): (t: TestOutcome, i: number) => Partial<TestedClaim> {
+  if (!tested.some((t) => t.monte_carlo)) return () => ({});
+  const judged = judgeMonteCarlo(tested, settings);
+  const thresholds = criticalValues(tested.map((t) => t.p), settings.adjust, settings.alpha);
+  return (t, i) => {
+    const out: Partial<TestedClaim> = {};
+    if (t.monte_carlo) {
+      out.monte_carlo = { ...t.monte_carlo, threshold: thresholds[i]!, risk: judged.risk, decision_interval: judged.intervals[i]! };
+    }
+    if (!judged.decided[i]) {
+      out.p_undecided = true;
+      if (t.monte_carlo) {
+        const proposal = proposedDraws(t.p, thresholds[i]!, judged.risk, judged.family);
+        if (proposal !== undefined) out.p_proposed_B = Math.min(MAX_CAP, Math.max(proposal, 2 * t.monte_carlo.cap));
+      }
+    }
+    return out;
   };
 }
 

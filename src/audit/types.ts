@@ -5,6 +5,7 @@
  */
 import type { VariableType } from "../data/Table.js";
 import type { GraphSummary } from "../graph/graphSummary.js";
+import type { MonteCarloSummary } from "../stats/monteCarloDecision.js";
 
 /** An implied independence x ⫫ y | given, derived from a missing arrow. */
 export interface Claim {
@@ -43,10 +44,25 @@ export interface TestOutcome {
   p_method: "asymptotic" | "permutation";
   /** Monte-Carlo permutations used, when p_method is permutation. */
   B?: number;
+  /** Monte-Carlo precision of p, when p_method is permutation (draws, hits, cap, standard error, 99% interval; the audit adds the decision). */
+  monte_carlo?: MonteCarloReport;
   /** Test-specific numbers (X², Mantel–Haenszel odds ratio, strata counts, model details...). */
   details?: Record<string, unknown>;
   /** Problems that did not stop the test (non-convergence at the limit, sparse strata...). */
   warnings?: string[];
+}
+
+/**
+ * The Monte-Carlo precision of a permutation p-value and how its verdict was decided
+ * (`stats/monteCarloDecision.ts`). The test method fills the first five fields, the audit the rest.
+ */
+export interface MonteCarloReport extends MonteCarloSummary {
+  /** The p below which the claim is contradicted, the other claims' p-values as reported (α, or its Holm or Benjamini–Hochberg step). */
+  threshold?: number;
+  /** Resampling risk ε: the chance that any Monte-Carlo verdict differs from the exact permutation verdict is at most ε (per claim with --adjust none). */
+  risk?: number;
+  /** The confidence-sequence interval for p the decision used (Clopper–Pearson at ε/(m·J)). */
+  decision_interval?: [number, number];
 }
 
 export type Verdict = "contradicted" | "consistent";
@@ -58,6 +74,14 @@ export interface TestedClaim extends Claim, TestOutcome {
   rank: number;
   /** Repairs in graph-file notation that keep the graph acyclic: "x -> y", "y -> x", "x <-> y". */
   arrows: string[];
+  /**
+   * Present (true) when the verdict was not resolved by the cap on Monte-Carlo draws: it depends on
+   * Monte-Carlo p-values (this claim's or, under Holm or Benjamini–Hochberg, others') whose intervals
+   * still straddle their thresholds. Read the verdict as provisional.
+   */
+  p_undecided?: true;
+  /** With p_undecided on a Monte-Carlo claim: the --permutations that would likely decide it (from the current estimate), absent when over 10⁷. */
+  p_proposed_B?: number;
 }
 
 export interface VariableSummary {
@@ -78,6 +102,8 @@ export interface AuditSettings {
   rank_by: "p" | "effect";
   seed: number;
   permutations?: number;
+  /** Resampling risk ε of Monte-Carlo verdicts (--resampling-risk); absent: 1e-3. */
+  resampling_risk?: number;
 }
 
 export interface GlobalTest {

@@ -8,9 +8,7 @@
  * correlations does not cite categorical methods, and vice versa.
  */
 import type { AuditResult, TestName, TestedClaim, VariableSummary } from "../audit/types.js";
-import { STOP_AFTER_HITS as STOP_LINEAR_BY_LINEAR } from "../audit/methods/linearByLinear.js";
-import { STOP_AFTER_HITS as STOP_STRATIFIED } from "../audit/methods/stratifiedChisq.js";
-import { permutationsForFloor } from "../stats/permutation.js";
+import { DEFAULT_RESAMPLING_RISK, FIRST_LOOK } from "../stats/monteCarloDecision.js";
 import { adjustedInterval } from "./adjustedInterval.js";
 import type { ReportContext } from "./ReportContext.js";
 import {
@@ -50,7 +48,9 @@ type RefKey =
   | "mantel1963"
   | "landis1978"
   | "satterthwaite1946"
-  | "besag1991";
+  | "besag1991"
+  | "clopper1934"
+  | "gandy2016";
 
 /** Full references, in the journal style of an epidemiology methods section. */
 const REFERENCES: Record<RefKey, string> = {
@@ -78,6 +78,8 @@ const REFERENCES: Record<RefKey, string> = {
   landis1978: "Landis JR, Heyman ER, Koch GG. Average partial association in three-way contingency tables: a review and discussion of alternative tests. International Statistical Review. 1978;46(3):237–254.",
   satterthwaite1946: "Satterthwaite FE. An approximate distribution of estimates of variance components. Biometrics Bulletin. 1946;2(6):110–114.",
   besag1991: "Besag J, Clifford P. Sequential Monte Carlo p-values. Biometrika. 1991;78(2):301–304.",
+  clopper1934: "Clopper CJ, Pearson ES. The use of confidence or fiducial limits illustrated in the case of the binomial. Biometrika. 1934;26(4):404–413.",
+  gandy2016: "Gandy A, Hahn G. A framework for Monte Carlo based multiple testing. Scandinavian Journal of Statistics. 2016;43(4):1046–1063.",
 };
 
 /** "a to b" over the finite values of a list ("a" when all equal); "" when there are none. */
@@ -141,6 +143,17 @@ const TEST_TEXT: Record<TestName, { name: string; text: (cs: readonly TestedClai
   },
 };
 
+/**
+ * The Monte-Carlo precision of a claim's p-value in a few words: "±se, draws, 99% CI lo–hi"
+ * (Clopper–Pearson at the draws made); "" for a p-value without Monte-Carlo error. Cost: O(1).
+ * @example monteCarloPrecision(claim) // "±0.0021, 12,800 draws, 99% CI 0.055–0.067"
+ */
+export function monteCarloPrecision(c: Pick<TestedClaim, "monte_carlo">): string {
+  const mc = c.monte_carlo;
+  if (!mc) return "";
+  return `±${mc.se.toPrecision(2)}, ${formatCount(mc.draws)} draws, 99% CI ${formatP(mc.ci99[0])}–${formatP(mc.ci99[1])}`;
+}
+
 const TEST_ORDER: TestName[] = ["gcm", "gcm-rank", "pearson-partial", "stratified-chisq", "linear-by-linear", "regression-lr"];
 
 export interface ClaimRow {
@@ -155,8 +168,12 @@ export interface ClaimRow {
   /** The Mantel–Haenszel common odds ratio with its 95% interval, for claims on 2×2×K tables; "" otherwise. */
   oddsRatio: string;
   p: string;
+  /** For a Monte-Carlo p-value: its standard error, draws and 99% interval, e.g. "±0.0021, 12,800 draws, 99% CI 0.055–0.067"; "" otherwise. */
+  pPrecision: string;
   pAdjusted: string;
   verdict: "contradicted" | "consistent";
+  /** For a verdict the cap on Monte-Carlo draws did not resolve: "undecided" with the draws that would resolve it; "" otherwise. */
+  undecided: string;
   arrows: string;
 }
 
@@ -379,11 +396,19 @@ function testsParagraph(result: AuditResult, refs: Set<RefKey>): string | undefi
   }
   const perm = claims.filter((c) => c.p_method === "permutation");
   if (perm.length > 0) {
-    refs.add("besag1991");
-    const limit = s.permutations ?? permutationsForFloor(s.adjust === "none" ? s.alpha : s.alpha / Math.max(1, claims.length + result.untestable.filter((u) => u.given !== undefined).length));
+    refs.add("clopper1934");
+    refs.add("gandy2016");
+    const caps = [...new Set(perm.map((c) => c.monte_carlo?.cap ?? s.permutations).filter((b): b is number => b !== undefined))];
+    const limit = caps.length > 0 ? Math.max(...caps) : undefined;
     const draws = range(perm.map((c) => c.B ?? Number.NaN));
-    const hits = [...new Set(perm.map((c) => (c.test === "linear-by-linear" ? STOP_LINEAR_BY_LINEAR : STOP_STRATIFIED)))].sort((x, y) => x - y).join(" or ");
-    text += ` The p-values of ${plural(perm.length, "claim", "claims")} were estimated by Monte Carlo permutation within the strata of the conditioning set, with sequential stopping (Besag & Clifford 1991): permutations were drawn until ${hits} permuted statistics had reached the observed one, or to at most ${formatCount(limit)}, and p = (1 + hits)/(1 + draws) (hits/draws when drawing stopped early); ${draws ? `${draws} permutations were drawn per claim` : "the number drawn is in each claim's details"} (random seed ${s.seed}).`;
+    const risk = s.resampling_risk ?? DEFAULT_RESAMPLING_RISK;
+    const shared = s.adjust === "none" ? "over the rounds of each claim" : "over the rounds and the Monte-Carlo claims";
+    text += ` The p-values of ${plural(perm.length, "claim", "claims")} were estimated by Monte Carlo permutation within the strata of the conditioning set, as p = (1 + hits)/(1 + draws). Permutations were drawn in rounds of doubling size (${formatCount(FIRST_LOOK)}, ${formatCount(2 * FIRST_LOOK)}, ${formatCount(4 * FIRST_LOOK)}, …${limit !== undefined ? `, at most ${formatCount(limit)}` : ""}); after each round the Clopper–Pearson limits of every permuted p-value (Clopper & Pearson 1934), at a risk of ${risk} split ${shared}, were checked against ${s.adjust === "none" ? `alpha = ${s.alpha}` : "the threshold its verdict faces after the adjustment"}, and drawing continued only for claims whose verdict differed between the upper and the lower limits (Gandy & Hahn 2016), so that the chance that ${s.adjust === "none" ? "a claim's" : "any"} verdict differs from the one of the exact permutation p-value${s.adjust === "none" ? "" : "s"} is at most ${risk}; ${draws ? `${draws} permutations were drawn per claim` : "the number drawn is in each claim's details"} (random seed ${s.seed}).`;
+    const undecided = claims.filter((c) => c.p_undecided);
+    if (undecided.length > 0) {
+      const proposals = undecided.map((c) => c.p_proposed_B).filter((b): b is number => b !== undefined);
+      text += ` The verdict of ${plural(undecided.length, "claim", "claims")} (${listJoin(undecided.slice(0, 5).map((c) => claimLabel(c)))}${undecided.length > 5 ? ", …" : ""}) was not resolved within that limit and is provisional${proposals.length > 0 ? ` (about ${formatCount(Math.max(...proposals))} permutations would resolve it)` : ""}.`;
+    }
     if (perm.some((c) => c.test === "stratified-chisq" && c.df > 1)) {
       refs.add("satterthwaite1946");
       text += " For those claims the effect subtracts the mean of the permuted statistics, and its interval matches the permutation distribution by its first two moments (Satterthwaite 1946), so that it agrees with the permutation p-value.";
@@ -524,8 +549,10 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
     adjustedInterval: adjustedCell(c, s.alpha),
     oddsRatio: oddsRatioCell(c),
     p: formatP(c.p),
+    pPrecision: monteCarloPrecision(c),
     pAdjusted: formatP(c.p_adjusted),
     verdict: c.verdict,
+    undecided: c.p_undecided ? `undecided${c.p_proposed_B !== undefined ? ` (about ${formatCount(c.p_proposed_B)} permutations would decide it)` : ""}` : "",
     arrows: c.verdict === "contradicted" ? c.arrows.join("; ") : "",
   }));
 
@@ -570,7 +597,7 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
     { label: "Random seed", value: String(s.seed) },
     {
       label: "Settings",
-      value: `alpha ${s.alpha}; adjustment ${s.adjust}; method ${s.method}; sets ${s.sets}; minimum effect ${s.min_effect}; listwise ${s.listwise ? "yes" : "no"}; ranked by ${s.rank_by}${s.permutations !== undefined ? `; permutations ${s.permutations}` : ""}`,
+      value: `alpha ${s.alpha}; adjustment ${s.adjust}; method ${s.method}; sets ${s.sets}; minimum effect ${s.min_effect}; listwise ${s.listwise ? "yes" : "no"}; ranked by ${s.rank_by}${s.permutations !== undefined ? `; permutations ${s.permutations}` : ""}${s.resampling_risk !== undefined ? `; resampling risk ${s.resampling_risk}` : ""}`,
     },
   ];
 

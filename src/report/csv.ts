@@ -21,7 +21,11 @@ export function csvCell(v: unknown): string {
   return /[",\n\r;]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
 
-const COLUMNS = ["rank", "x", "y", "given", "n", "test", "statistic", "df", "p", "log_p", "p_adjusted", "p_method", "effect", "ci_low", "ci_high", "verdict", "arrows", "reason"] as const;
+const COLUMNS = [
+  "rank", "x", "y", "given", "n", "test", "statistic", "df", "p", "log_p", "p_adjusted", "p_method", "effect", "ci_low", "ci_high", "verdict", "arrows", "reason",
+  // Monte-Carlo p-values: draws, standard error, 99% Clopper–Pearson interval, and a verdict the cap left undecided with the draws proposed
+  "p_draws", "p_se", "p_ci99_low", "p_ci99_high", "p_undecided", "p_proposed_B",
+] as const;
 
 /** A list of names as one JSON array (RFC 8259), e.g. `["bmi","smoker"]`. Cost: O(total length). */
 export function nameList(names: readonly string[]): string {
@@ -33,13 +37,16 @@ export function renderCsv(r: AuditResult): string {
   const lines = [COLUMNS.join(",")];
   for (const c of r.claims) {
     lines.push(
-      [c.rank, c.x, c.y, nameList(c.given), c.n, c.test, c.statistic, c.df, c.p, c.log_p, c.p_adjusted, c.p_method, c.effect, c.ci[0], c.ci[1], c.verdict, nameList(c.arrows), ""]
+      [
+        c.rank, c.x, c.y, nameList(c.given), c.n, c.test, c.statistic, c.df, c.p, c.log_p, c.p_adjusted, c.p_method, c.effect, c.ci[0], c.ci[1], c.verdict, nameList(c.arrows), "",
+        c.monte_carlo?.draws ?? "", c.monte_carlo?.se ?? "", c.monte_carlo?.ci99[0] ?? "", c.monte_carlo?.ci99[1] ?? "", c.p_undecided ? "true" : "", c.p_proposed_B ?? "",
+      ]
         .map(csvCell)
         .join(","),
     );
   }
   for (const u of r.untestable) {
-    lines.push(["", u.x, u.y, u.given ? nameList(u.given) : "", "", "", "", "", "", "", "", "", "", "", "", "untestable", "", u.reason].map(csvCell).join(","));
+    lines.push(["", u.x, u.y, u.given ? nameList(u.given) : "", "", "", "", "", "", "", "", "", "", "", "", "untestable", "", u.reason, "", "", "", "", "", ""].map(csvCell).join(","));
   }
   return lines.join("\r\n") + "\r\n";
 }

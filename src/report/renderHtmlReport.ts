@@ -74,6 +74,8 @@ tr.contradicted td:first-child{box-shadow:inset 4px 0 0 ${PALETTE.vermillion}}
 .verdict{white-space:nowrap;font-weight:600}
 .verdict.contradicted{color:#a14300}
 .verdict.consistent{color:#005a8c;font-weight:500}
+.mc{font-size:.85em;color:#555}
+.undecided{font-size:.85em;font-style:italic}
 code,.mono{font-family:${MONO_STACK};font-size:12.5px;background:${INK.panel};padding:1px 4px;border-radius:3px;overflow-wrap:anywhere}
 .note{font-size:13px;color:${INK.muted}}
 ul.plain{padding-left:20px}
@@ -162,8 +164,8 @@ export function renderHtmlReport(result: AuditResult, context: ReportContext, sv
   const rows = t.claimRows
     .map(
       (r) =>
-        `<tr class="claim-row ${r.verdict}"><td class="num">${hn(r.rank)}</td><td class="claim">${independenceHtml(r.claim)}</td><td class="num">${hn(r.n)}</td><td class="nowrap">${hn(r.test)}</td><td class="num">${h(r.effect)}${r.oddsRatio ? `<br><span class="odds-ratio">${h(r.oddsRatio)}</span>` : ""}</td><td class="num adjusted">${h(r.adjustedInterval)}</td><td class="num">${h(r.p)}</td><td class="num">${h(r.pAdjusted)}</td>` +
-        `<td><span class="verdict ${r.verdict}">${r.verdict === "contradicted" ? "◆ contradicted" : "○ consistent"}</span></td>` +
+        `<tr class="claim-row ${r.verdict}"><td class="num">${hn(r.rank)}</td><td class="claim">${independenceHtml(r.claim)}</td><td class="num">${hn(r.n)}</td><td class="nowrap">${hn(r.test)}</td><td class="num">${h(r.effect)}${r.oddsRatio ? `<br><span class="odds-ratio">${h(r.oddsRatio)}</span>` : ""}</td><td class="num adjusted">${h(r.adjustedInterval)}</td><td class="num">${h(r.p)}${r.pPrecision ? `<br><span class="mc">${h(r.pPrecision)}</span>` : ""}</td><td class="num">${h(r.pAdjusted)}</td>` +
+        `<td><span class="verdict ${r.verdict}">${r.verdict === "contradicted" ? "◆ contradicted" : "○ consistent"}</span>${r.undecided ? `<br><span class="undecided">${h(r.undecided)}</span>` : ""}</td>` +
         `<td class="arrows">${r.arrows ? r.arrows.split("; ").map((a) => `<code>${hn(a)}</code>`).join(" ") : ""}</td></tr>`,
     )
     .join("");

@@ -97,10 +97,10 @@ export function renderMarkdownReport(result: AuditResult, context: ReportContext
     out.push("| # | Claim | n | Test | Effect [95% CI] | Adjusted interval | p | Adjusted p | Verdict | Arrows to consider |");
     out.push("|--:|:--|--:|:--|--:|--:|--:|--:|:--|:--|");
     for (const r of t.claimRows) {
-      const verdict = r.verdict === "contradicted" ? "**contradicted**" : "consistent";
+      const verdict = (r.verdict === "contradicted" ? "**contradicted**" : "consistent") + (r.undecided ? ` (${e(r.undecided)})` : "");
       const arrows = r.arrows ? r.arrows.split("; ").map((a) => e(a)).join("; ") : "";
       const effect = r.oddsRatio ? `${r.effect}; ${r.oddsRatio}` : r.effect;
-      out.push(`| ${r.rank} | ${e(r.claim)} | ${e(r.n)} | ${e(r.test)} | ${e(effect)} | ${e(r.adjustedInterval)} | ${e(r.p)} | ${e(r.pAdjusted)} | ${verdict} | ${arrows} |`);
+      out.push(`| ${r.rank} | ${e(r.claim)} | ${e(r.n)} | ${e(r.test)} | ${e(effect)} | ${e(r.adjustedInterval)} | ${e(r.p)}${r.pPrecision ? ` (${e(r.pPrecision)})` : ""} | ${e(r.pAdjusted)} | ${verdict} | ${arrows} |`);
     }
     out.push("", `Read "x ⫫ y \\| a, b" as "x is independent of y given a and b"; ∅ is the empty set. ${e(t.effectNote)}. ${e(t.intervalNote)}`, "");
   }

@@ -247,6 +247,33 @@ function globalText(r: AuditResult, ascii: boolean): string {
   );
 }
 
+/**
+ * Lines under the table on Monte-Carlo p-values: how many draws they used and their largest
+ * standard error, and which claims (by rank) have a verdict the cap on draws left undecided
+ * (marked "?" in the table). Empty without Monte-Carlo p-values. Cost: O(claims).
+ */
+function monteCarloLines(r: AuditResult): string[] {
+  const out: string[] = [];
+  let count = 0;
+  let lo = Infinity;
+  let hi = 0;
+  let se = 0;
+  for (const c of r.claims) {
+    if (!c.monte_carlo) continue;
+    count++;
+    lo = Math.min(lo, c.monte_carlo.draws);
+    hi = Math.max(hi, c.monte_carlo.draws);
+    se = Math.max(se, c.monte_carlo.se);
+  }
+  if (count > 0) {
+    const draws = lo === hi ? formatCount(lo) : `${formatCount(lo)} to ${formatCount(hi)}`;
+    out.push(`Monte-Carlo p-values (+perm, ${count} claim${count === 1 ? "" : "s"}): ${draws} draws, standard error at most ${se.toPrecision(2)}; their 99% intervals are in --json and --csv`);
+  }
+  const undecided = r.claims.filter((c) => c.p_undecided).map((c) => `#${c.rank}`);
+  if (undecided.length > 0) out.push(`? verdict not resolved by the cap on Monte-Carlo draws (undecided, provisional): ${undecided.slice(0, 20).join(", ")}${undecided.length > 20 ? ", …" : ""}; see the warning below`);
+  return out;
+}
+
 /** Whether a claim's 95% interval and its (adjusted) verdict seem to disagree: an interval excluding 0 beside "consistent", or the reverse. */
 function intervalDisagrees(c: TestedClaim): boolean {
   const [lo, hi] = c.ci;
@@ -298,7 +325,7 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
     formatEffectWithCI(c.effect, c.ci),
     formatP(c.p),
     formatP(c.p_adjusted),
-    c.verdict,
+    c.verdict + (c.p_undecided ? "?" : ""),
   ]);
   // Width of every column but the claim (index 1); the claim gets what is left.
   const colW = head.map((h, i) => Math.max(len(h), ...cells.map((row) => (i === 1 ? 0 : len(row[i]!)))));
@@ -344,6 +371,8 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
       } else out.push(...lines);
     });
   }
+  const monteCarlo = monteCarloLines(r);
+  if (monteCarlo.length > 0) out.push(...monteCarlo.flatMap((l) => wrap(l, width, "  ")));
   const disagree = r.claims.filter(intervalDisagrees);
   if (disagree.length > 0) out.push(...wrap(intervalNote(r, disagree), width, "  "));
 

@@ -84,13 +84,20 @@ describe("buildReportText", () => {
     expect(refs(mixed)).toContain("Tian J");
   });
 
-  it("buildReportText mentions permutation p-values with the sequential stopping rule, the draws made and the seed", () => {
+  it("buildReportText mentions permutation p-values with the confidence-sequence rule, the cap, the risk, the draws made and the seed", () => {
     const r = sampleResult();
-    r.claims[0] = { ...r.claims[0]!, p_method: "permutation", B: 999 };
+    r.claims[0] = { ...r.claims[0]!, p_method: "permutation", B: 999, monte_carlo: { draws: 999, hits: 0, cap: 999, se: 0.001, ci99: [0, 0.0053] } };
     const m = methods(r);
-    expect(m).toContain("with sequential stopping (Besag & Clifford 1991): permutations were drawn until 20 permuted statistics had reached the observed one");
+    expect(m).toContain("Permutations were drawn in rounds of doubling size (200, 400, 800, …, at most 999)");
+    expect(m).toContain("Clopper–Pearson limits of every permuted p-value (Clopper & Pearson 1934), at a risk of 0.001");
+    expect(m).toContain("(Gandy & Hahn 2016)");
     expect(m).toContain("999 permutations were drawn per claim (random seed 20240611)");
-    expect(refs(r)).toContain("Besag J, Clifford P. Sequential Monte Carlo p-values. Biometrika. 1991");
+    expect(m).not.toContain("provisional");
+    expect(refs(r)).toContain("Clopper CJ, Pearson ES.");
+    expect(refs(r)).toContain("Gandy A, Hahn G. A framework for Monte Carlo based multiple testing");
+    // a verdict the cap left undecided says so, with the draws that would decide it
+    r.claims[0] = { ...r.claims[0]!, p_undecided: true, p_proposed_B: 8500 };
+    expect(methods(r)).toMatch(/was not resolved within that limit and is provisional \(about 8,500 permutations would resolve it\)/);
   });
 
   it("globalSentence(result) says contradicted, not contradicted, or no verdict", () => {

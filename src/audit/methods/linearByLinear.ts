@@ -21,9 +21,10 @@
  * *p-value*: the χ²(1) upper tail of Q (tail-accurate, with `log_p`). With `ctx.permutations`, a
  * seeded Monte-Carlo permutation p-value instead: x is permuted within each stratum (tables drawn
  * from the multivariate hypergeometric distribution given the stratum's margins), the statistic
- * is |Σ_s (T_s − E_s)| (equivalent to Q, whose denominator is fixed by the margins), drawing stops
- * after 20 permuted statistics reach the observed one (Besag & Clifford 1991) or after B draws,
- * and the random numbers come from the stream of (ctx.seed, claim). When 1/(B + 1) is not below
+ * is |Σ_s (T_s − E_s)| (equivalent to Q, whose denominator is fixed by the margins), the draws are
+ * judged at 200, 400, 800, … up to the cap B by a confidence sequence that bounds the risk of a
+ * wrong verdict (`stats/monteCarloDecision.ts`; the audit asks for more draws when the claim's
+ * adjusted threshold needs them), and the random numbers come from the stream of (ctx.seed, claim). When 1/(B + 1) is not below
  * `ctx.decisionFloor` a warning says so (see `stats/permutation.ts`).
  *
  * *Effect*: sign·√(1 − exp(−Q/n)), signed by Σ_s (T_s − E_s), on the scale shared by all tests.
@@ -37,16 +38,14 @@ import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrToEffect, signedRootEffectCI } from "../../stats/effectScale.js";
 import { centredScores, linearByLinear as linearByLinearStatistic, type ScoredStratum } from "../../stats/linearByLinear.js";
-import { createScoredTableSampler, permutationFloorWarning, scoredTableSum, sequentialMonteCarloPValue, type ScoredMargins } from "../../stats/permutation.js";
+import { createScoredTableSampler, permutationFloorWarning, scoredTableSum, type ScoredMargins } from "../../stats/permutation.js";
+import { monteCarloSummary, planOf, runMonteCarloTest, type MonteCarloPlan, type MonteCarloSummary } from "../../stats/monteCarloDecision.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import { scaleExponent, timesPowerOfTwo } from "../../stats/powerOfTwoScale.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import { strataAdjustment } from "./adjustmentDetails.js";
 import type { Claim, TestOutcome } from "../types.js";
 import { groupStrata, neverBothVary, unusedStrataWarning, type CompactStratum } from "./groupRows.js";
-
-/** Permuted statistics reaching the observed one after which the sequential permutation test stops (Besag & Clifford 1991). */
-export const STOP_AFTER_HITS = 20;
 
 function quoted(names: readonly string[]): string {
   return names.map((s) => `"${s}"`).join(", ");
@@ -88,8 +87,8 @@ function stratumMargins(t: ScoredStratum): { row: Float64Array; col: Float64Arra
 }
 
 /**
- * Permutation p-value of |Σ_s (T_s − E_s)|: x permuted within each stratum, up to B draws,
- * stopping after {@link STOP_AFTER_HITS} permuted statistics reach the observed one. Scores are
+ * Permutation p-value of |Σ_s (T_s − E_s)|: x permuted within each stratum, drawn by the plan
+ * (`runMonteCarloTest`: looks at 200, 400, … up to the cap). Scores are
  * centred within each stratum, so each stratum's permuted score sum is its T*_s − E_s. Each
  * stratum's scores are first multiplied by powers of two that bring its largest |score| of each
  * variable into [0.5, 1) (`stats/powerOfTwoScale.ts`), and its x scores then by the power of two
@@ -97,7 +96,7 @@ function stratumMargins(t: ScoredStratum): { row: Float64Array; col: Float64Arra
  * statistics order as before, and extreme scores' products stay finite.
  * Cost: O(Σ_s n_s) once, then O(draws · Σ_s (r_s·c_s + draws' spread)).
  */
-function permutationP(strata: readonly ScoredStratum[], B: number, seed: number, key: string): { p: number; draws: number } {
+function permutationP(strata: readonly ScoredStratum[], plan: MonteCarloPlan, seed: number, key: string): { p: number; hits: number; draws: number } {
   const kept: Array<{ row: Float64Array; col: Float64Array; u: Float64Array; v: Float64Array; a: number; b: number; counts: ArrayLike<number> }> = [];
   for (const s of strata) {
     const { row, col } = stratumMargins(s);
@@ -120,7 +119,7 @@ function permutationP(strata: readonly ScoredStratum[], B: number, seed: number,
     observed += scoredTableSum(k.counts, rowScores, k.v);
   }
   const sampler = createScoredTableSampler(used, createRng(seed, key));
-  return sequentialMonteCarloPValue(Math.abs(observed), B, STOP_AFTER_HITS, () => Math.abs(sampler()));
+  return runMonteCarloTest(Math.abs(observed), () => Math.abs(sampler()), plan);
 }
 
 /** Largest |score| among those with a positive margin; 0 when none. Cost: O(length). */
@@ -179,13 +178,15 @@ export function runLinearByLinear(claim: Claim, ctx: TestContext): MethodResult 
   let p: number;
   let logP: number;
   let B: number | undefined;
+  let monteCarlo: MonteCarloSummary | undefined;
   if (ctx.permutations !== undefined) {
-    B = ctx.permutations;
-    const floorWarning = permutationFloorWarning(B, ctx.decisionFloor);
-    const perm = permutationP(strata, B, ctx.seed, streamKeyOfClaim(claim));
+    const plan = planOf(ctx);
+    const floorWarning = permutationFloorWarning(plan.cap, ctx.decisionFloor);
+    const perm = permutationP(strata, plan, ctx.seed, streamKeyOfClaim(claim));
     p = perm.p;
     logP = Math.log(p);
-    if (perm.draws < B) B = perm.draws;
+    B = perm.draws;
+    monteCarlo = monteCarloSummary(perm.hits, perm.draws, plan.cap);
     if (floorWarning) warnings.push(floorWarning);
   } else {
     logP = res.logP;
@@ -228,6 +229,7 @@ export function runLinearByLinear(claim: Claim, ctx: TestContext): MethodResult 
     ci: signedRootEffectCI(res.q, n, sign, 0.95, B !== undefined ? p : undefined),
     p_method: B !== undefined ? "permutation" : "asymptotic",
     ...(B !== undefined ? { B } : {}),
+    ...(monteCarlo !== undefined ? { monte_carlo: monteCarlo } : {}),
     details,
     ...(warnings.length ? { warnings } : {}),
   };

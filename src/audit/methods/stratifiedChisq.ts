@@ -16,18 +16,20 @@
  * expected count below 1, or more than 20% of them have one below 5 (Cochran 1954, Biometrics
  * 10:417–451 — common practice; `cochranRuleFailures`) — or when the user asks for
  * permutations, the p-value is a Monte-Carlo permutation p-value: x is permuted within each
- * stratum (the stratum's x and y margins stay fixed) up to B times and
- * p = (1 + #{G²* ≥ G²})/(1 + B); sequentially (Besag & Clifford 1991, Biometrika 78:301–304), the
- * drawing stops once 20 permuted G² reach the observed one, with p = 20/L after L draws, and `B`
- * reports the draws made. The random numbers come from the stream of (ctx.seed, claim)
+ * stratum (the stratum's x and y margins stay fixed) and p = (1 + #{G²* ≥ G²})/(1 + draws). The
+ * draws are judged at 200, 400, 800, … up to the cap B by a confidence sequence for the permutation
+ * p-value that bounds the risk of a wrong verdict (`stats/monteCarloDecision.ts`): drawing stops
+ * once the verdict no longer depends on more draws of this claim, the audit asks for more when the
+ * claim's adjusted threshold needs them, `B` reports the draws made and `monte_carlo` their hits,
+ * standard error and 99% interval. The random numbers come from the stream of (ctx.seed, claim)
  * (see `stats/rng.ts`). Each permuted stratum table is drawn cell by cell from conditional
  * hypergeometric distributions given the stratum's margins — the distribution of the table of
  * a within-stratum permutation — at O(r_s·c_s) per draw whatever the number of rows.
  *
  * *Permutation floor*: B draws cannot give a p-value below 1/(B + 1). Without `--permutations`,
- * B = max(2000, ⌈10 / ctx.decisionFloor⌉) (`permutationsForFloor`), so that a claim can fall
- * below the smallest threshold an adjusted p-value faces, with room to spare; the sequential stop
- * keeps ordinary claims cheap. With the user's B, a claim whose floor 1/(B + 1) is not below
+ * the cap is `defaultPermutationCap` of ctx.decisionFloor (at least 10,000, and enough for a claim
+ * with no hit to be decided below the smallest threshold an adjusted p-value faces); the
+ * confidence sequence keeps ordinary claims at 200 draws. With the user's B, a claim whose floor 1/(B + 1) is not below
  * that threshold gets a warning naming the smallest reachable p-value and the B needed.
  *
  * Effect: with an asymptotic p-value, √(1 − exp(−G²/n)) for a 1-df test (one used 2 × 2
@@ -35,8 +37,8 @@
  * 95% interval from the noncentral chi-square inversion of Steiger (1990). With a permutation
  * p-value, sparse strata move the null distribution of G² away from χ²(df) (mean above df,
  * variance below 2·mean), so the effect and interval are calibrated on that null instead
- * (`permutationLrEffect`): its mean m and variance v come from the permuted G² (at least 200
- * draws, continued past the sequential stop), the effect is √(1 − exp(−max(0, G² − m)/n))
+ * (`permutationLrEffect`): its mean m and variance v come from the permuted G² (all draws made,
+ * at least 200), the effect is √(1 − exp(−max(0, G² − m)/n))
  * (G² in place of G² − m for 1 df, signed), the interval inverts the noncentral chi-square
  * matched to the null by its two moments, a·χ²(ν, λ′) with a = v/(2m), ν = 2m²/v (Satterthwaite
  * 1946; Box 1954), and its lower end is 0 whenever the permutation p is ≥ 0.025, so the effect
@@ -47,8 +49,9 @@ import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrEffect, lrEffectInterval, permutationLrEffect, type NullMoments } from "../../stats/effectScale.js";
 import { mantelHaenszel } from "../../stats/mantelHaenszel.js";
 import {
-  BASE_PERMUTATIONS, createTableStatisticSampler, permutationFloorWarning, permutationsForFloor, sequentialMonteCarloNull,
+  createTableStatisticSampler, permutationFloorWarning,
 } from "../../stats/permutation.js";
+import { monteCarloSummary, planOf, runMonteCarloTest, type MonteCarloPlan, type MonteCarloSummary } from "../../stats/monteCarloDecision.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import {
@@ -59,8 +62,6 @@ import type { Claim, TestOutcome } from "../types.js";
 import { strataAdjustment } from "./adjustmentDetails.js";
 import { groupStrata, neverBothVary, unusedStrataWarning, type CompactStratum } from "./groupRows.js";
 
-/** Fewest Monte-Carlo permutations when the sparse rule applies and the user gave none (more when the decision floor asks; see `permutationsForFloor`). */
-export const DEFAULT_PERMUTATIONS = BASE_PERMUTATIONS;
 /** Share of sparse cells (expected count < 5) above which the permutation p-value is used (also used whenever an expected count is below 1). */
 export const SPARSE_SHARE = COCHRAN_SPARSE_SHARE;
 
@@ -72,9 +73,7 @@ function sparseRuleWarning(res: StratifiedChiSquareResult, failures: readonly Co
       : `${(100 * res.sparseCells / res.cells).toFixed(0)}% of expected counts are below 5`);
   return `${parts.join(" and ")} (Cochran's rule); p-value from ${B} permutations within strata`;
 }
-/** Draws reaching the observed G² after which the sequential permutation test stops (Besag & Clifford 1991). */
-export const STOP_AFTER_HITS = 20;
-/** Fewest permuted G² behind the null mean and variance that calibrate the effect (draws continue past the sequential stop). */
+/** Fewest permuted G² behind the null mean and variance that calibrate the effect (draws continue past the test's own when it stops earlier). */
 export const NULL_DRAWS = 200;
 
 function quoted(names: readonly string[]): string {
@@ -82,7 +81,7 @@ function quoted(names: readonly string[]): string {
 }
 
 /**
- * Permutation p-value of the stratified G²: x permuted within each stratum, up to B times, with
+ * Permutation p-value of the stratified G²: x permuted within each stratum, drawn by the plan (`runMonteCarloTest`: looks at 200, 400, … up to the cap), with
  * the mean and variance of the permuted G² (from at least {@link NULL_DRAWS} draws).
  * The statistic compared is Σ_s Σ_cells O ln O, which differs from G²/2 by a constant given the
  * margins, so a permuted G²* = G² + 2(S* − S) for the observed S (mean G² + 2(mean S* − S),
@@ -91,7 +90,7 @@ function quoted(names: readonly string[]): string {
  * by shuffling rows. O ln O comes from a table of x ln x for x ≤ the largest stratum.
  * Cost: O(Σ_s n_s) once, then O(max(draws, 200) · Σ_s (r_s·c_s + draws' spread)) — independent of the rows.
  */
-function permutationP(tables: readonly CompactStratum[], g2: number, B: number, seed: number, key: string): { p: number; draws: number; null: NullMoments } {
+function permutationP(tables: readonly CompactStratum[], g2: number, plan: MonteCarloPlan, seed: number, key: string): { p: number; hits: number; draws: number; null: NullMoments } {
   const rowViews: Float64Array[] = [];
   const colViews: Float64Array[] = [];
   let maxN = 0;
@@ -120,8 +119,8 @@ function permutationP(tables: readonly CompactStratum[], g2: number, B: number, 
     for (let q = 0; q < t.counts.length; q++) observed += xLogX[t.counts[q]!]!;
   }
   const draw = createTableStatisticSampler(rowViews, colViews, createRng(seed, key), xLogX);
-  const mc = sequentialMonteCarloNull(observed, B, STOP_AFTER_HITS, draw, NULL_DRAWS);
-  return { p: mc.p, draws: mc.draws, null: { mean: g2 + 2 * (mc.mean - observed), variance: 4 * mc.variance } };
+  const mc = runMonteCarloTest(observed, draw, plan, NULL_DRAWS);
+  return { p: mc.p, hits: mc.hits, draws: mc.draws, null: { mean: g2 + 2 * (mc.mean - observed), variance: 4 * mc.variance } };
 }
 
 /**
@@ -162,14 +161,16 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   let logP: number;
   let B: number | undefined;
   let nullMoments: NullMoments | undefined;
+  let monteCarlo: MonteCarloSummary | undefined;
   if (permute) {
-    B = ctx.permutations ?? permutationsForFloor(ctx.decisionFloor);
-    const floorWarning = permutationFloorWarning(B, ctx.decisionFloor);
-    const perm = permutationP(tables, res.g2, B, ctx.seed, streamKeyOfClaim(claim));
+    const plan = planOf(ctx);
+    const floorWarning = permutationFloorWarning(plan.cap, ctx.decisionFloor);
+    const perm = permutationP(tables, res.g2, plan, ctx.seed, streamKeyOfClaim(claim));
     p = perm.p;
     logP = Math.log(p);
     nullMoments = perm.null;
-    if (perm.draws < B) B = perm.draws;
+    B = perm.draws;
+    monteCarlo = monteCarloSummary(perm.hits, perm.draws, plan.cap);
     if (sparse) warnings.push(sparseRuleWarning(res, sparseRule, B));
     if (floorWarning) warnings.push(floorWarning);
   } else {
@@ -230,6 +231,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     ci,
     p_method: permute ? "permutation" : "asymptotic",
     ...(B !== undefined ? { B } : {}),
+    ...(monteCarlo !== undefined ? { monte_carlo: monteCarlo } : {}),
     details,
     ...(warnings.length ? { warnings } : {}),
   };

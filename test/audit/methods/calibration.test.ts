@@ -95,8 +95,9 @@ describe("calibration under true claims (500 seeded replications, exact binomial
       return table([cat("x", x, 3), cat("y", y, 4), cat("z", z, 3)]);
     }, (o) => {
       expect(o.p_method).toBe("permutation");
-      expect(o.B).toBeLessThanOrEqual(2000); // sequential stopping after 20 hits
-      expect(o.p).toBeCloseTo(o.B! < 2000 ? 20 / o.B! : o.p, 12);
+      // draws judged by the confidence sequence up to the cap (replaces the stop after 20 hits), p = (1 + hits)/(1 + draws)
+      expect(o.B).toBeLessThanOrEqual(o.monte_carlo!.cap);
+      expect(o.p).toBeCloseTo((1 + o.monte_carlo!.hits) / (1 + o.B!), 12);
     });
     expect(rej).toBeGreaterThanOrEqual(LO);
     expect(rej).toBeLessThanOrEqual(HI);

@@ -13,6 +13,7 @@ import { lrEffectCI } from "../../../src/stats/effectScale.js";
 import { chiSquareUpper } from "../../../src/stats/pvalues.js";
 import { lazyMoments } from "../../helpers/lazyMoments.js";
 import { createRng } from "../../../src/stats/rng.js";
+import { lookSchedule } from "../../../src/stats/monteCarloDecision.js";
 
 // ---- tiny hand-built tables (the CSV reader is tested elsewhere) ----
 function cat(name: string, labels: readonly (string | null)[], type: VariableType = "nominal", levels?: readonly string[]): Column {
@@ -113,7 +114,10 @@ describe("stratifiedChisq (Berkeley admissions)", () => {
     const a = ok(stratifiedChisq.run(claimUCB, ctx(t, { permutations: 400, seed: 3 })));
     const b = ok(stratifiedChisq.run(claimUCB, ctx(t, { permutations: 400, seed: 3 })));
     expect(a.p_method).toBe("permutation");
-    expect(a.B).toBe(400);
+    // the confidence sequence decides p far below 0.05 at its first look of 200 draws (the cap 400 is not needed)
+    expect(a.monte_carlo!.cap).toBe(400);
+    expect(a.B).toBe(200);
+    expect(a.p).toBe((1 + a.monte_carlo!.hits) / 201);
     expect(a.p).toBe(b.p);
     expect(a.p).toBeGreaterThanOrEqual(1 / 401);
     // G² = 21.7 on 6 df: asymptotic p ≈ 0.0014 (scipy value above); the permutation p is small too
@@ -138,9 +142,9 @@ describe("stratifiedChisq sparse and degenerate data", () => {
     const o = ok(stratifiedChisq.run({ x: "x", y: "y", given: ["z"] }, ctx(t)));
     expect((o.details!.sparse_share as number)).toBeGreaterThan(0.2);
     expect(o.p_method).toBe("permutation");
-    // sequential stopping (Besag & Clifford 1991): at most 2000 draws; p = 20/B when it stopped early
-    expect(o.B).toBeLessThanOrEqual(2000);
-    if (o.B! < 2000) expect(o.p).toBeCloseTo(20 / o.B!, 12);
+    // draws judged by the confidence sequence up to the cap (replaces the stop after 20 hits): p = (1 + hits)/(1 + draws)
+    expect(o.B).toBeLessThanOrEqual(o.monte_carlo!.cap);
+    expect(o.p).toBeCloseTo((1 + o.monte_carlo!.hits) / (1 + o.B!), 12);
     expect(o.warnings!.join(" ")).toMatch(/below 5/);
     // dense data: asymptotic
     const [x2, y2, z2] = randomCats(4000, 2, [3, 3, 2]);
@@ -232,10 +236,11 @@ describe("stratifiedChisq with permutation p-values: effects agree with the test
   }
   const claimXYZ: Claim = { x: "x", y: "y", given: ["z"] };
 
-  it("regression: a sparse independent claim (p = 0.56) no longer shows a clearly non-null effect (was 0.47 [0.18, 0.66])", () => {
+  it("regression: a sparse independent claim (p ≈ 0.40) no longer shows a clearly non-null effect (was 0.47 [0.18, 0.66])", () => {
     const o = ok(stratifiedChisq.run(claimXYZ, ctx(sparseClaim(3, 3, 20, 100, 1, 0))));
     expect(o.p_method).toBe("permutation");
-    expect(o.p).toBeGreaterThan(0.5);
+    // 10⁶ draws give p = 0.3965 ± 0.0005; the 0.56 once written here came from the old stop after 20 hits (36 draws)
+    expect(o.p).toBeGreaterThan(0.25);
     // the bug: the asymptotic construction on the raw G² (lrEffect, lrEffectCI with df) excluded 0
     expect(lrEffectCI(o.statistic, o.df, o.n)[0]).toBeGreaterThan(0.15);
     const m = o.details!.g2_null_mean as number;
@@ -299,13 +304,19 @@ describe("stratifiedChisq with permutation p-values: effects agree with the test
     const floor = 0.05 / 120;
     const o = ok(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(t, { decisionFloor: floor })));
     expect(o.p_method).toBe("permutation");
-    expect(o.B).toBe(24000); // max(2000, ⌈10/floor⌉) draws, none reaching the observed G²
-    expect(o.p).toBe(1 / 24001);
+    // no draw reaches the observed G²: the first look n = 200·2^j whose Clopper–Pearson upper end
+    // 1 − (δ/2)^(1/n) is below the floor (δ = 0.001/J, J looks up to the default cap) decides it
+    const cap = o.monte_carlo!.cap;
+    const delta = 1e-3 / lookSchedule(cap).length;
+    expect(1 - (delta / 2) ** (1 / 12800)).toBeGreaterThanOrEqual(floor); // Clopper & Pearson (1934), the h = 0 case in closed form
+    expect(1 - (delta / 2) ** (1 / 25600)).toBeLessThan(floor);
+    expect(o.B).toBe(25600);
+    expect(o.p).toBe(1 / 25601);
     expect(o.p).toBeLessThan(floor);
     expect(o.ci[0]).toBeGreaterThan(0);
     expect((o.warnings ?? []).join(" ")).not.toMatch(/smallest reachable/);
-    // without a floor (one claim at 0.05) 2000 draws are enough
-    expect(ok(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(t))).B).toBe(2000);
+    // without a floor (one claim at 0.05) the first look of 200 draws is enough
+    expect(ok(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(t))).B).toBe(200);
     // the user's --permutations 2000 cannot reach the floor: the claim says so
     const forced = ok(stratifiedChisq.run({ x: "a", y: "b", given: [] }, ctx(t, { decisionFloor: floor, permutations: 2000 })));
     expect(forced.p).toBe(1 / 2001);
@@ -314,12 +325,12 @@ describe("stratifiedChisq with permutation p-values: effects agree with the test
     expect((enough.warnings ?? []).join(" ")).not.toMatch(/smallest reachable/);
   });
 
-  it("an ordinary sparse claim under a low floor still stops early (sequential rule), with p = 20/L", () => {
+  it("an ordinary sparse claim under a low floor still stops early (at the first look of the confidence sequence), with p = (1 + hits)/(1 + draws)", () => {
     const o = ok(stratifiedChisq.run(claimXYZ, ctx(sparseClaim(3, 3, 4, 60, 7, 0), { decisionFloor: 0.05 / 1000 })));
     expect(o.p_method).toBe("permutation");
     expect(o.p).toBeGreaterThan(0.05);
-    expect(o.B).toBeLessThan(2000);
-    expect(o.p).toBeCloseTo(20 / o.B!, 12);
+    expect(o.B).toBe(200);
+    expect(o.p).toBeCloseTo((1 + o.monte_carlo!.hits) / 201, 12);
   });
 });
 

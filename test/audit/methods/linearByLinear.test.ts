@@ -198,9 +198,9 @@ describe("linearByLinear.run scores, rows and permutations", () => {
     expect(a.statistic).toBe(asym.statistic);
     expect(a.details!.p_asymptotic).toBe(asym.p);
     expect(a.B).toBeLessThanOrEqual(999);
-    // the Monte-Carlo form: 20/L after a sequential stop (Besag & Clifford 1991), else (1 + hits)/1000
-    if (a.B! < 999) expect(a.p).toBeCloseTo(20 / a.B!, 12);
-    else expect(Number.isInteger(Math.round(a.p * 1000 * 1e6) / 1e6)).toBe(true);
+    // the Monte-Carlo form (1 + hits)/(1 + draws), the draws judged by the confidence sequence (replaces the stop after 20 hits)
+    expect(a.p).toBeCloseTo((1 + a.monte_carlo!.hits) / (1 + a.B!), 12);
+    expect(a.monte_carlo!.cap).toBe(999);
     expect(a.log_p).toBeCloseTo(Math.log(a.p), 12);
     expect(a.ci[0] > 0 || a.ci[1] < 0).toBe(a.p < 0.05);
     expect(a.warnings ?? []).toEqual([]);
