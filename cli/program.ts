@@ -13,6 +13,7 @@ import { runTest } from "./commands/test.js";
 import { runReport } from "./commands/report.js";
 import { runDraw } from "./commands/draw.js";
 import { runSimulate } from "./commands/simulate.js";
+import { runSuggest } from "./commands/suggest.js";
 import { readOptionsFrom } from "./loadTable.js";
 
 /** Parse a number option in [lo, hi]. */
@@ -114,6 +115,19 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
     .action(async (graph: string, opts: Record<string, unknown>) => {
       state.code = await runDraw(io, graph, opts);
     });
+
+  auditOptions(
+    program
+      .command("suggest")
+      .description("propose arrows or shared causes that explain contradicted claims, greedily, with the revised graph (data-guided: needs subject-matter justification)")
+      .argument("<graph>", "graph file")
+      .argument("<data>", "data file")
+      .option("--max-additions <k>", "most arrows or shared causes to add, one per step", numberIn("--max-additions", 1, 50, true), 3)
+      .option("--out <file>", "write the revised graph (arrowaudit's graph format, each change with a comment)")
+      .option("--json", "print the steps, candidates and revised graph as one JSON document", false),
+  ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
+    state.code = await runSuggest(io, graph, data, opts);
+  });
 
   program
     .command("simulate")

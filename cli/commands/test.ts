@@ -1,5 +1,7 @@
 import { runAuditParallel } from "../../src/audit/runAudit.js";
 import type { AuditResult, AuditSettings } from "../../src/audit/types.js";
+import type { Graph } from "../../src/graph/Graph.js";
+import type { Table } from "../../src/data/Table.js";
 import { DEFAULT_TEXT_WIDTH, renderTestText } from "../../src/report/terminal.js";
 import { readHeader } from "../../src/data/readHeader.js";
 import { checkColumns } from "../../src/graph/checkColumns.js";
@@ -33,6 +35,17 @@ export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettin
 
 /** Load the graph and the data and run the audit (shared by test, report and demo). */
 export async function audit(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<AuditResult> {
+  const { graph, table } = await loadAuditInputs(io, graphPath, dataPath, opts);
+  const bar = progressBar(io, !!opts.quiet);
+  try {
+    return await runAuditParallel(graph, table, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update, helper: claimHelper, buildMoments: (t, o) => parallelPatternMoments(t, o) });
+  } finally {
+    bar.done();
+  }
+}
+
+/** Check the paths, read the graph, check the data file's header against it and read the measured columns (shared by the commands that audit). */
+export async function loadAuditInputs(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<{ graph: Graph; table: Table }> {
   checkOneStdin({ graph: graphPath, data: dataPath });
   checkInputFile(io, { path: graphPath, role: "graph file" });
   checkInputFile(io, { path: dataPath, role: "data file" });
@@ -44,12 +57,7 @@ export async function audit(io: Io, graphPath: string, dataPath: string, opts: R
   const header = readHeader(data.head, { file: data.name, ...(delimiter ? { delimiter } : {}) });
   checkColumns(graph, header, { file: data.name });
   const table = await data.load(measured);
-  const bar = progressBar(io, !!opts.quiet);
-  try {
-    return await runAuditParallel(graph, table, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update, helper: claimHelper, buildMoments: (t, o) => parallelPatternMoments(t, o) });
-  } finally {
-    bar.done();
-  }
+  return { graph, table };
 }
 
 /** `arrowaudit test <graph> <data>`. */

@@ -41,6 +41,8 @@ export interface SimulationOptions {
   seed: number;
   /** One weight for every arrow and `<->` loading, or "random" (±U[0.1, 0.5] each). Default 0.3. */
   effects?: number | "random";
+  /** Weights of single arrows, keyed `"from -> to"`, overriding `effects` for them (library use). */
+  coefficients?: Readonly<Record<string, number>>;
   /** Variable types by node name; other nodes are continuous. */
   types?: Readonly<Record<string, VariableType>>;
   /** Probability that a measured cell is missing (completely at random), 0 to < 1. Default 0. */
@@ -91,7 +93,16 @@ export function simulateFromGraph(graph: Graph, options: SimulationOptions): Sim
   // weights: fixed, or drawn in the order of the arrows and pairs from a stream of their own
   const weights = createRng(seed, "simulate:weights");
   const weight = (): number => (effects === "random" ? (weights.nextFloat() < 0.5 ? -1 : 1) * (0.1 + 0.4 * weights.nextFloat()) : effects);
-  const arrows = graph.arrows.map(([from, to]) => ({ from, to, coefficient: weight() }));
+  const given = options.coefficients ?? {};
+  for (const key of Object.keys(given)) {
+    const [from, to] = key.split(" -> ");
+    if (!graph.arrows.some(([a, b]) => a === from && b === to)) throw new RangeError(`a coefficient is given for "${key}", which is not an arrow of the graph`);
+  }
+  const arrows = graph.arrows.map(([from, to]) => {
+    const w = weight(); // drawn for every arrow, so an override leaves the other arrows' draws alone
+    const key = `${from} -> ${to}`;
+    return { from, to, coefficient: Object.hasOwn(given, key) ? given[key]! : w };
+  });
   const shared = graph.bidirected.map(([a, b]) => ({ a, b, loading: weight() }));
   const coefficient = new Map(arrows.map((e) => [`${e.from}\u0000${e.to}`, e.coefficient]));
 

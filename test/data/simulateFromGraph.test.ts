@@ -138,6 +138,12 @@ describe("simulateFromGraph: the structural model", () => {
     for (const e of m1.arrows) expect(Math.abs(e.coefficient) >= 0.1 && Math.abs(e.coefficient) <= 0.5).toBe(true);
   });
 
+  it("single arrows can carry their own weight (library option), the others keep theirs", () => {
+    const m = simulateFromGraph(g("a -> b\nc -> b\n"), { n: 10, seed: 1, effects: 0.5, coefficients: { "c -> b": 0.2 } }).model;
+    expect(m.arrows).toEqual([{ from: "a", to: "b", coefficient: 0.5 }, { from: "c", to: "b", coefficient: 0.2 }]);
+    expect(() => simulateFromGraph(g("a -> b\n"), { n: 10, seed: 1, coefficients: { "b -> a": 0.2 } })).toThrow(/"b -> a", which is not an arrow/);
+  });
+
   it("refuses bad options with what to do", () => {
     const graph = g("a -> b\n");
     expect(() => simulateFromGraph(graph, { n: 0, seed: 1 })).toThrow(/n must be a whole number from 1/);
