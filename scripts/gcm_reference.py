@@ -260,6 +260,48 @@ def correlation_interval(r, t, nu, n, params, level=0.95):
     return [math.tanh(z - crit * se), math.tanh(z + crit * se)]
 
 
+def adf_interval(ex, ey, r, t, p_value, nu, n, params, level=0.95):
+    """The residual-correlation interval: {rho : (r - rho)^2 <= k^2 s^2(rho)}, k = scipy.stats.t.ppf,
+    s^2(rho) = s0^2 w(rho) + f/n (A(rho) - A(0) w(rho)), f = n/(n - 1 - p), s0 = |r/t|, A(rho) the
+    variance (numpy.var) of the influence values u v - rho (u^2 + v^2)/2 of the standardised residuals,
+    w = 1 on the far side of 0 from r, (1 - rho/r)^2 between 0 and r, 0 beyond r. The part of the
+    set holding r is found by a grid walk outward from r and scipy.optimize.brentq at the first
+    sign change; when p >= 1 - level the far side's part that holds 0 is joined."""
+    u = ex / math.sqrt(float(np.mean(ex * ex)))
+    v = ey / math.sqrt(float(np.mean(ey * ey)))
+    uv, w2 = u * v, (u * u + v * v) / 2
+    A = lambda rho: float(np.var(uv - rho * w2))
+    A0 = A(0.0)
+    se0 = abs(r / t)
+    k = float(stats.t.ppf(1 - (1 - level) / 2, nu))
+    f = n / (n - 1 - params)
+    sgn = -1.0 if r < 0 else 1.0
+
+    def weight(rho):
+        x, rr = sgn * rho, abs(r)
+        return 1.0 if x <= 0 else (1 - x / rr) ** 2 if x < rr else 0.0
+
+    g = lambda rho: (r - rho) ** 2 - k * k * (se0 * se0 * weight(rho) + f / n * (A(rho) - A0 * weight(rho)))
+
+    def walk(start, direction):
+        step = 2e-3
+        a = start
+        while True:
+            b = a + direction * step
+            if (direction > 0 and b >= 1) or (direction < 0 and b <= -1):
+                b = float(direction)
+                return optimize.brentq(g, a, b, xtol=1e-15, rtol=1e-15) if g(b) > 0 else b
+            if g(b) > 0:
+                return optimize.brentq(g, a, b, xtol=1e-15, rtol=1e-15)
+            a = b
+
+    hi = walk(r, sgn)
+    lo = walk(r, -sgn)
+    if p_value >= 1 - level and sgn * lo > 0:
+        lo = walk(0.0, -sgn)
+    return sorted([lo, hi])
+
+
 # ------------------------------------------------------------------------------------------
 # Tables
 
@@ -581,7 +623,7 @@ def gcm_claim(table, nrows, x, y, given, method, path, moment_level=3, filt=None
         r = float(Ex[:, 0] @ Ey[:, 0] / math.sqrt((Ex[:, 0] @ Ex[:, 0]) * (Ey[:, 0] @ Ey[:, 0])))
         out["r"] = r
         out["effect"] = r
-        out["ci"] = correlation_interval(r, st["statistic"], st["df"], n, params)
+        out["ci"] = adf_interval(Ex[:, 0], Ey[:, 0], r, st["statistic"], st["p"], st["df"], n, params)
     else:
         k = st["components"]
         w = chi2_upper_quantile_from_log(min(0.0, st["log_p"]), k)

@@ -8,7 +8,8 @@ python3 and the modules are present and fall back to the fixtures otherwise.
 Topics:
   partial    generated data; partial correlations by the residual method (numpy lstsq with
              intercept, then np.corrcoef), t, df, two-sided p (scipy.stats.t.sf), log p,
-             95% Fisher-z interval (scipy.stats.norm.ppf(0.975)); the same on mid-ranks
+             95% Fisher-z interval (scipy.stats.norm.ppf(0.975)) and the interval that inverts
+             the t test, tanh(z -+ scipy.stats.t.ppf(0.975, df) |z / t|); the same on mid-ranks
              (scipy.stats.rankdata, method="average") for the Spearman partial correlation
   tails      scipy.stats.chi2.sf and 2*scipy.stats.t.sf down to 1e-300; natural logs by mpmath
              (50 digits) also where the tail underflows
@@ -55,7 +56,10 @@ def t_test(r, n, c):
     log_p = float(math.log(2) + stats.t.logsf(abs(t), df))
     half = Z975 / math.sqrt(n - c - 3)
     z = math.atanh(r)
-    return {"t": t, "df": df, "p": p, "log_p": log_p, "ci": [math.tanh(z - half), math.tanh(z + half)]}
+    # the interval that inverts the t test: Fisher's z with the standard error |z / t| the test implies
+    half_t = float(stats.t.ppf(0.975, df)) * abs(z / t)
+    return {"t": t, "df": df, "p": p, "log_p": log_p, "ci": [math.tanh(z - half), math.tanh(z + half)],
+            "ci_test": [math.tanh(z - half_t), math.tanh(z + half_t)]}
 
 
 def make_datasets():

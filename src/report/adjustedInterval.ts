@@ -1,25 +1,27 @@
 /**
  * The interval of a claim's effect at the level its multiple-testing adjustment used, to stand
- * beside the unadjusted 95% interval in reports.
+ * beside the unadjusted interval in reports.
  *
- * Terms. A claim's *95% interval* is unadjusted: it excludes 0 (for the tests whose interval
- * inverts the test) when the unadjusted p is below 0.05. Its *verdict* uses the adjusted p-value.
+ * Terms. A claim's *interval* (`ci`) is unadjusted, at confidence 1 − α (α = `--alpha`): every
+ * test's interval inverts the test, so it excludes 0 exactly when the unadjusted p is below α.
+ * Its *verdict* uses the adjusted p-value.
  * Holm's step-down method compares the j-th smallest of k p-values with α/(k − j + 1) (Holm 1979,
  * Scand. J. Statist. 6:65–70), and Benjamini–Hochberg's step-up method with jα/k (Benjamini &
  * Hochberg 1995, JRSS B 57:289–300); in both the adjusted p-value is the unadjusted one times the
  * inverse of that fraction of α, made monotone. So the *adjustment level* of a claim is
  * a = α·p/p_adjusted (exactly the threshold above when the monotone step changes nothing), and
- * the *adjusted interval* is the claim's interval at confidence 1 − a: it excludes 0 when the
- * adjusted p-value is below α, as the 95% interval does when p is below 0.05 (the same test
- * inverted at another level).
+ * the *adjusted interval* is the claim's interval at confidence 1 − a: it excludes 0 exactly
+ * when p < a, that is when the adjusted p-value is below α (the same test inverted at another
+ * level), which is when the verdict is "contradicted" unless `--min-effect` overrules it.
  *
  * Each test's interval is rebuilt from the claim's own numbers with the construction its method
- * used (see src/audit/methods/), at the new level; at level 0.95 it reproduces the stored `ci`.
+ * used (see src/audit/methods/), at the new level; at level 1 − α it reproduces the stored `ci`.
  */
 import type { TestedClaim } from "../audit/types.js";
 import { lrEffectCIAtAlpha, lrEffectInterval, permutationLrEffect, signedRootEffectCI } from "../stats/effectScale.js";
 import { gcmCorrelationInterval } from "../stats/generalisedCovariance.js";
-import { chiSquareUpperQuantileLog, normalQuantile } from "../stats/quantiles.js";
+import { residualCorrelationInterval, type ResidualCorrelationVariance } from "../stats/residualCorrelationInterval.js";
+import { chiSquareUpperQuantileLog } from "../stats/quantiles.js";
 
 /** Levels this close to 1 give the whole effect range (no finite interval construction reaches them). */
 const LEVEL_CEILING = 1 - 1e-12;
@@ -49,19 +51,22 @@ function signed(ci: [number, number], sign: -1 | 0 | 1): [number, number] {
 }
 
 /**
- * The claim's effect interval at confidence `level`, built as its test method builds its 95%
- * interval: Fisher's z interval with the standard error the test implies for the generalised
- * covariance measure on one residual product (`gcmCorrelationInterval`, p = n − 2 − df adjustment
- * columns), the one-sided noncentral chi-square inversion of its chi-square-scale statistic for
- * several products (`lrEffectCIAtAlpha`), Fisher's z interval on n − c − 3 = df − 1 for the
- * partial correlation, the signed-root interval for the linear-by-linear test, the noncentral
- * interval that agrees with the test for likelihood-ratio statistics (`lrEffectInterval`), and the two-moment
- * permutation calibration for permutation p-values of stratified tables. Undefined when the
- * numbers it needs are missing or not finite. Cost: about 100 tail evaluations.
+ * The claim's effect interval at confidence `level`, built as its test method builds its
+ * interval: for the generalised covariance measure on one residual product the inversion of the
+ * studentised tests with the ADF variance (`residualCorrelationInterval`, from
+ * `details.interval_variance`; p = n − 2 − df adjustment columns), or, for results without it,
+ * Fisher's z interval with the standard error the test implies (`gcmCorrelationInterval`); the
+ * one-sided noncentral chi-square inversion of its chi-square-scale statistic for several
+ * products (`lrEffectCIAtAlpha`); Fisher's z interval with the standard error the t test implies
+ * for the partial correlation (c = n − 2 − df columns); the signed-root interval for the
+ * linear-by-linear test; the interval that agrees with the test for likelihood-ratio statistics
+ * (`lrEffectInterval`); and the recalibrated two-moment permutation inversion for permutation
+ * p-values of stratified tables. Each excludes 0 exactly when the claim's p < 1 − level. Undefined
+ * when the numbers it needs are missing or not finite. Cost: about 100 tail evaluations.
  *
  * @param claim a tested claim
  * @param level confidence level in (0, 1); at or above 1 − 1e-12 the whole range is returned
- * @example effectIntervalAt(claim, 0.95) // claim.ci (to rounding)
+ * @example effectIntervalAt(claim, 0.95) // claim.ci (to rounding) when --alpha is 0.05
  */
 export function effectIntervalAt(claim: TestedClaim, level: number): [number, number] | undefined {
   const c = claim;
@@ -82,15 +87,15 @@ export function effectIntervalAt(claim: TestedClaim, level: number): [number, nu
           return lrEffectCIAtAlpha(w, c.df, c.n, level);
         }
         if (top) return [-1, 1];
+        const v = c.details?.interval_variance as ResidualCorrelationVariance | undefined;
+        if (v && Number.isFinite(v.se0) && Array.isArray(v.adf) && v.adf.length === 3) {
+          return residualCorrelationInterval(c.effect, c.p, c.df, c.n, c.n - 2 - c.df, v, level);
+        }
         return gcmCorrelationInterval(c.effect, c.statistic, c.df, c.n, c.n - 2 - c.df, level);
       }
       case "pearson-partial": {
-        const ciDf = c.df - 1; // n − c − 3 with c = n − 2 − df conditioning columns
-        if (ciDf <= 0 || top) return [-1, 1];
-        const R = 1 - 2 ** -53;
-        const z = Math.atanh(Math.max(-R, Math.min(R, c.effect)));
-        const half = normalQuantile((1 + level) / 2) / Math.sqrt(ciDf);
-        return [Math.tanh(z - half), Math.tanh(z + half)];
+        if (top) return [-1, 1];
+        return gcmCorrelationInterval(c.effect, c.statistic, c.df, c.n, c.n - 2 - c.df, level);
       }
       case "linear-by-linear": {
         if (top) return [-1, 1];

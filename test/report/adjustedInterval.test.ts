@@ -52,14 +52,17 @@ beforeAll(async () => {
   runs.permutation = await demoAudit({ method: "chisq", permutations: 999 });
   runs.ordinal = ordinalAudit({});
   runs.ordinalPermutation = ordinalAudit({ permutations: 999, adjust: "none" });
-}, 120_000);
+  runs.auto01 = await demoAudit({ alpha: 0.01 });
+  runs.permutation01 = await demoAudit({ method: "chisq", permutations: 999, alpha: 0.01, adjust: "none" });
+  runs.ordinalPermutation01 = ordinalAudit({ permutations: 999, adjust: "none", alpha: 0.01 });
+}, 180_000);
 
 describe("effectIntervalAt", () => {
-  it("effectIntervalAt(claim, 0.95) rebuilds every claim's stored 95% interval, for every test and p-value method", () => {
+  it("effectIntervalAt(claim, 1 − alpha) rebuilds every claim's stored interval, for every test and p-value method, at alpha 0.05 and 0.01", () => {
     const seen = new Set<string>();
     for (const [name, r] of Object.entries(runs)) {
       for (const c of r.claims) {
-        const ci = effectIntervalAt(c, 0.95);
+        const ci = effectIntervalAt(c, 1 - r.settings.alpha);
         const where = `${name}: ${c.test} ${c.p_method} ${c.x} ⫫ ${c.y} | ${c.given.join(", ")}`;
         expect(ci, where).toBeDefined();
         expect(Math.abs(ci![0] - c.ci[0]), where).toBeLessThan(1e-9);
@@ -81,10 +84,11 @@ describe("effectIntervalAt", () => {
     expect(g[0]).toBeCloseTo(-0.2251166708114279, 10);
     expect(g[1]).toBeCloseTo(-0.10363180334416364, 10);
     const pearson = { ...base, test: "pearson-partial", effect: 0.214, statistic: 7.3, df: 1129, n: 1135 } as unknown as TestedClaim;
-    // scipy: tanh(arctanh(0.214) ± stats.norm.ppf(1 - 0.015/2)/sqrt(1135 - 4 - 3))
+    // scipy 1.17: tanh(arctanh(0.214) ± stats.t.ppf(1 - 0.015/2, 1129)·|arctanh(0.214)/7.3|), the interval that inverts the t test
+    // (it replaced the textbook 1/sqrt(n − c − 3) standard error, which does not agree with the test's p exactly)
     const q = effectIntervalAt(pearson, 1 - 0.015)!;
-    expect(q[0]).toBeCloseTo(0.14393013776145264, 8);
-    expect(q[1]).toBeCloseTo(0.28193472582683954, 8);
+    expect(q[0]).toBeCloseTo(0.14381963967080572, 10);
+    expect(q[1]).toBeCloseTo(0.2820385874323902, 10);
     const lr = { ...base, test: "regression-lr", effect: 0.1, statistic: 12, df: 2, n: 500 } as unknown as TestedClaim;
     // scipy: brentq on stats.ncx2.sf(12, 2, λ) = a (the lower end agrees with the test at a) and
     // 1 − a/2 with a = 0.005, mapped by sqrt(-expm1(-λ/500)); chi2.sf(12, 2) = 0.00248 < a, so above 0
@@ -128,20 +132,24 @@ describe("adjustedInterval", () => {
     expect(checked).toBeGreaterThanOrEqual(1);
   });
 
-  it("adjustedInterval excludes 0 exactly when the adjusted p-value is below α, for the tests whose interval inverts the test", () => {
+  it("adjustedInterval excludes 0 exactly when the adjusted p-value is below α, that is when the verdict is contradicted (--min-effect 0), for every test; the unadjusted interval exactly when p < α", () => {
     // regression: a 95% interval excluding 0 sat beside a consistent (Holm-adjusted) verdict with nothing to explain it
+    let contradicted = 0;
     for (const [name, r] of Object.entries(runs)) {
       for (const c of r.claims) {
-        const inverts = c.test === "gcm" || c.test === "linear-by-linear";
-        if (!inverts) continue;
         const adj = adjustedInterval(c, r.settings.alpha)!;
+        const where = `${name}: ${c.test} ${c.p_method} ${c.x} ⫫ ${c.y} p=${c.p} p_adj=${c.p_adjusted}`;
         const excludes = adj.ci[0] > 0 || adj.ci[1] < 0;
-        expect(excludes, `${name}: ${c.x} ⫫ ${c.y} p_adj=${c.p_adjusted}`).toBe(c.p_adjusted < r.settings.alpha);
+        expect(excludes, where).toBe(c.p_adjusted < r.settings.alpha);
+        expect(excludes, where).toBe(c.verdict === "contradicted");
+        expect(c.ci[0] > 0 || c.ci[1] < 0, where).toBe(c.p < r.settings.alpha);
+        if (excludes) contradicted++;
       }
     }
+    expect(contradicted).toBeGreaterThan(0);
   });
 
-  it("adjustedInterval is never narrower than the 95% interval and holds the point estimate", () => {
+  it("adjustedInterval is never narrower than the interval at 1 − α and holds the point estimate", () => {
     for (const r of Object.values(runs)) {
       for (const c of r.claims) {
         const adj = adjustedInterval(c, r.settings.alpha)!;

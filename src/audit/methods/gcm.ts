@@ -52,6 +52,7 @@ import { lrEffect, lrEffectCIAtAlpha } from "../../stats/effectScale.js";
 import { chiSquareUpperQuantileLog } from "../../stats/quantiles.js";
 import { fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, scaleBasisTerm, scaleBasisTermByExponent, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
 import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
+import { adfCoefficients, residualCorrelationInterval, type ResidualCorrelationVariance } from "../../stats/residualCorrelationInterval.js";
 import { gramMatrix } from "../../stats/gramMatrix.js";
 import { bestLevel, CONSTANT_TOLERANCE, NestedAdjustment } from "../../stats/nestedAdjustment.js";
 import { chiSquareUpper, logChiSquareUpper, logStudentTTwoSided, studentTTwoSided } from "../../stats/pvalues.js";
@@ -312,7 +313,7 @@ const FIT_FLOOR = 1e-6;
  * Sources: Shah & Peters (2020), Annals of Statistics 48:1514–1538 (the statistic); the variances
  * of the binomial and multinomial distributions (common practice).
  */
-function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array, squares: Float64Array): Float64Array {
+function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array, squares: Float64Array, adf?: AdfSums): Float64Array {
   const q = qx + qy;
   const qq = qx * qy;
   const p = columns.length;
@@ -350,6 +351,15 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
     let acc = 0;
     let sq0 = 0;
     let sq1 = 0;
+    // sums of the scaled residuals u = e0·g0, v = e1·g1 for the ADF variance of their correlation
+    const g0 = adf?.scale[0] ?? 0;
+    const g1 = adf?.scale[1] ?? 0;
+    let uv = 0;
+    let uuvv = 0;
+    let uuuv = 0;
+    let uvvv = 0;
+    let uuuu = 0;
+    let vvvv = 0;
     for (let t = 0; t < m; t++) {
       const i = index ? index[t]! : t;
       const d0 = data[o0 + i]!;
@@ -363,6 +373,19 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
       }
       sq0 += e0 * e0;
       sq1 += e1 * e1;
+      if (adf) {
+        const u = e0 * g0;
+        const v = e1 * g1;
+        const uu = u * u;
+        const vv = v * v;
+        const w = u * v;
+        uv += w;
+        uuvv += uu * vv;
+        uuuv += uu * w;
+        uvvv += w * vv;
+        uuuu += uu * uu;
+        vvvv += vv * vv;
+      }
       const v0 = two0 ? twoPointVariance(d0 + s0 - e0, a0, b0) : e0 * e0;
       const v1 = two1 ? twoPointVariance(d1 + s1 - e1, a1, b1) : e1 * e1;
       acc += v0 * v1;
@@ -370,6 +393,7 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
     scatter[0] = acc - m * meanR[0]! * meanR[0]!;
     squares[0] = sq0;
     squares[1] = sq1;
+    if (adf) adf.sums = { uu: sq0 * g0 * g0, vv: sq1 * g1 * g1, uv, uuvv, uuuv, uvvv, uuuu, vvvv };
     return scatter;
   }
   const e = new Float64Array(q);
@@ -398,6 +422,16 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
   }
   for (let a = 0; a < qq; a++) for (let b = 0; b < qq; b++) scatter[a * qq + b] = scatter[a * qq + b]! - m * meanR[a]! * meanR[b]!;
   return scatter;
+}
+
+/**
+ * Sums over the variance rows of the residuals scaled by `scale` (u = e_x·scale[0], v =
+ * e_y·scale[1], chosen near 1/σ so that fourth powers stay in range), for the ADF variance of the
+ * residual correlation (`adfCoefficients`); filled by {@link residualProductScatter} for one product.
+ */
+interface AdfSums {
+  scale: [number, number];
+  sums?: { uu: number; vv: number; uv: number; uuvv: number; uuuv: number; uvvv: number; uuuu: number; vvvv: number };
 }
 
 /** (b − a)²·π(1 − π) for the fitted value μ of a variable with values a < b, π = (μ − a)/(b − a) clipped. */
@@ -447,6 +481,7 @@ function outcomeOf(
   f: Fitted,
   values: VarianceRows,
   pathDetails: Record<string, unknown>,
+  alpha: number,
 ): MethodResult | typeof UNREPRESENTATIVE_SAMPLE {
   const { fit, n, qx, qy, level } = f;
   const q = qx + qy;
@@ -461,7 +496,10 @@ function outcomeOf(
   const m = values.rows;
   const meanR = sumR.map((v) => v / n);
   const squares = new Float64Array(q);
-  const sigma = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, meanR, squares);
+  // one product: also the sums behind the ADF variance of the residual correlation, on residuals
+  // scaled by their standard deviations over all n rows
+  const adf: AdfSums | undefined = qq === 1 ? { scale: [1 / Math.sqrt(snap.residual[0]!), 1 / Math.sqrt(snap.residual[q * q - 1]!)] } : undefined;
+  const sigma = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, meanR, squares, adf);
   if (values.sampled) {
     for (let r = 0; r < q; r++) {
       const full = (snap.residual[r * q + r]! * (n - 1)) / n;
@@ -483,18 +521,25 @@ function outcomeOf(
   let effect: number;
   let ci: [number, number];
   let r: number | undefined;
+  let interval: ResidualCorrelationVariance | undefined;
   if (qq === 1 && test.components === 1) {
     const vx = snap.residual[0]!;
     const vy = snap.residual[q * q - 1]!;
     r = Math.max(-1, Math.min(1, snap.residual[1]! / Math.sqrt(vx * vy)));
     effect = r;
-    ci = gcmCorrelationInterval(r, test.statistic, test.df, n, kept);
+    // the null standard error of r that the test used: r/T, or from its parts when r is 0
+    const se0 = r !== 0 && test.statistic !== 0 ? Math.abs(r / test.statistic) : Math.sqrt(sigma[0]! / (n - 1 - kept)) * (n / (n - 1)) / Math.sqrt(vx * vy);
+    const coef = adf?.sums ? adfCoefficients(m, adf.sums) : undefined;
+    if (coef && Number.isFinite(se0)) {
+      interval = { se0, adf: coef };
+      ci = residualCorrelationInterval(r, test.p, test.df, n, kept, interval, 1 - alpha);
+    } else ci = gcmCorrelationInterval(r, test.statistic, test.df, n, kept, 1 - alpha);
   } else {
     // on the chi-square scale of the test's own p-value (its F reference), so that the interval's
-    // lower end is above 0 exactly when p < 0.05
+    // lower end is above 0 exactly when p < alpha
     const w = chiSquareUpperQuantileLog(Math.min(0, test.log_p), test.df);
     effect = lrEffect(w, test.df, n);
-    ci = lrEffectCIAtAlpha(w, test.df, n, 0.95);
+    ci = lrEffectCIAtAlpha(w, test.df, n, 1 - alpha);
   }
 
   // Linear check: the level-0 fit with equal variances assumed.
@@ -508,6 +553,7 @@ function outcomeOf(
   }));
   const details: Record<string, unknown> = {
     ...(r !== undefined ? { r } : {}),
+    ...(interval ? { interval_variance: interval } : {}),
     adjustment: entered,
     flexibility: { level, max_level: layout.cap, level_x: f.bestX, level_y: f.bestY, parameters: kept },
     sides: [claim.x, claim.y].map((v, s) => ({ variable: v, model: sideModel(layout.sides[s]![0]!.column, name) })),
@@ -893,7 +939,7 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
     },
   };
   // all the claim's rows, not a sample: outcomeOf does not check them
-  return outcomeOf(name, claim, layout, f, values, { path: "rows" }) as MethodResult;
+  return outcomeOf(name, claim, layout, f, values, { path: "rows" }, ctx.alpha ?? 0.05) as MethodResult;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -1108,7 +1154,7 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
     },
   };
   // the moments' rows are tested on the rows when the sample does not represent them
-  const out = outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: m2 < n });
+  const out = outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: m2 < n }, ctx.alpha ?? 0.05);
   return out === UNREPRESENTATIVE_SAMPLE ? { useRows: true, maxLevel: layout.cap } : out;
 }
 

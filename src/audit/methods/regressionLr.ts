@@ -65,9 +65,9 @@
  *   `warnings` entry and the test goes on at the last iterate. The p-value is always asymptotic
  *   (permutations are not used by this method; see `stratified-chisq` for the permutation test).
  * - Effect: sign·√(1 − exp(−LR/n)) for 1-df tests, signed by the added coefficient; for more df,
- *   √(1 − exp(−max(0, LR − df)/n)) (`lrEffect`); the 95% interval agrees with the test at 5%
- *   (`lrEffectInterval`: the signed root ± 1.96 for 1 df, noncentral chi-square inversion with a
- *   one-sided lower end for more, Steiger 1990).
+ *   √(1 − exp(−max(0, LR − df)/n)) (`lrEffect`); the interval at confidence 1 − alpha (`--alpha`)
+ *   agrees with the test at alpha (`lrEffectInterval`: the signed root ± z_{1−α/2} for 1 df,
+ *   noncentral chi-square inversion with a one-sided lower end at alpha for more, Steiger 1990).
  */
 import type { Column, Table } from "../../data/Table.js";
 import { CATEGORICAL_TYPES } from "../../data/Table.js";
@@ -800,7 +800,7 @@ export function runRegressionLr(claim: Claim, ctx: TestContext): MethodResult {
   let sign: -1 | 0 | 1 = 1;
   if (df === 1 && addedCoef !== undefined && Number.isFinite(addedCoef)) sign = addedCoef > 0 ? 1 : addedCoef < 0 ? -1 : 0;
   if (addedCoef !== undefined && df === 1) details.added_coefficient = addedCoef;
-  const outcome = lrOutcome(lr, df, n, sign, details, warnings);
+  const outcome = lrOutcome(lr, df, n, sign, details, warnings, ctx.alpha ?? 0.05);
   return { ok: true, outcome };
 }
 
@@ -855,16 +855,16 @@ function linearFromMoments(claim: Claim, resp: Column, added: Column, ctx: TestC
       { variable: added.name, model: added.type === "nominal" ? "indicators of its levels, added to the model" : "its scores, added to the model" },
     ],
   };
-  return { ok: true, outcome: lrOutcome(fit.lr, fit.df, n, fit.sign, details, warnings) };
+  return { ok: true, outcome: lrOutcome(fit.lr, fit.df, n, fit.sign, details, warnings, ctx.alpha ?? 0.05) };
 }
 
-/** The common tail of every regression LR: p-value, log p, effect and its interval. */
-function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, details: Record<string, unknown>, warnings: string[]): TestOutcome {
+/** The common tail of every regression LR: p-value, log p, effect and its interval at confidence 1 − alpha. */
+function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, details: Record<string, unknown>, warnings: string[], alpha: number): TestOutcome {
   const lr = lrIn < 0 ? 0 : lrIn; // rounding: the full model's likelihood cannot be lower
   const pAsym = chiSquareUpper(lr, df);
   const logP = logChiSquareUpper(lr, df);
   const effect = lrEffect(lr, df, n, sign);
-  const ci = lrEffectInterval(lr, df, n, sign, 0.95);
+  const ci = lrEffectInterval(lr, df, n, sign, 1 - alpha);
   return {
     test: "regression-lr",
     n,

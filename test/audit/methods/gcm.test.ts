@@ -4,7 +4,8 @@
  * small.csv) and every reference outcome (test/fixtures/gcm/claims.json) — least squares by
  * numpy.linalg.lstsq on the row matrix, knots by numpy.quantile, mid-ranks by
  * scipy.stats.rankdata, tails by scipy.stats (mpmath below 1e-300), intervals by
- * scipy.stats.t.ppf and scipy.optimize.brentq on scipy.stats.ncx2.sf.
+ * scipy.stats.t.ppf, numpy.var of the correlation's influence values and scipy.optimize.brentq
+ * (one residual product), and scipy.optimize.brentq on scipy.stats.ncx2.sf (several).
  *
  * Precision. The project fits the nested adjustment from covariances (a Cholesky factor of the
  * columns' covariance, the normal equations), whose error grows like u·κ² for the column-scaled
@@ -171,7 +172,9 @@ function expectMatches(o: TestOutcome, c: ClaimRef): void {
     expect(d.f, where).toBeUndefined();
     close(d.r!, c.r!, "r", 4 * tol);
     close(o.effect, c.effect, "effect", 4 * tol);
-    // ends tanh(z(1 ± c/|t|)), z = atanh r: the relative errors of r and t carried through, c = t_{ν,0.975} < 2.1 for ν ≥ 30
+    // the ends solve (r − ρ)² = k² s²(ρ) with s(0) = |r/t| and the ADF variance beyond (src/stats/residualCorrelationInterval.ts):
+    // they move with r and |r/t| at rates of order 1 and k = t_{ν,0.975} < 2.1 for ν ≥ 30, the bound of Fisher's z form tanh(z(1 ± k/|t|)), z = atanh r
+    // (the reference: scripts/gcm_reference.py adf_interval, a grid walk and scipy.optimize.brentq on numpy.var of the influence values)
     const z = Math.atanh(c.r!);
     const ciTol = 4 * tol * Math.abs(z) * (1 / (1 - c.r! * c.r!) + 2.1 / Math.abs(c.statistic)) + 1e-15;
     expect(Math.abs(o.ci[0] - c.ci[0]), `${where}: ci lower ${o.ci[0]} vs ${c.ci[0]}`).toBeLessThanOrEqual(ciTol);

@@ -7,7 +7,7 @@ import { leastSquaresQR } from "../../../src/stats/linalg.js";
 import { arrayMoments, covarianceOf, type ArrayVariable } from "../../fixtures/stats/arrayMoments.js";
 import { loadReference, relErr } from "../../fixtures/stats/loadReference.js";
 
-interface Stat { r: number; t: number; df: number; p: number; log_p: number; ci: [number, number] }
+interface Stat { r: number; t: number; df: number; p: number; log_p: number; ci: [number, number]; ci_test: [number, number] }
 interface PartialRef { sets: { name: string; columns: string[]; n: number; data: number[][]; cases: { i: number; j: number; given: number[]; pearson: Stat; spearman: Stat }[] }[] }
 const ref = loadReference<PartialRef>("partial");
 
@@ -26,7 +26,7 @@ function outcomeOf(res: ReturnType<typeof pearsonPartial.run>): TestOutcome {
 
 describe(`pearsonPartial against numpy/scipy (reference: ${ref.origin})`, () => {
   // numpy residual method + scipy.stats.t / rankdata, scripts/stats_reference.py
-  it("pearsonPartial.run matches the reference r, t, df, p, log p and CI to 1e-9", () => {
+  it("pearsonPartial.run matches the reference r, t, df, p, log p and the interval that inverts the t test to 1e-9", () => {
     for (const set of ref.data.sets) {
       const vars = set.columns.map((name, q) => ({ name, values: set.data[q]! }));
       const ctx = ctxOf(vars);
@@ -45,8 +45,10 @@ describe(`pearsonPartial against numpy/scipy (reference: ${ref.origin})`, () => 
           expect(relErr(o.statistic, want.t), where).toBeLessThanOrEqual(1e-9);
           expect(relErr(o.p, want.p), where).toBeLessThanOrEqual(1e-9);
           expect(relErr(o.log_p, want.log_p), where).toBeLessThanOrEqual(1e-9);
-          expect(relErr(o.ci[0], want.ci[0]), where).toBeLessThanOrEqual(1e-9);
-          expect(relErr(o.ci[1], want.ci[1]), where).toBeLessThanOrEqual(1e-9);
+          // the interval that inverts the t test (scipy.stats.t.ppf(0.975, df)·|z / t| on Fisher's z), so it excludes 0 exactly when p < 0.05
+          expect(relErr(o.ci[0], want.ci_test[0]), where).toBeLessThanOrEqual(1e-9);
+          expect(relErr(o.ci[1], want.ci_test[1]), where).toBeLessThanOrEqual(1e-9);
+          expect(o.ci[0] > 0 || o.ci[1] < 0, where).toBe(o.p < 0.05);
         }
       }
     }
