@@ -14,6 +14,13 @@
  * of a used stratum whose expected count is below 5, a *tiny cell* one whose expected count is
  * below 1: Cochran's rule for the χ² approximation asks for no tiny cell and at most 20% sparse
  * cells (Cochran 1954, Biometrics 10:417–451; Agresti 2013, §3.2.4 — from memory).
+ * *Williams' factor* of a used stratum with row totals R_i, column totals C_j and total n_s is
+ *   q_s = 1 + (n_s Σ_i 1/R_i − 1)(n_s Σ_j 1/C_j − 1) / (6 n_s df_s),
+ * the factor by which the mean of G²_s exceeds df_s to order 1/n_s (Williams 1976, Biometrika
+ * 63:33–37 — from memory); the table's *Williams excess* is the df-weighted mean of q_s − 1,
+ * Σ_s df_s (q_s − 1) / Σ_s df_s: the relative amount by which the mean of the stratified G²
+ * exceeds its df. It grows with Σ 1/E over the cells, so it weighs every small expected count
+ * by its share of the df, which a count of cells does not.
  */
 
 /** One stratum's table: `rows` × `cols` counts, row-major; empty rows and columns are allowed. */
@@ -43,12 +50,14 @@ export interface StratifiedChiSquareResult {
   tinyCells: number;
   /** Smallest expected count of a cell of a used stratum; Infinity when no stratum is used. */
   minExpected: number;
+  /** Σ_s df_s (q_s − 1) / df with Williams' factors q_s: the relative excess of the mean of G² over df (0 when df = 0). */
+  williamsExcess: number;
 }
 
 /**
  * Stratified Pearson X² and likelihood-ratio G² with df summed over the strata that have at
  * least two levels of each variable, with the cell counts of Cochran's rule (expected counts
- * below 5 and below 1, and the smallest). Cost: O(Σ r_s·c_s).
+ * below 5 and below 1, and the smallest) and the Williams excess. Cost: O(Σ r_s·c_s).
  * Source: Agresti (2013), Categorical Data Analysis, 3rd ed., Wiley, §3.2 (X², G²) and §6.4.
  * @throws RangeError when a count is negative or not finite, or a table's size does not match
  * @example
@@ -64,6 +73,7 @@ export function stratifiedChiSquare(strata: readonly ContingencyStratum[]): Stra
   let sparseCells = 0;
   let tinyCells = 0;
   let minExpected = Infinity;
+  let williams = 0; // Σ_s df_s (q_s − 1)
   for (let s = 0; s < strata.length; s++) {
     const { rows: r, cols: c, counts } = strata[s]!;
     if (counts.length !== r * c) throw new RangeError(`stratum ${s}: ${counts.length} counts for a ${r}×${c} table; pass rows·cols counts`);
@@ -87,6 +97,11 @@ export function stratifiedChiSquare(strata: readonly ContingencyStratum[]): Stra
     if (rs < 2 || cs < 2) continue;
     strataUsed++;
     df += (rs - 1) * (cs - 1);
+    let invRows = 0;
+    let invCols = 0;
+    for (let i = 0; i < r; i++) if (rowT[i]! > 0) invRows += tot / rowT[i]!;
+    for (let j = 0; j < c; j++) if (colT[j]! > 0) invCols += tot / colT[j]!;
+    williams += ((invRows - 1) * (invCols - 1)) / (6 * tot);
     for (let i = 0; i < r; i++) {
       if (rowT[i] === 0) continue;
       for (let j = 0; j < c; j++) {
@@ -104,30 +119,42 @@ export function stratifiedChiSquare(strata: readonly ContingencyStratum[]): Stra
   }
   // G² is a sum of terms of both signs that is ≥ 0 in exact arithmetic.
   if (g2 < 0) g2 = 0;
-  return { x2, g2, df, strataUsed, strataTotal: strata.length, n, cells, sparseCells, tinyCells, minExpected };
+  return { x2, g2, df, strataUsed, strataTotal: strata.length, n, cells, sparseCells, tinyCells, minExpected, williamsExcess: df > 0 ? williams / df : 0 };
 }
 
 /** Cochran's rule: at most this share of the cells of the used strata may have an expected count below 5. */
 export const COCHRAN_SPARSE_SHARE = 0.2;
 /** Cochran's rule: no cell of a used stratum may have an expected count below this. */
 export const COCHRAN_MIN_EXPECTED = 1;
+/**
+ * Largest Williams excess (relative excess of the mean of G² over its df) at which the χ²
+ * reference of G² is trusted. Chosen by simulation (test/audit/methods/calibration.test.ts):
+ * tables that pass Cochran's rule with an excess of 0.03 or more (a rare binary x against a
+ * 3-level y with expected counts of 1–3, nominal 3 × 3 tables in strata of 100 rows) rejected
+ * 6.5–7.5% of true claims at 0.05 with G² on χ², while ordinary tables with excess ≤ 0.02 kept 5%.
+ */
+export const MAX_WILLIAMS_EXCESS = 0.02;
 
-/** The part of Cochran's rule a table breaks: a cell expected below 1, or more than 20% of the cells expected below 5. */
-export type CochranFailure = "expected-below-1" | "over-20%-below-5";
+/** Why G² of a stratified table is not referred to χ²: a cell expected below 1, more than 20% of the cells expected below 5 (the two parts of Cochran's rule), or a Williams excess above 0.02. */
+export type SparseTableReason = "expected-below-1" | "over-20%-below-5" | "williams-excess";
 
 /**
- * The parts of Cochran's rule for the χ² approximation that a stratified table breaks, in the
- * order: some expected count below 1; more than 20% of the expected counts below 5. Empty when
- * the rule holds (and when no stratum is used). Cost: O(1).
- * Source: Cochran (1954), Some methods for strengthening the common χ² tests, Biometrics
- * 10:417–451 (the rule as restated by Agresti 2013, §3.2.4 — from memory).
- * @example cochranRuleFailures(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [10, 20, 30, 40] }])) // []
- * @example cochranRuleFailures(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [1, 0, 20, 30] }])) // ["expected-below-1", "over-20%-below-5"]
+ * The reasons not to refer the stratified G² to χ²(df), in the order: some expected count below
+ * 1; more than 20% of the expected counts below 5 (the two parts of Cochran's rule for the χ²
+ * approximation); the mean of G² exceeds its df by more than 2% by Williams' factor (G² is
+ * further from χ² than Pearson's X² in sparse tables, which Cochran's rule was made for). Empty
+ * when G² may be referred to χ² (and when no stratum is used). Cost: O(1).
+ * Sources: Cochran (1954), Some methods for strengthening the common χ² tests, Biometrics
+ * 10:417–451 (the rule as restated by Agresti 2013, §3.2.4 — from memory); Williams (1976),
+ * Improved likelihood ratio tests for complete contingency tables, Biometrika 63:33–37.
+ * @example sparseTableReasons(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [100, 200, 300, 400] }])) // []
+ * @example sparseTableReasons(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [1, 0, 20, 30] }])) // ["expected-below-1", "over-20%-below-5", "williams-excess"]
  */
-export function cochranRuleFailures(res: Pick<StratifiedChiSquareResult, "cells" | "sparseCells" | "tinyCells">): CochranFailure[] {
-  const out: CochranFailure[] = [];
+export function sparseTableReasons(res: Pick<StratifiedChiSquareResult, "cells" | "sparseCells" | "tinyCells" | "williamsExcess">): SparseTableReason[] {
+  const out: SparseTableReason[] = [];
   if (res.cells === 0) return out;
   if (res.tinyCells > 0) out.push("expected-below-1");
   if (res.sparseCells / res.cells > COCHRAN_SPARSE_SHARE) out.push("over-20%-below-5");
+  if (res.williamsExcess > MAX_WILLIAMS_EXCESS) out.push("williams-excess");
   return out;
 }

@@ -2,7 +2,7 @@ import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { cochranRuleFailures, stratifiedChiSquare } from "../../src/stats/stratifiedChiSquare.js";
+import { sparseTableReasons, stratifiedChiSquare } from "../../src/stats/stratifiedChiSquare.js";
 
 interface Dept { dept: string; men_admitted: number; men_rejected: number; women_admitted: number; women_rejected: number }
 interface ScipyRef { departments: { dept: string; x2: number; g2: number }[]; x2_sum: number; g2_sum: number }
@@ -108,6 +108,23 @@ describe("stratifiedChiSquare", () => {
     expect(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [10, 20, 30, 40] }]).x2).toBeCloseTo(4 / 12 + 4 / 18 + 4 / 28 + 4 / 42, 12);
   });
 
+  it("stratifiedChiSquare gives the Williams excess Σ_s df_s(q_s − 1)/df from Williams' formula", () => {
+    // Williams (1976), Biometrika 63:33–37 (formula from memory): q = 1 + (n Σ 1/R_i − 1)(n Σ 1/C_j − 1)/(6 n (r − 1)(c − 1))
+    // [[22, 22, 22, 22, 2] × 2]: n = 180, n Σ 1/R = 4, n Σ 1/C = 180·(4/44 + 1/4) = 61.36…, df = 4
+    const one = stratifiedChiSquare([{ rows: 2, cols: 5, counts: [22, 22, 22, 22, 2, 22, 22, 22, 22, 2] }]);
+    const b = 180 * (4 / 44 + 1 / 4);
+    expect(one.williamsExcess).toBeCloseTo((3 * (b - 1)) / (6 * 180 * 4), 14);
+    expect(one.williamsExcess).toBeCloseTo(0.041919, 6);
+    // two strata: the df-weighted mean of q_s − 1; a degenerate stratum adds nothing
+    const two = stratifiedChiSquare([
+      { rows: 2, cols: 5, counts: [22, 22, 22, 22, 2, 22, 22, 22, 22, 2] },
+      { rows: 2, cols: 2, counts: [30, 20, 10, 40] },
+      { rows: 2, cols: 2, counts: [3, 4, 0, 0] },
+    ]);
+    const second = ((100 * (1 / 50 + 1 / 50) - 1) * (100 * (1 / 40 + 1 / 60) - 1)) / (6 * 100); // df_s (q_s − 1) of [[30, 20], [10, 40]]
+    expect(two.williamsExcess).toBeCloseTo((4 * one.williamsExcess + second) / 5, 14);
+  });
+
   it("stratifiedChiSquare counts the cells of Cochran's rule (expected below 5, below 1, the smallest) over used strata only", () => {
     // Expected counts E_ij = R_i·C_j/n_s, by hand (definition; scipy.stats.contingency.expected_freq gives the same):
     // stratum 1 [[1, 9], [29, 61]]: E = 3, 7, 27, 63 — one below 5, none below 1
@@ -123,16 +140,17 @@ describe("stratifiedChiSquare", () => {
     expect(r.tinyCells).toBe(2);
     expect(r.minExpected).toBeCloseTo(0.84, 12);
     // Cochran (1954): no expected count below 1 and at most 20% below 5 — both parts broken here (40% below 5)
-    expect(cochranRuleFailures(r)).toEqual(["expected-below-1", "over-20%-below-5"]);
-    expect(cochranRuleFailures(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [1, 9, 29, 61] }]))).toEqual(["over-20%-below-5"]); // 1 of 4 = 25%
-    expect(cochranRuleFailures(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [10, 20, 30, 40] }]))).toEqual([]);
-    // exactly 20% below 5 passes ("more than 20%" fails): rows 100/100, columns 44, 44, 44, 44, 4 → E = 2 in 2 of 10 cells
+    expect(sparseTableReasons(r).slice(0, 2)).toEqual(["expected-below-1", "over-20%-below-5"]);
+    expect(sparseTableReasons(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [1, 9, 29, 61] }]))).toContain("over-20%-below-5"); // 1 of 4 = 25%
+    expect(sparseTableReasons(stratifiedChiSquare([{ rows: 2, cols: 2, counts: [100, 200, 300, 400] }]))).toEqual([]);
+    // exactly 20% below 5 passes that part ("more than 20%" fails): rows 90/90, columns 44, 44, 44, 44, 4 → E = 2 in 2 of 10 cells
     const edge = stratifiedChiSquare([{ rows: 2, cols: 5, counts: [22, 22, 22, 22, 2, 22, 22, 22, 22, 2] }]);
-    expect(edge.minExpected).toBe(2);
     expect(edge.sparseCells / edge.cells).toBe(0.2);
-    expect(cochranRuleFailures(edge)).toEqual([]);
+    expect(edge.minExpected).toBe(2);
+    expect(sparseTableReasons(edge)).toEqual(["williams-excess"]); // the two cells of E = 2 still put the mean of G² 4.2% above its df (below)
     // the empty list breaks nothing, and its smallest expected count is Infinity
     expect(stratifiedChiSquare([]).minExpected).toBe(Infinity);
-    expect(cochranRuleFailures(stratifiedChiSquare([]))).toEqual([]);
+    expect(stratifiedChiSquare([]).williamsExcess).toBe(0);
+    expect(sparseTableReasons(stratifiedChiSquare([]))).toEqual([]);
   });
 });

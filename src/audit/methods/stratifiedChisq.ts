@@ -14,7 +14,10 @@
  *
  * *Sparse rule*: when a table breaks Cochran's rule — some cell of the used strata has an
  * expected count below 1, or more than 20% of them have one below 5 (Cochran 1954, Biometrics
- * 10:417–451 — common practice; `cochranRuleFailures`) — or when the user asks for
+ * 10:417–451 — common practice) — or when Williams' factor says that the mean of G² exceeds its
+ * df by more than 2% (Williams 1976, Biometrika 63:33–37; `sparseTableReasons`: G² on χ² was
+ * liberal, 6.5–7.5% at 0.05, in tables that pass Cochran's rule with expected counts of 1–3,
+ * such as a rare binary x at n = 5,000), or when the user asks for
  * permutations, the p-value is a Monte-Carlo permutation p-value: x is permuted within each
  * stratum (the stratum's x and y margins stay fixed) and p = (1 + #{G²* ≥ G²})/(1 + draws). The
  * draws are judged at 200, 400, 800, … up to the cap B by a confidence sequence for the permutation
@@ -55,7 +58,7 @@ import { monteCarloSummary, planOf, runMonteCarloTest, type MonteCarloPlan, type
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import {
-  COCHRAN_SPARSE_SHARE, cochranRuleFailures, stratifiedChiSquare, type CochranFailure, type StratifiedChiSquareResult,
+  COCHRAN_SPARSE_SHARE, MAX_WILLIAMS_EXCESS, sparseTableReasons, stratifiedChiSquare, type SparseTableReason, type StratifiedChiSquareResult,
 } from "../../stats/stratifiedChiSquare.js";
 import type { ClaimTypes, MethodResult, TestContext, TestMethod } from "../TestMethod.js";
 import type { Claim, TestOutcome } from "../types.js";
@@ -65,13 +68,15 @@ import { groupStrata, neverBothVary, unusedStrataWarning, type CompactStratum } 
 /** Share of sparse cells (expected count < 5) above which the permutation p-value is used (also used whenever an expected count is below 1). */
 export const SPARSE_SHARE = COCHRAN_SPARSE_SHARE;
 
-/** The warning of a claim whose p-value is permuted because its table breaks Cochran's rule, naming the part(s) broken. */
-function sparseRuleWarning(res: StratifiedChiSquareResult, failures: readonly CochranFailure[], B: number): string {
-  const parts = failures.map((f) =>
+/** The warning of a claim whose p-value is permuted because its table is sparse, naming the rule(s) that said so. */
+function sparseRuleWarning(res: StratifiedChiSquareResult, reasons: readonly SparseTableReason[], B: number): string {
+  const parts = reasons.map((f) =>
     f === "expected-below-1"
-      ? `${res.tinyCells} of ${res.cells} expected counts are below 1 (smallest ${res.minExpected.toPrecision(2)})`
-      : `${(100 * res.sparseCells / res.cells).toFixed(0)}% of expected counts are below 5`);
-  return `${parts.join(" and ")} (Cochran's rule); p-value from ${B} permutations within strata`;
+      ? `${res.tinyCells} of ${res.cells} expected counts are below 1 (smallest ${res.minExpected.toPrecision(2)}; Cochran's rule)`
+      : f === "over-20%-below-5"
+        ? `${(100 * res.sparseCells / res.cells).toFixed(0)}% of expected counts are below 5 (Cochran's rule)`
+        : `small expected counts put the mean of G² ${(100 * res.williamsExcess).toFixed(1)}% above its df (Williams' factor; more than ${100 * MAX_WILLIAMS_EXCESS}% makes χ² liberal)`);
+  return `${parts.join("; ")}: p-value from ${B} permutations within strata`;
 }
 /** Fewest permuted G² behind the null mean and variance that calibrate the effect (draws continue past the test's own when it stops earlier). */
 export const NULL_DRAWS = 200;
@@ -152,7 +157,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   const unused = unusedStrataWarning(claim, res.strataUsed, res.strataTotal);
   if (unused) warnings.push(unused);
   const sparseShare = res.cells > 0 ? res.sparseCells / res.cells : 0;
-  const sparseRule = cochranRuleFailures(res);
+  const sparseRule = sparseTableReasons(res);
   const sparse = sparseRule.length > 0;
   const permute = sparse || ctx.permutations !== undefined;
   const pAsymptotic = chiSquareUpper(res.g2, res.df);
@@ -189,6 +194,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     sparse_share: sparseShare,
     tiny_cells: res.tinyCells,
     ...(Number.isFinite(res.minExpected) ? { min_expected: res.minExpected } : {}),
+    williams_excess: res.williamsExcess,
     sparse_rule: sparseRule,
     adjustment: strataAdjustment(claim.given),
     sides: [claim.x, claim.y].map((variable) => ({ variable, model: "categories within each stratum" })),
@@ -211,14 +217,14 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   let ci: [number, number];
   if (nullMoments !== undefined) {
     // Permutation p-value: effect and interval calibrated on the permutation null of G²
-    const cal = permutationLrEffect(res.g2, res.df, n, nullMoments, p, sign, 0.95);
+    const cal = permutationLrEffect(res.g2, res.df, n, nullMoments, p, sign, 1 - (ctx.alpha ?? 0.05));
     effect = cal.effect;
     ci = cal.ci;
     details.g2_null_mean = nullMoments.mean;
     details.g2_null_variance = nullMoments.variance;
   } else {
     effect = lrEffect(res.g2, res.df, n, sign);
-    ci = lrEffectInterval(res.g2, res.df, n, sign, 0.95);
+    ci = lrEffectInterval(res.g2, res.df, n, sign, 1 - (ctx.alpha ?? 0.05));
   }
   const outcome: TestOutcome = {
     test: "stratified-chisq",
