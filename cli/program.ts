@@ -14,6 +14,7 @@ import { runReport } from "./commands/report.js";
 import { runDraw } from "./commands/draw.js";
 import { runSimulate } from "./commands/simulate.js";
 import { runSuggest } from "./commands/suggest.js";
+import { runPower } from "./commands/power.js";
 import { readOptionsFrom } from "./loadTable.js";
 
 /** Parse a number option in [lo, hi]. */
@@ -40,6 +41,7 @@ export const auditOptions = (c: Command): Command =>
     .addOption(new Option("--adjust <method>", "multiple-testing adjustment").choices(["holm", "bh", "none"]).default("holm"))
     .addOption(new Option("--method <method>", "test per claim: auto picks by variable types").choices(["auto", "linear", "rank", "chisq", "regression"]).default("auto"))
     .option("--min-effect <e>", "relevance floor: |effect| below it is never contradicted", numberIn("--min-effect", 0, 1), 0)
+    .option("--power <p>", "power at which each claim's detectable effect is given", numberIn("--power", 0.05, 0.999), 0.8)
     .addOption(new Option("--rank-by <key>", "rank contradicted claims by adjusted p or by |effect|").choices(["p", "effect"]).default("p"))
     .option("--missing <codes>", 'extra missing-value codes, comma-separated: a bare code for every column, name=code for one column (e.g. "-9,999,fage=0"); quote a name or code that holds , or = ("...")')
     .option("--ignore <names>", "comma-separated columns to leave out (never a measured node of the graph)")
@@ -127,6 +129,24 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .option("--json", "print the steps, candidates and revised graph as one JSON document", false),
   ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
     state.code = await runSuggest(io, graph, data, opts);
+  });
+
+  graphOptions(
+    program
+      .command("power")
+      .description("before the data: the smallest effect each claim could detect at a planned n, and the n that would detect a target effect")
+      .argument("<graph>", "graph file")
+      .requiredOption("--n <rows>", "planned number of rows", numberIn("--n", 1, 1e9, true))
+      .option("--alpha <a>", "significance level", numberIn("--alpha", 1e-12, 0.5), 0.05)
+      .addOption(new Option("--adjust <method>", "multiple-testing adjustment").choices(["holm", "bh", "none"]).default("holm"))
+      .option("--power <p>", "power", numberIn("--power", 0.05, 0.999), 0.8)
+      .option("--types <list>", 'variable types, e.g. "smoker=binary,education=ordinal" (others continuous)')
+      .option("--levels <list>", 'levels of categorical variables, e.g. "education=low|mid|high" (default: binary 2, ordinal 4, nominal 3)')
+      .option("--target-effect <e>", "add n_needed: the n at which each claim detects this |effect|", numberIn("--target-effect", 1e-6, 0.999))
+      .option("--json", "print one JSON document", false)
+      .option("--ascii", "ASCII output only: claims as x indep y given a, b", false),
+  ).action(async (graph: string, opts: Record<string, unknown>) => {
+    state.code = await runPower(io, graph, opts);
   });
 
   program

@@ -28,6 +28,7 @@ export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettin
     sets: opts.sets as AuditSettings["sets"],
     rank_by: opts.rankBy as AuditSettings["rank_by"],
     seed: opts.seed as number,
+    ...(opts.power !== undefined ? { power: opts.power as number } : {}),
     ...(opts.permutations !== undefined ? { permutations: opts.permutations as number } : {}),
     ...(opts.resamplingRisk !== undefined ? { resampling_risk: opts.resamplingRisk as number } : {}),
   };

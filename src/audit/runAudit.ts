@@ -25,6 +25,7 @@ import {
 } from "../stats/monteCarloDecision.js";
 import { chooseMethod } from "./methods/index.js";
 import { repairArrows, repairTimeNote } from "./repairArrows.js";
+import { DEFAULT_POWER, detectableAlpha, detectableEffect } from "./detectable.js";
 import { compareClaims } from "./rankClaims.js";
 import type { MethodResult, TestContext, TestMethod } from "./TestMethod.js";
 import type { AuditResult, AuditSettings, Claim, TestedClaim, TestOutcome, UntestableClaim } from "./types.js";
@@ -38,6 +39,7 @@ export const DEFAULT_SETTINGS: AuditSettings = {
   sets: "union-parents",
   rank_by: "p",
   seed: 1,
+  power: DEFAULT_POWER,
 };
 
 /** With --sets all-minimal, the most separating sets tested per pair. */
@@ -379,7 +381,8 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
     }
     const timeNote = verdict === "contradicted" ? repairTimeNote(graph, t.x, t.y) : undefined;
     const warned = timeNote ? { warnings: [...(t.warnings ?? []), timeNote] } : {};
-    return { ...t, ...warned, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y), ...monteCarloVerdict(t, i) };
+    const detectable = detectableEffect(t, detectableAlpha(settings, tested.length), settings.power ?? DEFAULT_POWER);
+    return { ...t, ...warned, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y), ...monteCarloVerdict(t, i), ...(detectable !== undefined ? { detectable } : {}) };
   });
   const undecided = result.filter((c) => c.p_undecided);
   if (undecided.length > 0) {

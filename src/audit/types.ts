@@ -82,6 +82,12 @@ export interface TestedClaim extends Claim, TestOutcome {
   p_undecided?: true;
   /** With p_undecided on a Monte-Carlo claim: the --permutations that would likely decide it (from the current estimate), absent when over 10⁷. */
   p_proposed_B?: number;
+  /**
+   * The smallest |effect| this claim's test would detect with power `settings.power` at the level
+   * it faced (α, or α/k under Holm or Benjamini–Hochberg; `audit/detectable.ts`); absent when the
+   * test has too few df.
+   */
+  detectable?: number;
 }
 
 export interface VariableSummary {
@@ -102,6 +108,8 @@ export interface AuditSettings {
   rank_by: "p" | "effect";
   seed: number;
   permutations?: number;
+  /** Power at which each claim's detectable effect is computed (--power); absent: 0.8. */
+  power?: number;
   /** Resampling risk ε of Monte-Carlo verdicts (--resampling-risk); absent: 1e-3. */
   resampling_risk?: number;
 }
