@@ -1,24 +1,9 @@
-import { spawnSync } from "node:child_process";
-import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { adfCoefficients, residualCorrelationInterval } from "../../src/stats/residualCorrelationInterval.js";
 import { studentTTwoSided } from "../../src/stats/pvalues.js";
+import { intervalReference } from "../fixtures/intervals/loadIntervalReference.js";
 
-interface IntervalRef {
-  source: string;
-  adf: { shape: string; ex: number[]; ey: number[]; variance: Record<string, number> }[];
-  intervals: { r: number; se0: number; adf: [number, number, number]; nu: number; n: number; params: number; alpha: number; p: number; ci: [number, number] }[];
-}
-/** scripts/interval_reference.py run live (python3 with numpy and scipy), else its committed output. */
-export function intervalReference(): { ref: IntervalRef; from: string } {
-  const script = new URL("../../scripts/interval_reference.py", import.meta.url).pathname;
-  if (!process.env.ARROWAUDIT_FIXTURES_ONLY) {
-    const run = spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 120_000 });
-    if (run.status === 0) return { ref: JSON.parse(run.stdout) as IntervalRef, from: "python3 scipy (live)" };
-  }
-  return { ref: JSON.parse(readFileSync(new URL("../fixtures/intervals/reference.json", import.meta.url), "utf8")) as IntervalRef, from: "committed fixture" };
-}
 const { ref, from } = intervalReference();
 
 function sumsOf(ex: number[], ey: number[]) {
