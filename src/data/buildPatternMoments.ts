@@ -830,6 +830,9 @@ function accumulateByPattern(
     fill[p] = 0;
   };
 
+  // 1 where every pattern's gain of the column is 1
+  const unitGain = new Uint8Array(D).fill(1);
+  for (let p = 0; p < P; p++) for (let k = 0; k < D; k++) if (gains[p * D + k] !== 1) unitGain[k] = 0;
   const scores: (Float64Array | undefined)[] = design.map((src) => src.scores);
   const factors = Float64Array.from(design, (src) => src.factor);
   const terms: (BasisTerm | undefined)[] = design.map((src) => src.term);
@@ -860,7 +863,15 @@ function accumulateByPattern(
       const term = terms[k];
       // (a basis column's term is never the linear one: that is the score column itself)
       if (term !== undefined) stageBasis(stage, rowBase, rowGain, gains, s!, f, i0, len, k, c, term);
-      else if (s !== undefined) {
+      else if (s !== undefined && unitGain[k] === 1) {
+        // every pattern's gain of this column is 1 (the common case): the same values without the multiply
+        for (let r = 0; r < len; r++) {
+          const o = rowBase[r]!;
+          if (o < 0) continue;
+          const v = s[i0 + r]!;
+          stage[o + k] = v === v ? v * f - c : 0;
+        }
+      } else if (s !== undefined) {
         for (let r = 0; r < len; r++) {
           const o = rowBase[r]!;
           if (o < 0) continue;
