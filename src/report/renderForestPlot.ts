@@ -240,7 +240,7 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
     const weight = contradicted ? ` font-weight="600"` : "";
     const ink = contradicted ? "#8a3a00" : INK.text;
     out +=
-      `<g class="forest-row ${c.verdict}" data-rank="${c.rank}"><title>${escapeXml(`#${c.rank} ${labels[i]}: ${c.verdict}`)}</title>` +
+      `<g class="forest-row ${c.verdict}" data-rank="${c.rank}"><title>${escapeXml(`#${c.rank} ${labels[i]}: ${c.verdict}${c.p_undecided ? " (undecided: not resolved by the cap on Monte-Carlo draws)" : ""}`)}</title>` +
       `<text x="8" y="${n(y)}" dy="0.35em" fill="${INK.muted}">${c.rank}</text>` +
       `<text x="${n(8 + rankW)}" y="${n(y)}" dy="0.35em"${weight}>${independenceSvg(shown[i]!)}</text>` +
       mark +

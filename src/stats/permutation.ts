@@ -16,7 +16,9 @@
  * The *sequential Monte-Carlo p-value* (Besag & Clifford 1991, Biometrika 78:301–304) stops as
  * soon as h draws reach T: after L draws with h hits, p = h/L; if B draws never reach h hits it
  * is the ordinary (1 + hits)/(1 + B). It is a valid p-value and saves most of the work when the
- * observed statistic is unremarkable.
+ * observed statistic is unremarkable, but its precision is not tied to the threshold a verdict
+ * faces: the audit's methods draw by the confidence sequence of `monteCarloDecision.ts` instead,
+ * and the sequential functions below stay for comparison.
  */
 import type { Rng } from "./rng.js";
 
