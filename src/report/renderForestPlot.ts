@@ -1,11 +1,14 @@
 /**
  * Forest plot of the tested claims: one row per claim in rank order, the effect as a point, its
- * unadjusted 95% confidence interval as a thick horizontal line and, when the significance level
+ * unadjusted confidence interval (at 1 − α, 95% by default: every test's interval excludes 0
+ * exactly when its unadjusted p < α) as a thick horizontal line and, when the significance level
  * is given, the interval at the level the multiple-testing adjustment used for that claim as a
  * thin line with end ticks (see `adjustedInterval.ts`), a vertical line at zero (independence),
  * and the relevance band ±min_effect shaded when set. Verdicts differ by shape and colour:
  * contradicted is a vermillion diamond, consistent a blue circle. The numbers are written to the
- * right: the estimate with its 95% interval, then the adjusted interval.
+ * right: the estimate with its interval, then the adjusted interval. When some effects are on
+ * several degrees of freedom (never negative), the legend says that their lower limit is the
+ * one-sided inversion of the test at level α.
  *
  * Terms: *effect* is the claim's effect on the common partial-correlation scale (see
  * `TestOutcome.effect`); the *relevance band* is the interval (−min_effect, min_effect) inside
@@ -80,9 +83,20 @@ function tickLabel(v: number, step: number): string {
   return typographicMinus(/^-0(\.0*)?$/.test(s) ? s.slice(1) : s);
 }
 
+/** The confidence level 1 − α in percent, without trailing zeros (95, 99, 99.9). */
+function confidencePercent(alpha: number): string {
+  return String(Number(((1 - alpha) * 100).toPrecision(6)));
+}
+
+/** Whether a claim's effect is on several degrees of freedom (unsigned, with a one-sided lower limit). */
+function isSeveralDf(c: TestedClaim): boolean {
+  if (c.test === "gcm" || c.test === "gcm-rank") return Number(c.details?.components ?? 1) > 1;
+  return (c.test === "stratified-chisq" || c.test === "regression-lr") && c.df > 1;
+}
+
 /**
- * Render the forest plot of tested claims as SVG: rows ordered by rank, point, unadjusted 95% CI
- * (thick) and, with `alpha`, the adjusted interval (thin) per claim, zero line, shaded ±minEffect
+ * Render the forest plot of tested claims as SVG: rows ordered by rank, point, unadjusted CI at
+ * 1 − alpha (thick) and, with `alpha`, the adjusted interval (thin) per claim, zero line, shaded ±minEffect
  * band, axis with ticks, labels "x ⫫ y | a, b" ("| ∅" for the empty set), the numbers of both
  * intervals, verdict by shape and colour, and a legend saying which interval is which. Every label
  * is XML-escaped; labels longer than 400 px are shortened with "…" (the full label is kept in the
@@ -133,7 +147,8 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
     const d = Math.max(...[c.effect, ...c.ci].map((v) => (Number.isFinite(v) && Math.abs(v) < 0.1 ? 3 : 2)));
     return typographicMinus(formatCI(a.ci, d));
   });
-  const estHead = "estimate [95% CI]";
+  const levelText = `${confidencePercent(alpha ?? 0.05)}%`;
+  const estHead = `estimate [${levelText} CI]`;
   const adjHead = "adjusted interval";
   const textW = Math.max(widthOf(estHead, FS, true), ...texts.map((t, i) => widthOf(t, FS, bold[i]!))) + 16;
   const adjW = alpha === undefined ? 0 : Math.max(widthOf(adjHead, FS, true), ...adjTexts.map((t, i) => widthOf(t, FS, bold[i]!))) + 16;
@@ -151,8 +166,14 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
   const legendItems: Array<{ shape: (x: number, y: number) => string; text: string }> = [
     { shape: (x, y) => `<path d="M${n(x + 6)},${n(y - 6)} L${n(x + 12)},${n(y)} L${n(x + 6)},${n(y + 6)} L${n(x)},${n(y)} z" fill="${PALETTE.vermillion}"/>`, text: "contradicted" },
     { shape: (x, y) => `<circle cx="${n(x + 6)}" cy="${n(y)}" r="4.6" fill="#ffffff" stroke="${PALETTE.blue}" stroke-width="2"/>`, text: "consistent" },
-    { shape: (x, y) => `<line x1="${n(x - 2)}" x2="${n(x + 14)}" y1="${n(y)}" y2="${n(y)}" stroke="${INK.arrow}" stroke-width="3"/>`, text: "95% confidence interval (unadjusted)" },
+    { shape: (x, y) => `<line x1="${n(x - 2)}" x2="${n(x + 14)}" y1="${n(y)}" y2="${n(y)}" stroke="${INK.arrow}" stroke-width="3"/>`, text: `${levelText} confidence interval (unadjusted)` },
   ];
+  if (rows.some(isSeveralDf)) {
+    legendItems.push({
+      shape: () => "",
+      text: `effects on several df (never negative): the lower limit inverts the test at level α = ${alpha ?? 0.05}, one-sided, so it is above 0 exactly when p < α`,
+    });
+  }
   if (alpha !== undefined) {
     const adj = options.adjust ?? "holm";
     const how = adj === "holm" ? "Holm" : "Benjamini–Hochberg";
@@ -169,7 +190,7 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
     });
   }
   const axisLabel = "effect (partial correlation scale; 0 = independent)";
-  const contentRight = Math.max(adjX + adjW, estX + textW, left + plotW / 2 + widthOf(axisLabel, 12) / 2, left + plotW / 2 + widthOf("effect and 95% CI", FS, true) / 2);
+  const contentRight = Math.max(adjX + adjW, estX + textW, left + plotW / 2 + widthOf(axisLabel, 12) / 2, left + plotW / 2 + widthOf(`effect and ${levelText} CI`, FS, true) / 2);
   const legendLeft = 8 + rankW;
   let lx = legendLeft;
   let ly = legendTop;
@@ -192,7 +213,7 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
   // header
   out += `<text x="8" y="18" font-weight="600" fill="${INK.muted}">#</text>`;
   out += `<text x="${n(8 + rankW)}" y="18" font-weight="600" fill="${INK.muted}">claim</text>`;
-  out += `<text x="${n(left + plotW / 2)}" y="18" text-anchor="middle" font-weight="600" fill="${INK.muted}">effect and 95% CI</text>`;
+  out += `<text x="${n(left + plotW / 2)}" y="18" text-anchor="middle" font-weight="600" fill="${INK.muted}">effect and ${levelText} CI</text>`;
   out += `<text x="${n(estX)}" y="18" font-weight="600" fill="${INK.muted}">${estHead}</text>`;
   if (alpha !== undefined) out += `<text x="${n(adjX)}" y="18" font-weight="600" fill="${INK.muted}">${adjHead}</text>`;
   // zebra rows

@@ -91,6 +91,20 @@ describe("renderForestPlot: adjusted intervals and sizing", () => {
     expect(renderForestPlot(r.claims)).not.toContain("ci-adjusted");
   });
 
+  it("renderForestPlot names the interval's level 1 − alpha, and says for several-df effects that the lower limit inverts the test at alpha", () => {
+    const r = sampleResult(); // holds regression LRs on 2 and 4 df
+    const svg = renderForestPlot(r.claims, { alpha: 0.01 });
+    expect(svg).toContain("99% confidence interval (unadjusted)");
+    expect(svg).toContain("estimate [99% CI]");
+    expect(svg).toContain("effect and 99% CI");
+    expect(svg).toContain("effects on several df (never negative): the lower limit inverts the test at level α = 0.01, one-sided, so it is above 0 exactly when p &lt; α");
+    expect(renderForestPlot(r.claims, { alpha: 0.001 })).toContain("99.9% confidence interval (unadjusted)");
+    // only 1-df and correlation effects: no such line
+    const oneDf = r.claims.filter((c) => c.df === 1 || c.test === "pearson-partial" || c.test === "gcm-rank");
+    expect(oneDf.length).toBeGreaterThan(0);
+    expect(renderForestPlot(oneDf, { alpha: 0.05 })).not.toContain("effects on several df");
+  });
+
   it("renderForestPlot is as wide as its texts: no label runs past the right edge (estimated widths, bold included)", () => {
     // regression: the bold label "r = −0.065 [−0.102, −0.028]" of a contradicted claim lost its closing bracket
     const r = sampleResult();
