@@ -29,11 +29,15 @@
  *   variance over all the claim's rows by more than a factor SAMPLE_VARIANCE_RATIO (it missed rows
  *   that dominate them, such as one value of 1e10 among values near 1) sends the claim to its rows.
  * - *Effect.* For one residual product, the residual correlation r (the partial correlation
- *   after flexible adjustment), with the interval of `gcmCorrelationInterval`; for several (a
- *   nominal side), √(1 − exp(−max(0, W − q)/n)) on the common scale (`lrEffect`), with W the
- *   chi-square value on q df whose upper tail is the test's p-value, and the interval of
- *   `lrEffectCIAtAlpha` (lower end the one-sided inversion at 0.05). Either interval excludes 0
- *   exactly when p < 0.05.
+ *   after flexible adjustment), with the interval of `residualCorrelationInterval` at confidence
+ *   1 − alpha (`ctx.alpha`): the inversion of studentised tests of ρ = ρ0 whose variance is the
+ *   test's own at ρ0 = 0 and the asymptotically distribution-free variance of a correlation at
+ *   and beyond r (Steiger & Hakstian 1982), from fourth-order sums of the residuals over the
+ *   variance rows (`details.interval_variance`); when those are unusable, Fisher's z interval with
+ *   the test's standard error (`gcmCorrelationInterval`). For several products (a nominal side),
+ *   √(1 − exp(−max(0, W − q)/n)) on the common scale (`lrEffect`), with W the chi-square value on
+ *   q df whose upper tail is the test's p-value, and the interval of `lrEffectCIAtAlpha` (lower
+ *   end the one-sided inversion at alpha). Every interval excludes 0 exactly when p < alpha.
  * - *Scaling.* Every column enters multiplied by a power of two that brings its largest |value|
  *   into [0.5, 1) (`stats/powerOfTwoScale.ts`; basis terms with their knots scaled alike, on the
  *   moment path the scale the pattern moments used), which changes no digit of the statistic but
