@@ -15,9 +15,9 @@
  * *Sparse rule*: when a table breaks Cochran's rule — some cell of the used strata has an
  * expected count below 1, or more than 20% of them have one below 5 (Cochran 1954, Biometrics
  * 10:417–451 — common practice) — or when Williams' factor says that the mean of G² exceeds its
- * df by more than 2% (Williams 1976, Biometrika 63:33–37; `sparseTableReasons`: G² on χ² was
- * liberal, 6.5–7.5% at 0.05, in tables that pass Cochran's rule with expected counts of 1–3,
- * such as a rare binary x at n = 5,000), or when the user asks for
+ * df by more than 3% (Williams 1976, Biometrika 63:33–37; `sparseTableReasons`: G² on χ² was
+ * liberal, 6–7.5% at 0.05, in tables that pass Cochran's rule with a larger excess, such as a
+ * rare binary x at n = 5,000 with expected counts of 1–3), or when the user asks for
  * permutations, the p-value is a Monte-Carlo permutation p-value: x is permuted within each
  * stratum (the stratum's x and y margins stay fixed) and p = (1 + #{G²* ≥ G²})/(1 + draws). The
  * draws are judged at 200, 400, 800, … up to the cap B by a confidence sequence for the permutation

@@ -233,3 +233,119 @@ describe("calibration under true claims (500 seeded replications, exact binomial
     expect(lin).toBeGreaterThan(g2);
   }, 30_000);
 });
+
+/**
+ * Rare categories: a rare binary x (prevalence 1–3%) at n = 5,000 and n = 500. Each replication
+ * also records what the rule before this change would have given (the permutation p-value only
+ * when more than 20% of the expected counts were below 5, else G² on χ²; linear-by-linear always
+ * χ²(1)), from the claim's own details (`sparse_share`, `p_asymptotic`), so the log shows both.
+ * 400 replications, exact central 99% band of Binomial(400, 0.05) (common practice).
+ */
+describe("calibration with rare categories (400 seeded replications, exact binomial 99% band)", () => {
+  const RR = 400;
+  const [lo, hi] = binomialInterval(RR, ALPHA);
+  it("binomialInterval(400, 0.05) is the exact central 99% band", () => {
+    // scipy.stats.binom.ppf(0.005, 400, 0.05) = 10 and binom.isf(0.005, 400, 0.05) = 32 (scipy 1.17; the README's table shows the same band)
+    expect([lo, hi]).toEqual([10, 32]);
+  });
+
+  /** x binary with P(x = 1) = px[z], y drawn from the weights yw[z], z from the weights zw: x ⫫ y | z by construction. */
+  const rareX = (n: number, px: readonly number[], yw: readonly (readonly number[])[], zw: readonly number[]) => (rng: Rng): Table => {
+    const z = new Int32Array(n), x = new Int32Array(n), y = new Int32Array(n);
+    for (let i = 0; i < n; i++) {
+      z[i] = draw(rng, zw);
+      x[i] = rng.nextFloat() < px[z[i]!]! ? 1 : 0;
+      y[i] = draw(rng, yw[z[i]!]!);
+    }
+    return table([cat("x", x, 2, "binary"), cat("y", y, yw[0]!.length, yw[0]!.length === 2 ? "binary" : "nominal"), cat("z", z, zw.length)]);
+  };
+  /** Rejections now and under the rule before (see above), with the outcomes for further checks. */
+  function rates(method: TestMethod, key: string, make: (rng: Rng) => Table): { now: number; before: number; outcomes: TestOutcome[] } {
+    let now = 0;
+    let before = 0;
+    const outcomes: TestOutcome[] = [];
+    for (let r = 0; r < RR; r++) {
+      const res = method.run({ x: "x", y: "y", given: ["z"] }, ctx(make(createRng(r, `calibration:rare:${key}`)), r));
+      if (!res.ok) throw new Error(`${key}, replication ${r} untestable: ${res.reason}`);
+      const o = res.outcome;
+      const d = o.details!;
+      expect(Number.isFinite(o.p) && o.p > 0 && o.p <= 1).toBe(true);
+      const old = method === stratifiedChisq && (d.sparse_share as number) > 0.2 ? o.p : (d.p_asymptotic as number);
+      if (o.p <= ALPHA) now++;
+      if (old <= ALPHA) before++;
+      outcomes.push(o);
+    }
+    const permuted = outcomes.filter((o) => o.p_method === "permutation").length;
+    console.log(`${method.name} ${key}: ${now}/${RR} rejected at ${ALPHA} (band ${lo}–${hi}), ${permuted} permuted; before the rule change ${before}/${RR}`);
+    return { now, before, outcomes };
+  }
+
+  it("stratified-chisq, rare binary x (1.5%) and 3-level y (one level 10%) in 3 strata, n = 5,000: expected counts of 1–3 pass Cochran's rule, Williams' excess sends them to permutation; rate in the band", () => {
+    const { now, outcomes } = rates(stratifiedChisq, "x 1.5% y 3 levels n 5000", rareX(5000, [0.015, 0.015, 0.015], [[45, 45, 10], [45, 45, 10], [45, 45, 10]], [1, 1, 1]));
+    expect(outcomes.every((o) => o.p_method === "permutation")).toBe(true);
+    // the regime the asymptotic branch got wrong: nearly every table passes both parts of Cochran's rule
+    const williamsOnly = outcomes.filter((o) => JSON.stringify(o.details!.sparse_rule) === '["williams-excess"]').length;
+    expect(williamsOnly).toBeGreaterThanOrEqual(0.95 * RR);
+    expect(now).toBeGreaterThanOrEqual(lo);
+    expect(now).toBeLessThanOrEqual(hi);
+  }, 60_000);
+
+  it("stratified-chisq, rare binary x (1.5%) and binary y in 5 strata of 5–30%, n = 5,000: the small strata's expected counts below 1 (or Williams' excess) send nearly every claim to permutation; rate in the band", () => {
+    const { now, outcomes } = rates(stratifiedChisq, "x 1.5% y binary 5 unequal strata n 5000", rareX(5000, [0.015, 0.015, 0.015, 0.015, 0.015], Array(5).fill([1, 1]), [30, 30, 20, 15, 5]));
+    expect(outcomes.filter((o) => o.p_method === "permutation").length).toBeGreaterThanOrEqual(0.95 * RR); // 398 of 400 in our run
+    expect(outcomes.some((o) => (o.details!.sparse_rule as string[]).includes("expected-below-1"))).toBe(true);
+    expect(now).toBeGreaterThanOrEqual(lo);
+    expect(now).toBeLessThanOrEqual(hi);
+  }, 60_000);
+
+  it("stratified-chisq, rare binary x (3%) and 3-level y in 2 strata, n = 500: permuted in every replication; rate in the band", () => {
+    const { now, outcomes } = rates(stratifiedChisq, "x 3% y 3 levels n 500", rareX(500, [0.03, 0.03], [[1, 1, 1], [1.2, 1, 1]], [1, 1]));
+    expect(outcomes.every((o) => o.p_method === "permutation")).toBe(true);
+    expect(now).toBeGreaterThanOrEqual(lo);
+    expect(now).toBeLessThanOrEqual(hi);
+  }, 60_000);
+
+  it("stratified-chisq, rare binary x (2–2.5%) and binary y in 2 strata, n = 5,000 (about 50 cases of x per stratum): the asymptotic branch in every replication holds its level", () => {
+    const { now, outcomes } = rates(stratifiedChisq, "x 2-2.5% y binary 2 strata n 5000", rareX(5000, [0.02, 0.025], [[1, 1], [1.2, 1]], [1, 1]));
+    expect(outcomes.every((o) => o.p_method === "asymptotic")).toBe(true);
+    expect(now).toBeGreaterThanOrEqual(lo);
+    expect(now).toBeLessThanOrEqual(hi);
+  }, 60_000);
+
+  it("stratified-chisq at the edge of the rule: binary x and 5-level y with one level at 3% in 4 strata, n = 2,000 (expected counts down to about 2 in up to 20% of the cells, Williams' excess up to about 0.02): asymptotic in every replication, rate in the band", () => {
+    const yw = Array(4).fill([24.5, 24.5, 24.5, 24.5, 3]);
+    const make = (rng: Rng): Table => {
+      const t = rareX(2000, [0.5, 0.45, 0.5, 0.55], yw, [1, 1, 1, 1])(rng);
+      return t;
+    };
+    const { now, outcomes } = rates(stratifiedChisq, "edge: x 50% y 5 levels one 3% n 2000", make);
+    expect(outcomes.every((o) => o.p_method === "asymptotic")).toBe(true);
+    const d = outcomes.map((o) => o.details!);
+    // at the edge: cells below 5 in most replications, an expected count below 3 in some, never more than 20% below 5 or one below 1
+    expect(d.filter((x) => (x.sparse_cells as number) > 0).length).toBeGreaterThan(RR / 2);
+    expect(Math.min(...d.map((x) => x.min_expected as number))).toBeLessThan(3);
+    expect(Math.max(...d.map((x) => x.sparse_share as number))).toBeLessThanOrEqual(0.2);
+    expect(Math.max(...d.map((x) => x.williams_excess as number))).toBeGreaterThan(0.015);
+    expect(now).toBeGreaterThanOrEqual(lo);
+    expect(now).toBeLessThanOrEqual(hi);
+  }, 60_000);
+
+  it("linear-by-linear, binary ordinal x and y each rare (1%) in 3 strata, n = 5,000: the Mantel–Fleiss gap below 1 sends every claim to permutation, which is not liberal", () => {
+    const make = (rng: Rng): Table => {
+      const n = 5000;
+      const z = new Int32Array(n), x = new Int32Array(n), y = new Int32Array(n);
+      for (let i = 0; i < n; i++) {
+        z[i] = draw(rng, [1, 1, 1]);
+        x[i] = rng.nextFloat() < 0.01 ? 1 : 0;
+        y[i] = rng.nextFloat() < 0.01 ? 1 : 0;
+      }
+      return table([ord("x", x, [0, 1]), ord("y", y, [0, 1]), cat("z", z, 3)]);
+    };
+    const { now, before, outcomes } = rates(linearByLinear, "x 1% y 1% n 5000", make);
+    expect(outcomes.every((o) => o.p_method === "permutation")).toBe(true);
+    // Σ n11 has a null mean near 0.5: its exact conditional test is conservative (the attainable levels
+    // are few), so only the upper end of the band is asked; χ²(1) before was liberal here (7.8% of 1,000 in our run)
+    expect(now).toBeLessThanOrEqual(hi);
+    expect(now).toBeLessThan(before);
+  }, 60_000);
+});
