@@ -4,7 +4,9 @@
  * 2. `arrowaudit test` end to end on 1,000,000 rows × 50 continuous columns with a few % missing,
  *    against the I/O floor (reading the file in 4 MiB chunks and counting newlines);
  *    and the same with `--method linear` (the fast linear test, no flexible adjustment);
- * 3. `arrowaudit test` end to end on 1,000,000 rows × 50 mixed columns (30 categorical).
+ * 3. `arrowaudit test` end to end on 1,000,000 rows × 50 mixed columns (30 categorical);
+ * 4. claims whose conditioning set makes thousands of sparse strata (permutation p-values;
+ *    bench/sparse.ts, also `npm run bench:sparse` on its own, where BENCH_CLI picks another build).
  * Data are generated (invented) into bench/out/ on first use. Set BENCH_ROWS to run smaller.
  */
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
@@ -12,6 +14,7 @@ import { join } from "node:path";
 import { fileURLToPath } from "node:url";
 import { benchClaims } from "./claims.js";
 import { generateMixedCohort } from "./generateMixedCsv.js";
+import { benchSparse } from "./sparse.js";
 import { ioFloor, measure } from "./measure.js";
 
 const here = fileURLToPath(new URL(".", import.meta.url));
@@ -63,5 +66,7 @@ results.numericLinear = await endToEnd("numeric", 0, ["--method", "linear"]);
 console.log(JSON.stringify(results.numericLinear, null, 2));
 results.mixed = await endToEnd("mixed", 30);
 console.log(JSON.stringify(results.mixed, null, 2));
+results.sparse = await benchSparse(rows, cli);
+console.log(JSON.stringify(results.sparse, null, 2));
 writeFileSync(join(out, "results.json"), JSON.stringify(results, null, 2));
 console.log(`results written to ${join(out, "results.json")}`);
