@@ -6,7 +6,7 @@
 import type { Table, VariableType } from "../data/Table.js";
 import type { PatternMoments } from "../data/Moments.js";
 import type { Claim, TestName, TestOutcome } from "./types.js";
-import type { MonteCarloRequest } from "../stats/monteCarloDecision.js";
+import type { MonteCarloRequest, MonteCarloStream } from "../stats/monteCarloDecision.js";
 
 export interface TestContext {
   table: Table;
@@ -28,6 +28,12 @@ export interface TestContext {
    * more, the exact draws. Absent: risk 1e-3 for this claim alone, band [decisionFloor, 0.05].
    */
   monteCarlo?: MonteCarloRequest;
+  /**
+   * Monte-Carlo streams a method may keep between runs of the same claim on this thread, by the
+   * claim's stream key, so that a re-run with more draws goes on where the last one stopped
+   * (`runMonteCarloKept`). Absent on helper threads: methods then draw afresh, with the same result.
+   */
+  monteCarloStreams?: Map<string, MonteCarloStream>;
   /**
    * The smallest threshold a claim's unadjusted p-value can be compared with once adjusted for
    * the number of claims (alpha/k for Holm and Benjamini–Hochberg with k claims, alpha without

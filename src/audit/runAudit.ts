@@ -346,6 +346,7 @@ function withBuiltMoments(plan: ClaimPlan, table: Table, moments: PatternMoments
     permutations: settings.permutations,
     decisionFloor: plan.decisionFloor,
     monteCarlo: monteCarloRequest(settings, plan.decisionFloor),
+    monteCarloStreams: new Map(),
     alpha: settings.alpha,
   };
   return { ...plan, moments, ctx };
@@ -481,15 +482,27 @@ function judgeMonteCarlo(outcomes: readonly TestOutcome[], settings: AuditSettin
  * The audit's Monte-Carlo loop (Gandy & Hahn 2016, Scand. J. Statist. 43:1046–1063, from memory):
  * while some verdict is undecided (see {@link judgeMonteCarlo}), every undecided Monte-Carlo claim
  * below its cap is tested again with the draws of its next look (about double). Its random stream
- * is fixed by (seed, claim), so the new draws extend the same sequence; the claim is re-run from
- * the start on this thread, which costs at most twice the draws of its last run. When only claims
+ * is fixed by (seed, claim), so the new draws extend the same sequence. The claim is re-run on
+ * this thread, going on where it stopped when this thread kept its stream (`ctx.monteCarloStreams`),
+ * else from the start (a claim first tested on a helper thread: at most twice the draws of its last
+ * run). When only claims
  * without Monte-Carlo error are undecided, the Monte-Carlo claims whose intervals still meet the
  * band of thresholds get the draws. Ends when every verdict is decided or no claim that could
  * decide it has draws left (each round adds draws to at least one claim, so it ends).
  * Cost: the re-runs, O(Σ final draws) in all, and O(k log k) per round.
  */
 function refineMonteCarlo(plan: AuditPlan, results: MethodResult[]): void {
+  try {
+    refineMonteCarloRounds(plan, results);
+  } finally {
+    plan.ctx.monteCarloStreams?.clear(); // the streams kept for re-runs are not needed past the loop
+  }
+}
+
+/** The rounds of {@link refineMonteCarlo}. */
+function refineMonteCarloRounds(plan: AuditPlan, results: MethodResult[]): void {
   const { settings, ctx } = plan;
+  const stuck = new Set<number>(); // claims whose re-run drew no more (a method that ignores ctx.monteCarlo.draws): not asked again
   for (;;) {
     const index: number[] = [];
     const outcomes: TestOutcome[] = [];
@@ -501,7 +514,7 @@ function refineMonteCarlo(plan: AuditPlan, results: MethodResult[]): void {
     });
     if (!outcomes.some((o) => o.monte_carlo)) return;
     const judged = judgeMonteCarlo(outcomes, settings);
-    const open = (k: number) => outcomes[k]!.monte_carlo !== undefined && outcomes[k]!.monte_carlo!.draws < outcomes[k]!.monte_carlo!.cap;
+    const open = (k: number) => !stuck.has(index[k]!) && outcomes[k]!.monte_carlo !== undefined && outcomes[k]!.monte_carlo!.draws < outcomes[k]!.monte_carlo!.cap;
     let active = outcomes.map((_, k) => k).filter((k) => !judged.decided[k] && open(k));
     if (active.length === 0 && judged.decided.some((d) => !d)) {
       const [floor, top] = ctx.monteCarlo?.band ?? [plan.decisionFloor, settings.alpha];
@@ -512,7 +525,9 @@ function refineMonteCarlo(plan: AuditPlan, results: MethodResult[]): void {
       const mc = outcomes[k]!.monte_carlo!;
       const i = index[k]!;
       const request: MonteCarloRequest = { ...(ctx.monteCarlo ?? monteCarloRequest(settings, plan.decisionFloor)), draws: nextLook(mc.draws, mc.cap) };
-      results[i] = testClaimMethod(plan.claims[i]!, { ...ctx, monteCarlo: request }, settings);
+      const again = testClaimMethod(plan.claims[i]!, { ...ctx, monteCarlo: request }, settings);
+      if (!(again.ok && again.outcome.monte_carlo !== undefined && again.outcome.monte_carlo.draws > mc.draws)) stuck.add(i);
+      results[i] = again;
     }
   }
 }

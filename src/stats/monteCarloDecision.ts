@@ -131,6 +131,22 @@ export interface MonteCarloRun {
   variance: number;
   /** Draws behind the mean and variance. */
   nullDraws: number;
+  /**
+   * Where the stream stopped, when more draws could still change the verdict (it stopped inside
+   * the band, or at the draws asked for, below the cap, with no draw past the test's own): pass it
+   * back with a larger `plan.draws` to go on without drawing again. Absent otherwise.
+   */
+  stream?: MonteCarloStream;
+}
+
+/** A Monte-Carlo stream stopped part-way ({@link MonteCarloRun.stream}): its draw function and running counts. */
+export interface MonteCarloStream {
+  draw: () => number;
+  observed: number;
+  count: number;
+  hits: number;
+  mean: number;
+  m2: number;
 }
 
 /**
@@ -140,13 +156,16 @@ export interface MonteCarloRun {
  * (its verdict then depends on the other claims, which the audit judges), or at the cap. A draw
  * counts as a hit when T* ≥ T − 1e-9·max(1, |T|) (ties up to rounding, common practice). Draws
  * continue past the test to at least `nullDraws` for the mean and variance (Welford 1962,
- * Technometrics 4:419–420), which do not change the hits.
- * Cost: O(draws made) calls of `draw`, at most max(cap, nullDraws); O(J) interval computations.
- * @throws RangeError when the observed statistic is not finite, the plan is invalid, or nullDraws
- * is not a non-negative integer
+ * Technometrics 4:419–420), which do not change the hits. With `resume` (a stream an earlier call
+ * returned, of the same observed statistic and fewer draws than `plan.draws`) it continues that
+ * stream instead of calling `draw`: the result equals a fresh run on the same random stream.
+ * Cost: O(draws made) calls of `draw`, at most max(cap, nullDraws), fewer by the draws resumed;
+ * O(J) interval computations.
+ * @throws RangeError when the observed statistic is not finite, the plan is invalid, nullDraws
+ * is not a non-negative integer, or `resume` does not fit
  * @example runMonteCarloTest(0, () => 1, { cap: 20000, risk: 1e-3, family: 1, band: [0.05, 0.05] }) // { hits: 200, draws: 200, p: 1, … }
  */
-export function runMonteCarloTest(observed: number, draw: () => number, plan: MonteCarloPlan, nullDraws = 0): MonteCarloRun {
+export function runMonteCarloTest(observed: number, draw: () => number, plan: MonteCarloPlan, nullDraws = 0, resume?: MonteCarloStream): MonteCarloRun {
   if (!Number.isFinite(observed)) throw new RangeError(`observed statistic must be finite, got ${observed}`);
   if (!(Number.isInteger(nullDraws) && nullDraws >= 0)) throw new RangeError(`draws for the null moments must be a non-negative integer, got ${nullDraws}`);
   const { cap, risk, family, band } = plan;
@@ -154,17 +173,22 @@ export function runMonteCarloTest(observed: number, draw: () => number, plan: Mo
   if (plan.draws !== undefined && !(Number.isInteger(plan.draws) && plan.draws >= 1 && plan.draws <= cap)) {
     throw new RangeError(`draws must be an integer from 1 to the cap ${cap}, got ${plan.draws}`);
   }
+  if (resume !== undefined && !(plan.draws !== undefined && resume.observed === observed && resume.count <= plan.draws)) {
+    throw new RangeError(`a stream can be resumed only for the same observed statistic and more draws (it has ${resume.count}, asked ${plan.draws})`);
+  }
   const [floor, top] = band;
   const bar = observed - 1e-9 * Math.max(1, Math.abs(observed));
-  let mean = 0;
-  let m2 = 0;
-  let count = 0;
-  let hits = 0;
+  const next = resume?.draw ?? draw;
+  let mean = resume?.mean ?? 0;
+  let m2 = resume?.m2 ?? 0;
+  let count = resume?.count ?? 0;
+  let hits = resume?.hits ?? 0;
   const looks = plan.draws !== undefined ? [plan.draws] : lookSchedule(cap);
   let draws = 0;
+  let open = false;
   for (const look of looks) {
     while (count < look) {
-      const v = draw();
+      const v = next();
       count++;
       const d = v - mean;
       mean += d / count;
@@ -172,21 +196,56 @@ export function runMonteCarloTest(observed: number, draw: () => number, plan: Mo
       if (v >= bar) hits++;
     }
     draws = look;
-    if (plan.draws !== undefined || look === cap) break;
+    if (look === cap) break;
+    if (plan.draws !== undefined) {
+      open = true;
+      break;
+    }
     const p = (1 + hits) / (1 + draws);
     const [lo, hi] = clopperPearsonMissing(hits, draws, delta);
     const lower = Math.min(lo, p);
     const upper = Math.max(hi, p);
-    if (upper < floor || lower >= top || (lower >= floor && upper < top)) break;
+    if (upper < floor || lower >= top) break;
+    if (lower >= floor && upper < top) {
+      open = true;
+      break;
+    }
   }
+  const stream = open && count >= nullDraws ? { draw: next, observed, count, hits, mean, m2 } : undefined;
   while (count < nullDraws) {
-    const v = draw();
+    const v = next();
     count++;
     const d = v - mean;
     mean += d / count;
     m2 += d * (v - mean);
   }
-  return { hits, draws, p: (1 + hits) / (1 + draws), mean, variance: count > 1 ? m2 / (count - 1) : 0, nullDraws: count };
+  return { hits, draws, p: (1 + hits) / (1 + draws), mean, variance: count > 1 ? m2 / (count - 1) : 0, nullDraws: count, ...(stream ? { stream } : {}) };
+}
+
+/**
+ * {@link runMonteCarloTest} for one claim of an audit: continues the stream kept in `streams`
+ * under `key` when it fits (the same observed statistic, no more draws than asked), else starts
+ * a fresh one from `makeDraw()`, and keeps the stream it returns (or forgets the key) so that a
+ * later call with more draws goes on from there. The result is the same with or without `streams`.
+ * Cost: as runMonteCarloTest, less the draws resumed.
+ * @example runMonteCarloKept(t, () => sampler(), plan, 200, new Map(), "x\u0000y") // as runMonteCarloTest
+ */
+export function runMonteCarloKept(
+  observed: number,
+  makeDraw: () => () => number,
+  plan: MonteCarloPlan,
+  nullDraws: number,
+  streams: Map<string, MonteCarloStream> | undefined,
+  key: string,
+): MonteCarloRun {
+  const kept = streams?.get(key);
+  const resume = kept !== undefined && plan.draws !== undefined && kept.observed === observed && kept.count <= plan.draws ? kept : undefined;
+  const run = runMonteCarloTest(observed, resume ? resume.draw : makeDraw(), plan, nullDraws, resume);
+  if (streams) {
+    if (run.stream) streams.set(key, run.stream);
+    else streams.delete(key);
+  }
+  return run;
 }
 
 /**

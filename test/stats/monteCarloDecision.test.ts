@@ -4,7 +4,7 @@ import { adjustPValues } from "../../src/stats/adjustPValues.js";
 import { betaQuantile, clopperPearson, clopperPearsonMissing } from "../../src/stats/clopperPearson.js";
 import {
   bracketVerdicts, criticalValues, defaultPermutationCap, FIRST_LOOK, lookRisk, lookSchedule, monteCarloSummary, nextLook, planOf, proposedDraws,
-  runMonteCarloTest, sequenceInterval, type MonteCarloPlan,
+  runMonteCarloKept, runMonteCarloTest, sequenceInterval, type MonteCarloPlan,
 } from "../../src/stats/monteCarloDecision.js";
 import { createRng } from "../../src/stats/rng.js";
 
@@ -151,8 +151,10 @@ describe("runMonteCarloTest", () => {
     const exact = runMonteCarloTest(1, bernoulli(0.5, 3, "x"), plan(20000, [0.05, 0.05], { draws: 3200 }));
     expect(exact.draws).toBe(3200);
     // the same stream: the first 200 draws of the longer run are the shorter run's
-    const first = runMonteCarloTest(1, bernoulli(0.5, 3, "x"), plan(20000, [0.05, 0.05], { draws: 200 }));
+    const { stream, ...first } = runMonteCarloTest(1, bernoulli(0.5, 3, "x"), plan(20000, [0.05, 0.05], { draws: 200 }));
+    expect(stream).toBeDefined(); // asked for fewer draws than the cap: it can go on
     const firstOfLong = runMonteCarloTest(1, bernoulli(0.5, 3, "x"), plan(20000, [0.05, 0.05]));
+    expect(firstOfLong.stream).toBeUndefined(); // decided above the band: nothing to go on with
     expect(firstOfLong).toEqual(first);
     const withNull = runMonteCarloTest(0, () => 1, plan(150, [0.05, 0.05]), 400);
     expect(withNull).toEqual({ hits: 150, draws: 150, p: 1, mean: 1, variance: 0, nullDraws: 400 });
@@ -194,6 +196,36 @@ print(json.dumps([int(binom.ppf(0.999, R, e))]))
       expect(wrong / R).toBeLessThan(eps);
     }
   }, 60_000);
+});
+
+describe("runMonteCarloKept", () => {
+  it("a stream kept between runs goes on where it stopped and gives the result of a fresh run with the same draws; only the new draws are made", () => {
+    const plan = (draws: number): MonteCarloPlan => ({ cap: 20000, risk: 1e-3, family: 3, band: [0.01, 0.05], draws });
+    const streams = new Map();
+    let made = 0;
+    const counted = (seed: number) => {
+      const d = bernoulli(0.03, seed, "kept");
+      return () => {
+        made++;
+        return d();
+      };
+    };
+    const a = runMonteCarloKept(1, () => counted(5), plan(400), 200, streams, "k");
+    expect(made).toBe(400);
+    expect(streams.has("k")).toBe(true);
+    const { stream: _b, ...b } = runMonteCarloKept(1, () => counted(5), plan(1600), 200, streams, "k");
+    expect(made).toBe(1600); // 1,200 new draws, not 1,600 again
+    const { stream: _c, ...fresh } = runMonteCarloTest(1, bernoulli(0.03, 5, "kept"), plan(1600), 200);
+    expect(b).toEqual(fresh);
+    expect(a.draws).toBe(400);
+    // a different observed statistic, or fewer draws than kept, starts afresh
+    const other = runMonteCarloKept(0.5, () => bernoulli(0.03, 5, "kept"), plan(800), 200, streams, "k");
+    expect(other.draws).toBe(800);
+    // at the cap nothing is kept
+    runMonteCarloKept(1, () => bernoulli(0.03, 5, "kept"), { ...plan(20000) }, 200, streams, "k");
+    expect(streams.has("k")).toBe(false);
+    expect(() => runMonteCarloTest(1, () => 0, plan(100), 0, { draw: () => 0, observed: 1, count: 200, hits: 0, mean: 0, m2: 0 })).toThrow(/resumed/);
+  });
 });
 
 describe("verdicts at both ends of the intervals", () => {

@@ -48,7 +48,7 @@ import { CATEGORICAL_TYPES } from "../../data/Table.js";
 import { lrToEffect, signedRootEffectCI } from "../../stats/effectScale.js";
 import { centredScores, linearByLinear as linearByLinearStatistic, type ScoredStratum } from "../../stats/linearByLinear.js";
 import { createScoredTableSampler, permutationFloorWarning, scoredTableSum, type ScoredMargins } from "../../stats/permutation.js";
-import { monteCarloSummary, planOf, runMonteCarloTest, type MonteCarloPlan, type MonteCarloSummary } from "../../stats/monteCarloDecision.js";
+import { monteCarloSummary, planOf, runMonteCarloKept, type MonteCarloPlan, type MonteCarloStream, type MonteCarloSummary } from "../../stats/monteCarloDecision.js";
 import { binaryStrataMargins, mantelFleiss, type MantelFleissResult } from "../../stats/mantelFleiss.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import { scaleExponent, timesPowerOfTwo } from "../../stats/powerOfTwoScale.js";
@@ -109,7 +109,7 @@ function stratumMargins(t: ScoredStratum): { row: Float64Array; col: Float64Arra
  * statistics order as before, and extreme scores' products stay finite.
  * Cost: O(Σ_s n_s) once, then O(draws · Σ_s (r_s·c_s + draws' spread)).
  */
-function permutationP(strata: readonly ScoredStratum[], plan: MonteCarloPlan, seed: number, key: string): { p: number; hits: number; draws: number } {
+function permutationP(strata: readonly ScoredStratum[], plan: MonteCarloPlan, seed: number, key: string, streams?: Map<string, MonteCarloStream>): { p: number; hits: number; draws: number } {
   const kept: Array<{ row: Float64Array; col: Float64Array; u: Float64Array; v: Float64Array; a: number; b: number; counts: ArrayLike<number> }> = [];
   for (const s of strata) {
     const { row, col } = stratumMargins(s);
@@ -131,8 +131,11 @@ function permutationP(strata: readonly ScoredStratum[], plan: MonteCarloPlan, se
     used.push({ rowMargins: k.row, colMargins: k.col, rowScores, colScores: k.v });
     observed += scoredTableSum(k.counts, rowScores, k.v);
   }
-  const sampler = createScoredTableSampler(used, createRng(seed, key));
-  return runMonteCarloTest(Math.abs(observed), () => Math.abs(sampler()), plan);
+  const fresh = () => {
+    const sampler = createScoredTableSampler(used, createRng(seed, key));
+    return () => Math.abs(sampler());
+  };
+  return runMonteCarloKept(Math.abs(observed), fresh, plan, 0, streams, key);
 }
 
 /** Largest |score| among those with a positive margin; 0 when none. Cost: O(length). */
@@ -200,7 +203,7 @@ export function runLinearByLinear(claim: Claim, ctx: TestContext): MethodResult 
   if (ctx.permutations !== undefined || sparse) {
     const plan = planOf(ctx);
     const floorWarning = permutationFloorWarning(plan.cap, ctx.decisionFloor);
-    const perm = permutationP(strata, plan, ctx.seed, streamKeyOfClaim(claim));
+    const perm = permutationP(strata, plan, ctx.seed, streamKeyOfClaim(claim), ctx.monteCarloStreams);
     p = perm.p;
     logP = Math.log(p);
     B = perm.draws;

@@ -54,7 +54,7 @@ import { mantelHaenszel } from "../../stats/mantelHaenszel.js";
 import {
   createTableStatisticSampler, permutationFloorWarning,
 } from "../../stats/permutation.js";
-import { monteCarloSummary, planOf, runMonteCarloTest, type MonteCarloPlan, type MonteCarloSummary } from "../../stats/monteCarloDecision.js";
+import { monteCarloSummary, planOf, runMonteCarloKept, type MonteCarloPlan, type MonteCarloStream, type MonteCarloSummary } from "../../stats/monteCarloDecision.js";
 import { chiSquareUpper, logChiSquareUpper } from "../../stats/pvalues.js";
 import { createRng, streamKeyOfClaim } from "../../stats/rng.js";
 import {
@@ -95,7 +95,14 @@ function quoted(names: readonly string[]): string {
  * by shuffling rows. O ln O comes from a table of x ln x for x ≤ the largest stratum.
  * Cost: O(Σ_s n_s) once, then O(max(draws, 200) · Σ_s (r_s·c_s + draws' spread)) — independent of the rows.
  */
-function permutationP(tables: readonly CompactStratum[], g2: number, plan: MonteCarloPlan, seed: number, key: string): { p: number; hits: number; draws: number; null: NullMoments } {
+function permutationP(
+  tables: readonly CompactStratum[],
+  g2: number,
+  plan: MonteCarloPlan,
+  seed: number,
+  key: string,
+  streams?: Map<string, MonteCarloStream>,
+): { p: number; hits: number; draws: number; null: NullMoments } {
   const rowViews: Float64Array[] = [];
   const colViews: Float64Array[] = [];
   let maxN = 0;
@@ -123,8 +130,7 @@ function permutationP(tables: readonly CompactStratum[], g2: number, plan: Monte
     if (t.rows < 2 || t.cols < 2) continue;
     for (let q = 0; q < t.counts.length; q++) observed += xLogX[t.counts[q]!]!;
   }
-  const draw = createTableStatisticSampler(rowViews, colViews, createRng(seed, key), xLogX);
-  const mc = runMonteCarloTest(observed, draw, plan, NULL_DRAWS);
+  const mc = runMonteCarloKept(observed, () => createTableStatisticSampler(rowViews, colViews, createRng(seed, key), xLogX), plan, NULL_DRAWS, streams, key);
   return { p: mc.p, hits: mc.hits, draws: mc.draws, null: { mean: g2 + 2 * (mc.mean - observed), variance: 4 * mc.variance } };
 }
 
@@ -170,7 +176,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   if (permute) {
     const plan = planOf(ctx);
     const floorWarning = permutationFloorWarning(plan.cap, ctx.decisionFloor);
-    const perm = permutationP(tables, res.g2, plan, ctx.seed, streamKeyOfClaim(claim));
+    const perm = permutationP(tables, res.g2, plan, ctx.seed, streamKeyOfClaim(claim), ctx.monteCarloStreams);
     p = perm.p;
     logP = Math.log(p);
     nullMoments = perm.null;
