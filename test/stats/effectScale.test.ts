@@ -257,6 +257,17 @@ describe(`permutationLrEffect [reference: ${cal.from}]`, () => {
     );
   });
 
+  it("permutationLrEffect: a permutation p of 0.03 gives an interval above 0, and 0.07 one from 0 (regression: the lower end was 0 whenever p ≥ 0.025)", () => {
+    const m = { mean: 82.3, variance: 45 };
+    const rejected = permutationLrEffect(104.6, 56, 100, m, 0.03);
+    const kept = permutationLrEffect(104.6, 56, 100, m, 0.07);
+    expect(rejected.ci[0]).toBeGreaterThan(0);
+    expect(kept.ci[0]).toBe(0);
+    // scripts/calibrated_effect_reference.py (scipy.optimize.brentq on scipy.stats.ncx2.sf after the probit shift): lower end 0.121199…
+    expect(rejected.ci[0]).toBeCloseTo(0.12119941440700972, 8);
+    expect(kept.ci[1]).toBeLessThan(rejected.ci[1]);
+  });
+
   it("permutationLrEffect rejects bad input", () => {
     const m = { mean: 5, variance: 8 };
     expect(() => permutationLrEffect(-1, 4, 10, m, 0.5)).toThrow(/finite number ≥ 0/);
