@@ -20,9 +20,9 @@ import { momentExpansions } from "./momentExpansions.js";
 import type { PatternMoments } from "../data/Moments.js";
 import { adjustPValues } from "../stats/adjustPValues.js";
 import { fisherC } from "../stats/fisherC.js";
-import {
-  bracketVerdicts, criticalValues, DEFAULT_RESAMPLING_RISK, MAX_CAP, nextLook, proposedDraws, sequenceInterval, type MonteCarloRequest,
-} from "../stats/monteCarloDecision.js";
+import { nextLook, sequenceInterval } from "../stats/confidenceSequence.js";
+import { bracketVerdicts, criticalValues } from "../stats/criticalValues.js";
+import { DEFAULT_RESAMPLING_RISK, MAX_CAP, proposedDraws, type MonteCarloRequest } from "../stats/monteCarloDecision.js";
 import { chooseMethod } from "./methods/index.js";
 import { repairArrows, repairTimeNote } from "./repairArrows.js";
 import { DEFAULT_POWER, detectableAlpha, detectableEffect } from "./detectable.js";

@@ -8,7 +8,8 @@
  * correlations does not cite categorical methods, and vice versa.
  */
 import type { AuditResult, TestName, TestedClaim, VariableSummary } from "../audit/types.js";
-import { DEFAULT_RESAMPLING_RISK, FIRST_LOOK } from "../stats/monteCarloDecision.js";
+import { FIRST_LOOK } from "../stats/confidenceSequence.js";
+import { DEFAULT_RESAMPLING_RISK } from "../stats/monteCarloDecision.js";
 import { adjustedInterval } from "./adjustedInterval.js";
 import type { ReportContext } from "./ReportContext.js";
 import {

@@ -2,9 +2,10 @@ import { spawnSync } from "node:child_process";
 import { describe, expect, it } from "vitest";
 import { adjustPValues } from "../../src/stats/adjustPValues.js";
 import { betaQuantile, clopperPearson, clopperPearsonMissing } from "../../src/stats/clopperPearson.js";
+import { FIRST_LOOK, lookRisk, lookSchedule, nextLook, sequenceInterval } from "../../src/stats/confidenceSequence.js";
+import { bracketVerdicts, criticalValues } from "../../src/stats/criticalValues.js";
 import {
-  bracketVerdicts, criticalValues, defaultPermutationCap, FIRST_LOOK, lookRisk, lookSchedule, monteCarloSummary, nextLook, planOf, proposedDraws,
-  runMonteCarloKept, runMonteCarloTest, sequenceInterval, type MonteCarloPlan,
+  defaultPermutationCap, monteCarloSummary, planOf, proposedDraws, runMonteCarloKept, runMonteCarloTest, type MonteCarloPlan,
 } from "../../src/stats/monteCarloDecision.js";
 import { createRng } from "../../src/stats/rng.js";
 

@@ -13,7 +13,7 @@ import { lrEffectCI } from "../../../src/stats/effectScale.js";
 import { chiSquareUpper } from "../../../src/stats/pvalues.js";
 import { lazyMoments } from "../../helpers/lazyMoments.js";
 import { createRng } from "../../../src/stats/rng.js";
-import { lookSchedule } from "../../../src/stats/monteCarloDecision.js";
+import { lookSchedule } from "../../../src/stats/confidenceSequence.js";
 
 // ---- tiny hand-built tables (the CSV reader is tested elsewhere) ----
 function cat(name: string, labels: readonly (string | null)[], type: VariableType = "nominal", levels?: readonly string[]): Column {
