@@ -5,6 +5,8 @@ import type { AuditResult } from "../../src/audit/types.js";
 import { createTable } from "../../src/data/createTable.js";
 import { createGraph } from "../../src/graph/createGraph.js";
 import { renderCsv } from "../../src/report/csv.js";
+import { renderHtmlReport } from "../../src/report/renderHtmlReport.js";
+import { renderMarkdownReport } from "../../src/report/renderMarkdownReport.js";
 import { buildReportText } from "../../src/report/buildReportText.js";
 import { renderTestText } from "../../src/report/terminal.js";
 import { adjustPValues } from "../../src/stats/adjustPValues.js";
@@ -176,9 +178,16 @@ describe("Holm and Benjamini–Hochberg over several Monte-Carlo claims", () => 
       const csv = renderCsv(r).split("\r\n");
       expect(csv[0]).toMatch(/p_draws,p_se,p_ci99_low,p_ci99_high,p_undecided,p_proposed_B$/);
       expect(csv.filter((l) => /,true,\d*$/.test(l)).length).toBe(undecided.length);
-      const text = buildReportText(r, { command: "arrowaudit test", date: "2024-06-11T00:00:00Z", inputs: [], toolVersion: "0.0.0" });
+      const context = { command: "arrowaudit test", date: "2024-06-11T00:00:00Z", inputs: [], toolVersion: "0.0.0" };
+      const text = buildReportText(r, context);
       expect(text.claimRows.filter((row) => row.undecided.startsWith("undecided")).length).toBe(undecided.length);
       expect(text.claimRows.every((row) => row.pPrecision.includes("draws, 99% CI"))).toBe(true);
+      const html = renderHtmlReport(r, context);
+      expect(html.match(/<span class="undecided">undecided/g)?.length).toBe(undecided.length);
+      expect(html).toContain("draws, 99% CI");
+      const md = renderMarkdownReport(r, context);
+      expect(md.match(/consistent \(undecided|contradicted\*\* \(undecided/g)?.length).toBe(undecided.length);
+      expect(md).toMatch(/was not resolved within that limit and is provisional/);
     }
   }, 60_000);
 
