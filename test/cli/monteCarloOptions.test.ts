@@ -6,7 +6,12 @@ import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
+import { claimHelper } from "../../cli/claimHelper.js";
+import { runAudit, runAuditParallel } from "../../src/audit/runAudit.js";
 import type { AuditResult } from "../../src/audit/types.js";
+import { createTable } from "../../src/data/createTable.js";
+import { createGraph } from "../../src/graph/createGraph.js";
+import { createRng } from "../../src/stats/rng.js";
 import { runCli } from "../helpers/runCli.js";
 
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-mc-"));
@@ -49,4 +54,26 @@ describe("arrowaudit test: Monte-Carlo options", () => {
     expect(text.stdout).toMatch(/consistent\?|contradicted\?/);
     expect(text.stdout).toMatch(/warning: 1 verdict was not resolved by the cap on Monte-Carlo draws/);
   });
+});
+
+describe("Monte-Carlo re-runs and the helper thread", () => {
+  it("runAuditParallel with the worker helper equals runAudit when undecided Monte-Carlo claims are re-run (claims first drawn on the worker are redrawn here from the start)", async () => {
+    const names = ["a", "b", "c", "d", "e", "f"];
+    const rng = createRng(1, "mc audit");
+    const cols: Record<string, number[]> = Object.fromEntries(names.map((k) => [k, [] as number[]]));
+    const bit = (p: number) => (rng.nextFloat() < p ? 1 : 0);
+    for (let i = 0; i < 150; i++) {
+      const a = bit(0.3), b = bit(a ? 0.6 : 0.25), c = bit(0.4), d = bit(c ? 0.5 : 0.33), e = bit(b ? 0.35 : 0.2), f = bit(0.2);
+      for (const [k, v] of Object.entries({ a, b, c, d, e, f })) cols[k]!.push(v);
+    }
+    const graph = createGraph({ nodes: names, arrows: [] });
+    const table = createTable(cols);
+    for (const adjust of ["holm", "bh"] as const) {
+      const settings = { permutations: 100_000, adjust };
+      const alone = runAudit(graph, table, { settings });
+      expect(alone.claims.some((c) => c.B! > 800)).toBe(true); // some claims needed re-runs
+      const shared = await runAuditParallel(graph, table, { settings, helper: claimHelper, helperMinWork: 0 });
+      expect(JSON.stringify(shared)).toBe(JSON.stringify(alone));
+    }
+  }, 60_000);
 });
