@@ -42,6 +42,7 @@ export const auditOptions = (c: Command): Command =>
     .addOption(new Option("--method <method>", "test per claim: auto picks by variable types").choices(["auto", "linear", "rank", "chisq", "regression"]).default("auto"))
     .option("--min-effect <e>", "relevance floor: |effect| below it is never contradicted", numberIn("--min-effect", 0, 1), 0)
     .option("--power <p>", "power at which each claim's detectable effect is given", numberIn("--power", 0.05, 0.999), 0.8)
+    .option("--margin <m>", "equivalence margin on the effect scale: an omission is supported when the effect's (1 − 2·alpha) interval (90% at 0.05) lies inside ±m", numberIn("--margin", 1e-6, 1), 0.1)
     .addOption(new Option("--rank-by <key>", "rank contradicted claims by adjusted p or by |effect|").choices(["p", "effect"]).default("p"))
     .option("--missing <codes>", 'extra missing-value codes, comma-separated: a bare code for every column, name=code for one column (e.g. "-9,999,fage=0"); quote a name or code that holds , or = ("...")')
     .option("--ignore <names>", "comma-separated columns to leave out (never a measured node of the graph)")

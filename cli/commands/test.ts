@@ -29,6 +29,7 @@ export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettin
     rank_by: opts.rankBy as AuditSettings["rank_by"],
     seed: opts.seed as number,
     ...(opts.power !== undefined ? { power: opts.power as number } : {}),
+    ...(opts.margin !== undefined ? { margin: opts.margin as number } : {}),
     ...(opts.permutations !== undefined ? { permutations: opts.permutations as number } : {}),
     ...(opts.resamplingRisk !== undefined ? { resampling_risk: opts.resamplingRisk as number } : {}),
   };

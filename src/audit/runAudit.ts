@@ -26,6 +26,7 @@ import { DEFAULT_RESAMPLING_RISK, MAX_CAP, proposedDraws, type MonteCarloRequest
 import { chooseMethod } from "./methods/index.js";
 import { repairArrows, repairTimeNote } from "./repairArrows.js";
 import { DEFAULT_POWER, detectableAlpha, detectableEffect } from "./detectable.js";
+import { DEFAULT_MARGIN, equivalenceOf, groupCounts } from "./equivalence.js";
 import { compareClaims } from "./rankClaims.js";
 import type { MethodResult, TestContext, TestMethod } from "./TestMethod.js";
 import type { AuditResult, AuditSettings, Claim, TestedClaim, TestOutcome, UntestableClaim } from "./types.js";
@@ -40,6 +41,7 @@ export const DEFAULT_SETTINGS: AuditSettings = {
   rank_by: "p",
   seed: 1,
   power: DEFAULT_POWER,
+  margin: DEFAULT_MARGIN,
 };
 
 /** With --sets all-minimal, the most separating sets tested per pair. */
@@ -383,7 +385,13 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
     const timeNote = verdict === "contradicted" ? repairTimeNote(graph, t.x, t.y) : undefined;
     const warned = timeNote ? { warnings: [...(t.warnings ?? []), timeNote] } : {};
     const detectable = detectableEffect(t, detectableAlpha(settings, tested.length), settings.power ?? DEFAULT_POWER);
-    return { ...t, ...warned, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y), ...monteCarloVerdict(t, i), ...(detectable !== undefined ? { detectable } : {}) };
+    const eq = equivalenceOf(t, settings.alpha, settings.margin ?? DEFAULT_MARGIN);
+    return {
+      ...t, ...warned, p_adjusted, verdict, rank: 0, arrows: repairArrows(graph, t.x, t.y), ...monteCarloVerdict(t, i),
+      ...(detectable !== undefined ? { detectable } : {}),
+      equivalence: eq.equivalence,
+      ...(eq.interval ? { equivalence_interval: eq.interval } : {}),
+    };
   });
   const undecided = result.filter((c) => c.p_undecided);
   if (undecided.length > 0) {
@@ -441,6 +449,7 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
       k: result.length,
       contradicted,
       expected_by_chance: result.length * settings.alpha,
+      groups: groupCounts(result),
       ...(notes.length ? { note: notes.join("; ") } : {}),
     },
     warnings,

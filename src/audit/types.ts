@@ -88,6 +88,13 @@ export interface TestedClaim extends Claim, TestOutcome {
    * test has too few df.
    */
   detectable?: number;
+  /**
+   * The equivalence test against `settings.margin` (`audit/equivalence.ts`): "supported" when the
+   * effect's (1 − 2α) interval lies inside (−margin, margin), else "inconclusive".
+   */
+  equivalence?: "supported" | "inconclusive";
+  /** The (1 − 2α) interval the equivalence test used (90% at α = 0.05). */
+  equivalence_interval?: [number, number];
 }
 
 export interface VariableSummary {
@@ -108,6 +115,8 @@ export interface AuditSettings {
   rank_by: "p" | "effect";
   seed: number;
   permutations?: number;
+  /** Margin of the equivalence tests on the effect scale (--margin); absent: 0.1. */
+  margin?: number;
   /** Power at which each claim's detectable effect is computed (--power); absent: 0.8. */
   power?: number;
   /** Resampling risk ε of Monte-Carlo verdicts (--resampling-risk); absent: 1e-3. */
@@ -126,6 +135,8 @@ export interface GlobalTest {
   expected_by_chance: number;
   /** Set when the global test's assumptions are not met (e.g. a non-basis set was used). */
   note?: string;
+  /** Claims per group: verdict crossed with equivalence (`audit/equivalence.ts`). */
+  groups?: { contradicted: number; contradicted_within_margin: number; supported: number; inconclusive: number };
 }
 
 export interface AuditResult {
