@@ -10,6 +10,8 @@
 import type { AuditResult, TestName, TestedClaim, VariableSummary } from "../audit/types.js";
 import { FIRST_LOOK } from "../stats/confidenceSequence.js";
 import { DEFAULT_RESAMPLING_RISK } from "../stats/monteCarloDecision.js";
+import { normalQuantile } from "../stats/quantiles.js";
+import { claimGroup, DEFAULT_MARGIN, GROUP_WORDS, groupCounts } from "../audit/equivalence.js";
 import { adjustedInterval } from "./adjustedInterval.js";
 import type { ReportContext } from "./ReportContext.js";
 import {
@@ -51,11 +53,15 @@ type RefKey =
   | "satterthwaite1946"
   | "besag1991"
   | "clopper1934"
-  | "gandy2016";
+  | "gandy2016"
+  | "schuirmann1987"
+  | "cohen1988";
 
 /** Full references, in the journal style of an epidemiology methods section. */
 const REFERENCES: Record<RefKey, string> = {
   pearl2009: "Pearl J. Causality: Models, Reasoning, and Inference. 2nd ed. Cambridge: Cambridge University Press; 2009.",
+  schuirmann1987: "Schuirmann DJ. A comparison of the two one-sided tests procedure and the power approach for assessing the equivalence of average bioavailability. Journal of Pharmacokinetics and Biopharmaceutics. 1987;15(6):657–680.",
+  cohen1988: "Cohen J. Statistical Power Analysis for the Behavioral Sciences. 2nd ed. Hillsdale, NJ: Lawrence Erlbaum; 1988.",
   shipley2000: "Shipley B. A new inferential test for path models based on directed acyclic graphs. Structural Equation Modeling. 2000;7(2):206–218.",
   tian1998: "Tian J, Paz A, Pearl J. Finding minimal d-separators. Technical Report R-254. Los Angeles: University of California, Cognitive Systems Laboratory; 1998.",
   fisher1925: "Fisher RA. Statistical Methods for Research Workers. Edinburgh: Oliver and Boyd; 1925.",
@@ -99,7 +105,7 @@ function gcmParameters(c: TestedClaim): number {
 }
 
 /** How each test is described in the methods (given the claims it tested), and what it cites. */
-const TEST_TEXT: Record<TestName, { name: string; text: (cs: readonly TestedClaim[]) => string; refs: RefKey[] }> = {
+const TEST_TEXT: Record<TestName, { name: string; text: (cs: readonly TestedClaim[], alpha: number) => string; refs: RefKey[] }> = {
   gcm: {
     name: "generalised covariance measure",
     text: (cs) => {
@@ -124,9 +130,9 @@ const TEST_TEXT: Record<TestName, { name: string; text: (cs: readonly TestedClai
   },
   "pearson-partial": {
     name: "Pearson partial r",
-    text: (cs) => {
+    text: (cs, alpha) => {
       const c = range(cs.map((k) => k.n - 2 - k.df));
-      return `the partial Pearson correlation r, tested with the t statistic on n − 2 − c degrees of freedom, c being the number of columns of the conditioning set (one for each continuous or binary member, one indicator for each level but the first of an ordinal or nominal member${c ? `; here ${c}` : ""}), with a 95% confidence interval from Fisher's z transformation (Fisher 1921; Fisher 1924)`;
+      return `the partial Pearson correlation r, tested with the t statistic on n − 2 − c degrees of freedom, c being the number of columns of the conditioning set (one for each continuous or binary member, one indicator for each level but the first of an ordinal or nominal member${c ? `; here ${c}` : ""}), with a ${levelPercent(1 - alpha)} confidence interval from Fisher's z transformation with the standard error the t test implies, so that it excludes 0 exactly when p < ${alpha} (Fisher 1921; Fisher 1924)`;
     },
     refs: ["fisher1921", "fisher1924"],
   },
@@ -162,8 +168,12 @@ export interface ClaimRow {
   claim: string;
   n: string;
   test: string;
-  /** Effect with its unadjusted 95% interval, e.g. "r = -0.16 [-0.20, -0.13]". */
+  /** Effect with its unadjusted interval at 1 − α (95% by default), e.g. "r = -0.16 [-0.20, -0.13]". */
   effect: string;
+  /** The smallest |effect| the claim's test detects with the settings' power at its level, e.g. "0.088"; "n/a" when not computed. */
+  detectable: string;
+  /** The claim's group: verdict crossed with its equivalence test ("supported (equivalent)", "inconclusive (neither shown)", …). */
+  group: string;
   /** The interval at the level the adjustment used for this claim, with that level: "[-0.21, -0.12] at 99.85%". */
   adjustedInterval: string;
   /** The Mantel–Haenszel common odds ratio with its 95% interval, for claims on 2×2×K tables; "" otherwise. */
@@ -361,7 +371,7 @@ function testsParagraph(result: AuditResult, refs: Set<RefKey>): string | undefi
     const vt = [...new Set(cs.flatMap((c) => [types.get(c.x)?.type, types.get(c.y)?.type]).filter((v): v is NonNullable<typeof v> => v !== undefined))].sort();
     TEST_TEXT[t].refs.forEach((r) => refs.add(r));
     const who = `${cap(plural(cs.length, "claim", "claims"))}${vt.length > 0 ? ` involving ${listJoin(vt)} variables` : ""}`;
-    return `${who} ${cs.length === 1 ? "was" : "were"} tested with ${TEST_TEXT[t].text(cs)}.`;
+    return `${who} ${cs.length === 1 ? "was" : "were"} tested with ${TEST_TEXT[t].text(cs, result.settings.alpha)}.`;
   });
   let text = `Each claim was tested with a method suited to its variables' types. ${parts.join(" ")}`;
   const scoreTests: TestName[] = ["gcm", "gcm-rank", "pearson-partial"];
@@ -378,7 +388,7 @@ function testsParagraph(result: AuditResult, refs: Set<RefKey>): string | undefi
     refs.add("magee1990");
     refs.add("steiger1990");
     text +=
-      " Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a 95% interval from the noncentral chi-square distribution (Steiger 1990) whose lower end is the one-sided bound at 0.05, so that it excludes 0 exactly when the test rejects at 0.05; one-degree-of-freedom results take the signed-root interval, sign·√LR ± 1.96 mapped to the same scale.";
+      ` Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a ${levelPercent(1 - s.alpha)} interval from the noncentral chi-square distribution (Steiger 1990) whose lower end is the one-sided bound at ${s.alpha}, so that it excludes 0 exactly when the test rejects at ${s.alpha}; one-degree-of-freedom results take the signed-root interval, sign·√LR ± z₁₋α/₂ (${normalQuantile(1 - s.alpha / 2).toFixed(2)}) mapped to the same scale.`;
   }
   const mh = claims.filter((c) => c.details?.mantel_haenszel !== undefined);
   if (mh.length > 0) {
@@ -478,7 +488,33 @@ function resultsParagraph(result: AuditResult, refs: Set<RefKey>): string {
   refs.add("shipley2000");
   res += ` Combining the ${plural(k, "p-value", "p-values")} with Fisher's method (Fisher 1925), as proposed for graph tests by Shipley (2000), gave C = ${formatStatistic(gl.statistic)} on ${gl.df} degrees of freedom, ${formatPInline(gl.p)}.`;
   if (gl.note) res += ` ${cap(gl.note)}.`;
+  res += ` ${equivalenceSentence(result, refs)}`;
   return res;
+}
+
+/**
+ * What the audit could have detected and which omissions the data support: the range of the
+ * detectable effects, and the four groups of the equivalence tests with the margin.
+ */
+function equivalenceSentence(result: AuditResult, refs: Set<RefKey>): string {
+  const s = result.settings;
+  const claims = result.claims;
+  const margin = s.margin ?? DEFAULT_MARGIN;
+  const g = groupCounts(claims);
+  refs.add("schuirmann1987");
+  refs.add("cohen1988");
+  const det = claims.map((c) => c.detectable).filter((d): d is number => d !== undefined && Number.isFinite(d));
+  const level = s.adjust === "none" ? `α = ${s.alpha}` : `α/k = ${Number((s.alpha / Math.max(1, claims.length)).toPrecision(3))}, the smallest threshold of the adjustment`;
+  const detect = det.length
+    ? `With ${Math.round(100 * (s.power ?? 0.8))}% power at ${level}, the tests could detect absolute effects from ${formatEffect(Math.min(...det), 3)} to ${formatEffect(Math.max(...det), 3)} (Fisher's z for partial correlations, Cohen 1988; the noncentral chi-square otherwise); smaller violations would usually go unseen, so a claim that was not contradicted is not thereby shown to hold. `
+    : "";
+  return `${detect}Equivalence was tested with two one-sided tests at ${s.alpha} against a margin of ±${margin} on the effect scale (Schuirmann 1987), a claim being supported when its ${levelPercent(1 - 2 * s.alpha)} interval lay inside the margin: ${formatCount(g.contradicted)} ${g.contradicted === 1 ? "claim was" : "claims were"} contradicted, ${formatCount(g.contradicted_within_margin)} contradicted but within the margin (a real but negligible dependence), ${formatCount(g.supported)} supported as equivalent to independence, and ${formatCount(g.inconclusive)} inconclusive (neither shown).`;
+}
+
+/** The four groups in one line: "2 contradicted, 0 contradicted but within the margin, 5 supported, 3 inconclusive". */
+function groupSummary(result: AuditResult): string {
+  const g = groupCounts(result.claims);
+  return `${formatCount(g.contradicted)} contradicted, ${formatCount(g.contradicted_within_margin)} contradicted but within the margin, ${formatCount(g.supported)} supported (equivalent), ${formatCount(g.inconclusive)} inconclusive`;
 }
 
 function methodsText(result: AuditResult, context: ReportContext, refs: Set<RefKey>): string[] {
@@ -535,6 +571,7 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
     { label: "Contradicted", value: formatCount(contradicted) },
     { label: "Consistent", value: formatCount(claims.length - contradicted) },
     { label: "Untestable", value: formatCount(result.untestable.length) },
+    ...(claims.length > 0 ? [{ label: `Equivalence (margin ±${s.margin ?? DEFAULT_MARGIN})`, value: groupSummary(result) }] : []),
     {
       label: "Global test",
       value: claims.length > 0 ? `Fisher's C = ${formatStatistic(result.global.statistic)}, df = ${result.global.df}, ${formatPInline(result.global.p)}` : "not computed (no claims tested)",
@@ -547,6 +584,8 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
     n: formatCount(c.n),
     test: TEST_TEXT[c.test]?.name ?? c.test,
     effect: `${claimEffectSymbol(c)} = ${formatEffectWithCI(c.effect, c.ci)}`,
+    detectable: c.detectable !== undefined ? formatEffect(c.detectable, c.detectable < 0.1 ? 3 : 2) : "n/a",
+    group: GROUP_WORDS[claimGroup(c)],
     adjustedInterval: adjustedCell(c, s.alpha),
     oddsRatio: oddsRatioCell(c),
     p: formatP(c.p),
@@ -642,9 +681,9 @@ function intervalNote(result: AuditResult): string {
   const s = result.settings;
   const floor = s.min_effect > 0 ? ` and on the relevance floor ${s.min_effect}` : "";
   if (s.adjust === "none") {
-    return `The 95% interval is unadjusted, as are the p-values; the adjusted interval is the interval at the level α = ${s.alpha} used for every claim (confidence ${levelPercent(1 - s.alpha)}), and the verdict depends on the p-value${floor}.`;
+    return `The ${levelPercent(1 - s.alpha)} interval is unadjusted, as are the p-values; the adjusted interval is the interval at the level α = ${s.alpha} used for every claim (confidence ${levelPercent(1 - s.alpha)}), and the verdict depends on the p-value${floor}.`;
   }
   const method = s.adjust === "holm" ? "Holm's method" : "the Benjamini–Hochberg method";
   const threshold = s.adjust === "holm" ? "α/(k − j + 1) for the j-th smallest of k p-values" : "jα/k for the j-th smallest of k p-values";
-  return `The 95% interval is unadjusted and can exclude 0 for a claim judged consistent. The verdict depends on the adjusted p-value${floor}; the adjusted interval is the interval at the level ${method} used for that claim (confidence 1 − α·p/p_adjusted, which is 1 − ${threshold} unless the monotone step raised the adjusted p-value), so it excludes 0 when the adjusted p-value is below α = ${s.alpha}.`;
+  return `The ${levelPercent(1 - s.alpha)} interval is unadjusted and can exclude 0 for a claim judged consistent. The verdict depends on the adjusted p-value${floor}; the adjusted interval is the interval at the level ${method} used for that claim (confidence 1 − α·p/p_adjusted, which is 1 − ${threshold} unless the monotone step raised the adjusted p-value), so it excludes 0 when the adjusted p-value is below α = ${s.alpha}.`;
 }

@@ -168,6 +168,12 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
     { shape: (x, y) => `<circle cx="${n(x + 6)}" cy="${n(y)}" r="4.6" fill="#ffffff" stroke="${PALETTE.blue}" stroke-width="2"/>`, text: "consistent" },
     { shape: (x, y) => `<line x1="${n(x - 2)}" x2="${n(x + 14)}" y1="${n(y)}" y2="${n(y)}" stroke="${INK.arrow}" stroke-width="3"/>`, text: `${levelText} confidence interval (unadjusted)` },
   ];
+  if (rows.some((c) => c.detectable !== undefined)) {
+    legendItems.push({
+      shape: (x, y) => `<line x1="${n(x + 6)}" x2="${n(x + 6)}" y1="${n(y - 6)}" y2="${n(y + 6)}" stroke="${INK.muted}" stroke-width="1.2" stroke-dasharray="2 1.5"/>`,
+      text: "smallest effect the claim's test detects with the chosen power (± for signed effects)",
+    });
+  }
   if (rows.some(isSeveralDf)) {
     legendItems.push({
       shape: () => "",
@@ -245,6 +251,14 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
       const b = clampX(adj.ci[1]);
       mark += `<line class="ci-adjusted" x1="${n(a)}" x2="${n(b)}" y1="${n(y)}" y2="${n(y)}" stroke="${color}" stroke-width="1"/>`;
       mark += `<line x1="${n(a)}" x2="${n(a)}" y1="${n(y - 3)}" y2="${n(y + 3)}" stroke="${color}" stroke-width="1"/><line x1="${n(b)}" x2="${n(b)}" y1="${n(y - 3)}" y2="${n(y + 3)}" stroke="${color}" stroke-width="1"/>`;
+    }
+    if (c.detectable !== undefined && Number.isFinite(c.detectable)) {
+      // ± the smallest effect the claim's test detects with the settings' power (one tick for effects that are never negative)
+      const ticks = isSeveralDf(c) ? [c.detectable] : [-c.detectable, c.detectable];
+      for (const d of ticks) {
+        const x = clampX(d);
+        mark += `<line class="detectable" x1="${n(x)}" x2="${n(x)}" y1="${n(y - 6)}" y2="${n(y + 6)}" stroke="${INK.muted}" stroke-width="1.2" stroke-dasharray="2 1.5"/>`;
+      }
     }
     const [l, u] = c.ci;
     if (Number.isFinite(l) && Number.isFinite(u)) {

@@ -94,13 +94,13 @@ export function renderMarkdownReport(result: AuditResult, context: ReportContext
   if (t.claimRows.length === 0) {
     out.push("No claim could be tested.", "");
   } else {
-    out.push("| # | Claim | n | Test | Effect [95% CI] | Adjusted interval | p | Adjusted p | Verdict | Arrows to consider |");
-    out.push("|--:|:--|--:|:--|--:|--:|--:|--:|:--|:--|");
+    out.push(`| # | Claim | n | Test | Effect [${Number((100 * (1 - result.settings.alpha)).toFixed(4))}% CI] | Detectable | Adjusted interval | p | Adjusted p | Verdict | Equivalence | Arrows to consider |`);
+    out.push("|--:|:--|--:|:--|--:|--:|--:|--:|--:|:--|:--|:--|");
     for (const r of t.claimRows) {
       const verdict = (r.verdict === "contradicted" ? "**contradicted**" : "consistent") + (r.undecided ? ` (${e(r.undecided)})` : "");
       const arrows = r.arrows ? r.arrows.split("; ").map((a) => e(a)).join("; ") : "";
       const effect = r.oddsRatio ? `${r.effect}; ${r.oddsRatio}` : r.effect;
-      out.push(`| ${r.rank} | ${e(r.claim)} | ${e(r.n)} | ${e(r.test)} | ${e(effect)} | ${e(r.adjustedInterval)} | ${e(r.p)}${r.pPrecision ? ` (${e(r.pPrecision)})` : ""} | ${e(r.pAdjusted)} | ${verdict} | ${arrows} |`);
+      out.push(`| ${r.rank} | ${e(r.claim)} | ${e(r.n)} | ${e(r.test)} | ${e(effect)} | ${e(r.detectable)} | ${e(r.adjustedInterval)} | ${e(r.p)}${r.pPrecision ? ` (${e(r.pPrecision)})` : ""} | ${e(r.pAdjusted)} | ${verdict} | ${e(r.group)} | ${arrows} |`);
     }
     out.push("", `Read "x ⫫ y \\| a, b" as "x is independent of y given a and b"; ∅ is the empty set. ${e(t.effectNote)}. ${e(t.intervalNote)}`, "");
   }

@@ -10,6 +10,7 @@
  * only when the caller asks for it (the CLI asks on a TTY without NO_COLOR).
  */
 import type { AuditResult, Claim, TestedClaim, TestName, UntestableClaim } from "../audit/types.js";
+import { DEFAULT_MARGIN } from "../audit/equivalence.js";
 import { escapeControlCharacters, escapeTerminal } from "./escapeTerminal.js";
 import { asciiName, claimLabel, formatCount, formatEffectWithCI, formatP, formatPInline, formatStatistic } from "./format.js";
 
@@ -274,7 +275,23 @@ function monteCarloLines(r: AuditResult): string[] {
   return out;
 }
 
-/** Whether a claim's 95% interval and its (adjusted) verdict seem to disagree: an interval excluding 0 beside "consistent", or the reverse. */
+/** A confidence level as a percentage without trailing zeros: 0.95 → "95%", 0.999 → "99.9%". */
+function levelText(level: number): string {
+  return `${Number((100 * level).toFixed(4))}%`;
+}
+
+/**
+ * The groups line: verdict crossed with the equivalence test (margin ±m), in words a methods
+ * section can use; undefined without tested claims.
+ */
+function groupsText(r: AuditResult): string | undefined {
+  const g = r.global.groups;
+  if (!g || r.global.k === 0) return undefined;
+  const m = r.settings.margin ?? DEFAULT_MARGIN;
+  return `equivalence (margin ±${m}, two one-sided tests at ${r.settings.alpha}): ${formatCount(g.contradicted)} contradicted; ${formatCount(g.contradicted_within_margin)} contradicted but within the margin (real but negligible); ${formatCount(g.supported)} supported (equivalent to independence); ${formatCount(g.inconclusive)} inconclusive (neither shown, see "detect." for what each test could see)`;
+}
+
+/** Whether a claim's interval and its (adjusted) verdict seem to disagree: an interval excluding 0 beside "consistent", or the reverse. */
 function intervalDisagrees(c: TestedClaim): boolean {
   const [lo, hi] = c.ci;
   if (!Number.isFinite(lo) || !Number.isFinite(hi)) return false;
@@ -288,7 +305,7 @@ function intervalNote(r: AuditResult, disagree: readonly TestedClaim[]): string 
   const which = disagree.slice(0, 5).map((c) => `#${c.rank}`).join(", ") + (disagree.length > 5 ? ", ..." : "");
   const basis = s.adjust === "none" ? `unadjusted p < ${s.alpha}` : `${s.adjust === "holm" ? "Holm" : "Benjamini-Hochberg"}-adjusted p-values`;
   const floor = s.min_effect > 0 ? ` and the relevance floor ${s.min_effect}` : "";
-  return `note: the intervals are unadjusted 95% intervals and the verdicts use ${basis}${floor}, so an interval and its verdict can disagree (${which}); the report also shows each claim's interval at its adjusted level`;
+  return `note: the intervals are unadjusted ${levelText(1 - s.alpha)} intervals and the verdicts use ${basis}${floor}, so an interval and its verdict can disagree (${which}); the report also shows each claim's interval at its adjusted level`;
 }
 
 /** Escaped copies of the strings of a result that the test text prints (names are escaped by the name style). */
@@ -316,13 +333,14 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   if (r.variables.some((v) => v.type_source === "inferred")) out.push(...wrap("  * type inferred from the values; declare with --types if wrong", width, "    "));
   out.push("");
 
-  const head = ["#", "claim", "n", "test", "effect [95% CI]", "p", "p adj", "verdict"];
+  const head = ["#", "claim", "n", "test", `effect [${levelText(1 - r.settings.alpha)} CI]`, "detect.", "p", "p adj", "verdict"];
   const cells = r.claims.map((c) => [
     String(c.rank),
     "",
     formatCount(c.n),
     SHORT_TEST[c.test] + (c.p_method === "permutation" ? "+perm" : ""),
     formatEffectWithCI(c.effect, c.ci),
+    c.detectable !== undefined ? c.detectable.toFixed(c.detectable < 0.1 ? 3 : 2) : "n/a",
     formatP(c.p),
     formatP(c.p_adjusted),
     c.verdict + (c.p_undecided ? "?" : ""),
@@ -340,7 +358,7 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
     const labelW = Math.min(claimW, Math.max(len(head[1]!), ...r.claims.map((c) => len(claimLines(c, Number.MAX_SAFE_INTEGER, probe)[0]!))));
     const style = nameStyle(names, nameRoom(labelW), ascii);
     const widths = colW.map((w, i) => (i === 1 ? labelW : w));
-    const rightAligned = new Set([0, 2, 5, 6]);
+    const rightAligned = new Set([0, 2, 5, 6, 7]);
     const fmtRow = (row: string[]) => row.map((s, i) => (rightAligned.has(i) ? padLeft(s, widths[i]!) : pad(s, widths[i]!))).join("  ").trimEnd();
     out.push(paint(color, "1", fmtRow(head)));
     const claimIndent = " ".repeat(widths[0]! + 2);
@@ -359,12 +377,12 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
     const w = String(r.claims.length).length;
     const indent = " ".repeat(w + 2);
     const style = nameStyle(names, nameRoom(width - indent.length), ascii);
-    out.push(...wrap("ranked claims (verdict; effect [95% CI]; p; adjusted p; n; test):", width, "  "));
+    out.push(...wrap(`ranked claims (verdict; effect [${levelText(1 - r.settings.alpha)} CI]; detectable; p; adjusted p; n; test):`, width, "  "));
     r.claims.forEach((c, k) => {
       const label = claimLines(c, width - indent.length, style);
       const row = cells[k]!;
       const lines = [padLeft(row[0]!, w) + "  " + label[0]!, ...label.slice(1).map((l) => indent + l)];
-      lines.push(...wrap(`${indent}${row[7]}; ${row[4]}; p ${row[5]}; p adj ${row[6]}; n ${row[2]}; ${row[3]}`, width, indent));
+      lines.push(...wrap(`${indent}${row[8]}; ${row[4]}; detectable ${row[5]}; p ${row[6]}; p adj ${row[7]}; n ${row[2]}; ${row[3]}`, width, indent));
       if (c.verdict === "contradicted") {
         out.push(...lines.map((l) => paint(color, "1;38;5;166", l)));
         out.push(...wrap(`${indent}consider: ${safe.arrows[k]!.join(", ")}`, width, indent + "  "));
@@ -383,6 +401,8 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   }
   out.push("");
   out.push(...wrap(globalText(r, ascii), width, "  "));
+  const groups = groupsText(r);
+  if (groups) out.push(...wrap(groups, width, "  "));
   if (safe.note) out.push(...wrap(`note: ${safe.note}`, width, "  "));
   for (const w of safe.warnings) out.push(...wrap(`warning: ${w}`, width, "  "));
   out.push(...wrap("Consistency with the data does not prove the graph: other graphs imply the same independencies, and untested claims are not confirmed.", width, ""));

@@ -27,7 +27,7 @@ describe("renderCsv", () => {
     const r = sampleResult();
     const lines = renderCsv(r).trimEnd().split("\r\n");
     // the Monte-Carlo columns come last, so the earlier ones keep their positions
-    expect(lines[0]).toBe("rank,x,y,given,n,test,statistic,df,p,log_p,p_adjusted,p_method,effect,ci_low,ci_high,verdict,arrows,reason,p_draws,p_se,p_ci99_low,p_ci99_high,p_undecided,p_proposed_B");
+    expect(lines[0]).toBe("rank,x,y,given,n,test,statistic,df,p,log_p,p_adjusted,p_method,effect,ci_low,ci_high,verdict,arrows,reason,p_draws,p_se,p_ci99_low,p_ci99_high,p_undecided,p_proposed_B,detectable,equivalence,equivalence_ci_low,equivalence_ci_high");
     expect(lines).toHaveLength(1 + r.claims.length + r.untestable.length);
   });
 });

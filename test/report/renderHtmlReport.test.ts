@@ -92,7 +92,7 @@ describe("renderHtmlReport: intervals, odds ratios and coding", () => {
   it("renderHtmlReport tabulates each claim's adjusted interval beside its 95% interval, with the note saying which is which", async () => {
     const r = sampleResult();
     const html = await report(r);
-    expect(html).toContain('<th class="num">Effect [95% CI]</th><th class="num">Adjusted interval</th>');
+    expect(html).toContain('<th class="num">Effect [95% CI]</th><th class="num">Detectable</th><th class="num">Adjusted interval</th>');
     expect(count(html, /<td class="num adjusted">\[/)).toBe(r.claims.length);
     expect(html).toContain("The 95% interval is unadjusted and can exclude 0 for a claim judged consistent.");
     expect(html).toContain('class="ci-adjusted"');

@@ -33,7 +33,7 @@ describe("escapeMarkdown", () => {
 });
 
 describe("renderMarkdownReport", () => {
-  it("renderMarkdownReport has one table row per claim, each with ten cells", () => {
+  it("renderMarkdownReport has one table row per claim, each with twelve cells (detectable effect and equivalence group added)", () => {
     const r = sampleResult();
     const md = renderMarkdownReport(r, sampleContext());
     const lines = md.split("\n");
@@ -41,9 +41,10 @@ describe("renderMarkdownReport", () => {
     const rows = [];
     for (let i = header + 2; lines[i]!.startsWith("|"); i++) rows.push(lines[i]!);
     expect(rows).toHaveLength(r.claims.length);
-    for (const row of rows) expect(cells(row)).toHaveLength(10);
+    for (const row of rows) expect(cells(row)).toHaveLength(12);
     expect(cells(rows[0]!)[1]).toBe("commute\\_min ⫫ sbp \\| active, age, fatigue, sleep\\_h");
-    expect(cells(rows[0]!)[8]).toBe("**contradicted**");
+    expect(cells(rows[0]!)[9]).toBe("**contradicted**");
+    expect(cells(rows[0]!)[10]).toBe("contradicted");
   });
 
   it("renderMarkdownReport references the drawing only when svgFile is given", () => {
@@ -75,7 +76,7 @@ describe("renderMarkdownReport", () => {
 
   it("renderMarkdownReport shows the adjusted interval and the coding of categorical variables", () => {
     const md = renderMarkdownReport(sampleResult(), sampleContext());
-    expect(md).toContain("| Effect [95% CI] | Adjusted interval |");
+    expect(md).toContain("| Effect [95% CI] | Detectable | Adjusted interval |");
     expect(md).toContain("| Levels and coding |");
     expect(md).toContain("| no = 0, yes = 1 |");
     expect(md).toContain("The 95% interval is unadjusted and can exclude 0 for a claim judged consistent.");

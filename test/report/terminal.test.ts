@@ -106,7 +106,7 @@ describe("renderTestText width", () => {
       for (const c of sampleResult().claims) expect(text).toMatch(new RegExp(`^ *${c.rank}  `, "m"));
     }
     expect(renderTestText(long(), { width: 120 })).toMatch(/^ *# +claim +n +test/m);
-    expect(renderTestText(long(), { width: 60 }).replace(/\n\s+/g, " ")).toContain("ranked claims (verdict; effect [95% CI]; p; adjusted p; n; test):");
+    expect(renderTestText(long(), { width: 60 }).replace(/\n\s+/g, " ")).toContain("ranked claims (verdict; effect [95% CI]; detectable; p; adjusted p; n; test):");
   });
 
   it("renderTestText uses the full width it is given: wider lines at 160 than at 100", () => {
