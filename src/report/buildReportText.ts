@@ -610,10 +610,10 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
   refs.add("verma1990");
   const cautions = [
     "Consistency with the data does not show that the graph is right: other graphs imply the same independencies (Markov-equivalent graphs; Verma & Pearl 1990), and the data cannot tell them apart.",
-    "A claim that is not contradicted may simply be untested for lack of power: read its confidence interval, not only its p-value. Untestable claims were not tested at all; they are not shown to hold.",
+    "A claim that is not contradicted may simply be untested for lack of power: read its confidence interval and its detectable effect, not only its p-value, and count it as support only when its equivalence test says so. Untestable claims were not tested at all; they are not shown to hold.",
     "Results depend on the assumed functional form, on measurement error, which can leave residual dependence after conditioning, and on how the rows were selected. The default test adjusts for each member of the conditioning set flexibly but additively (no interactions between members), so a strong interaction between members can leave residual dependence; its variance does not assume equal variances, but very small or very sparse samples still strain any large-sample reference distribution.",
     "Each claim uses the rows complete on its own variables. That is unbiased when missingness depends only on the conditioning variables, but not when it depends on the two variables themselves: in our simulations of true claims whose conditioning variable went missing more often for high values of x and y, the default test rejected in 12% of data sets at n = 500 and 82% at n = 5,000.",
-    "Changing the graph because the data contradicted it needs subject-matter justification: an arrow suggested by the data is a hypothesis to be checked, not a finding, and repeated data-driven changes invalidate the p-values.",
+    "Changing the graph because the data contradicted it needs subject-matter justification: an arrow suggested by the data (the arrows to consider here, or the revisions of arrowaudit suggest) is a hypothesis to be checked, ideally in other data, not a finding, and repeated data-driven changes invalidate the p-values.",
   ];
 
   const formDependent = claims.filter((c) => (c.details?.linear_adjustment as { verdict_differs?: boolean } | undefined)?.verdict_differs);

@@ -176,8 +176,8 @@ describe("Holm and Benjamini–Hochberg over several Monte-Carlo claims", () => 
       // shown wherever the verdict is: terminal ("?"), CSV (p_undecided), the reports' rows and methods text
       expect(renderTestText(r, { width: 160 })).toMatch(/consistent\?|contradicted\?/);
       const csv = renderCsv(r).split("\r\n");
-      expect(csv[0]).toMatch(/p_draws,p_se,p_ci99_low,p_ci99_high,p_undecided,p_proposed_B$/);
-      expect(csv.filter((l) => /,true,\d*$/.test(l)).length).toBe(undecided.length);
+      expect(csv[0]).toMatch(/p_draws,p_se,p_ci99_low,p_ci99_high,p_undecided,p_proposed_B,detectable,equivalence,equivalence_ci_low,equivalence_ci_high$/);
+      expect(csv.filter((l) => /,true,\d*,[0-9.e-]*,(supported|inconclusive),[0-9.e-]*,[0-9.e-]*$/.test(l)).length).toBe(undecided.length);
       const context = { command: "arrowaudit test", date: "2024-06-11T00:00:00Z", inputs: [], toolVersion: "0.0.0" };
       const text = buildReportText(r, context);
       expect(text.claimRows.filter((row) => row.undecided.startsWith("undecided")).length).toBe(undecided.length);

@@ -49,7 +49,7 @@ describe("arrowaudit test: Monte-Carlo options", () => {
     const small = await runCli(["test", "graph.txt", "data.csv", "--permutations", "199", "--adjust", "none", "--csv"], { cwd: work });
     expect(small.code).toBe(0);
     const line = small.stdout.split("\r\n").find((l) => /^\d+,(x,y|y,x),/.test(l))!;
-    expect(line, line).toMatch(/,199,[0-9.e-]+,[0-9.e-]+,[0-9.e-]+,true,\d*$/); // draws, se, 99% interval, undecided, proposed B (absent here: p̂ = 10/200 sits on 0.05, out of reach)
+    expect(line, line).toMatch(/,199,[0-9.e-]+,[0-9.e-]+,[0-9.e-]+,true,\d*,[0-9.e-]*,(supported|inconclusive),[0-9.e-]*,[0-9.e-]*$/); // draws, se, 99% interval, undecided, proposed B (absent here: p̂ = 10/200 sits on 0.05, out of reach), then detectable and the equivalence columns
     const text = await runCli(["test", "graph.txt", "data.csv", "--permutations", "199", "--adjust", "none"], { cwd: work, env: { COLUMNS: "120" } });
     expect(text.stdout).toMatch(/consistent\?|contradicted\?/);
     expect(text.stdout).toMatch(/warning: 1 verdict was not resolved by the cap on Monte-Carlo draws/);

@@ -1,20 +1,22 @@
 /**
  * Power and detectable effects against scipy (live with python3: scipy.stats.ncx2.ppf / .sf,
- * scipy.optimize.brentq, scipy.stats.norm.ppf) and the closed-form Fisher-z formula
+ * scipy.optimize.brentq, scipy.stats.norm.ppf; without python3, the fixture the same script wrote) and the closed-form Fisher-z formula
  * tanh((z_{1−α/2} + z_{1−β})/√(n − |S| − 3)) (Cohen 1988, ch. 3; common practice).
  */
 import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
+import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import {
   chiSquareSampleSize, correlationSampleSize, detectableChiSquareEffect, detectableCorrelation, noncentralChiSquareQuantile, noncentralityForPower,
 } from "../../src/stats/power.js";
 
 const hasScipy = spawnSync("python3", ["-c", "import scipy"], { encoding: "utf8" }).status === 0;
+const root = join(import.meta.dirname, "..", "..");
 
-function python(script: string): unknown {
-  const r = spawnSync("python3", ["-c", script], { encoding: "utf8" });
-  if (r.status !== 0) throw new Error(r.stderr);
-  return JSON.parse(r.stdout);
+interface Fixture {
+  quantiles: { p: number; df: number; lambda: number; x: number }[];
+  noncentrality: { df: number; alpha: number; power: number; lambda: number }[];
 }
 
 describe("power and detectable effects", () => {
@@ -36,28 +38,27 @@ describe("power and detectable effects", () => {
     expect(chiSquareSampleSize(0.1, 1, 0.05, 0.8)).toBe(Math.ceil(lam / -Math.log1p(-0.01)));
   });
 
-  it.skipIf(!hasScipy)("noncentral chi-square quantile against scipy.stats.ncx2.ppf to 1e-8 relative", () => {
-    const cases = [[0.05, 1, 0.5], [0.5, 3, 2], [0.95, 4, 10], [0.999, 10, 50], [0.2, 2, 100], [0.01, 25, 5]];
-    const ref = python(`import json; from scipy.stats import ncx2; print(json.dumps([ncx2.ppf(p, df, l) for p, df, l in ${JSON.stringify(cases)}]))`) as number[];
-    cases.forEach(([p, df, l], i) => {
-      const q = noncentralChiSquareQuantile(p!, df!, l!);
-      expect(Math.abs(q - ref[i]!) / ref[i]!, `p=${p} df=${df} λ=${l}`).toBeLessThan(1e-8);
-    });
+  // live with python3 + scipy (scripts/power_reference.py writes the same cases); else the committed fixture
+  const reference = (): Fixture => {
+    if (hasScipy) {
+      const r = spawnSync("python3", [join(root, "scripts", "power_reference.py"), "--stdout"], { encoding: "utf8" });
+      if (r.status !== 0) throw new Error(r.stderr);
+      return JSON.parse(r.stdout) as Fixture;
+    }
+    return JSON.parse(readFileSync(join(root, "test", "fixtures", "power", "ncx2-power.json"), "utf8")) as Fixture;
+  };
+  const ref = reference();
+
+  it(`noncentral chi-square quantile against scipy.stats.ncx2.ppf to 1e-8 relative (${hasScipy ? "live" : "fixture"})`, () => {
+    for (const { p, df, lambda, x } of ref.quantiles) {
+      expect(Math.abs(noncentralChiSquareQuantile(p, df, lambda) - x) / x, `p=${p} df=${df} λ=${lambda}`).toBeLessThan(1e-8);
+    }
   });
 
-  it.skipIf(!hasScipy)("the noncentrality for a power against scipy (brentq on ncx2.sf at chi2.isf) to 1e-8 relative", () => {
-    const cases = [[1, 0.05, 0.8], [3, 0.05, 0.8], [4, 0.0025, 0.9], [12, 0.01, 0.5], [1, 1e-6, 0.8]];
-    const ref = python(
-      `import json; from scipy.stats import ncx2, chi2; from scipy.optimize import brentq
-out = []
-for df, a, pw in ${JSON.stringify(cases)}:
-    c = chi2.isf(a, df)
-    out.append(brentq(lambda l: ncx2.sf(c, df, l) - pw, 1e-9, 1e4, xtol=1e-14, rtol=1e-14))
-print(json.dumps(out))`,
-    ) as number[];
-    cases.forEach(([df, a, pw], i) => {
-      expect(Math.abs(noncentralityForPower(df!, a!, pw!) - ref[i]!) / ref[i]!, `df=${df} α=${a} power=${pw}`).toBeLessThan(1e-8);
-    });
+  it(`the noncentrality for a power against scipy (brentq on ncx2.sf at chi2.isf) to 1e-8 relative (${hasScipy ? "live" : "fixture"})`, () => {
+    for (const { df, alpha, power, lambda } of ref.noncentrality) {
+      expect(Math.abs(noncentralityForPower(df, alpha, power) - lambda) / lambda, `df=${df} α=${alpha} power=${power}`).toBeLessThan(1e-8);
+    }
   });
 
   it("refuses levels outside (0, 1)", () => {
