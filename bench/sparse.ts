@@ -97,7 +97,7 @@ export async function benchSparse(rows: number, cli: string): Promise<Record<str
   if (run.code !== 0) throw new Error(`arrowaudit test failed (${run.code}): ${run.stderr}`);
   const result = JSON.parse(run.stdout) as { claims: ClaimJson[]; untestable: unknown[] };
   const claims = result.claims.map((c) => ({
-    claim: `${c.x} _||_ ${c.y} | ${c.given.join(", ")}`,
+    claim: `${c.x} ⫫ ${c.y} | ${c.given.length ? c.given.join(", ") : "∅"}`,
     test: c.test,
     p: c.p,
     p_method: c.p_method,
