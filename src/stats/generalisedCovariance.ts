@@ -24,7 +24,7 @@
  */
 import { cholesky } from "./linalg.js";
 import { fisherFUpper, logFisherFUpper, logStudentTTwoSided, studentTTwoSided } from "./pvalues.js";
-import { normalQuantile } from "./quantiles.js";
+import { normalQuantile, studentTCritical } from "./quantiles.js";
 
 export interface GcmStatisticInput {
   /** Complete cases (rows behind the sum of the residual products). */
@@ -122,26 +122,3 @@ export function gcmCorrelationInterval(r: number, t: number, nu: number, n: numb
   return [Math.tanh(z - crit * se), Math.tanh(z + crit * se)];
 }
 
-/**
- * Two-sided critical value of Student's t: the c > 0 with P(|T| ≥ c) = alpha for T ~ t(ν), found
- * by bisection on {@link studentTTwoSided} itself (the function behind the test's p-value), so
- * that |t| exceeds c exactly when that p-value is below alpha; accurate to a few units in the
- * last place (jStat's inverse, used before, was off by up to 2.5e-8 relative, enough for an
- * interval to exclude 0 at p slightly above alpha). Bracketed from below by the normal critical
- * value, which every t critical value exceeds. Cost: about 60 incomplete-beta evaluations.
- * Source: Abramowitz & Stegun (1964), Handbook of Mathematical Functions, §26.7 (the t tail as an
- * incomplete beta function); bisection (common practice).
- */
-function studentTCritical(alpha: number, nu: number): number {
-  let lo = normalQuantile(1 - alpha / 2);
-  while (studentTTwoSided(lo, nu) <= alpha && lo > 1e-300) lo /= 2;
-  let hi = 2 * lo;
-  while (studentTTwoSided(hi, nu) > alpha) hi *= 2;
-  for (let it = 0; it < 200; it++) {
-    const mid = lo + (hi - lo) / 2;
-    if (mid <= lo || mid >= hi) break;
-    if (studentTTwoSided(mid, nu) > alpha) lo = mid;
-    else hi = mid;
-  }
-  return hi;
-}

@@ -28,7 +28,7 @@
  * the test of H(0) does not reject; so it excludes 0 exactly when p < α.
  */
 import { studentTTwoSided } from "./pvalues.js";
-import { normalQuantile } from "./quantiles.js";
+import { studentTCritical } from "./quantiles.js";
 
 /** The moments of the standardised residuals behind the ADF variance A(ρ0) = c0 + c1 ρ0 + c2 ρ0². */
 export interface ResidualCorrelationVariance {
@@ -102,26 +102,6 @@ function firstExit(q: Quadratic, from: number, to: number): number | undefined {
     if (evaluate(q, probe) > 0) return inside[i]!;
   }
   return undefined;
-}
-
-/**
- * Two-sided critical value of Student's t: the c > 0 with P(|T| ≥ c) = alpha for T ~ t(ν), by
- * bisection on {@link studentTTwoSided} (the function behind the test's p-value), bracketed from
- * below by the normal critical value. Cost: about 60 incomplete-beta evaluations.
- * Source: Abramowitz & Stegun (1964), Handbook of Mathematical Functions, §26.7; bisection (common practice).
- */
-function studentTCritical(alpha: number, nu: number): number {
-  let lo = normalQuantile(1 - alpha / 2);
-  while (studentTTwoSided(lo, nu) <= alpha && lo > 1e-300) lo /= 2;
-  let hi = 2 * lo;
-  while (studentTTwoSided(hi, nu) > alpha) hi *= 2;
-  for (let it = 0; it < 200; it++) {
-    const mid = lo + (hi - lo) / 2;
-    if (mid <= lo || mid >= hi) break;
-    if (studentTTwoSided(mid, nu) > alpha) lo = mid;
-    else hi = mid;
-  }
-  return hi;
 }
 
 /**
