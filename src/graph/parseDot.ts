@@ -319,20 +319,13 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
     return out;
   };
 
-  const readUnmeasured = (a: Attribute): boolean => {
+  /** A yes/no node attribute (`unmeasured`, `fixed`): a key alone, true/yes/1 or false/no/0. */
+  const readYesNo = (a: Attribute, key: string): boolean => {
     if (a.value === undefined) return true;
     const v = a.value.value.toLowerCase();
     if (v === "true" || v === "yes" || v === "1") return true;
     if (v === "false" || v === "no" || v === "0") return false;
-    return failAt(a.value, `unmeasured=${a.value.quoted ? describe(a.value) : a.value.value} is not a yes/no value; write unmeasured=true or unmeasured=false`);
-  };
-
-  const readFixed = (a: Attribute): boolean => {
-    if (a.value === undefined) return true;
-    const v = a.value.value.toLowerCase();
-    if (v === "true" || v === "yes" || v === "1") return true;
-    if (v === "false" || v === "no" || v === "0") return false;
-    return failAt(a.value, `fixed=${a.value.quoted ? describe(a.value) : a.value.value} is not a yes/no value; write fixed=true or fixed=false`);
+    return failAt(a.value, `${key}=${a.value.quoted ? describe(a.value) : a.value.value} is not a yes/no value; write ${key}=true or ${key}=false`);
   };
 
   const readPeriod = (a: Attribute): number => {
@@ -422,8 +415,8 @@ export function parseDot(text: string, options: ParseDotOptions = {}): ParsedGra
       if (stmt.startsWithNode) {
         for (const a of readAttrLists()) {
           const key = a.key.toLowerCase();
-          if (key === "unmeasured") unmeasured.set(stmt.left[0]!, readUnmeasured(a));
-          else if (key === "fixed") fixedNodes.set(stmt.left[0]!, readFixed(a));
+          if (key === "unmeasured") unmeasured.set(stmt.left[0]!, readYesNo(a, "unmeasured"));
+          else if (key === "fixed") fixedNodes.set(stmt.left[0]!, readYesNo(a, "fixed"));
           else if (key === "period") periodOf.set(stmt.left[0]!, readPeriod(a));
         }
       }
