@@ -60,6 +60,18 @@ export interface AuditOptions {
   version?: string;
   /** Called after each claim is tested (done, total), e.g. for a progress bar. */
   onProgress?: (done: number, total: number) => void;
+  /**
+   * Results of claims already tested on the same table with the same settings, by
+   * {@link claimCacheKey}; `runAudit` reads and fills it (asymptotic results only: a Monte-Carlo
+   * result depends on the number of claims through its cap and threshold). For audits of many
+   * graphs on one table, as `suggestRevisions` runs them.
+   */
+  claimCache?: Map<string, MethodResult>;
+}
+
+/** The key of a claim's result in {@link AuditOptions.claimCache}: x, y and the set as written. */
+export function claimCacheKey(claim: Claim): string {
+  return JSON.stringify([claim.x, claim.y, claim.given]);
 }
 
 /** What a helper thread needs to test claims that read the rows (see {@link runAuditParallel}). */
@@ -131,8 +143,18 @@ interface AuditPlan {
  */
 export function runAudit(graph: Graph, table: Table, options: AuditOptions = {}): AuditResult {
   const plan = planAudit(graph, table, options);
+  const cache = options.claimCache;
   const results = plan.claims.map((claim, i) => {
-    const r = precheck(claim, plan.constant) ?? testClaimMethod(claim, plan.ctx, plan.settings);
+    const pre = precheck(claim, plan.constant);
+    let r: MethodResult;
+    if (pre) r = pre;
+    else {
+      const key = cache ? claimCacheKey(claim) : "";
+      const hit = cache?.get(key);
+      // a copy: the audit annotates its results' details (the linear check's verdict)
+      r = hit ? structuredClone(hit) : testClaimMethod(claim, plan.ctx, plan.settings);
+      if (cache && !hit && (!r.ok || (r.outcome.p_method === "asymptotic" && r.outcome.monte_carlo === undefined))) cache.set(key, structuredClone(r));
+    }
     options.onProgress?.(i + 1, plan.claims.length);
     return r;
   });

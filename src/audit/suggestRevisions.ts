@@ -89,14 +89,17 @@ export interface Suggestions {
 /**
  * Greedy data-guided revisions of `graph` (see the module comment).
  * Cost: per step, one audit per candidate (about three per contradicted pair), each the cost of
- * `runAudit` on the candidate graph, plus an RICF fit per candidate for the BIC.
+ * `runAudit` on the candidate graph less the claims already tested (their results are cached
+ * by claim), plus an RICF fit per candidate for the BIC.
  * @throws whatever runAudit throws for the starting graph (e.g. too many claims)
  * @example suggestRevisions(graph, table, { maxAdditions: 1 }).steps[0]?.chosen.change // "bmi -> sbp"
  */
 export function suggestRevisions(graph: Graph, table: Table, options: SuggestOptions = {}): Suggestions {
   const maxAdditions = options.maxAdditions ?? 3;
   if (!(Number.isInteger(maxAdditions) && maxAdditions >= 1)) throw new RangeError(`maxAdditions must be a whole number of at least 1, got ${maxAdditions}`);
-  const audit = (g: Graph): AuditResult => runAudit(g, table, options);
+  // every candidate graph shares most of its claims with the graph before it: their results are reused
+  const claimCache = options.claimCache ?? new Map();
+  const audit = (g: Graph): AuditResult => runAudit(g, table, { ...options, claimCache });
   const bic = bicModel(graph, table);
   let current = graph;
   let result = audit(current);

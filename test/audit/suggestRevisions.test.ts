@@ -10,6 +10,7 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
 import { suggestRevisions } from "../../src/audit/suggestRevisions.js";
+import { runAudit } from "../../src/audit/runAudit.js";
 import { createTable } from "../../src/data/createTable.js";
 import { simulateFromGraph } from "../../src/data/simulateFromGraph.js";
 import { parseGraph } from "../../src/graph/parseGraph.js";
@@ -96,6 +97,22 @@ describe("suggestRevisions", () => {
       expect(j.caution).toMatch(/confirm it in other data/);
     })();
   }, 60_000);
+});
+
+describe("the claim cache that suggest uses", () => {
+  it("an audit with results cached from another graph equals the audit without them, field by field", () => {
+    const t = tableOf("a -> y\nx -> y\ny -> z\nw -> z\n", 1500, 21, 0.3);
+    const first = parseGraph("a -> y\ny -> z\nw -> z\nx\n").graph;
+    const second = parseGraph("a -> y\nx -> y\ny -> z\nw -> z\n").graph;
+    const claimCache = new Map();
+    runAudit(first, t, { claimCache });
+    const filled = claimCache.size;
+    expect(filled).toBeGreaterThan(0);
+    const cached = runAudit(second, t, { claimCache });
+    expect(cached).toEqual(runAudit(second, t));
+    // the second graph shares claims with the first: not every claim was tested again
+    expect(claimCache.size).toBeLessThan(filled + cached.claims.length);
+  });
 });
 
 describe("arrowaudit suggest", () => {
