@@ -67,6 +67,12 @@ export interface AuditOptions {
    * graphs on one table, as `suggestRevisions` runs them.
    */
   claimCache?: Map<string, MethodResult>;
+  /**
+   * Pattern moments already built on the same table, by what they cover (variables, expansions,
+   * row filter); `runAudit` reads and fills it, so audits of graphs that need the same columns
+   * share one pass over the rows.
+   */
+  momentsCache?: Map<string, PatternMoments>;
 }
 
 /** The key of a claim's result in {@link AuditOptions.claimCache}: x, y and the set as written. */
@@ -304,7 +310,28 @@ export function helperContext(table: Table, settings: AuditSettings, rowFilter?:
 
 /** Claims, moments and context of an audit. */
 function planAudit(graph: Graph, table: Table, options: AuditOptions): AuditPlan {
-  return withMoments(planClaims(graph, table, options), table);
+  const plan = planClaims(graph, table, options);
+  const cache = options.momentsCache;
+  if (!cache) return withMoments(plan, table);
+  const opts = momentOptions(plan, table);
+  const key = JSON.stringify([opts.variables, opts.expansions ?? {}, opts.rowFilter ? filterDigest(opts.rowFilter) : null]);
+  let moments = cache.get(key);
+  if (!moments) {
+    moments = buildPatternMoments(table, opts);
+    cache.set(key, moments);
+  }
+  return withBuiltMoments(plan, table, moments);
+}
+
+/** A digest of a row filter (its length, its count and an FNV-1a hash of its bytes), for {@link AuditOptions.momentsCache} keys. */
+function filterDigest(filter: Uint8Array): string {
+  let h = 0x811c9dc5;
+  let ones = 0;
+  for (let i = 0; i < filter.length; i++) {
+    ones += filter[i]!;
+    h = Math.imul(h ^ filter[i]!, 0x01000193);
+  }
+  return `${filter.length}:${ones}:${(h >>> 0).toString(16)}`;
 }
 
 /** An audit plan before its moments: the claims, settings, row filter and constant columns. */

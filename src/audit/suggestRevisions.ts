@@ -99,7 +99,8 @@ export function suggestRevisions(graph: Graph, table: Table, options: SuggestOpt
   if (!(Number.isInteger(maxAdditions) && maxAdditions >= 1)) throw new RangeError(`maxAdditions must be a whole number of at least 1, got ${maxAdditions}`);
   // every candidate graph shares most of its claims with the graph before it: their results are reused
   const claimCache = options.claimCache ?? new Map();
-  const audit = (g: Graph): AuditResult => runAudit(g, table, { ...options, claimCache });
+  const momentsCache = options.momentsCache ?? new Map();
+  const audit = (g: Graph): AuditResult => runAudit(g, table, { ...options, claimCache, momentsCache });
   const bic = bicModel(graph, table);
   let current = graph;
   let result = audit(current);

@@ -113,6 +113,18 @@ describe("the claim cache that suggest uses", () => {
     // the second graph shares claims with the first: not every claim was tested again
     expect(claimCache.size).toBeLessThan(filled + cached.claims.length);
   });
+
+  it("pattern moments cached by what they cover give the same audit (a table above the row-path size, so the moments are used)", () => {
+    const t = tableOf("a -> y\nx -> y\ny -> z\n", 25_000, 22, 0.3);
+    const g = parseGraph("a -> y\ny -> z\nx\n").graph;
+    const momentsCache = new Map();
+    const first = runAudit(g, t, { momentsCache });
+    expect(momentsCache.size).toBe(1);
+    expect(runAudit(g, t, { momentsCache })).toEqual(first);
+    expect(momentsCache.size).toBe(1);
+    expect(runAudit(g, t, { momentsCache, settings: { listwise: true } }).claims.length).toBe(first.claims.length);
+    expect(momentsCache.size).toBe(2); // a row filter is part of the key
+  });
 });
 
 describe("arrowaudit suggest", () => {
