@@ -50,6 +50,8 @@ export const auditOptions = (c: Command): Command =>
     .option("--levels <list>", 'order levels, e.g. "education=low|mid|high,region=north|south"')
     .addOption(new Option("--delimiter <d>", "field delimiter (default: detected)").choices([",", ";", "tab", "\\t"]))
     .option("--decimal-comma", "numbers use a decimal comma (1,5)", false)
+    .addOption(new Option("--engine <engine>", "data engine: memory (delimited text), duckdb (also Parquet and DuckDB database files), or auto (DuckDB for Parquet and database files)").choices(["auto", "memory", "duckdb"]).default("auto"))
+    .option("--table <name>", "table of a DuckDB database file to read (needed when it holds several)")
     .option("--listwise", "use only rows complete on every measured variable", false)
     .option("--seed <n>", "seed for Monte-Carlo p-values", numberIn("--seed", 0, 2 ** 32 - 1, true), 1)
     .option("--permutations <B>", "Monte-Carlo permutation p-values for categorical claims, with at most B permutations each (default: drawn as the verdicts need)", numberIn("--permutations", 99, 1e7, true))

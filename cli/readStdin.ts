@@ -15,8 +15,9 @@ import { UsageError } from "../src/errors.js";
 import { decodeHead } from "../src/data/readHeader.js";
 import { readTable } from "../src/data/readTable.js";
 import type { Table } from "../src/data/Table.js";
-import { type Io, readHead } from "./io.js";
-import { loadTable, readOptionsFrom } from "./loadTable.js";
+import type { Io } from "./io.js";
+import { readOptionsFrom } from "./loadTable.js";
+import { openDataFile } from "./openDataFile.js";
 
 /** The file name that means standard input. */
 export const STDIN_ARG = "-";
@@ -152,7 +153,9 @@ export interface DataSource {
   name: string;
   /** The header record and the rows read with it (see `readHead`). */
   head: string;
-  /** Read the table, keeping `columns`: the two-thread reader for a file, the streaming reader for a stream. */
+  /** The column names when they do not come from a header line (a Parquet file, a database table); `head` is then "". */
+  fields?: string[];
+  /** Read the table, keeping `columns`: the two-thread reader or DuckDB for a file (`openDataFile`), the streaming reader for a stream. */
   load(columns: string[]): Promise<Table>;
 }
 
@@ -162,8 +165,9 @@ export interface DataSource {
  * @throws InputError when the file cannot be read; UsageError when standard input is unavailable
  */
 export async function openData(io: Io, path: string, opts: Record<string, unknown>): Promise<DataSource> {
-  if (!isStreamInput(io, path)) return { name: path, head: readHead(path, io.cwd), load: (columns) => loadTable(io, path, opts, columns) };
+  if (!isStreamInput(io, path)) return openDataFile(io, path, opts);
   const name = inputName(path);
+  if (opts.engine === "duckdb" || opts.table !== undefined) throw new UsageError(`${name} is a stream, and DuckDB (--engine duckdb, --table) reads files; give the data as a file, or drop those options`);
   const data = await openStreamData(io, path);
   return { name, head: data.head, load: (columns) => readTable(data.chunks, readOptionsFrom(opts, name, columns)) };
 }

@@ -56,7 +56,7 @@ export async function loadAuditInputs(io: Io, graphPath: string, dataPath: strin
   const measured = graph.nodes.filter((n) => graph.isMeasured(n));
   const data = await openData(io, dataPath, opts);
   const { delimiter } = readOptionsFrom(opts, data.name);
-  const header = readHeader(data.head, { file: data.name, ...(delimiter ? { delimiter } : {}) });
+  const header = data.fields ?? readHeader(data.head, { file: data.name, ...(delimiter ? { delimiter } : {}) });
   checkColumns(graph, header, { file: data.name });
   const table = await data.load(measured);
   return { graph, table };
