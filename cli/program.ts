@@ -16,6 +16,7 @@ import { runSimulate } from "./commands/simulate.js";
 import { runSuggest } from "./commands/suggest.js";
 import { runPower } from "./commands/power.js";
 import { readOptionsFrom } from "./loadTable.js";
+import { summaryOptions } from "./loadSummary.js";
 
 /** Parse a number option in [lo, hi]. */
 export function numberIn(name: string, lo: number, hi: number, integer = false) {
@@ -83,29 +84,29 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
     state.code = await runClaims(io, graph, opts);
   });
 
-  auditOptions(
+  summaryOptions(auditOptions(
     program
       .command("test")
       .description("test every claim against a data file and rank the missing arrows the data contradict")
       .argument("<graph>", "graph file")
-      .argument("<data>", "data file (CSV with a header row; comma, semicolon or tab)")
+      .argument("[data]", "data file (CSV with a header row; comma, semicolon or tab); omitted with --correlations or --covariance")
       .option("--json", "print the result as one JSON document", false)
       .option("--csv", "print one CSV row per claim", false)
       .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
-  ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
+  )).action(async (graph: string, data: string | undefined, opts: Record<string, unknown>) => {
     if (opts.json && opts.csv) throw new UsageError("choose one of --json and --csv");
     state.code = await runTest(io, graph, data, opts);
   });
 
-  auditOptions(
+  summaryOptions(auditOptions(
     program
       .command("report")
       .description("write an HTML (.html) or Markdown (.md) report of the audit, or its methods text alone (.txt)")
       .argument("<graph>", "graph file")
-      .argument("<data>", "data file")
+      .argument("[data]", "data file; omitted with --correlations or --covariance")
       .requiredOption("--out <file>", "report file: .html, .md (drawing saved beside it as .svg) or .txt (the methods text alone, ready to paste); an existing file is overwritten")
       .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
-  ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
+  )).action(async (graph: string, data: string | undefined, opts: Record<string, unknown>) => {
     state.code = await runReport(io, graph, data, opts, argv, false);
   });
 

@@ -13,6 +13,7 @@ import { type Io, sha256File, toolVersion } from "../io.js";
 import { inputName, isStreamInput, streamDigest } from "../readStdin.js";
 import { type OutputFile, writeOutputs } from "../writeOutputs.js";
 import { audit, textWidth, useColor } from "./test.js";
+import { dataInputs } from "../loadSummary.js";
 
 /** The command line as typed, each argument quoted for a POSIX shell when needed. */
 export function commandLine(argv: readonly string[]): string {
@@ -55,7 +56,7 @@ async function inputRecord(io: Io, path: string, shown: string): Promise<{ path:
  * A Markdown report is written with its drawing beside it (`report.md` → `report.svg`); a `.txt`
  * file gets the methods paragraphs and their references alone, as plain text.
  */
-export async function runReport(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>, argv: string[], demo: boolean): Promise<number> {
+export async function runReport(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>, argv: string[], demo: boolean): Promise<number> {
   const out = String(opts.out);
   const ext = extname(out).toLowerCase();
   if (ext !== ".html" && ext !== ".htm" && ext !== ".md" && ext !== ".txt") throw new UsageError(`--out ${out}: the report file must end in .html, .md or .txt (the methods text alone)`);
@@ -63,7 +64,7 @@ export async function runReport(io: Io, graphPath: string, dataPath: string, opt
   refuseOverwritingInputs(
     io,
     [{ path: out, role: `--out ${out}` }, ...(ext === ".md" ? [{ path: svgName, role: `the drawing ${svgName} written beside --out ${out}` }] : [])],
-    [{ path: graphPath, role: "graph file" }, { path: dataPath, role: "data file" }],
+    [{ path: graphPath, role: "graph file" }, ...dataInputs(dataPath, opts)],
   );
   const result = await audit(io, graphPath, dataPath, opts);
   const context: ReportContext = {
@@ -71,13 +72,13 @@ export async function runReport(io: Io, graphPath: string, dataPath: string, opt
     date: io.now().toISOString(),
     inputs: [
       await inputRecord(io, graphPath, demo ? `data/demo/${basename(graphPath)}` : graphPath),
-      await inputRecord(io, dataPath, demo ? `data/demo/${basename(dataPath)}` : dataPath),
+      ...(await Promise.all(dataInputs(dataPath, opts).map((d) => inputRecord(io, d.path, demo ? `data/demo/${basename(d.path)}` : d.path)))),
     ],
     toolVersion: toolVersion(),
     demo,
     ...(demo ? { equivalentCommand: demoTestCommand(argv, opts) } : {}),
   };
-  if (demo) result.data.file = `data/demo/${basename(dataPath)}`;
+  if (demo && dataPath !== undefined) result.data.file = `data/demo/${basename(dataPath)}`;
   if (opts.printSummary && !opts.quiet) {
     io.stdout(renderTestText(result, { ascii: !!opts.ascii, color: useColor(io), width: textWidth(io) }));
     if (context.equivalentCommand) io.stdout(`\nthe same audit as a test command:\n  ${escapeTerminal(context.equivalentCommand)}\n`);

@@ -16,6 +16,8 @@ import { loadGraph } from "../loadGraph.js";
 import { readOptionsFrom } from "../loadTable.js";
 import { checkOneStdin, inputName, openData } from "../readStdin.js";
 import { progressBar } from "../progress.js";
+import { auditSummary, isSummaryInput } from "../loadSummary.js";
+import { UsageError } from "../../src/errors.js";
 
 /** Audit settings from parsed command-line options. */
 export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettings> {
@@ -36,7 +38,9 @@ export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettin
 }
 
 /** Load the graph and the data and run the audit (shared by test, report and demo). */
-export async function audit(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<AuditResult> {
+export async function audit(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>): Promise<AuditResult> {
+  if (isSummaryInput(opts)) return auditSummary(io, graphPath, dataPath, opts, settingsFrom(opts));
+  if (dataPath === undefined) throw new UsageError("missing the data file: give a data file, or --correlations or --covariance with --n");
   const { graph, table } = await loadAuditInputs(io, graphPath, dataPath, opts);
   const bar = progressBar(io, !!opts.quiet);
   try {
@@ -63,7 +67,7 @@ export async function loadAuditInputs(io: Io, graphPath: string, dataPath: strin
 }
 
 /** `arrowaudit test <graph> <data>`. */
-export async function runTest(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<number> {
+export async function runTest(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>): Promise<number> {
   const result = await audit(io, graphPath, dataPath, opts);
   if (opts.json) io.stdout(JSON.stringify(result, null, 2) + "\n");
   else if (opts.csv) io.stdout(renderCsv(result));

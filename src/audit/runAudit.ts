@@ -18,6 +18,7 @@ import type { Table, VariableType } from "../data/Table.js";
 import { buildPatternMoments, type PatternMomentsOptions } from "../data/buildPatternMoments.js";
 import { momentExpansions } from "./momentExpansions.js";
 import type { PatternMoments } from "../data/Moments.js";
+import type { SummaryData, SummarySource } from "../data/summaryData.js";
 import { adjustPValues } from "../stats/adjustPValues.js";
 import { fisherC } from "../stats/fisherC.js";
 import { nextLook, sequenceInterval } from "../stats/confidenceSequence.js";
@@ -135,6 +136,8 @@ interface AuditPlan {
   constant: Map<string, string>;
   /** Identifier-like categorical columns (see findHighCardinalityColumns), left out of the moments. */
   identifiers: Set<string>;
+  /** Set when the audit runs on summary statistics rather than rows (see {@link runAuditOnSummary}). */
+  source?: SummarySource;
 }
 
 /**
@@ -255,6 +258,60 @@ export async function runAuditParallel(graph: Graph, table: Table, options: Para
   return finishAudit(graph, table, plan, results as MethodResult[], options);
 }
 
+/** Summary statistics to audit in place of rows (`data/summaryData.ts`), with where they came from. */
+export interface SummaryAuditInput extends SummaryData {
+  source: SummarySource;
+  /** Variables no claim can use, with the reason (e.g. a variance of 0 in the matrix). */
+  untestableVariables?: ReadonlyMap<string, string>;
+}
+
+/**
+ * {@link runAudit} on summary statistics: a covariance or correlation matrix of complete cases
+ * and its n, given as one complete-data pattern and a table description (`createSummaryData`).
+ * Every claim gets the partial-correlation test (`pearson-partial`, as `--method linear` does on
+ * rows), so `settings.method` is recorded as "linear"; a claim that needs the levels of a
+ * categorical variable is untestable with the reason ({@link summaryUntestableReason}). The
+ * adjustment, verdicts, detectable effects, equivalence and the global test are those of rows.
+ * Cost: per claim O(d³) for d variables in it.
+ * @throws UnknownNodeError when a measured node of the graph is not a variable of the matrix;
+ *   GraphError when the graph has more missing arrows than an audit tests
+ * @example runAuditOnSummary(graph, { ...createSummaryData(names, cov, 500, {}, "r.csv"), source: { kind: "correlations", n: 500 } }).claims
+ */
+export function runAuditOnSummary(graph: Graph, input: SummaryAuditInput, options: AuditOptions = {}): AuditResult {
+  const { table, moments } = input;
+  const forced: AuditOptions = { ...options, settings: { ...options.settings, method: "linear", listwise: false } };
+  const claimPlan = planClaims(graph, table, forced, input.untestableVariables ?? new Map());
+  const plan: AuditPlan = { ...withBuiltMoments(claimPlan, table, moments), source: input.source };
+  const results = plan.claims.map((claim, i) => {
+    const r = precheck(claim, plan.constant) ?? summaryUntestable(claim, table) ?? testClaimMethod(claim, plan.ctx, plan.settings);
+    options.onProgress?.(i + 1, plan.claims.length);
+    return r;
+  });
+  return finishAudit(graph, table, plan, results, forced);
+}
+
+/**
+ * Why a claim cannot be tested from a covariance or correlation matrix, or undefined when the
+ * partial correlation of the scores tests it as on rows: a nominal variable anywhere, or an
+ * ordinal member of the conditioning set, would need the moments of its level indicators, and a
+ * matrix holds one column per variable (binary variables and ordinal x or y enter as their scores,
+ * as `--method linear` enters them on rows). Cost: O(|S|).
+ * @example summaryUntestableReason({ x: "a", y: "b", given: ["region"] }, table) // "…needs the levels of \"region\"…"
+ */
+export function summaryUntestableReason(claim: Claim, table: Table): string | undefined {
+  const bad = [claim.x, claim.y, ...claim.given].filter((v, k) => {
+    const t = table.column(v)?.type;
+    return t === "nominal" || (k >= 2 && t === "ordinal");
+  });
+  if (bad.length === 0) return undefined;
+  return `untestable from summary statistics: the test needs the levels of ${bad.map((v) => `"${v}"`).join(", ")} (declared ${[...new Set(bad.map((v) => table.column(v)!.type))].join(" / ")}) as categories, and a correlation or covariance matrix holds one score per variable; test it on the rows, or declare the variable continuous if its codes are scores`;
+}
+
+function summaryUntestable(claim: Claim, table: Table): MethodResult | undefined {
+  const reason = summaryUntestableReason(claim, table);
+  return reason ? { ok: false, reason } : undefined;
+}
+
 /** The method the settings choose for a claim. */
 function methodOf(claim: Claim, table: Table, settings: AuditSettings): TestMethod {
   const types = {
@@ -337,8 +394,12 @@ function filterDigest(filter: Uint8Array): string {
 /** An audit plan before its moments: the claims, settings, row filter and constant columns. */
 type ClaimPlan = Omit<AuditPlan, "moments" | "ctx"> & { rowFilter?: Uint8Array };
 
-/** The claims, settings, row filter and constant columns of an audit (no pass over the rows but the constant-column check). */
-function planClaims(graph: Graph, table: Table, options: AuditOptions): ClaimPlan {
+/**
+ * The claims, settings, row filter and constant columns of an audit (no pass over the rows but the
+ * constant-column check). `untestableVariables`, when given, replaces the checks on the rows
+ * (constant and identifier-like columns) with the caller's reasons (summary statistics have no rows).
+ */
+function planClaims(graph: Graph, table: Table, options: AuditOptions, untestableVariables?: ReadonlyMap<string, string>): ClaimPlan {
   const settings: AuditSettings = { ...DEFAULT_SETTINGS, ...options.settings };
   const measured = graph.nodes.filter((n) => graph.isMeasured(n));
   const missingCols = measured.filter((n) => !table.column(n));
@@ -361,10 +422,10 @@ function planClaims(graph: Graph, table: Table, options: AuditOptions): ClaimPla
   if (truncatedPairs > 0) warnings.push(`${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than ${MAX_SETS_PER_PAIR} minimal separating sets; only ${MAX_SETS_PER_PAIR} of each were tested`);
 
   const rowFilter = settings.listwise ? listwiseFilter(table, measured) : undefined;
-  const constant = constantColumns(table, measured, rowFilter);
+  const constant = untestableVariables ? new Map(untestableVariables) : constantColumns(table, measured, rowFilter);
   // identifier-like categorical columns (about one row per level): no test can use them, and their
   // level indicators would make the moments as wide as the table is long
-  const identifiers = findHighCardinalityColumns(table, measured);
+  const identifiers = untestableVariables ? new Map<string, string>() : findHighCardinalityColumns(table, measured);
   for (const [name, reason] of identifiers) if (!constant.has(name)) constant.set(name, reason);
   const decisionFloor = settings.adjust === "none" ? settings.alpha : settings.alpha / Math.max(1, claims.length);
   return { settings, decisionFloor, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, constant, identifiers: new Set(identifiers.keys()), ...(rowFilter ? { rowFilter } : {}) };
@@ -482,7 +543,7 @@ function finishAudit(graph: Graph, table: Table, plan: AuditPlan, results: reado
   const rowsUsed = usedRows(moments, result.map((c) => [c.x, c.y, ...c.given]));
   return {
     tool: { name: "arrowaudit", version: options.version ?? "0.0.0" },
-    data: { file: table.file, rows: table.rows, rows_used: rowsUsed, patterns: moments.patterns },
+    data: { file: table.file, rows: table.rows, rows_used: rowsUsed, patterns: moments.patterns, ...(plan.source ? { source: plan.source } : {}) },
     variables: table.columns
       .filter((c) => measured.includes(c.name))
       .map((c) => ({ name: c.name, type: c.type, type_source: c.typeSource, missing: c.missing, ...(c.levels && c.type !== "continuous" ? { levels: [...c.levels] } : {}) })),

@@ -4,6 +4,7 @@
  * JSON field names are a public contract: add fields, never rename.
  */
 import type { VariableType } from "../data/Table.js";
+import type { SummarySource } from "../data/summaryData.js";
 import type { GraphSummary } from "../graph/graphSummary.js";
 import type { MonteCarloSummary } from "../stats/monteCarloDecision.js";
 
@@ -141,7 +142,12 @@ export interface GlobalTest {
 
 export interface AuditResult {
   tool: { name: "arrowaudit"; version: string };
-  data: { file?: string; rows: number; rows_used: number; patterns: number };
+  /**
+   * The data read: the file, its rows, the rows used and missing-data patterns. For an audit from
+   * summary statistics, `source` says which matrix (correlations or covariance) and its n
+   * (`rows` is then n, with one complete-data pattern).
+   */
+  data: { file?: string; rows: number; rows_used: number; patterns: number; source?: SummarySource };
   variables: VariableSummary[];
   graph: GraphSummary;
   settings: AuditSettings;
