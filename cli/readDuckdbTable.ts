@@ -38,7 +38,7 @@ import { DataError, InputError, UsageError } from "../src/errors.js";
 import { findClosestNames } from "../src/graph/checkColumns.js";
 import { ColumnBuilder } from "../src/data/columnBuilder.js";
 import type { ReadOptions } from "../src/data/readOptions.js";
-import { createBuilder, finishTable, planTable } from "../src/data/readTable.js";
+import { createBuilder, estimateRecords, finishTable, planTable } from "../src/data/readTable.js";
 import type { Table } from "../src/data/Table.js";
 import { readFileHead } from "./dataFormat.js";
 import type { DataFormat } from "./dataFormat.js";
@@ -188,7 +188,7 @@ export async function readDuckdbTable(source: DuckdbSource, options: ReadOptions
       { ...options, file: source.name },
     );
     const rows = Number((await session.connection.runAndReadAll(`SELECT count(*) FROM ${session.from}`)).getRows()[0]![0]);
-    builder.reserve(rows);
+    useSharedStorage(builder, rows);
     await streamInto(session, source, builder, fields, 1);
     return finishTable(builder);
   } finally {
@@ -220,6 +220,7 @@ async function readCsv(source: DuckdbSource, options: ReadOptions): Promise<Tabl
         throw new DataError(`${source.name}: DuckDB reads ${fields.length} fields per row but the header has ${plan.names.length}; check the delimiter and quoting, or read the file with --engine memory`, { file: source.name });
       }
       const builder = createBuilder(plan, { ...options, file: source.name });
+      useSharedStorage(builder, estimateRecords(plan, size - plan.headerEnd - 1));
       await streamInto(session, source, builder, fields, plan.firstLine);
       return finishTable(builder);
     } finally {
@@ -232,6 +233,16 @@ async function readCsv(source: DuckdbSource, options: ReadOptions): Promise<Tabl
     if (e instanceof TypeGuessError) return attempt(true);
     throw e;
   }
+}
+
+/**
+ * Give the builder columns of `rows` rows in shared memory, as the two-thread memory reader
+ * does, so that the moments' second thread and the claim helper see them without a copy (more
+ * rows than that grow into ordinary memory). Cost: O(rows · kept columns) of zeroed memory.
+ */
+function useSharedStorage(builder: ColumnBuilder, rows: number): void {
+  if (rows <= 0) return;
+  builder.useStorage(builder.names.map(() => new Float64Array(new SharedArrayBuffer(8 * rows))));
 }
 
 /** DuckDB's sampled type for a field did not fit a later cell: read again with every field as text. */
