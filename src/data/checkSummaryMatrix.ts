@@ -10,7 +10,7 @@
  * - every cell respects the Cauchy–Schwarz bound |s_ij| ≤ √(s_ii·s_jj) (|r| ≤ 1);
  * - it is *positive semi-definite*: the smallest eigenvalue of the matrix scaled to unit diagonal,
  *   D^−½ S D^−½ (variables of variance 0 left out), is ≥ −‖Ĥ‖_F, where Ĥ holds the roundings on
- *   the same scale. By Weyl's inequality rounding the cells by E moves every eigenvalue by at
+ *   the same scale (0 on a correlation matrix's diagonal, which is exactly 1 by definition). By Weyl's inequality rounding the cells by E moves every eigenvalue by at
  *   most ‖E‖₂ ≤ ‖E‖_F (Golub & Van Loan 2013, Matrix Computations, 4th ed., Thm 8.1.6), so a
  *   matrix that fails was not positive semi-definite before rounding either.
  * The accepted matrix is the mean of each printed pair (s_ij + s_ji)/2, with a correlation
@@ -99,7 +99,7 @@ export function checkSummaryMatrix(matrix: SummaryMatrix): CheckedMatrix {
       const j = keep[b]!;
       const sc = Math.sqrt(values[i * m + i]! * values[j * m + j]!);
       scaled[a * k + b] = values[i * m + j]! / sc;
-      const hh = h[i * m + j]! / sc;
+      const hh = kind === "correlations" && i === j ? 0 : h[i * m + j]! / sc; // a correlation's diagonal is exactly 1, not a rounded number
       frob += hh * hh;
     }
   }
