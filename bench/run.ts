@@ -6,7 +6,9 @@
  *    and the same with `--method linear` (the fast linear test, no flexible adjustment);
  * 3. `arrowaudit test` end to end on 1,000,000 rows × 50 mixed columns (30 categorical);
  * 4. claims whose conditioning set makes thousands of sparse strata (permutation p-values;
- *    bench/sparse.ts, also `npm run bench:sparse` on its own, where BENCH_CLI picks another build).
+ *    bench/sparse.ts, also `npm run bench:sparse` on its own, where BENCH_CLI picks another build);
+ * 5. the DuckDB engine against the memory engine on the numeric cohort, as CSV and as Parquet
+ *    (bench/duckdb.ts, also runnable on its own).
  * Data are generated (invented) into bench/out/ on first use. Set BENCH_ROWS to run smaller.
  */
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
@@ -14,6 +16,7 @@ import { join } from "node:path";
 import { fileURLToPath } from "node:url";
 import { benchClaims } from "./claims.js";
 import { generateMixedCohort } from "./generateMixedCsv.js";
+import { benchDuckdb } from "./duckdb.js";
 import { benchSparse } from "./sparse.js";
 import { ioFloor, measure } from "./measure.js";
 
@@ -68,5 +71,6 @@ results.mixed = await endToEnd("mixed", 30);
 console.log(JSON.stringify(results.mixed, null, 2));
 results.sparse = await benchSparse(rows, cli);
 console.log(JSON.stringify(results.sparse, null, 2));
+results.duckdb = await benchDuckdb();
 writeFileSync(join(out, "results.json"), JSON.stringify(results, null, 2));
 console.log(`results written to ${join(out, "results.json")}`);

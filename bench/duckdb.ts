@@ -1,0 +1,126 @@
+/**
+ * The DuckDB engine against the memory engine (`node --import tsx bench/duckdb.ts` after
+ * `npm run build`; also a step of `npm run bench`). Not a timed test.
+ * 1. reading alone, in this process: the numeric cohort's first 10,000, 100,000 and all
+ *    1,000,000 rows × 50 continuous columns, by the memory engine (`parallelReadTable`) and by
+ *    DuckDB (`readDuckdbTable`), best of two: the figures behind `--engine auto`'s rule for text;
+ * 2. `arrowaudit test --json` end to end on the 1,000,000 × 50 CSV with `--engine memory` and
+ *    `--engine duckdb` in the same run (wall time and peak RSS from /proc);
+ * 3. the same cohort as a Parquet file (written by DuckDB from the CSV), read by DuckDB.
+ * Data: bench/out/numeric-<rows>.csv from bench/run.ts (generated here when absent). Set
+ * BENCH_ROWS to run smaller. Writes bench/out/duckdb-results.json.
+ */
+import { existsSync, mkdirSync, readFileSync, statSync, writeFileSync } from "node:fs";
+import { join } from "node:path";
+import { fileURLToPath, pathToFileURL } from "node:url";
+import { generateMixedCohort } from "./generateMixedCsv.js";
+import { ioFloor, measure } from "./measure.js";
+
+const here = fileURLToPath(new URL(".", import.meta.url));
+const out = join(here, "out");
+const root = join(here, "..");
+const cli = join(root, "dist", "cli", "main.js");
+const rows = Number(process.env.BENCH_ROWS ?? 1_000_000);
+
+/** Run SQL in a fresh in-memory DuckDB. */
+async function duckdbRun(...statements: string[]): Promise<void> {
+  const { DuckDBInstance } = await import("@duckdb/node-api");
+  const instance = await DuckDBInstance.create(":memory:");
+  const connection = await instance.connect();
+  try {
+    for (const s of statements) await connection.run(s);
+  } finally {
+    connection.closeSync();
+    instance.closeSync();
+  }
+}
+const literal = (s: string) => `'${s.replace(/'/g, "''")}'`;
+
+/** The first `n` data rows of a CSV file, written beside it (once). */
+function sliceCsv(csv: string, n: number): string {
+  const path = csv.replace(/\.csv$/u, `.first-${n}.csv`);
+  if (existsSync(path)) return path;
+  const text = readFileSync(csv, "utf8");
+  let end = 0;
+  for (let k = 0; k <= n; k++) end = text.indexOf("\n", end) + 1;
+  writeFileSync(path, text.slice(0, end));
+  return path;
+}
+
+/** Seconds to read a file with each engine, best of two, in this process (the build in dist/). */
+async function readingAlone(path: string) {
+  const { parallelReadTable } = (await import(pathToFileURL(join(root, "dist", "cli", "parallelReadTable.js")).href)) as typeof import("../cli/parallelReadTable.js");
+  const { readDuckdbTable } = (await import(pathToFileURL(join(root, "dist", "cli", "readDuckdbTable.js")).href)) as typeof import("../cli/readDuckdbTable.js");
+  const time = async (f: () => Promise<unknown>) => {
+    let best = Infinity;
+    for (let k = 0; k < 2; k++) {
+      const t0 = performance.now();
+      await f();
+      best = Math.min(best, (performance.now() - t0) / 1000);
+    }
+    return +best.toFixed(2);
+  };
+  const memory_s = await time(() => parallelReadTable(path, { file: path }));
+  const duckdb_s = await time(() => readDuckdbTable({ path, name: path, format: "csv" }, { file: path }));
+  return { file: path.slice(root.length + 1), megabytes: +(statSync(path).size / 2 ** 20).toFixed(1), memory_s, duckdb_s, ratio: +(duckdb_s / memory_s).toFixed(2) };
+}
+
+/** `arrowaudit test --json` on a data file with extra options: wall time, peak RSS and claims. */
+async function endToEnd(graph: string, data: string, types: string, extra: string[]) {
+  const run = await measure("node", [cli, "test", graph, data, "--json", "--types", types, ...extra], { cwd: root });
+  if (run.code !== 0) throw new Error(`arrowaudit test failed (${run.code}): ${run.stderr}`);
+  const result = JSON.parse(run.stdout) as { claims: { p: number }[] };
+  return { data: data.slice(root.length + 1), options: extra.join(" "), claims: result.claims.length, end_to_end_s: +run.seconds.toFixed(2), peak_rss_mb: Math.round(run.peakRssMB), result };
+}
+
+/** Largest relative difference between the p-values of two results, claim by claim. */
+function largestRelativeDifference(a: { claims: { p: number }[] }, b: { claims: { p: number }[] }): number {
+  let worst = 0;
+  a.claims.forEach((c, i) => {
+    const p = b.claims[i]!.p;
+    const d = Math.abs(c.p - p) / Math.max(Math.abs(c.p), Math.abs(p), Number.MIN_VALUE);
+    worst = Math.max(worst, d);
+  });
+  return worst;
+}
+
+export async function benchDuckdb(): Promise<Record<string, unknown>> {
+  mkdirSync(out, { recursive: true });
+  if (!existsSync(cli)) throw new Error("build first: npm run build (npm run bench does)");
+  const csv = join(out, `numeric-${rows}.csv`);
+  const graph = join(out, `numeric-${rows}.graph.txt`);
+  if (!existsSync(csv) || !existsSync(graph) || !existsSync(graph + ".types")) {
+    console.error(`generating ${csv} ...`);
+    await generateMixedCohort(csv, graph, { rows, nodes: 50, categorical: 0, density: 2, missing: 0.04, seed: 7 });
+  }
+  const types = readFileSync(graph + ".types", "utf8").trim();
+  await ioFloor(csv); // warm the page cache
+
+  const reading = [];
+  for (const n of [10_000, 100_000].filter((k) => k < rows)) reading.push(await readingAlone(sliceCsv(csv, n)));
+  reading.push(await readingAlone(csv));
+  console.log(JSON.stringify(reading, null, 2));
+
+  const memory = await endToEnd(graph, csv, types, ["--engine", "memory"]);
+  const duckdb = await endToEnd(graph, csv, types, ["--engine", "duckdb"]);
+  const parquetPath = join(out, `numeric-${rows}.parquet`);
+  if (!existsSync(parquetPath)) await duckdbRun(`COPY (SELECT * FROM read_csv(${literal(csv)})) TO ${literal(parquetPath)} (FORMAT parquet)`);
+  const parquet = await endToEnd(graph, parquetPath, types, []);
+  const strip = ({ result: _result, ...rest }: Awaited<ReturnType<typeof endToEnd>>) => rest;
+  const results = {
+    reading,
+    csv: {
+      memory: strip(memory),
+      duckdb: strip(duckdb),
+      duckdb_over_memory: +(duckdb.end_to_end_s / memory.end_to_end_s).toFixed(2),
+      largest_relative_p_difference: largestRelativeDifference(memory.result, duckdb.result),
+    },
+    parquet: { ...strip(parquet), megabytes: +(statSync(parquetPath).size / 2 ** 20).toFixed(1), largest_relative_p_difference: largestRelativeDifference(memory.result, parquet.result) },
+  };
+  console.log(JSON.stringify(results.csv, null, 2));
+  console.log(JSON.stringify(results.parquet, null, 2));
+  writeFileSync(join(out, "duckdb-results.json"), JSON.stringify(results, null, 2));
+  return results;
+}
+
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) await benchDuckdb();
