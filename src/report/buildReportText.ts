@@ -436,7 +436,10 @@ function decisionsParagraph(result: AuditResult, refs: Set<RefKey>): string {
   const ns = claims.map((c) => c.n).filter(Number.isFinite);
   const rows = result.data.rows;
   let missing: string;
-  if (s.listwise) {
+  const src = result.data.source;
+  if (src) {
+    missing = `The claims were tested from summary statistics: the ${src.kind === "correlations" ? "correlation" : "covariance"} matrix of ${formatCount(src.n)} complete cases${result.data.file !== undefined ? ` in ${result.data.file}` : ""}${src.sd_file !== undefined ? `, turned into covariances by the standard deviations in ${src.sd_file}` : ""}, each claim by the partial correlation of the variables' scores; claims that need the levels of a categorical variable could not be tested.`;
+  } else if (s.listwise) {
     missing = `Rows with a missing value in any analysed variable were removed before testing (listwise deletion): ${formatCount(result.data.rows_used)} of ${formatCount(rows)} rows were used.`;
   } else if (ns.length > 0) {
     missing = `Each claim used the rows complete for its own variables (complete cases per claim): n = ${range(ns)} of ${formatCount(rows)} rows.`;
@@ -566,7 +569,12 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
 
   const dataName = result.data.file ?? context.inputs.find((i) => /\.(csv|tsv|txt|parquet)$/i.test(i.path))?.path;
   const summary = [
-    { label: "Data read", value: `${dataName !== undefined ? `${dataName}: ` : ""}${plural(result.data.rows, "row", "rows")}, ${plural(result.variables.length, "variable", "variables")}` },
+    {
+      label: "Data read",
+      value: result.data.source
+        ? `${dataName !== undefined ? `${dataName}: ` : ""}${result.data.source.kind === "correlations" ? "correlation" : "covariance"} matrix of ${plural(result.data.source.n, "complete case", "complete cases")}, ${plural(result.variables.length, "variable", "variables")}`
+        : `${dataName !== undefined ? `${dataName}: ` : ""}${plural(result.data.rows, "row", "rows")}, ${plural(result.variables.length, "variable", "variables")}`,
+    },
     { label: "Claims tested", value: formatCount(claims.length) },
     { label: "Contradicted", value: formatCount(contradicted) },
     { label: "Consistent", value: formatCount(claims.length - contradicted) },
@@ -600,7 +608,7 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
   const variables: VariableRow[] = result.variables.map((v) => ({
     name: v.name,
     type: v.type,
-    decided: v.type_source === "declared" ? "declared by the user" : "inferred from the values",
+    decided: v.type_source === "declared" ? "declared by the user" : result.data.source ? "assumed continuous (a matrix holds scores)" : "inferred from the values",
     missing: v.missing > 0 ? `${formatCount(v.missing)} (${percent(v.missing, rows)})` : "0",
     levels: v.levels && v.type !== "continuous" ? codingOf(v) : "",
   }));

@@ -326,11 +326,20 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   const color = opts.color;
   const safe = safeMessages(r);
   const out: string[] = [];
-  out.push(...wrap(`${safe.file}: ${formatCount(r.data.rows)} rows read, ${formatCount(r.data.rows_used)} used in at least one test; ${r.data.patterns} missing-data pattern${r.data.patterns === 1 ? "" : "s"}`, width, "  "));
+  const src = r.data.source;
+  out.push(
+    ...wrap(
+      src
+        ? `${safe.file}: ${src.kind === "correlations" ? "correlation" : "covariance"} matrix of ${formatCount(src.n)} complete cases${src.sd_file !== undefined ? ` with the standard deviations of ${escapeTerminal(src.sd_file)}` : ""} (summary statistics: every claim gets the partial-correlation test)`
+        : `${safe.file}: ${formatCount(r.data.rows)} rows read, ${formatCount(r.data.rows_used)} used in at least one test; ${r.data.patterns} missing-data pattern${r.data.patterns === 1 ? "" : "s"}`,
+      width,
+      "  ",
+    ),
+  );
   const varStyle = nameStyle(r.variables.map((v) => v.name), Math.min(20, width - 10), ascii);
   const vars = r.variables.map((v) => `${varStyle.show(v.name)} (${v.type}${v.type_source === "inferred" ? "*" : ""}${v.missing ? `, ${formatCount(v.missing)} missing` : ""})`);
   out.push(...wrap(`variables: ${vars.join(", ")}`, width, "  "));
-  if (r.variables.some((v) => v.type_source === "inferred")) out.push(...wrap("  * type inferred from the values; declare with --types if wrong", width, "    "));
+  if (r.variables.some((v) => v.type_source === "inferred")) out.push(...wrap(src ? "  * assumed continuous (a matrix holds one score per variable); declare categorical ones with --types" : "  * type inferred from the values; declare with --types if wrong", width, "    "));
   out.push("");
 
   const head = ["#", "claim", "n", "test", `effect [${levelText(1 - r.settings.alpha)} CI]`, "detect.", "p", "p adj", "verdict"];

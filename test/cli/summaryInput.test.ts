@@ -125,6 +125,15 @@ describe("summary input reproduces the rows' partial correlations", () => {
     expect(r.claims.every((c) => c.test === "pearson-partial" && typeof c.p_adjusted === "number" && c.equivalence !== undefined)).toBe(true);
   });
 
+  it("the terminal text and the methods text say the claims came from a matrix and its n", async () => {
+    const t = await runCli(["test", "graph.txt", "--correlations", "corr.csv", "--n", String(n)], { cwd: dir, env: { COLUMNS: "200" } });
+    expect(t.code).toBe(0);
+    expect(t.stdout.split("\n")[0]).toBe(`corr.csv: correlation matrix of ${n} complete cases (summary statistics: every claim gets the partial-correlation test)`);
+    const r = await runCli(["report", "graph.txt", "--covariance", "cov.csv", "--n", String(n), "--out", "methods.txt", "--quiet"], { cwd: dir });
+    expect(r.code).toBe(0);
+    expect(readFileSync(join(dir, "methods.txt"), "utf8")).toContain(`The claims were tested from summary statistics: the covariance matrix of ${n} complete cases in cov.csv`);
+  });
+
   it("report --correlations writes a Markdown report that records the matrix as an input", async () => {
     const r = await runCli(["report", "graph.txt", "--correlations", "corr.csv", "--n", String(n), "--out", "summary.md", "--quiet"], { cwd: dir });
     expect(r.stderr).toBe("");
