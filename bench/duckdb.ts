@@ -6,7 +6,11 @@
  *    DuckDB (`readDuckdbTable`), best of two: the figures behind `--engine auto`'s rule for text;
  * 2. `arrowaudit test --json` end to end on the 1,000,000 × 50 CSV with `--engine memory` and
  *    `--engine duckdb` in the same run (wall time and peak RSS from /proc);
- * 3. the same cohort as a Parquet file (written by DuckDB from the CSV), read by DuckDB.
+ * 3. the same cohort as a Parquet file (written by DuckDB from the CSV), read by DuckDB;
+ * 4. the linear sufficient statistics of the 50 columns (counts, sums and 1,275 cross-products
+ *    per missing-data pattern) two ways: DuckDB's SQL aggregates (`patternMomentsSql`) over the
+ *    Parquet file, and DuckDB's chunks streamed into our columns (`readDuckdbTable`) followed by
+ *    our accumulators (`buildPatternMoments`, one thread), in this process.
  * Data: bench/out/numeric-<rows>.csv from bench/run.ts (generated here when absent). Set
  * BENCH_ROWS to run smaller. Writes bench/out/duckdb-results.json.
  */
@@ -73,6 +77,28 @@ async function endToEnd(graph: string, data: string, types: string, extra: strin
   return { data: data.slice(root.length + 1), options: extra.join(" "), claims: result.claims.length, end_to_end_s: +run.seconds.toFixed(2), peak_rss_mb: Math.round(run.peakRssMB), result };
 }
 
+/** Seconds for the per-pattern moments of every column: SQL aggregates vs streamed chunks and our accumulators. */
+export async function momentsTwoWays(parquetPath: string) {
+  const { patternMomentsSql } = (await import(pathToFileURL(join(root, "dist", "src", "data", "patternMomentsSql.js")).href)) as typeof import("../src/data/patternMomentsSql.js");
+  const { buildPatternMoments } = (await import(pathToFileURL(join(root, "dist", "src", "data", "buildPatternMoments.js")).href)) as typeof import("../src/data/buildPatternMoments.js");
+  const { readDuckdbTable } = (await import(pathToFileURL(join(root, "dist", "cli", "readDuckdbTable.js")).href)) as typeof import("../cli/readDuckdbTable.js");
+  const { DuckDBInstance } = await import("@duckdb/node-api");
+  const instance = await DuckDBInstance.create(":memory:");
+  const connection = await instance.connect();
+  const names = (await connection.runAndReadAll(`DESCRIBE SELECT * FROM read_parquet(${literal(parquetPath)})`)).getRows().map((r) => String(r[0]));
+  let t0 = performance.now();
+  const rows = (await connection.runAndReadAll(patternMomentsSql(`read_parquet(${literal(parquetPath)})`, names.map((name) => ({ name }))))).getRows();
+  const sql_s = +((performance.now() - t0) / 1000).toFixed(2);
+  connection.closeSync();
+  instance.closeSync();
+  t0 = performance.now();
+  const table = await readDuckdbTable({ path: parquetPath, name: parquetPath, format: "parquet" }, { file: parquetPath });
+  const read_s = +((performance.now() - t0) / 1000).toFixed(2);
+  const moments = buildPatternMoments(table, { variables: names });
+  const streamed_s = +((performance.now() - t0) / 1000).toFixed(2);
+  return { columns: names.length, patterns_sql: rows.length, patterns_ours: moments.patterns, sql_aggregates_s: sql_s, streamed_read_s: read_s, streamed_read_and_moments_s: streamed_s };
+}
+
 /** Largest relative difference between the p-values of two results, claim by claim. */
 function largestRelativeDifference(a: { claims: { p: number }[] }, b: { claims: { p: number }[] }): number {
   let worst = 0;
@@ -106,6 +132,8 @@ export async function benchDuckdb(): Promise<Record<string, unknown>> {
   const parquetPath = join(out, `numeric-${rows}.parquet`);
   if (!existsSync(parquetPath)) await duckdbRun(`COPY (SELECT * FROM read_csv(${literal(csv)})) TO ${literal(parquetPath)} (FORMAT parquet)`);
   const parquet = await endToEnd(graph, parquetPath, types, []);
+  const moments = await momentsTwoWays(parquetPath);
+  console.log(JSON.stringify(moments, null, 2));
   const strip = ({ result: _result, ...rest }: Awaited<ReturnType<typeof endToEnd>>) => rest;
   const results = {
     reading,
@@ -115,6 +143,7 @@ export async function benchDuckdb(): Promise<Record<string, unknown>> {
       duckdb_over_memory: +(duckdb.end_to_end_s / memory.end_to_end_s).toFixed(2),
       largest_relative_p_difference: largestRelativeDifference(memory.result, duckdb.result),
     },
+    moments,
     parquet: { ...strip(parquet), megabytes: +(statSync(parquetPath).size / 2 ** 20).toFixed(1), largest_relative_p_difference: largestRelativeDifference(memory.result, parquet.result) },
   };
   console.log(JSON.stringify(results.csv, null, 2));
