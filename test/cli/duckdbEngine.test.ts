@@ -39,8 +39,7 @@ async function duckdb(...statements: string[]): Promise<void> {
 
 // A seeded cohort with missing values (empty cells and NA) and categorical columns of every
 // kind: binary text (smoker), nominal text (region), ordinal integers (stage), continuous.
-const N = 1500;
-function cohortCsv(): string {
+function cohortCsv(N: number): string {
   const rng = mulberry32(20261203);
   const gauss = () => Math.sqrt(-2 * Math.log(1 - rng())) * Math.cos(2 * Math.PI * rng());
   const lines = ["age,smoker,region,stage,sbp,chol"];
@@ -59,7 +58,9 @@ function cohortCsv(): string {
 const GRAPH = "age -> smoker\nage -> sbp\nsmoker -> stage\nstage -> sbp\nage -> chol\nregion -> chol\n";
 
 beforeAll(async () => {
-  writeFileSync(at("cohort.csv"), cohortCsv());
+  writeFileSync(at("cohort.csv"), cohortCsv(1500));
+  // Above the 20,000 rows up to which the default test reads each claim's rows: the moment path.
+  writeFileSync(at("large.csv"), cohortCsv(25_000));
   writeFileSync(at("graph.txt"), GRAPH);
   writeFileSync(at("graph-extra.txt"), GRAPH + "bmi -> sbp\n");
   // Typed as DuckDB sniffs them among BIGINT, DOUBLE and VARCHAR (yes/no would otherwise become
@@ -67,6 +68,7 @@ beforeAll(async () => {
   const typed = `SELECT * FROM read_csv(${sqlPath("cohort.csv")}, nullstr = ['NA', ''], auto_type_candidates = ['BIGINT', 'DOUBLE', 'VARCHAR'])`;
   await duckdb(
     `COPY (${typed}) TO ${sqlPath("cohort.parquet")} (FORMAT parquet, ROW_GROUP_SIZE 500)`,
+    `COPY (SELECT * FROM read_csv(${sqlPath("large.csv")}, nullstr = ['NA', ''], auto_type_candidates = ['BIGINT', 'DOUBLE', 'VARCHAR'])) TO ${sqlPath("large.parquet")} (FORMAT parquet)`,
     `ATTACH ${sqlPath("cohort.duckdb")} AS db`,
     `CREATE TABLE db.cohort AS ${typed}`,
     `CREATE TABLE db.sites AS SELECT 1 AS site`,
@@ -190,6 +192,15 @@ describe("arrowaudit test --engine", () => {
     ["cohort.parquet", "cohort.duckdb", "one.duckdb"].forEach((f, i) => expect(readFileSync(at(f)).equals(before[i]!), f).toBe(true));
     expect((parquet.data as { file: string }).file).toBe("cohort.parquet");
     for (const r of [parquet, table, single]) expectClose(comparable(r), comparable(memory), 1e-9);
+  });
+
+  it("test on 25,000 rows (the moment path of the default test) agrees across engines to 1e-9: memory CSV, DuckDB CSV, Parquet", async () => {
+    const memory = await auditJson("large.csv", "--engine", "memory");
+    expect((memory.data as { rows: number }).rows).toBe(25_000);
+    const paths = (memory.claims as { test: string; details: { path?: string } }[]).filter((c) => c.test === "gcm").map((c) => c.details.path);
+    expect(paths.length).toBeGreaterThan(0);
+    expect(paths.every((p) => p === "moments")).toBe(true);
+    for (const other of [await auditJson("large.csv", "--engine", "duckdb"), await auditJson("large.parquet")]) expectClose(comparable(other), comparable(memory), 1e-9);
   });
 
   it("a missing table is an input error (exit 2) naming the file, the table and the closest name", async () => {
