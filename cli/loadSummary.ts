@@ -26,7 +26,8 @@ export const summaryOptions = (c: Command): Command =>
     .option("--correlations <matrix.csv>", "audit a correlation matrix instead of a data file (square or lower-triangular, names as header and first column); needs --n")
     .option("--covariance <matrix.csv>", "audit a covariance matrix instead of a data file (as --correlations); needs --n")
     .option("--n <cases>", "with --correlations or --covariance: the number of complete cases the matrix was computed on", (v: string) => numberIn("--n", 1, 1e15, true)(v))
-    .option("--sd <sds.csv>", "with --correlations: standard deviations (name,sd per line, or names above values) that turn it into covariances");
+    .option("--sd <sds.csv>", "with --correlations: standard deviations (name,sd per line, or names above values) that turn it into covariances")
+    .option("--counts <column>", "the data give one row per cell: this column holds each row's number of units (every test weights the rows by it)");
 
 /** Whether the options ask for summary-statistics input. */
 export function isSummaryInput(opts: Record<string, unknown>): boolean {
@@ -47,6 +48,7 @@ const ROW_OPTIONS: ReadonlyArray<[string, string]> = [
   ["ignore", "--ignore"],
   ["decimalComma", "--decimal-comma"],
   ["permutations", "--permutations"],
+  ["counts", "--counts"],
 ];
 
 /**

@@ -17,6 +17,8 @@ import { readOptionsFrom } from "../loadTable.js";
 import { checkOneStdin, inputName, openData } from "../readStdin.js";
 import { progressBar } from "../progress.js";
 import { auditSummary, isSummaryInput } from "../loadSummary.js";
+import { findCountsColumn } from "../countsColumn.js";
+import { expandCounts } from "../../src/data/expandCounts.js";
 import { UsageError } from "../../src/errors.js";
 
 /** Audit settings from parsed command-line options. */
@@ -62,8 +64,9 @@ export async function loadAuditInputs(io: Io, graphPath: string, dataPath: strin
   const { delimiter } = readOptionsFrom(opts, data.name);
   const header = data.fields ?? readHeader(data.head, { file: data.name, ...(delimiter ? { delimiter } : {}) });
   checkColumns(graph, header, { file: data.name });
-  const table = await data.load(measured);
-  return { graph, table };
+  const counts = findCountsColumn(graph, header, opts, data.name); // --counts: one row per cell, expanded to one per unit
+  const table = await data.load(counts ? [...measured, counts.name] : measured);
+  return { graph, table: counts ? expandCounts(table, counts.name, { file: data.name, field: counts.field }) : table };
 }
 
 /** `arrowaudit test <graph> <data>`. */
