@@ -21,3 +21,7 @@ export { midRanks, rankColumns } from "./rankColumns.js";
 export { findHighCardinalityColumns, highCardinality, HIGH_CARDINALITY_MIN_LEVELS } from "./findHighCardinalityColumns.js";
 export { findSentinelCodes, SENTINEL_VALUES, type SentinelFinding } from "./findSentinelCodes.js";
 export { findNonTextByte } from "./textBytes.js";
+export { parseSummaryMatrix, parseStandardDeviations, printedRounding, type SummaryMatrix, type SummaryKind, type StandardDeviations } from "./parseSummaryMatrix.js";
+export { checkSummaryMatrix, MATRIX_SLACK, type CheckedMatrix } from "./checkSummaryMatrix.js";
+export { createSummaryData, type SummaryData, type SummarySource } from "./summaryData.js";
+export { expandCounts, MAX_EXPANDED_CELLS, type CountsOptions } from "./expandCounts.js";

@@ -13,3 +13,4 @@ export { mantelHaenszel } from "./mantelHaenszel.js";
 export { logisticRegression } from "./logisticRegression.js";
 export { multinomialLogit } from "./multinomialLogit.js";
 export { createRng, type Rng } from "./rng.js";
+export { smallestEigenvalue, type SmallestEigen } from "./smallestEigenvalue.js";
