@@ -19,6 +19,7 @@ import { type Io, readInput, toolVersion } from "./io.js";
 import { checkClaimCount, MAX_TESTED_CLAIMS } from "./limits.js";
 import { loadGraph } from "./loadGraph.js";
 import { numberIn } from "./program.js";
+import { checkOneStdin, inputName, isStreamInput, readStreamBytes } from "./readStdin.js";
 
 /** The options of summary-statistics input, for `test` and `report`. */
 export const summaryOptions = (c: Command): Command =>
@@ -71,13 +72,13 @@ export function checkSummaryUsage(dataPath: string | undefined, opts: Record<str
   }
 }
 
-/** UTF-8 text of an input file, without a byte-order mark. */
-function readText(io: Io, path: string, role: string): string {
-  const bytes = readInput(path, io.cwd, role);
+/** UTF-8 text of an input file or stream (`-`: standard input), without a byte-order mark. */
+async function readText(io: Io, path: string, role: string): Promise<string> {
+  const bytes = isStreamInput(io, path) ? await readStreamBytes(io, path) : readInput(path, io.cwd, role);
   try {
     return new TextDecoder("utf-8", { fatal: true }).decode(bytes).replace(/^\uFEFF/, "");
   } catch {
-    throw new InputError(`${path}: the ${role} is not UTF-8 text; save it as UTF-8 (CSV UTF-8)`, { file: path });
+    throw new InputError(`${inputName(path)}: the ${role} is not UTF-8 text; save it as UTF-8 (CSV UTF-8)`, { file: inputName(path) });
   }
 }
 
@@ -89,14 +90,16 @@ function readText(io: Io, path: string, role: string): string {
  */
 export async function loadSummaryInputs(io: Io, graphPath: string, opts: Record<string, unknown>): Promise<{ graph: Graph; input: SummaryAuditInput }> {
   const kind: SummaryKind = opts.correlations !== undefined ? "correlations" : "covariance";
-  const file = String(opts[kind]);
+  const path = String(opts[kind]);
+  const file = inputName(path);
+  checkOneStdin({ graph: graphPath, [`${kind === "correlations" ? "correlation" : "covariance"} matrix`]: path, ...(opts.sd !== undefined ? { "standard deviations": String(opts.sd) } : {}) });
   checkInputFile(io, { path: graphPath, role: "graph file" });
-  checkInputFile(io, { path: file, role: `--${kind} file` });
+  checkInputFile(io, { path, role: `--${kind} file` });
   if (opts.sd !== undefined) checkInputFile(io, { path: String(opts.sd), role: "--sd file" });
   const graph = await loadGraph(io, graphPath, opts);
   checkClaimCount(graph, graphPath, MAX_TESTED_CLAIMS, "test and report test", "test the part of the graph you are asking about (a graph file with those nodes and their ancestors), or declare the nodes you will not test unmeasured (--unmeasured)");
   const delimiter = typeof opts.delimiter === "string" ? (opts.delimiter === "tab" || opts.delimiter === "\\t" ? "\t" : opts.delimiter) : undefined;
-  const matrix = parseSummaryMatrix(readText(io, file, `--${kind} file`), { file, kind, ...(delimiter ? { delimiter } : {}) });
+  const matrix = parseSummaryMatrix(await readText(io, path, `--${kind} file`), { file, kind, ...(delimiter ? { delimiter } : {}) });
   checkColumns(graph, matrix.names, { file });
   const checked = checkSummaryMatrix(matrix);
   const m = matrix.names.length;
@@ -111,8 +114,8 @@ export async function loadSummaryInputs(io: Io, graphPath: string, opts: Record<
   }
   let sd: Float64Array | undefined;
   if (opts.sd !== undefined) {
-    const sdFile = String(opts.sd);
-    const sds = parseStandardDeviations(readText(io, sdFile, "--sd file"), { file: sdFile, ...(delimiter ? { delimiter } : {}) });
+    const sdFile = inputName(String(opts.sd));
+    const sds = parseStandardDeviations(await readText(io, String(opts.sd), "--sd file"), { file: sdFile, ...(delimiter ? { delimiter } : {}) });
     const inMatrix = new Set(matrix.names.map((v) => v.normalize("NFC")));
     for (const [name, where] of sds.where) {
       if (!inMatrix.has(name)) {

@@ -10,6 +10,7 @@ import { spawnSync } from "node:child_process";
 import { copyFileSync, mkdtempSync, readFileSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
+import { Readable } from "node:stream";
 import { beforeAll, describe, expect, it } from "vitest";
 import { runCli } from "../helpers/runCli.js";
 import type { AuditResult, TestedClaim } from "../../src/audit/types.js";
@@ -132,6 +133,18 @@ describe("summary input reproduces the rows' partial correlations", () => {
     const r = await runCli(["report", "graph.txt", "--covariance", "cov.csv", "--n", String(n), "--out", "methods.txt", "--quiet"], { cwd: dir });
     expect(r.code).toBe(0);
     expect(readFileSync(join(dir, "methods.txt"), "utf8")).toContain(`The claims were tested from summary statistics: the covariance matrix of ${n} complete cases in cov.csv`);
+  });
+
+  it("the matrix may come from standard input (-), named so in messages; not together with the graph", async () => {
+    const fromFile = await auditJson(["--correlations", "corr.csv", "--n", String(n)]);
+    const r = await runCli(["test", "graph.txt", "--correlations", "-", "--n", String(n), "--json", "--quiet"], { cwd: dir, stdin: Readable.from([readFileSync(join(dir, "corr.csv"))]) });
+    expect(r.code).toBe(0);
+    const fromStdin = JSON.parse(r.stdout) as AuditResult;
+    expect(fromStdin.data.file).toBe("standard input");
+    expect(fromStdin.claims).toEqual(fromFile.claims);
+    const both = await runCli(["test", "-", "--correlations", "-", "--n", String(n)], { cwd: dir, stdin: Readable.from([Buffer.from("")]) });
+    expect(both.code).toBe(1);
+    expect(both.stderr).toMatch(/the graph and the correlation matrix cannot both be read from standard input/);
   });
 
   it("report --correlations writes a Markdown report that records the matrix as an input", async () => {
