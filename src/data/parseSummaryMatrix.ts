@@ -144,6 +144,15 @@ export function parseSummaryMatrix(text: string, options: { file: string; kind: 
   const upperCells = (m * (m - 1)) / 2;
   const at = (i: number, j: number) => ({ file, line: rows[i]!.line, column: j + 2 });
   const cellName = (i: number, j: number) => `the cell of row ${quote(names[i]!)}, column ${quote(names[j]!)}`;
+  let lowerFilled = 0;
+  for (let i = 0; i < m; i++) for (let j = 0; j < i; j++) lowerFilled += filled[i * m + j]!;
+  if (m > 1 && lowerFilled === 0 && upperFilled === upperCells) {
+    const p = at(1, 0);
+    throw new InputError(
+      `${file}:${p.line}:${p.column}: the matrix is upper-triangular (every cell below the diagonal is empty); write it lower-triangular (each row up to its diagonal cell) or fill the whole matrix`,
+      p,
+    );
+  }
   for (let i = 0; i < m; i++) {
     for (let j = 0; j <= i; j++) {
       if (!filled[i * m + j]) {

@@ -47,6 +47,10 @@ describe("parseSummaryMatrix", () => {
     expect(() => parseSummaryMatrix("corner\n", { file: "h.csv", kind: "covariance" })).toThrow(/^h\.csv:1: the header names no variables/);
   });
 
+  it("parseSummaryMatrix names an upper-triangular matrix as such", () => {
+    expect(() => parseSummaryMatrix(",a,b,c\na,1,0.3,0.1\nb,,1,0.2\nc,,,1\n", { file: "up.csv", kind: "correlations" })).toThrow(/^up\.csv:3:2: the matrix is upper-triangular/);
+  });
+
   it("parseSummaryMatrix errors are InputErrors carrying the file, line and column", () => {
     try {
       parseSummaryMatrix(",a,b\na,1\nb,x,1\n", { file: "p.csv", kind: "correlations" });
