@@ -130,13 +130,19 @@ export async function loadSummaryInputs(io: Io, graphPath: string, opts: Record<
       sd[u.i] = v;
     }
   }
+  // The audit reads the matrix scaled to unit diagonal, D^−½ S D^−½ (the covariance of the
+  // standardised variables; a variable of variance 0 keeps its zeros), so that no product overflows
+  // or underflows whatever the units. Partial correlations do not depend on the scales, so
+  // covariances, and correlations with or without their standard deviations, give the same tests.
   const k = used.length;
   const cov = new Float64Array(k * k);
+  const variance = (i: number) => checked.values[i * m + i]! * (sd ? sd[i]! * sd[i]! : 1);
   for (let a = 0; a < k; a++) {
     for (let b = 0; b < k; b++) {
       const i = used[a]!.i;
       const j = used[b]!.i;
-      cov[a * k + b] = checked.values[i * m + j]! * (sd ? sd[i]! * sd[j]! : 1);
+      const scale = Math.sqrt(variance(i)) * Math.sqrt(variance(j));
+      cov[a * k + b] = scale > 0 ? (checked.values[i * m + j]! * (sd ? sd[i]! * sd[j]! : 1)) / scale : 0;
     }
   }
   const declared = typeof opts.types === "string" ? parseTypeDeclarations(opts.types) : {};

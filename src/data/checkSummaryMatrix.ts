@@ -64,13 +64,13 @@ export function checkSummaryMatrix(matrix: SummaryMatrix): CheckedMatrix {
     for (let j = 0; j < i; j++) {
       const a = s[i * m + j]!;
       const b = s[j * m + i]!;
-      const scale = Math.sqrt(diag(i) * diag(j));
+      const scale = Math.sqrt(diag(i)) * Math.sqrt(diag(j)); // square roots first: no product of two variances can overflow
       const tol = h[i * m + j]! + h[j * m + i]! + MATRIX_SLACK * Math.max(scale, Math.abs(a), Math.abs(b));
       if (Math.abs(a - b) > tol) {
         fail(i, j, `is ${a} but its mirror image (row ${quote(names[j]!)}, column ${quote(names[i]!)}) is ${b}; the matrix must be symmetric within the rounding of its printed digits (here ±${formatTol(tol)}); correct one of the two cells`);
       }
       const v = (a + b) / 2;
-      const bound = Math.sqrt((diag(i) + (kind === "covariance" ? h[i * m + i]! : 0)) * (diag(j) + (kind === "covariance" ? h[j * m + j]! : 0)));
+      const bound = Math.sqrt(diag(i) + (kind === "covariance" ? h[i * m + i]! : 0)) * Math.sqrt(diag(j) + (kind === "covariance" ? h[j * m + j]! : 0));
       if (Math.abs(v) > bound + h[i * m + j]! + MATRIX_SLACK * Math.max(scale, Math.abs(v))) {
         fail(
           i,
@@ -97,7 +97,7 @@ export function checkSummaryMatrix(matrix: SummaryMatrix): CheckedMatrix {
     for (let b = 0; b < k; b++) {
       const i = keep[a]!;
       const j = keep[b]!;
-      const sc = Math.sqrt(values[i * m + i]! * values[j * m + j]!);
+      const sc = Math.sqrt(values[i * m + i]!) * Math.sqrt(values[j * m + j]!);
       scaled[a * k + b] = values[i * m + j]! / sc;
       const hh = kind === "correlations" && i === j ? 0 : h[i * m + j]! / sc; // a correlation's diagonal is exactly 1, not a rounded number
       frob += hh * hh;

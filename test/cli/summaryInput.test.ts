@@ -113,6 +113,20 @@ describe("summary input reproduces the rows' partial correlations", () => {
     }
   });
 
+  it("a covariance matrix in extreme units (variables scaled by 1e-150 … 1e150, cells from 1e-300 to 1e300) gives the correlations' claims (1e-9)", async () => {
+    const lines = readFileSync(join(dir, "cov.csv"), "utf8").trim().split("\n");
+    const scale = (i: number) => 10 ** (150 * ((i % 3) - 1)); // 1e-150, 1, 1e150
+    const scaled = [lines[0]!, ...lines.slice(1).map((line, i) => {
+      const [name, ...cells] = line.split(",");
+      return [name, ...cells.map((c, j) => (Number(c) * scale(i) * scale(j)).toPrecision(17))].join(",");
+    })].join("\n") + "\n";
+    writeFileSync(join(dir, "cov-extreme.csv"), scaled);
+    const corr = await auditJson(["--correlations", "corr.csv", "--n", String(n), ...TYPES]);
+    const extreme = await auditJson(["--covariance", "cov-extreme.csv", "--n", String(n), ...TYPES]);
+    expect(extreme.claims.map(key)).toEqual(corr.claims.map(key));
+    extreme.claims.forEach((c, i) => expectSameClaim(corr.claims[i]!, c, 1e-9));
+  });
+
   it("a lower-triangular matrix (records ending at the diagonal) gives the square matrix's result exactly", async () => {
     const square = await auditJson(["--correlations", "corr.csv", "--n", String(n), ...TYPES]);
     const lower = await auditJson(["--correlations", "corr-lower.csv", "--n", String(n), ...TYPES]);
