@@ -7,7 +7,8 @@
  * the counts. Every test then weights the rows by their counts exactly as it would see the
  * individual records: moments and cross-products, grouped tables, row-level fits, mid-ranks and
  * permutations of units alike, with no method left out. The cost is memory for n rows, so the
- * expansion is refused above {@link MAX_EXPANDED_CELLS} cells (units × columns).
+ * expansion is refused above {@link MAX_EXPANDED_CELLS} cells (units × columns). Types and levels
+ * were inferred from the file's rows before the expansion, rows of count 0 included.
  */
 import { DataError } from "../errors.js";
 import type { Column, Table } from "./Table.js";
