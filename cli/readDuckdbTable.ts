@@ -19,11 +19,10 @@
  *   as for a cell of a delimited file; so a Parquet file loads with the type inference of the CSV
  *   file that holds the same values (a BOOLEAN reads as the labels `false`/`true`).
  * - a delimited file's header, delimiter and row-label column come from our own header reader
- *   (`planTable`), so names are checked as for the memory engine; DuckDB parses the rows with
- *   the number types BIGINT and DOUBLE as its only candidates besides VARCHAR. DuckDB's number
- *   grammar is wider than ours (it also reads `inf`, `1_000` and hexadecimal integers), so a
- *   file with such cells may be typed differently by the two engines; when a later cell does not
- *   fit the type DuckDB chose from its sample, the file is read again with every field as text.
+ *   (`planTable`), so names are checked as for the memory engine; DuckDB reads every field as
+ *   text and, inside DuckDB, converts the cells that match our number grammar (`parseNumberText`)
+ *   to doubles (correctly rounded, as JavaScript's `Number`); a cell that does not match, or does
+ *   not give a finite double, is handed over as its text. So both engines type every cell alike.
  *
  * Rows keep the source's order (DuckDB preserves insertion order), so sampled rows and seeded
  * choices are the same as with the memory engine. Messages that name a line give, for a delimited
@@ -196,44 +195,39 @@ export async function readDuckdbTable(source: DuckdbSource, options: ReadOptions
   }
 }
 
-/** A delimited file: our header reader for the names, DuckDB for the rows. */
+/**
+ * A delimited file: our header reader for the names, DuckDB for the rows, every field read as
+ * text. A cell goes to the builder as a number when it matches our number grammar
+ * (`parseNumberText`, blanks around allowed) and DuckDB converts it to a finite double, both
+ * checked inside DuckDB; every other cell as its text, which the builder reads as a text cell of
+ * the memory engine. So the two engines type every cell alike.
+ */
 async function readCsv(source: DuckdbSource, options: ReadOptions): Promise<Table> {
   const head = readFileHead(source.path, HEAD_BYTES);
   const size = statSync(source.path).size;
   const plan = planTable(head, head.length === size, { ...options, file: source.name });
   if (!plan) throw new DataError(`${source.name}: no line end in the first ${HEAD_BYTES / 1024} KiB, so the header cannot be read; check that this is a delimited text file`, { file: source.name });
-  const dialect = [
-    `delim = ${literal(plan.delimiter)}`,
-    `header = true`,
-    `quote = '"'`,
-    `escape = '"'`,
-    `null_padding = false`,
-    `auto_detect = true`,
-    ...(options.decimalComma ? [`decimal_separator = ','`] : []),
-  ];
-  const attempt = async (allText: boolean): Promise<Table> => {
-    const types = allText ? `all_varchar = true` : `auto_type_candidates = ['BIGINT', 'DOUBLE', 'VARCHAR']`;
-    const session = await openDuckdbSession(source, `, ${[...dialect, types].join(", ")}`);
-    try {
-      const fields = await describe(session, source);
-      if (fields.length !== plan.names.length) {
-        throw new DataError(`${source.name}: DuckDB reads ${fields.length} fields per row but the header has ${plan.names.length}; check the delimiter and quoting, or read the file with --engine memory`, { file: source.name });
-      }
-      const builder = createBuilder(plan, { ...options, file: source.name });
-      useSharedStorage(builder, estimateRecords(plan, size - plan.headerEnd - 1));
-      await streamInto(session, source, builder, fields, plan.firstLine);
-      return finishTable(builder);
-    } finally {
-      session.close();
-    }
-  };
+  const dialect = [`delim = ${literal(plan.delimiter)}`, `header = true`, `quote = '"'`, `escape = '"'`, `all_varchar = true`];
+  const session = await openDuckdbSession(source, `, ${dialect.join(", ")}`);
   try {
-    return await attempt(false);
-  } catch (e) {
-    if (e instanceof TypeGuessError) return attempt(true);
-    throw e;
+    const fields = await describe(session, source);
+    if (fields.length !== plan.names.length) {
+      throw new DataError(`${source.name}: DuckDB reads ${fields.length} fields per row but the header has ${plan.names.length}; check the delimiter and quoting, or read the file with --engine memory`, { file: source.name });
+    }
+    const builder = createBuilder(plan, { ...options, file: source.name });
+    useSharedStorage(builder, estimateRecords(plan, size - plan.headerEnd - 1));
+    await streamInto(session, source, builder, fields, plan.firstLine, options.decimalComma ? "comma" : "dot");
+    return finishTable(builder);
+  } finally {
+    session.close();
   }
 }
+
+/** Our number grammar (`parseNumberText`) as RE2 patterns for DuckDB, blanks around allowed. */
+const NUMBER_PATTERN = {
+  dot: "[ \\t]*[+-]?([0-9]+\\.?[0-9]*|\\.[0-9]+)([eE][+-]?[0-9]+)?[ \\t]*",
+  comma: "[ \\t]*[+-]?([0-9]+,?[0-9]*|,[0-9]+)([eE][+-]?[0-9]+)?[ \\t]*",
+} as const;
 
 /**
  * Give the builder columns of `rows` rows in shared memory, as the two-thread memory reader
@@ -245,24 +239,58 @@ function useSharedStorage(builder: ColumnBuilder, rows: number): void {
   builder.useStorage(builder.names.map(() => new Float64Array(new SharedArrayBuffer(8 * rows))));
 }
 
-/** DuckDB's sampled type for a field did not fit a later cell: read again with every field as text. */
-class TypeGuessError extends Error {}
+/** How a kept field arrives: as a number, as text, or (a delimited file's cell) as a number or else its text. */
+type FieldKind = "number" | "text" | "cell";
 
 /**
- * Stream the kept fields of the source into the builder, one record per row.
+ * The query that streams the kept fields. Parquet and tables: one column per field, numeric
+ * types cast to DOUBLE, others to VARCHAR. A delimited file (`cells`): per field a DOUBLE, NULL
+ * unless the cell matches our number grammar and converts to a finite double, then one last
+ * column, NULL unless some cell of the row is text, holding the row's cells as a list (so the
+ * rare rows with text cost a list, and the others nothing). Cost: O(fields) text.
+ */
+function streamQuery(from: string, fields: readonly { name: string; type: string }[], builder: ColumnBuilder, cells?: "dot" | "comma"): { sql: string; kept: { column: number; kind: FieldKind }[] } {
+  const kept: { column: number; kind: FieldKind }[] = [];
+  const inner: string[] = [];
+  const outer: string[] = [];
+  const texts: string[] = [];
+  const anyText: string[] = [];
+  builder.fieldToColumn.forEach((c, f) => {
+    if (c < 0) return;
+    const col = identifier(fields[f]!.name);
+    const j = kept.length;
+    if (cells) {
+      const value = cells === "comma" ? `replace(trim(${col}), ',', '.')` : `trim(${col})`;
+      inner.push(`${col} AS c_${j}`, `TRY_CAST(CASE WHEN regexp_full_match(${col}, ${literal(NUMBER_PATTERN[cells])}) THEN ${value} END AS DOUBLE) AS n_${j}`);
+      outer.push(`CASE WHEN isfinite(n_${j}) THEN n_${j} END`);
+      texts.push(`c_${j}`);
+      anyText.push(`(c_${j} IS NOT NULL AND NOT coalesce(isfinite(n_${j}), false))`);
+      kept.push({ column: c, kind: "cell" });
+    } else if (NUMERIC_TYPES.test(fields[f]!.type)) {
+      inner.push(`CAST(${col} AS DOUBLE) AS n_${j}`);
+      outer.push(`n_${j}`);
+      kept.push({ column: c, kind: "number" });
+    } else {
+      inner.push(`CAST(${col} AS VARCHAR) AS t_${j}`);
+      outer.push(`t_${j}`);
+      kept.push({ column: c, kind: "text" });
+    }
+  });
+  if (kept.length === 0) return { sql: `SELECT 0 FROM ${from}`, kept };
+  if (cells) outer.push(`CASE WHEN ${anyText.join(" OR ")} THEN [${texts.join(", ")}] END`);
+  return { sql: `SELECT ${outer.join(", ")} FROM (SELECT ${inner.join(", ")} FROM ${from})`, kept };
+}
+
+/**
+ * Stream the kept fields of the source into the builder, one record per row. `cells` says that
+ * every field is a delimited file's text, read by our number grammar with that decimal mark.
  * Cost: O(rows · kept columns).
  */
-async function streamInto(session: DuckdbSession, source: DuckdbSource, builder: ColumnBuilder, fields: { name: string; type: string }[], startLine: number): Promise<void> {
-  const kept: { field: number; column: number; numeric: boolean }[] = [];
-  builder.fieldToColumn.forEach((c, f) => {
-    if (c >= 0) kept.push({ field: f, column: c, numeric: NUMERIC_TYPES.test(fields[f]!.type) });
-  });
-  const select = kept.length === 0
-    ? "SELECT 0"
-    : `SELECT ${kept.map((k) => { const col = identifier(fields[k.field]!.name); return k.numeric ? `CAST(${col} AS DOUBLE)` : `CAST(${col} AS VARCHAR)`; }).join(", ")}`;
+async function streamInto(session: DuckdbSession, source: DuckdbSource, builder: ColumnBuilder, fields: { name: string; type: string }[], startLine: number, cells?: "dot" | "comma"): Promise<void> {
+  const { sql, kept } = streamQuery(session.from, fields, builder, cells);
   let result;
   try {
-    result = await session.connection.stream(`${select} FROM ${session.from}`);
+    result = await session.connection.stream(sql);
   } catch (e) {
     throw unreadable(source, e);
   }
@@ -273,39 +301,60 @@ async function streamInto(session: DuckdbSession, source: DuckdbSource, builder:
     try {
       chunk = await result.fetchChunk();
     } catch (e) {
-      if (source.format === "csv" && /conver|cast|could not/iu.test(firstLine(e))) throw new TypeGuessError(firstLine(e));
       throw unreadable(source, e);
     }
     if (!chunk || chunk.rowCount === 0) break;
     const n = chunk.rowCount;
     const numbers: (Float64Array | undefined)[] = [];
     const texts: (DuckDBVector | undefined)[] = [];
-    for (let j = 0; j < kept.length; j++) {
+    kept.forEach((k, j) => {
       const v = chunk.getColumnVector(j);
-      if (kept[j]!.numeric) numbers.push(doublesOf(v, n));
-      else numbers.push(undefined);
-      texts.push(v);
+      numbers.push(k.kind === "text" ? undefined : doublesOf(v, n));
+      texts.push(k.kind === "text" ? v : undefined);
+    });
+    let rowTexts: DuckDBVector | undefined;
+    if (cells && kept.length > 0) {
+      const v = chunk.getColumnVector(kept.length);
+      if (!allNull(v, n)) rowTexts = v;
     }
     for (let r = 0; r < n; r++) {
       builder.beginRecord(line++);
+      const cellTexts = rowTexts ? (rowTexts.getItem(r) as { items: readonly unknown[] } | null)?.items : undefined;
       for (let j = 0; j < kept.length; j++) {
         const c = kept[j]!.column;
-        const nums = numbers[j];
-        if (nums !== undefined) {
-          const x = nums[r]!;
-          if (x !== x) builder.miss(c);
-          else if (x === Infinity || x === -Infinity) builder.text(c, x > 0 ? "Infinity" : "-Infinity");
-          else if (builder.plain[c] === 1) builder.vals[c]![builder.rows] = x;
-          else builder.num(c, x);
-        } else {
-          const t = texts[j]!.getItem(r) as string | null;
+        const tv = texts[j];
+        if (tv !== undefined) {
+          const t = tv.getItem(r) as string | null;
           if (t === null) builder.miss(c);
           else builder.text(c, t);
+          continue;
         }
+        const x = numbers[j]![r]!;
+        if (x !== x) {
+          const t = cellTexts?.[j];
+          if (typeof t === "string") builder.text(c, t);
+          else builder.miss(c);
+        } else if (x === Infinity || x === -Infinity) builder.text(c, x > 0 ? "Infinity" : "-Infinity");
+        else if (builder.plain[c] === 1) builder.vals[c]![builder.rows] = x;
+        else builder.num(c, x);
       }
       builder.endRecord(width);
     }
   }
+}
+
+/**
+ * Whether every one of the first n rows of a vector is NULL, read from its validity mask when the
+ * library exposes it (see {@link doublesOf}); false when it cannot tell. Cost: O(rows / 64).
+ */
+function allNull(v: DuckDBVector, n: number): boolean {
+  const raw = v as unknown as { validity?: { data?: unknown; offset?: unknown } };
+  const mask = raw.validity?.data;
+  if (raw.validity?.offset !== 0 || !(mask instanceof BigUint64Array)) return false;
+  const full = Math.floor(n / 64);
+  for (let w = 0; w < full; w++) if (mask[w] !== 0n) return false;
+  const rest = n - 64 * full;
+  return rest === 0 || (mask[full]! & ((1n << BigInt(rest)) - 1n)) === 0n;
 }
 
 /** A 64-row validity word with every row valid. */

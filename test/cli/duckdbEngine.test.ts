@@ -138,6 +138,24 @@ describe("readDuckdbTable", () => {
     expectSameTable(viaDuckdb, memory);
   });
 
+  it("readDuckdbTable(csv) types cells that DuckDB's own number grammar would take (0x10, 1_000, inf, nan, 1e400, blanks) as the memory engine does", async () => {
+    writeFileSync(at("odd.csv"), "a,b,c,d\n1, 2 ,1e400,0x10\n.5,3.,NaN,1_000\n-0,+4,nan,7\n2,5e-3, 7 ,inf\n");
+    const memory = await parallelReadTable(at("odd.csv"), { file: "odd.csv" });
+    const viaDuckdb = await readDuckdbTable({ path: at("odd.csv"), name: "odd.csv", format: "csv" }, { file: "odd.csv" });
+    // the memory reader (reference): "nan", "1e400", "0x10", "1_000" and "inf" are text, so c and d are nominal
+    expect(memory.columns.map((c) => c.type)).toEqual(["continuous", "continuous", "nominal", "nominal"]);
+    expectSameTable(viaDuckdb, memory);
+  });
+
+  it("readDuckdbTable(csv) stops at text among numbers after DuckDB's 20,480-row sniffing sample with the memory engine's error and line", async () => {
+    const rows = ["a,b"];
+    for (let i = 0; i < 30_000; i++) rows.push(`${i === 25_000 ? "abc" : i * 0.5},${i % 7}`);
+    writeFileSync(at("late.csv"), rows.join("\n") + "\n");
+    const message = await parallelReadTable(at("late.csv"), { file: "late.csv" }).then(() => "", (e: Error) => e.message);
+    expect(message).toContain('late.csv:25002: column "a" has text "abc" among numbers');
+    await expect(readDuckdbTable({ path: at("late.csv"), name: "late.csv", format: "csv" }, { file: "late.csv" })).rejects.toThrow(message);
+  });
+
   it("readDuckdbTable(parquet) and a DuckDB table written from the CSV give the memory engine's table of the CSV", async () => {
     const memory = await parallelReadTable(at("cohort.csv"), { file: "cohort.csv" });
     const parquet = await readDuckdbTable({ path: at("cohort.parquet"), name: "cohort.parquet", format: "parquet" }, { file: "cohort.parquet" });
