@@ -156,6 +156,15 @@ describe("readDuckdbTable", () => {
     await expect(readDuckdbTable({ path: at("late.csv"), name: "late.csv", format: "csv" }, { file: "late.csv" })).rejects.toThrow(message);
   });
 
+  it("readDuckdbTable(csv) reads 1_000 after DuckDB's sniffing sample as text, as the memory engine does (DuckDB alone would read 1000)", async () => {
+    const rows = ["a,b"];
+    for (let i = 0; i < 30_000; i++) rows.push(`${i === 25_000 ? "1_000" : i * 0.5},${i % 7}`);
+    writeFileSync(at("underscore.csv"), rows.join("\n") + "\n");
+    const message = await parallelReadTable(at("underscore.csv"), { file: "underscore.csv" }).then(() => "", (e: Error) => e.message);
+    expect(message).toContain('underscore.csv:25002: column "a" has text "1_000" among numbers');
+    await expect(readDuckdbTable({ path: at("underscore.csv"), name: "underscore.csv", format: "csv" }, { file: "underscore.csv" })).rejects.toThrow(message);
+  });
+
   it("readDuckdbTable(parquet) and a DuckDB table written from the CSV give the memory engine's table of the CSV", async () => {
     const memory = await parallelReadTable(at("cohort.csv"), { file: "cohort.csv" });
     const parquet = await readDuckdbTable({ path: at("cohort.parquet"), name: "cohort.parquet", format: "parquet" }, { file: "cohort.parquet" });
