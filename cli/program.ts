@@ -10,6 +10,7 @@ import { exitFor, EXIT } from "./exitCodes.js";
 import { type Io, packageRoot, toolVersion } from "./io.js";
 import { runClaims } from "./commands/claims.js";
 import { runTest } from "./commands/test.js";
+import { runSummarize } from "./commands/summarize.js";
 import { runReport } from "./commands/report.js";
 import { runDraw } from "./commands/draw.js";
 import { runSimulate } from "./commands/simulate.js";
@@ -89,13 +90,39 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .command("test")
       .description("test every claim against a data file and rank the missing arrows the data contradict")
       .argument("<graph>", "graph file")
-      .argument("[data]", "data file (CSV with a header row; comma, semicolon or tab); omitted with --correlations or --covariance")
+      .argument("[data...]", "data file (CSV with a header row; comma, semicolon or tab), or site summaries written by summarize (pooled with site as a stratum); omitted with --correlations or --covariance")
       .option("--json", "print the result as one JSON document", false)
       .option("--csv", "print one CSV row per claim", false)
       .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
-  )).action(async (graph: string, data: string | undefined, opts: Record<string, unknown>) => {
+  )).action(async (graph: string, data: string[], opts: Record<string, unknown>) => {
     if (opts.json && opts.csv) throw new UsageError("choose one of --json and --csv");
-    state.code = await runTest(io, graph, data, opts);
+    state.code = await runTest(io, graph, data[0], opts, data.slice(1));
+  });
+
+  graphOptions(
+    program
+      .command("summarize")
+      .description("write the statistics the audit of the graph needs from one site's data, with no row-level value, for pooling sites with test <graph> site-a.json site-b.json …")
+      .argument("<graph>", "graph file")
+      .argument("<data>", "data file of one site")
+      .requiredOption("--out <file>", "site summary file to write (JSON); an existing file is overwritten")
+      .option("--site <name>", "the site's name in the pooled audit (default: the data file's name without extension)")
+      .option("--min-cell <k>", "disclosure control: no moment or table cell from fewer than k rows", numberIn("--min-cell", 3, 1e9, true), 5)
+      .addOption(new Option("--method <method>", "auto: categorical claims as tables, others as moments; linear: every claim with scored x and y as moments; chisq: categorical claims only").choices(["auto", "linear", "chisq"]).default("auto"))
+      .option("--missing <codes>", "extra missing-value codes, as for test")
+      .option("--ignore <names>", "comma-separated columns to leave out")
+      .option("--types <list>", 'declare variable types, e.g. "education=ordinal,region=nominal" (declare them alike at every site)')
+      .option("--levels <list>", 'order levels, e.g. "education=low|mid|high" (every site must have the same levels)')
+      .addOption(new Option("--delimiter <d>", "field delimiter (default: detected)").choices([",", ";", "tab", "\\t"]))
+      .option("--decimal-comma", "numbers use a decimal comma (1,5)", false)
+      .addOption(new Option("--engine <engine>", "data engine, as for test").choices(["auto", "memory", "duckdb"]).default("auto"))
+      .option("--table <name>", "table of a DuckDB database file to read")
+      .option("--counts <column>", "the data give one row per cell: this column holds each row's number of units")
+      .option("--listwise", "use only rows complete on every measured variable", false)
+      .option("--quiet", "print nothing but errors", false)
+      .hook("preAction", (_cmd, action) => void readOptionsFrom(action.opts(), "")),
+  ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
+    state.code = await runSummarize(io, graph, data, opts);
   });
 
   summaryOptions(auditOptions(

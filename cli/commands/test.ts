@@ -20,6 +20,7 @@ import { auditSummary, isSummaryInput } from "../loadSummary.js";
 import { findCountsColumn } from "../countsColumn.js";
 import { expandCounts } from "../../src/data/expandCounts.js";
 import { UsageError } from "../../src/errors.js";
+import { auditSites, isSiteSummaryFile } from "../loadSiteSummaries.js";
 
 /** Audit settings from parsed command-line options. */
 export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettings> {
@@ -40,8 +41,10 @@ export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettin
 }
 
 /** Load the graph and the data and run the audit (shared by test, report and demo). */
-export async function audit(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>): Promise<AuditResult> {
+export async function audit(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>, moreData: readonly string[] = []): Promise<AuditResult> {
   if (isSummaryInput(opts)) return auditSummary(io, graphPath, dataPath, opts, settingsFrom(opts));
+  // several data arguments, or one site summary: pool the sites (the kind is read from the content)
+  if (dataPath !== undefined && (moreData.length > 0 || isSiteSummaryFile(io, dataPath))) return auditSites(io, graphPath, [dataPath, ...moreData], opts, settingsFrom(opts));
   if (dataPath === undefined) throw new UsageError("missing the data file: give a data file, or --correlations or --covariance with --n");
   const { graph, table } = await loadAuditInputs(io, graphPath, dataPath, opts);
   const bar = progressBar(io, !!opts.quiet);
@@ -70,8 +73,8 @@ export async function loadAuditInputs(io: Io, graphPath: string, dataPath: strin
 }
 
 /** `arrowaudit test <graph> <data>`. */
-export async function runTest(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>): Promise<number> {
-  const result = await audit(io, graphPath, dataPath, opts);
+export async function runTest(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>, moreData: readonly string[] = []): Promise<number> {
+  const result = await audit(io, graphPath, dataPath, opts, moreData);
   if (opts.json) io.stdout(JSON.stringify(result, null, 2) + "\n");
   else if (opts.csv) io.stdout(renderCsv(result));
   else if (!opts.quiet) io.stdout(renderTestText(result, { ascii: !!opts.ascii, color: useColor(io), width: textWidth(io) }));

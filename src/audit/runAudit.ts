@@ -290,6 +290,36 @@ export function runAuditOnSummary(graph: Graph, input: SummaryAuditInput, option
   return finishAudit(graph, table, plan, results, forced);
 }
 
+/** Data without rows whose claims a caller tests itself (`poolSiteSummaries`): a table description, moments for the record, where they came from, and the test. */
+export interface ClaimTesterInput {
+  table: Table;
+  moments: PatternMoments;
+  source: SummarySource;
+  /** Tests one claim in the audit's context (also asked again for more Monte-Carlo draws). */
+  test: (claim: Claim, ctx: TestContext) => MethodResult;
+}
+
+/**
+ * {@link runAudit} with the claims tested by `input.test` instead of a method chosen on rows (no
+ * row checks: the caller says why a claim is untestable); the Monte-Carlo refinement, adjustment,
+ * verdicts, detectable effects, equivalence, global test and reports are those of rows.
+ * Cost: the tests', plus O(k log k).
+ * @throws as {@link runAuditOnSummary}
+ * @example runAuditWithTester(graph, { table, moments, source, test: (claim, ctx) => pooled(claim, ctx) }).claims
+ */
+export function runAuditWithTester(graph: Graph, input: ClaimTesterInput, options: AuditOptions = {}): AuditResult {
+  const claimPlan = planClaims(graph, input.table, options, new Map());
+  const plan: AuditPlan = { ...withBuiltMoments(claimPlan, input.table, input.moments), source: input.source };
+  const test = (claim: Claim, ctx: TestContext): MethodResult => finiteOrReason(input.test(claim, ctx));
+  const results = plan.claims.map((claim, i) => {
+    const r = test(claim, plan.ctx);
+    options.onProgress?.(i + 1, plan.claims.length);
+    return r;
+  });
+  refineMonteCarlo(plan, results, test);
+  return finishAudit(graph, input.table, plan, results, options);
+}
+
 /**
  * Why a claim cannot be tested from a covariance or correlation matrix, or undefined when the
  * partial correlation of the scores tests it as on rows: a nominal variable anywhere, or an
@@ -328,7 +358,11 @@ function methodOf(claim: Claim, table: Table, settings: AuditSettings): TestMeth
  * Cost: that of the method.
  */
 export function testClaimMethod(claim: Claim, ctx: TestContext, settings: AuditSettings): MethodResult {
-  const res = methodOf(claim, ctx.table, settings).run(claim, ctx);
+  return finiteOrReason(methodOf(claim, ctx.table, settings).run(claim, ctx));
+}
+
+/** A method's result, or the untestable reason when its outcome has a non-finite number. */
+function finiteOrReason(res: MethodResult): MethodResult {
   if (!res.ok) return res;
   const bad = nonFinite(res.outcome);
   if (bad) return { ok: false, reason: `the ${res.outcome.test} test gave a non-finite ${bad}; the data may be degenerate for this claim` };
@@ -610,16 +644,16 @@ function judgeMonteCarlo(outcomes: readonly TestOutcome[], settings: AuditSettin
  * decide it has draws left (each round adds draws to at least one claim, so it ends).
  * Cost: the re-runs, O(Σ final draws) in all, and O(k log k) per round.
  */
-function refineMonteCarlo(plan: AuditPlan, results: MethodResult[]): void {
+function refineMonteCarlo(plan: AuditPlan, results: MethodResult[], test?: (claim: Claim, ctx: TestContext) => MethodResult): void {
   try {
-    refineMonteCarloRounds(plan, results);
+    refineMonteCarloRounds(plan, results, test ?? ((claim, ctx) => testClaimMethod(claim, ctx, plan.settings)));
   } finally {
     plan.ctx.monteCarloStreams?.clear(); // the streams kept for re-runs are not needed past the loop
   }
 }
 
 /** The rounds of {@link refineMonteCarlo}. */
-function refineMonteCarloRounds(plan: AuditPlan, results: MethodResult[]): void {
+function refineMonteCarloRounds(plan: AuditPlan, results: MethodResult[], test: (claim: Claim, ctx: TestContext) => MethodResult): void {
   const { settings, ctx } = plan;
   const stuck = new Set<number>(); // claims whose re-run drew no more (a method that ignores ctx.monteCarlo.draws): not asked again
   for (;;) {
@@ -644,7 +678,7 @@ function refineMonteCarloRounds(plan: AuditPlan, results: MethodResult[]): void 
       const mc = outcomes[k]!.monte_carlo!;
       const i = index[k]!;
       const request: MonteCarloRequest = { ...(ctx.monteCarlo ?? monteCarloRequest(settings, plan.decisionFloor)), draws: nextLook(mc.draws, mc.cap) };
-      const again = testClaimMethod(plan.claims[i]!, { ...ctx, monteCarlo: request }, settings);
+      const again = test(plan.claims[i]!, { ...ctx, monteCarlo: request });
       if (!(again.ok && again.outcome.monte_carlo !== undefined && again.outcome.monte_carlo.draws > mc.draws)) stuck.add(i);
       results[i] = again;
     }

@@ -17,9 +17,12 @@ import type { Column, Table, VariableType } from "./Table.js";
 
 /** Where the summary statistics came from, as the audit result's `data.source` records it. */
 export interface SummarySource {
-  kind: "correlations" | "covariance";
-  /** Number of complete cases the matrix was computed on. */
+  /** A correlation or covariance matrix, or site summaries pooled (`audit/poolSiteSummaries.ts`). */
+  kind: "correlations" | "covariance" | "sites";
+  /** Number of complete cases the matrix was computed on; for sites, the rows of all sites. */
   n: number;
+  /** For sites: each site's name, summary file and rows. */
+  sites?: { site: string; file?: string; n: number }[];
   /** The file of standard deviations that turned correlations into covariances, if any. */
   sd_file?: string;
 }

@@ -437,7 +437,9 @@ function decisionsParagraph(result: AuditResult, refs: Set<RefKey>): string {
   const rows = result.data.rows;
   let missing: string;
   const src = result.data.source;
-  if (src) {
+  if (src?.kind === "sites") {
+    missing = `The claims were tested from the summaries of ${src.sites?.length ?? 0} sites (${(src.sites ?? []).map((t) => `${t.site}, ${formatCount(t.n)} rows`).join("; ")}), pooled with site as a stratum: linear claims by the partial correlation given the conditioning set and site, from the sum of the sites' within-site cross-products, categorical claims by the stratified test on every site's strata; each site used the rows complete for the claim's variables.`;
+  } else if (src) {
     missing = `The claims were tested from summary statistics: the ${src.kind === "correlations" ? "correlation" : "covariance"} matrix of ${formatCount(src.n)} complete cases${result.data.file !== undefined ? ` in ${result.data.file}` : ""}${src.sd_file !== undefined ? `, turned into covariances by the standard deviations in ${src.sd_file}` : ""}, each claim by the partial correlation of the variables' scores; claims that need the levels of a categorical variable could not be tested.`;
   } else if (s.listwise) {
     missing = `Rows with a missing value in any analysed variable were removed before testing (listwise deletion): ${formatCount(result.data.rows_used)} of ${formatCount(rows)} rows were used.`;
@@ -571,7 +573,9 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
   const summary = [
     {
       label: "Data read",
-      value: result.data.source
+      value: result.data.source?.kind === "sites"
+        ? `${plural(result.data.source.sites?.length ?? 0, "site summary", "site summaries")} pooled (${(result.data.source.sites ?? []).map((t) => `${t.site}: ${formatCount(t.n)} rows`).join(", ")}), ${plural(result.variables.length, "variable", "variables")}`
+        : result.data.source
         ? `${dataName !== undefined ? `${dataName}: ` : ""}${result.data.source.kind === "correlations" ? "correlation" : "covariance"} matrix of ${plural(result.data.source.n, "complete case", "complete cases")}, ${plural(result.variables.length, "variable", "variables")}`
         : `${dataName !== undefined ? `${dataName}: ` : ""}${plural(result.data.rows, "row", "rows")}, ${plural(result.variables.length, "variable", "variables")}`,
     },
@@ -608,7 +612,7 @@ export function buildReportText(result: AuditResult, context: ReportContext): Re
   const variables: VariableRow[] = result.variables.map((v) => ({
     name: v.name,
     type: v.type,
-    decided: v.type_source === "declared" ? "declared by the user" : result.data.source ? "assumed continuous (a matrix holds scores)" : "inferred from the values",
+    decided: v.type_source === "declared" ? "declared by the user" : result.data.source?.kind === "sites" ? "inferred from the values at the sites" : result.data.source ? "assumed continuous (a matrix holds scores)" : "inferred from the values",
     missing: v.missing > 0 ? `${formatCount(v.missing)} (${percent(v.missing, rows)})` : "0",
     levels: v.levels && v.type !== "continuous" ? codingOf(v) : "",
   }));

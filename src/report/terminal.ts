@@ -329,7 +329,9 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   const src = r.data.source;
   out.push(
     ...wrap(
-      src
+      src?.kind === "sites"
+        ? `pooled from ${src.sites?.length ?? 0} site summaries (${(src.sites ?? []).map((t) => `${escapeTerminal(t.site)}: ${formatCount(t.n)} rows`).join(", ")}; ${formatCount(src.n)} rows in all), with site as a stratum: claims with a continuous variable get the linear partial-correlation test given S and site (the default flexible test reads rows), categorical claims site-stratified tables`
+        : src
         ? `${safe.file}: ${src.kind === "correlations" ? "correlation" : "covariance"} matrix of ${formatCount(src.n)} complete cases${src.sd_file !== undefined ? ` with the standard deviations of ${escapeTerminal(src.sd_file)}` : ""} (summary statistics: every claim gets the partial-correlation test)`
         : `${safe.file}: ${formatCount(r.data.rows)} rows read, ${formatCount(r.data.rows_used)} used in at least one test; ${r.data.patterns} missing-data pattern${r.data.patterns === 1 ? "" : "s"}`,
       width,
@@ -339,7 +341,7 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   const varStyle = nameStyle(r.variables.map((v) => v.name), Math.min(20, width - 10), ascii);
   const vars = r.variables.map((v) => `${varStyle.show(v.name)} (${v.type}${v.type_source === "inferred" ? "*" : ""}${v.missing ? `, ${formatCount(v.missing)} missing` : ""})`);
   out.push(...wrap(`variables: ${vars.join(", ")}`, width, "  "));
-  if (r.variables.some((v) => v.type_source === "inferred")) out.push(...wrap(src ? "  * assumed continuous (a matrix holds one score per variable); declare categorical ones with --types" : "  * type inferred from the values; declare with --types if wrong", width, "    "));
+  if (r.variables.some((v) => v.type_source === "inferred")) out.push(...wrap(src && src.kind !== "sites" ? "  * assumed continuous (a matrix holds one score per variable); declare categorical ones with --types" : "  * type inferred from the values; declare with --types if wrong", width, "    "));
   out.push("");
 
   const head = ["#", "claim", "n", "test", `effect [${levelText(1 - r.settings.alpha)} CI]`, "detect.", "p", "p adj", "verdict"];

@@ -157,6 +157,17 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
   const [x, y, ...given] = cols as [Column, Column, ...Column[]];
   const { n, strata: tables, twoByTwo: mh } = groupStrata(x, y, given, ctx.table.rows, ctx.rowFilter);
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
+  return testStrata(claim, n, tables, mh, ctx);
+}
+
+/**
+ * The stratified chi-square test of a claim from its grouped strata (see the module comment):
+ * `tables` one compact x × y table per stratum, `mh` each stratum's full 2 × 2 table when x and y
+ * have two levels, n the complete cases. Used on rows by {@link runStratifiedChisq} and on the
+ * strata of several sites by `poolSiteSummaries`. Cost: O(Σ r_s c_s) plus the permutations.
+ * @example testStrata(claim, 40, [{ rows: 2, cols: 2, counts, xCodes, yCodes }], [counts], ctx)
+ */
+export function testStrata(claim: Claim, n: number, tables: readonly CompactStratum[], mh: readonly Float64Array[] | undefined, ctx: TestContext): MethodResult {
   const res = stratifiedChiSquare(tables);
   if (res.df === 0) return { ok: false, reason: neverBothVary(claim, res.strataTotal, n) };
   const warnings: string[] = [];

@@ -1,0 +1,274 @@
+/**
+ * An audit pooled from site summaries (`siteSummary.ts`), with site as a stratum.
+ *
+ * Terms. For a linear claim the pooled cross-product matrix is W = Σ_s W_s, the sum over sites of
+ * the within-site centred cross-products, on n = Σ n_s complete cases. W is the cross-product
+ * matrix of the stacked rows after removing each site's mean, i.e. the residuals of a regression
+ * on site indicators, so the partial correlation of x and y given the columns of S computed from
+ * W equals the one given S and the site indicators on the stacked rows (Frisch & Waugh 1933,
+ * Econometrica 1:387–401); its t test loses one df per site beyond the first (c + sites − 1
+ * conditioning columns). For a categorical claim each site's strata are strata of their own
+ * (site added to S), and the stratified chi-square test runs on all of them. A site where a claim
+ * is untestable is left out of that claim, and the claim's warnings say so. Claims with a
+ * continuous variable therefore get the linear partial-correlation test when pooled, whatever
+ * `--method`: the default flexible test reads rows.
+ */
+import { InputError } from "../errors.js";
+import type { Graph } from "../graph/Graph.js";
+import type { Column, Table } from "../data/Table.js";
+import type { PatternMoments } from "../data/Moments.js";
+import { partialCorrelationWithReason } from "../stats/partialCorrelation.js";
+import { partialCorrelationTest } from "../stats/partialCorrelationTest.js";
+import { gcmCorrelationInterval } from "../stats/generalisedCovariance.js";
+import { testStrata } from "./methods/stratifiedChisq.js";
+import type { CompactStratum } from "./methods/groupRows.js";
+import { linearAdjustment } from "./methods/adjustmentDetails.js";
+import type { MethodResult, TestContext } from "./TestMethod.js";
+import type { AuditResult, Claim } from "./types.js";
+import { runAuditWithTester, type AuditOptions } from "./runAudit.js";
+import {
+  SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION, type ClaimSummary, type MomentsClaimSummary, type SiteSummary, type TablesClaimSummary,
+} from "./siteSummary.js";
+
+/** A site summary with the file it was read from (for messages). */
+export interface SiteSummaryFile {
+  file: string;
+  summary: SiteSummary;
+}
+
+function fail(file: string, what: string): never {
+  throw new InputError(`${file}: ${what}`, { file });
+}
+
+const isNumberArray = (v: unknown): v is number[] => Array.isArray(v) && v.every((x) => typeof x === "number" && Number.isFinite(x));
+const isStringArray = (v: unknown): v is string[] => Array.isArray(v) && v.every((x) => typeof x === "string");
+
+/**
+ * Read and check a site summary's JSON text: the format tag and version, and the shape of every
+ * field (a wrong or truncated file is an input error naming the field and what to do).
+ * Cost: O(size of the text).
+ * @throws InputError naming the file and the field
+ * @example parseSiteSummary(text, "site-a.json").site // "A"
+ */
+export function parseSiteSummary(text: string, file: string): SiteSummary {
+  let doc: unknown;
+  try {
+    doc = JSON.parse(text);
+  } catch (e) {
+    fail(file, `is not valid JSON (${(e as Error).message}); give the file that arrowaudit summarize wrote, unchanged`);
+  }
+  const o = doc as Record<string, unknown>;
+  if (typeof o !== "object" || o === null || o.format !== SITE_SUMMARY_FORMAT) fail(file, `is not a site summary (no "format": "${SITE_SUMMARY_FORMAT}"); write one with arrowaudit summarize`);
+  if (o.version !== SITE_SUMMARY_VERSION) fail(file, `is a site summary of version ${JSON.stringify(o.version)}, and this arrowaudit reads version ${SITE_SUMMARY_VERSION}; summarize the site again with this version`);
+  const bad = (field: string, want: string): never => fail(file, `field "${field}" must be ${want}; summarize the site again rather than editing the file`);
+  if (typeof o.graph_sha256 !== "string" || !/^[0-9a-f]{64}$/.test(o.graph_sha256)) bad("graph_sha256", "64 hexadecimal digits");
+  if (typeof o.site !== "string" || o.site === "") bad("site", "a non-empty text");
+  if (typeof o.n !== "number" || !Number.isInteger(o.n) || o.n < 0) bad("n", "a whole number");
+  const st = o.settings as Record<string, unknown> | undefined;
+  if (typeof st !== "object" || st === null) bad("settings", "an object");
+  if (!["union-parents", "minimal", "all-minimal"].includes(st!.sets as string)) bad("settings.sets", "union-parents, minimal or all-minimal");
+  if (!["auto", "linear", "chisq"].includes(st!.method as string)) bad("settings.method", "auto, linear or chisq");
+  if (typeof st!.listwise !== "boolean") bad("settings.listwise", "true or false");
+  if (typeof st!.min_cell !== "number" || !Number.isInteger(st!.min_cell)) bad("settings.min_cell", "a whole number");
+  if (!isStringArray(st!.unmeasured)) bad("settings.unmeasured", "a list of names");
+  if (!Array.isArray(o.variables) || !o.variables.every((v) => typeof v?.name === "string" && typeof v?.type === "string" && (v.levels === undefined || isStringArray(v.levels)))) bad("variables", "a list of { name, type, levels }");
+  if (!Array.isArray(o.claims)) bad("claims", "a list");
+  (o.claims as unknown[]).forEach((c, i) => checkClaim(c, i, bad));
+  return o as unknown as SiteSummary;
+}
+
+function checkClaim(c: unknown, i: number, bad: (field: string, want: string) => never): void {
+  const o = c as Record<string, unknown>;
+  const f = `claims[${i}]`;
+  if (typeof o !== "object" || o === null || typeof o.x !== "string" || typeof o.y !== "string" || !isStringArray(o.given)) bad(f, "a claim with x, y and given");
+  if (o.kind === "untestable") {
+    if (typeof o.reason !== "string") bad(`${f}.reason`, "a text");
+  } else if (o.kind === "moments") {
+    if (!isStringArray(o.columns) || o.columns.length < 2) bad(`${f}.columns`, "a list of at least two names");
+    const d = (o.columns as string[]).length;
+    if (typeof o.n !== "number" || !Number.isInteger(o.n) || o.n < 1) bad(`${f}.n`, "a whole number above 0");
+    if (!isNumberArray(o.means) || o.means.length !== d) bad(`${f}.means`, `${d} finite numbers`);
+    if (!Array.isArray(o.cross_products) || o.cross_products.length !== d || !o.cross_products.every((r) => isNumberArray(r) && r.length === d)) bad(`${f}.cross_products`, `a ${d} × ${d} matrix of finite numbers`);
+  } else if (o.kind === "tables") {
+    if (typeof o.n !== "number" || !Number.isInteger(o.n) || o.n < 0) bad(`${f}.n`, "a whole number");
+    if (!Array.isArray(o.strata) || !o.strata.every((s) => isStringArray(s?.given) && Array.isArray(s?.counts) && s.counts.every((r: unknown) => isNumberArray(r) && r.every((v) => Number.isInteger(v) && v >= 0)))) bad(`${f}.strata`, "a list of { given, counts } with whole counts");
+    const dr = o.dropped as Record<string, unknown> | undefined;
+    if (typeof dr !== "object" || dr === null || typeof dr.strata !== "number" || typeof dr.rows !== "number") bad(`${f}.dropped`, "{ strata, rows }");
+  } else bad(`${f}.kind`, "moments, tables or untestable");
+}
+
+/**
+ * Check that the summaries can be pooled for this graph: each made from a graph file with the
+ * given SHA-256, with equal settings, distinct site names, the same variables with the same types
+ * and levels, and the same claims. Cost: O(sites · (m + claims)).
+ * @throws InputError naming the file and the difference, and what to do
+ */
+export function checkSitesAgree(graphSha256: string, graphFile: string, sites: readonly SiteSummaryFile[]): void {
+  const [first, ...rest] = sites;
+  if (!first) throw new InputError("no site summary given; give one or more files written by arrowaudit summarize", {});
+  const names = new Map<string, string>();
+  for (const { file, summary } of sites) {
+    if (summary.graph_sha256 !== graphSha256) {
+      fail(file, `was made with a different graph (SHA-256 ${summary.graph_sha256.slice(0, 12)}…, while ${graphFile} has ${graphSha256.slice(0, 12)}…); summarize every site with the same graph file, byte for byte, as the one you test`);
+    }
+    const seen = names.get(summary.site);
+    if (seen !== undefined) fail(file, `has the site name ${JSON.stringify(summary.site)}, as ${seen} has; give each site its own name with summarize --site, or do not give one site twice`);
+    names.set(summary.site, file);
+  }
+  const settingsText = (s: SiteSummary) => JSON.stringify({ sets: s.settings.sets, method: s.settings.method, listwise: s.settings.listwise, min_cell: s.settings.min_cell, unmeasured: s.settings.unmeasured });
+  const varsOf = (s: SiteSummary) => new Map(s.variables.map((v) => [v.name, v]));
+  const firstVars = varsOf(first.summary);
+  const claimKey = (c: ClaimSummary) => JSON.stringify([c.x, c.y, c.given]);
+  const firstClaims = first.summary.claims.map(claimKey).join("\n");
+  for (const { file, summary } of rest) {
+    if (settingsText(summary) !== settingsText(first.summary)) {
+      const keys = ["sets", "method", "listwise", "min_cell", "unmeasured"] as const;
+      const diff = keys.filter((k) => JSON.stringify(summary.settings[k]) !== JSON.stringify(first.summary.settings[k]));
+      fail(file, `was made with different settings from ${first.file} (${diff.map((k) => `${k}: ${JSON.stringify(summary.settings[k])} against ${JSON.stringify(first.summary.settings[k])}`).join("; ")}); summarize every site with the same options`);
+    }
+    for (const v of summary.variables) {
+      const w = firstVars.get(v.name);
+      if (!w) fail(file, `has the variable ${JSON.stringify(v.name)}, which ${first.file} does not; summarize every site with the same graph and options`);
+      if (w.type !== v.type) fail(file, `has "${v.name}" as ${v.type}, while ${first.file} has it as ${w.type}; declare its type at every site (summarize --types "${v.name}=${w.type}")`);
+      if (JSON.stringify(w.levels ?? []) !== JSON.stringify(v.levels ?? [])) {
+        fail(file, `has the levels ${JSON.stringify(v.levels ?? [])} of "${v.name}", while ${first.file} has ${JSON.stringify(w.levels ?? [])}; declare the same levels at every site (summarize --levels "${v.name}=${(w.levels ?? []).join("|")}"), so that a level means the same at every site`);
+      }
+    }
+    if (summary.variables.length !== firstVars.size) fail(file, `has ${summary.variables.length} variables and ${first.file} has ${firstVars.size}; summarize every site with the same graph and options`);
+    if (summary.claims.map(claimKey).join("\n") !== firstClaims) fail(file, `lists other claims than ${first.file}; summarize every site with the same graph and options`);
+  }
+}
+
+/** The pooled partial-correlation test of a linear claim (see the module comment). Cost: O(sites · d² + d³). */
+export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
+  const d = parts[0]!.columns.length;
+  const w = new Float64Array(d * d);
+  let n = 0;
+  for (const p of parts) {
+    n += p.n;
+    for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) w[a * d + b] = w[a * d + b]! + p.cross_products[a]![b]!;
+  }
+  const m = parts.length;
+  const given = Array.from({ length: d - 2 }, (_, i) => i + 2);
+  const c = given.length + m - 1;
+  const cases = `${n} complete cases at ${m} site${m === 1 ? "" : "s"}`;
+  if (n - 2 - c < 1) return { ok: false, reason: `only ${cases} for ${given.length} conditioning columns and ${m - 1} site indicators; the test needs at least ${c + 3}` };
+  const cov = w.map((v) => v / (n - m));
+  const pc = partialCorrelationWithReason(cov, d, 0, 1, given);
+  if (!("r" in pc)) {
+    const col = `"${parts[0]!.columns[pc.column]}"`;
+    if (pc.reason === "constant") return { ok: false, reason: `${col} is constant within every site among the ${cases}` };
+    if (pc.reason === "collinear-given") return { ok: false, reason: `the conditioning set is collinear within sites: ${col} is a linear function of the others and the site among the ${cases}` };
+    return { ok: false, reason: `${col} is a linear function of the conditioning set and the site among the ${cases}` };
+  }
+  const test = partialCorrelationTest(pc.r, n, c);
+  if ("reason" in test) return { ok: false, reason: test.reason };
+  return {
+    ok: true,
+    outcome: {
+      test: "pearson-partial",
+      n,
+      statistic: test.t,
+      df: test.df,
+      p: test.p,
+      log_p: test.log_p,
+      effect: pc.r,
+      ci: gcmCorrelationInterval(pc.r, test.t, test.df, n, c, 1 - alpha),
+      p_method: "asymptotic",
+      details: {
+        r: pc.r,
+        c,
+        sites: m,
+        adjustment: [...linearAdjustment(table, claim.given), { variable: "site", entered: "indicators", columns: m - 1 }],
+        sides: [claim.x, claim.y].map((variable) => ({ variable, model: "least squares of the scores on the adjustment and the site, from the sites' cross-products" })),
+      },
+    },
+  };
+}
+
+/** The stratified chi-square test of a categorical claim on every site's strata. Cost: O(Σ cells) plus permutations. */
+export function poolTables(claim: Claim, parts: readonly TablesClaimSummary[], ctx: TestContext): MethodResult {
+  const strata: CompactStratum[] = [];
+  const full: Float64Array[] = [];
+  let n = 0;
+  const lx = parts[0]!.strata[0]?.counts.length ?? 0;
+  const ly = parts[0]!.strata[0]?.counts[0]?.length ?? 0;
+  const twoByTwo = lx === 2 && ly === 2;
+  for (const p of parts) {
+    for (const s of p.strata) {
+      const xs = s.counts.map((row, i) => (row.some((v) => v > 0) ? i : -1)).filter((i) => i >= 0);
+      const ys = s.counts[0]!.map((_, j) => (s.counts.some((row) => row[j]! > 0) ? j : -1)).filter((j) => j >= 0);
+      const counts = new Float64Array(xs.length * ys.length);
+      xs.forEach((i, a) => ys.forEach((j, b) => (counts[a * ys.length + b] = s.counts[i]![j]!)));
+      for (const v of counts) n += v;
+      strata.push({ rows: xs.length, cols: ys.length, counts, xCodes: Int32Array.from(xs), yCodes: Int32Array.from(ys) });
+      if (twoByTwo) full.push(Float64Array.from(s.counts.flat()));
+    }
+  }
+  if (n === 0) return { ok: false, reason: `no site has a stratum of "${claim.x}" and "${claim.y}" to pool` };
+  const r = testStrata(claim, n, strata, twoByTwo ? full : undefined, ctx);
+  if (r.ok) r.outcome.details = { ...r.outcome.details, sites: parts.length, adjustment: [...((r.outcome.details?.adjustment as unknown[]) ?? []), { variable: "site", entered: "strata" }] };
+  return r;
+}
+
+/**
+ * Pool the site summaries into one audit of `graph` (see the module comment). The summaries must
+ * agree ({@link checkSitesAgree}); `settings.sets` and the method are taken from them.
+ * Cost: per claim O(sites · d² + d³) or O(Σ cells), then the audit's O(k log k).
+ * @throws as {@link checkSitesAgree}, with `graphSha256` the SHA-256 of the graph file's bytes
+ * @example poolSiteSummaries(graph, sha, "g.txt", [{ file: "a.json", summary: a }, { file: "b.json", summary: b }]).data.source.sites
+ */
+export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: string, sites: readonly SiteSummaryFile[], options: AuditOptions = {}): AuditResult {
+  checkSitesAgree(graphSha256, graphFile, sites);
+  const first = sites[0]!.summary;
+  const total = sites.reduce((a, s) => a + s.summary.n, 0);
+  const columns: Column[] = first.variables.map((v) => ({
+    name: v.name,
+    type: v.type,
+    typeSource: "inferred",
+    values: new Float64Array(0),
+    missing: 0,
+    ...(v.levels ? { levels: v.levels } : {}),
+  }));
+  const byName = new Map(columns.map((c) => [c.name, c]));
+  const table: Table = { file: sites.map((s) => s.file).join(", "), rows: total, columns, warnings: [], column: (name) => byName.get(name) };
+  const used = sites.reduce((a, s) => a + s.summary.n - s.summary.suppressed.rows, 0);
+  const moments: PatternMoments = {
+    patterns: 1,
+    completeRows: used,
+    patternList: () => [{ observed: first.variables.map((v) => v.name), rows: used }],
+    momentsFor: () => {
+      throw new Error("internal: pooled site summaries hold no pattern moments");
+    },
+    columnsOf: () => [],
+    momentsForColumns: () => {
+      throw new Error("internal: pooled site summaries hold no pattern moments");
+    },
+  };
+  const byClaim = sites.map((s) => new Map(s.summary.claims.map((c) => [JSON.stringify([c.x, c.y, c.given]), c])));
+  const test = (claim: Claim, ctx: TestContext): MethodResult => {
+    const key = JSON.stringify([claim.x, claim.y, claim.given]);
+    const parts = byClaim.map((m) => m.get(key));
+    if (parts.some((p) => p === undefined)) return { ok: false, reason: "the site summaries do not list this claim; summarize every site with the same graph and options" };
+    const left = sites.map((s, i) => ({ site: s.summary.site, part: parts[i]! })).filter((p) => p.part.kind === "untestable");
+    const kept = parts.filter((p): p is MomentsClaimSummary | TablesClaimSummary => p!.kind !== "untestable");
+    const reasons = left.map((l) => (l.part as { reason: string }).reason);
+    const leftText = left.map((l, i) => `site ${JSON.stringify(l.site)}: ${reasons[i]}`).join("; ");
+    if (kept.length === 0) return { ok: false, reason: new Set(reasons).size === 1 ? `untestable at every site: ${reasons[0]}` : `untestable at every site (${leftText})` };
+    const r = kept[0]!.kind === "moments" ? poolMoments(claim, kept as MomentsClaimSummary[], table, ctx.alpha ?? 0.05) : poolTables(claim, kept as TablesClaimSummary[], ctx);
+    if (!r.ok) return r;
+    const warnings = [...(r.outcome.warnings ?? [])];
+    if (left.length > 0) warnings.push(`${left.length} of ${sites.length} sites left out of this claim (${leftText})`);
+    const dropped = (kept as (MomentsClaimSummary | TablesClaimSummary)[]).filter((p): p is TablesClaimSummary => p.kind === "tables").reduce((a, p) => ({ strata: a.strata + p.dropped.strata, rows: a.rows + p.dropped.rows }), { strata: 0, rows: 0 });
+    if (dropped.strata > 0) warnings.push(`${dropped.strata} strata (${dropped.rows} rows) were dropped at the sites for a cell below --min-cell ${first.settings.min_cell}`);
+    return { ok: true, outcome: { ...r.outcome, ...(warnings.length ? { warnings } : {}) } };
+  };
+  const settings = { ...options.settings, sets: first.settings.sets, method: first.settings.method, listwise: first.settings.listwise };
+  const source = { kind: "sites" as const, n: total, sites: sites.map((s) => ({ site: s.summary.site, file: s.file, n: s.summary.n })) };
+  const result = runAuditWithTester(graph, { table, moments, source, test }, { ...options, settings });
+  const suppressed = sites.filter((s) => s.summary.suppressed.rows > 0);
+  if (suppressed.length > 0) {
+    result.warnings.push(`rows in missing-data patterns of fewer than --min-cell ${first.settings.min_cell} rows were left out at ${suppressed.length} site${suppressed.length > 1 ? "s" : ""} (${suppressed.map((s) => `${s.summary.site}: ${s.summary.suppressed.rows}`).join(", ")})`);
+  }
+  return result;
+}
