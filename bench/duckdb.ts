@@ -10,7 +10,12 @@
  * 4. the linear sufficient statistics of the 50 columns (counts, sums and 1,275 cross-products
  *    per missing-data pattern) two ways: DuckDB's SQL aggregates (`patternMomentsSql`) over the
  *    Parquet file, and DuckDB's chunks streamed into our columns (`readDuckdbTable`) followed by
- *    our accumulators (`buildPatternMoments`, one thread), in this process.
+ *    our accumulators (`buildPatternMoments`, one thread), in this process;
+ * 5. `arrowaudit test --json` on a 10,000,000 × 20 continuous Parquet file generated here by
+ *    DuckDB (a seeded-shape linear Gaussian chain, 4% missing in every fourth column; DuckDB's
+ *    random() is not reproducible across threads, so the values differ between runs), read by
+ *    the DuckDB engine into memory (the rows are materialised: the SQL moments are not wired
+ *    into the audit yet), with wall time and peak RSS. BENCH_LARGE_ROWS changes its rows.
  * Data: bench/out/numeric-<rows>.csv from bench/run.ts (generated here when absent). Set
  * BENCH_ROWS to run smaller. Writes bench/out/duckdb-results.json.
  */
@@ -99,6 +104,32 @@ export async function momentsTwoWays(parquetPath: string) {
   return { columns: names.length, patterns_sql: rows.length, patterns_ours: moments.patterns, sql_aggregates_s: sql_s, streamed_read_s: read_s, streamed_read_and_moments_s: streamed_s };
 }
 
+/** The 10,000,000 × 20 Parquet case (item 5 of the module comment). */
+export async function largeParquet(rowsLarge = Number(process.env.BENCH_LARGE_ROWS ?? 10_000_000)) {
+  const path = join(out, `chain-${rowsLarge}x20.parquet`);
+  const graph = join(out, `chain-20.graph.txt`);
+  const names = Array.from({ length: 20 }, (_, k) => `v${String(k + 1).padStart(2, "0")}`);
+  const lines = ["# benchmark graph (generated, invented data): each node caused by the one or two before it", names[0]!];
+  for (let k = 1; k < 20; k++) lines.push(`${[names[k - 1], ...(k >= 3 ? [names[k - 3]] : [])].join(", ")} -> ${names[k]}`);
+  writeFileSync(graph, lines.join("\n") + "\n");
+  if (!existsSync(path)) {
+    const normal = "sqrt(-2 * ln(1 - random())) * cos(2 * pi() * random())";
+    const cols: string[] = [`${normal} AS v01`];
+    for (let k = 1; k < 20; k++) cols.push(`${normal} AS e${k + 1}`);
+    // the structural equations, applied one node at a time through nested selects would be deep; a running sum keeps it flat
+    const defs = [`v01`];
+    for (let k = 1; k < 20; k++) defs.push(`(0.5 * ${defs[k - 1]}${k >= 3 ? ` + 0.3 * ${defs[k - 3]}` : ""} + e${k + 1})`);
+    const select = names.map((n, k) => (k % 4 === 3 ? `CASE WHEN random() < 0.04 THEN NULL ELSE ${k === 0 ? "v01" : defs[k]} END AS ${n}` : `${k === 0 ? "v01" : defs[k]} AS ${n}`));
+    const t0 = performance.now();
+    await duckdbRun(`COPY (SELECT ${select.join(", ")} FROM (SELECT ${cols.join(", ")} FROM range(${rowsLarge}))) TO ${literal(path)} (FORMAT parquet)`);
+    console.error(`generated ${path} in ${((performance.now() - t0) / 1000).toFixed(1)} s`);
+  }
+  const run = await measure("node", [cli, "test", graph, path, "--json"], { cwd: root });
+  if (run.code !== 0) throw new Error(`arrowaudit test failed (${run.code}): ${run.stderr}`);
+  const result = JSON.parse(run.stdout) as { claims: unknown[]; data: { rows: number; patterns: number } };
+  return { data: path.slice(root.length + 1), rows: result.data.rows, columns: 20, patterns: result.data.patterns, claims: result.claims.length, megabytes: +(statSync(path).size / 2 ** 20).toFixed(1), end_to_end_s: +run.seconds.toFixed(2), peak_rss_mb: Math.round(run.peakRssMB), under_2_gib: run.peakRssMB < 2048 };
+}
+
 /** Largest relative difference between the p-values of two results, claim by claim. */
 function largestRelativeDifference(a: { claims: { p: number }[] }, b: { claims: { p: number }[] }): number {
   let worst = 0;
@@ -134,6 +165,8 @@ export async function benchDuckdb(): Promise<Record<string, unknown>> {
   const parquet = await endToEnd(graph, parquetPath, types, []);
   const moments = await momentsTwoWays(parquetPath);
   console.log(JSON.stringify(moments, null, 2));
+  const large = await largeParquet();
+  console.log(JSON.stringify(large, null, 2));
   const strip = ({ result: _result, ...rest }: Awaited<ReturnType<typeof endToEnd>>) => rest;
   const results = {
     reading,
@@ -144,6 +177,7 @@ export async function benchDuckdb(): Promise<Record<string, unknown>> {
       largest_relative_p_difference: largestRelativeDifference(memory.result, duckdb.result),
     },
     moments,
+    large_parquet: large,
     parquet: { ...strip(parquet), megabytes: +(statSync(parquetPath).size / 2 ** 20).toFixed(1), largest_relative_p_difference: largestRelativeDifference(memory.result, parquet.result) },
   };
   console.log(JSON.stringify(results.csv, null, 2));
