@@ -130,11 +130,11 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .command("report")
       .description("write an HTML (.html) or Markdown (.md) report of the audit, or its methods text alone (.txt)")
       .argument("<graph>", "graph file")
-      .argument("[data]", "data file; omitted with --correlations or --covariance")
+      .argument("[data...]", "data file, or site summaries written by summarize; omitted with --correlations or --covariance")
       .requiredOption("--out <file>", "report file: .html, .md (drawing saved beside it as .svg) or .txt (the methods text alone, ready to paste); an existing file is overwritten")
       .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
-  )).action(async (graph: string, data: string | undefined, opts: Record<string, unknown>) => {
-    state.code = await runReport(io, graph, data, opts, argv, false);
+  )).action(async (graph: string, data: string[], opts: Record<string, unknown>) => {
+    state.code = await runReport(io, graph, data[0], opts, argv, false, data.slice(1));
   });
 
   program

@@ -56,7 +56,7 @@ async function inputRecord(io: Io, path: string, shown: string): Promise<{ path:
  * A Markdown report is written with its drawing beside it (`report.md` → `report.svg`); a `.txt`
  * file gets the methods paragraphs and their references alone, as plain text.
  */
-export async function runReport(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>, argv: string[], demo: boolean): Promise<number> {
+export async function runReport(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>, argv: string[], demo: boolean, moreData: readonly string[] = []): Promise<number> {
   const out = String(opts.out);
   const ext = extname(out).toLowerCase();
   if (ext !== ".html" && ext !== ".htm" && ext !== ".md" && ext !== ".txt") throw new UsageError(`--out ${out}: the report file must end in .html, .md or .txt (the methods text alone)`);
@@ -64,15 +64,16 @@ export async function runReport(io: Io, graphPath: string, dataPath: string | un
   refuseOverwritingInputs(
     io,
     [{ path: out, role: `--out ${out}` }, ...(ext === ".md" ? [{ path: svgName, role: `the drawing ${svgName} written beside --out ${out}` }] : [])],
-    [{ path: graphPath, role: "graph file" }, ...dataInputs(dataPath, opts)],
+    [{ path: graphPath, role: "graph file" }, ...dataInputs(dataPath, opts), ...moreData.map((path) => ({ path, role: "site summary" }))],
   );
-  const result = await audit(io, graphPath, dataPath, opts);
+  const result = await audit(io, graphPath, dataPath, opts, moreData);
   const context: ReportContext = {
     command: commandLine(argv),
     date: io.now().toISOString(),
     inputs: [
       await inputRecord(io, graphPath, demo ? `data/demo/${basename(graphPath)}` : graphPath),
       ...(await Promise.all(dataInputs(dataPath, opts).map((d) => inputRecord(io, d.path, demo ? `data/demo/${basename(d.path)}` : d.path)))),
+      ...(await Promise.all(moreData.map((path) => inputRecord(io, path, path)))),
     ],
     toolVersion: toolVersion(),
     demo,

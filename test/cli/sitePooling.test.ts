@@ -122,6 +122,16 @@ describe("pooled linear claims", () => {
   });
 });
 
+describe("pooled reports", () => {
+  it("report <graph> A.json B.json --out r.md names the sites with their rows and the pooling rule", async () => {
+    for (const s of ["A", "B"]) await summarize("lin-graph.txt", `lin-${s}.csv`, `lin-${s}.json`, "--site", s);
+    await ok(["report", "lin-graph.txt", "lin-A.json", "lin-B.json", "--out", "pooled.md", "--quiet"]);
+    const md = readFileSync(join(dir, "pooled.md"), "utf8");
+    expect(md).toContain("2 site summaries pooled (A: 400 rows, B: 700 rows)");
+    expect(md).toContain("pooled with site as a stratum");
+  });
+});
+
 describe("pooled categorical claims", () => {
   it("test <graph> A.json B.json C.json equals test --method chisq on the stacked rows with site in every set (1e-9)", async () => {
     for (const s of ["A", "B", "C"]) await summarize("cat-graph.txt", `cat-${s}.csv`, `cat-${s}.json`, "--site", s, "--method", "chisq");
