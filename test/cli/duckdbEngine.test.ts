@@ -230,6 +230,16 @@ describe("arrowaudit test --engine", () => {
     for (const other of [await auditJson("large.csv", "--engine", "duckdb"), await auditJson("large.parquet")]) expectClose(comparable(other), comparable(memory), 1e-9);
   });
 
+  it("test on the bundled demo cohort (numeric missing codes -9 and 999, text levels declared with --levels) prints the same JSON with both engines", async () => {
+    const root = join(import.meta.dirname, "..", "..");
+    const args = ["test", "data/demo/graph.txt", "data/demo/cohort.csv", "--missing", "-9,999", "--levels", "education=primary|secondary|tertiary", "--json"];
+    const memory = await runCli([...args, "--engine", "memory"], { cwd: root });
+    const viaDuckdb = await runCli([...args, "--engine", "duckdb"], { cwd: root });
+    expect(memory.code).toBe(0);
+    expect(viaDuckdb.code).toBe(0);
+    expect(viaDuckdb.stdout).toBe(memory.stdout);
+  });
+
   it("a missing table is an input error (exit 2) naming the file, the table and the closest name", async () => {
     const r = await runCli(["test", "graph.txt", "cohort.duckdb", "--table", "cohrt"], { cwd: work });
     expect(r.code).toBe(2);
