@@ -79,7 +79,8 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .argument("<graph>", "graph file (.txt in arrowaudit's format, or .dot/.gv)")
       .option("--json", "print one JSON document", false)
       .option("--ascii", "ASCII output only: claims as x indep y given a, b", false)
-      .option("--columns <data.csv>", "check graph names against this CSV's header")
+      .option("--columns <data.csv>", "check graph names against this CSV's header (or a Parquet file's or DuckDB table's columns)")
+      .option("--table <name>", "with --columns on a DuckDB database file: the table")
       .option("--max-sets <n>", "with --sets all-minimal: most separating sets listed per pair", numberIn("--max-sets", 1, 100000, true), 100),
   ).action(async (graph: string, opts: Record<string, unknown>) => {
     state.code = await runClaims(io, graph, opts);

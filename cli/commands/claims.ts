@@ -11,6 +11,10 @@ import { checkClaimCount, MAX_LISTED_CLAIMS, MAX_TEXT_CLAIMS } from "../limits.j
 import { loadGraph } from "../loadGraph.js";
 import { checkOneStdin, inputName, isStreamInput, openStreamData } from "../readStdin.js";
 import { writeClaimsJson } from "../writeClaimsJson.js";
+import { probeFile } from "../dataFormat.js";
+import { listDuckdbFields } from "../readDuckdbTable.js";
+import { resolve } from "node:path";
+import { UsageError } from "../../src/errors.js";
 import { graphSummary } from "../../src/graph/graphSummary.js";
 
 /** `arrowaudit claims <graph>`: list the implied independencies (`--json` is written as the claims are derived). */
@@ -22,8 +26,14 @@ export async function runClaims(io: Io, graphPath: string, opts: Record<string, 
   let ignored: string[] | undefined;
   if (typeof opts.columns === "string") {
     const file = inputName(opts.columns);
-    const head = isStreamInput(io, opts.columns) ? (await openStreamData(io, opts.columns)).head : readHead(opts.columns, io.cwd);
-    ignored = checkColumns(graph, readHeader(head, { file }), { file }).ignoredColumns;
+    const stream = isStreamInput(io, opts.columns);
+    const probe = stream ? undefined : probeFile(resolve(io.cwd, opts.columns));
+    const table = typeof opts.table === "string" ? opts.table : undefined;
+    if (table !== undefined && probe?.format !== "duckdb") throw new UsageError(`--table names a table of a DuckDB database file, and ${file} is not one; drop --table`);
+    let names: string[];
+    if (probe !== undefined && probe.format !== "csv") names = await listDuckdbFields({ path: resolve(io.cwd, opts.columns), name: file, format: probe.format, ...(table !== undefined ? { table } : {}) });
+    else names = readHeader(stream ? (await openStreamData(io, opts.columns)).head : readHead(opts.columns, io.cwd), { file });
+    ignored = checkColumns(graph, names, { file }).ignoredColumns;
   }
   const sets = opts.sets as "union-parents" | "minimal" | "all-minimal";
   const cap = opts.maxSets as number;

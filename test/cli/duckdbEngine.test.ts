@@ -240,6 +240,22 @@ describe("arrowaudit test --engine", () => {
     expect(viaDuckdb.stdout).toBe(memory.stdout);
   });
 
+  it("claims --columns checks the graph against a Parquet file's and a DuckDB table's columns as against the CSV header", async () => {
+    const csv = await runCli(["claims", "graph-extra.txt", "--columns", "cohort.csv"], { cwd: work });
+    expect(csv.code).toBe(2);
+    expect(csv.stderr).toContain("arrowaudit: cohort.csv: a graph node is not a column of the data");
+    for (const [file, extra] of [["cohort.parquet", []], ["cohort.duckdb", ["--table", "cohort"]]] as const) {
+      const r = await runCli(["claims", "graph-extra.txt", "--columns", file, ...extra], { cwd: work });
+      expect(r.code).toBe(2);
+      expect(r.stderr).toBe(csv.stderr.replaceAll("cohort.csv", file));
+      const ok = await runCli(["claims", "graph.txt", "--columns", file, ...extra, "--json"], { cwd: work });
+      expect(ok.code).toBe(0);
+      expect(ok.stdout).toBe((await runCli(["claims", "graph.txt", "--columns", "cohort.csv", "--json"], { cwd: work })).stdout);
+    }
+    const table = await runCli(["claims", "graph.txt", "--columns", "cohort.csv", "--table", "cohort"], { cwd: work });
+    expect(table.code).toBe(1);
+  });
+
   it("a missing table is an input error (exit 2) naming the file, the table and the closest name", async () => {
     const r = await runCli(["test", "graph.txt", "cohort.duckdb", "--table", "cohrt"], { cwd: work });
     expect(r.code).toBe(2);
