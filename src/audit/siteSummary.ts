@@ -26,7 +26,10 @@
  * every row of the claim shares a value (attribute disclosure of a group of at least k).
  */
 import type { Claim } from "./types.js";
-import type { Table, VariableType } from "../data/Table.js";
+import type { Column, Table, VariableType } from "../data/Table.js";
+import type { PatternMoments } from "../data/Moments.js";
+import { buildPatternMoments } from "../data/buildPatternMoments.js";
+import { claimMoments } from "./methods/claimMoments.js";
 import { CATEGORICAL_TYPES } from "../data/Table.js";
 
 /** The format tag of a site summary file. */
@@ -117,8 +120,9 @@ export interface SummarizeOptions {
 
 /**
  * Summarise one site's table for the audit of a graph (see the module comment).
- * Cost: O(rows · m) for the patterns, then per linear claim O(rows · d²) for d design columns and
- * per categorical claim O(rows · |S|).
+ * Cost: O(rows · m) for the patterns, O(rows · D²) once for the pattern moments of the D design
+ * columns of the linear claims, then per linear claim O(P · d²) (P patterns, d columns) and per
+ * categorical claim O(rows · |S|).
  * @throws RangeError when min_cell is below {@link LEAST_MIN_CELL} or a measured variable is not a column
  * @example summarizeSite(table, { graphSha256, site: "A", settings, measured, claims }).claims[0].kind // "moments"
  */
@@ -135,7 +139,17 @@ export function summarizeSite(table: Table, options: SummarizeOptions): SiteSumm
     }
   }
   const suppressed = suppressSmallPatterns(table, measured, keep, k);
-  const claims = options.claims.map((c) => summarizeClaim(table, c, keep, settings));
+  // the kept rows as a table of their own, so that a left-out row cannot touch any number (not even a moment's shift)
+  const kept = keptRows(table, measured, keep);
+  const kinds = options.claims.map((c) => claimKind(table, c, settings.method));
+  const linear = options.claims.filter((_, i) => kinds[i] === "moments");
+  const ordinalMembers = [...new Set(linear.flatMap((c) => c.given.filter((g) => table.column(g)!.type === "ordinal")))];
+  const pm = linear.length > 0 ? buildPatternMoments(kept, { variables: [...new Set(linear.flatMap((c) => [c.x, c.y, ...c.given]))], expansions: { indicators: ordinalMembers } }) : undefined;
+  const claims = options.claims.map((c, i) => {
+    const kind = kinds[i]!;
+    if (typeof kind !== "string") return { x: c.x, y: c.y, given: [...c.given], kind: "untestable" as const, reason: kind.reason };
+    return kind === "moments" ? claimMomentsSummary(kept, pm!, c, k) : summarizeTableClaim(kept, c, k);
+  });
   return {
     format: SITE_SUMMARY_FORMAT,
     version: SITE_SUMMARY_VERSION,
@@ -185,60 +199,57 @@ function claimKind(table: Table, claim: Claim, method: SiteSummarySettings["meth
   return { reason: `"${types[0] === "nominal" ? claim.x : claim.y}" is nominal and the claim has a continuous variable: its test reads rows, which a site summary does not hold` };
 }
 
-function summarizeClaim(table: Table, claim: Claim, keep: Uint8Array, settings: SiteSummarySettings): ClaimSummary {
-  const head = { x: claim.x, y: claim.y, given: [...claim.given] };
-  const kind = claimKind(table, claim, settings.method);
-  if (typeof kind !== "string") return { ...head, kind: "untestable", reason: kind.reason };
+/** The rows of `keep` as a table of their own (the columns of `names`). Cost: O(rows · m). */
+function keptRows(table: Table, names: readonly string[], keep: Uint8Array): Table {
+  let n = 0;
+  for (let r = 0; r < table.rows; r++) n += keep[r]!;
+  const index = new Int32Array(n);
+  for (let r = 0, j = 0; r < table.rows; r++) if (keep[r]) index[j++] = r;
+  const columns: Column[] = names.map((name) => {
+    const c = table.column(name)!;
+    const values = Float64Array.from(index, (r) => c.values[r]!);
+    let missing = 0;
+    for (const v of values) if (Number.isNaN(v)) missing++;
+    return { ...c, values, missing, ...(c.codes ? { codes: Int32Array.from(index, (r) => c.codes![r]!) } : {}) };
+  });
+  const byName = new Map(columns.map((c) => [c.name, c]));
+  return { ...(table.file !== undefined ? { file: table.file } : {}), rows: n, columns, warnings: [], column: (name) => byName.get(name) };
+}
+
+/** The complete cases of a claim's variables among the kept rows. Cost: O(rows · (2 + |S|)). */
+function completeRows(table: Table, claim: Claim): number[] {
   const vars = [claim.x, claim.y, ...claim.given].map((v) => table.column(v)!.values);
   const rows: number[] = [];
-  for (let r = 0; r < table.rows; r++) if (keep[r] && vars.every((v) => !Number.isNaN(v[r]!))) rows.push(r);
-  const k = settings.min_cell;
-  if (rows.length < k) {
-    return { ...head, kind: "untestable", reason: `${rows.length} complete case${rows.length === 1 ? "" : "s"} at this site, fewer than --min-cell ${k}: no statistic is written for it` };
-  }
-  return kind === "moments" ? claimMomentsSummary(table, claim, rows) : claimTablesSummary(table, claim, rows, k);
+  for (let r = 0; r < table.rows; r++) if (vars.every((v) => !Number.isNaN(v[r]!))) rows.push(r);
+  return rows;
 }
 
-/** Design columns of a claim: name and value of each row. */
-function designOf(table: Table, claim: Claim): { name: string; value: (r: number) => number }[] {
-  const out: { name: string; value: (r: number) => number }[] = [];
-  for (const [i, v] of [claim.x, claim.y, ...claim.given].entries()) {
-    const c = table.column(v)!;
-    if (i >= 2 && (c.type === "ordinal" || c.type === "nominal")) {
-      const levels = c.levels ?? [];
-      for (let l = 1; l < levels.length; l++) out.push({ name: `${v}=${levels[l]}`, value: (r) => (c.codes![r] === l ? 1 : 0) });
-    } else out.push({ name: v, value: (r) => c.values[r]! });
-  }
-  return out;
+function tooFew(claim: Claim, n: number, k: number): UntestableClaimSummary {
+  return { x: claim.x, y: claim.y, given: [...claim.given], kind: "untestable", reason: `${n} complete case${n === 1 ? "" : "s"} at this site, fewer than --min-cell ${k}: no statistic is written for it` };
 }
 
-/** Complete-case means and centred cross-products (two passes). Cost: O(n · d²). */
-function claimMomentsSummary(table: Table, claim: Claim, rows: readonly number[]): MomentsClaimSummary {
-  const design = designOf(table, claim);
-  const d = design.length;
-  const n = rows.length;
-  const z = design.map((col) => Float64Array.from(rows, (r) => col.value(r)));
-  const means = z.map((col) => {
-    let s = 0;
-    for (let i = 0; i < n; i++) s += col[i]!;
-    const m = s / n;
-    let c = 0;
-    for (let i = 0; i < n; i++) c += col[i]! - m; // second pass corrects the mean (Higham 2002, §1.9)
-    return m + c / n;
-  });
-  for (let a = 0; a < d; a++) for (let i = 0; i < n; i++) z[a]![i] = z[a]![i]! - means[a]!;
-  const w: number[][] = Array.from({ length: d }, () => new Array<number>(d).fill(0));
-  for (let a = 0; a < d; a++) {
-    for (let b = a; b < d; b++) {
-      let s = 0;
-      const za = z[a]!;
-      const zb = z[b]!;
-      for (let i = 0; i < n; i++) s += za[i]! * zb[i]!;
-      w[a]![b] = s;
-      w[b]![a] = s;
-    }
+/**
+ * Complete-case means and centred cross-products of a claim's design columns, from the pattern
+ * moments of the kept rows (`claimMoments`: W = (n − 1) × the Bessel-corrected covariance).
+ * Cost: O(P · d²) for P missing-data patterns.
+ */
+function claimMomentsSummary(table: Table, pm: PatternMoments, claim: Claim, k: number): ClaimSummary {
+  const m = claimMoments(pm, table, [claim.x, claim.y], claim.given);
+  const n = m?.n ?? 0;
+  if (!m || n < k) return tooFew(claim, n, k);
+  const d = m.design.length;
+  const w: number[][] = Array.from({ length: d }, (_, a) => Array.from({ length: d }, (_, b) => m.cov[a * d + b]! * (n - 1)));
+  const means = Array.from(m.means);
+  if (!w.every((row) => row.every(Number.isFinite)) || !means.every(Number.isFinite)) {
+    return { x: claim.x, y: claim.y, given: [...claim.given], kind: "untestable", reason: "a sum of squares of this claim's values is beyond the range of double-precision numbers; rescale the variables (e.g. other units) and summarize again" };
   }
-  return { x: claim.x, y: claim.y, given: [...claim.given], kind: "moments", n, columns: design.map((c) => c.name), means, cross_products: w };
+  return { x: claim.x, y: claim.y, given: [...claim.given], kind: "moments", n, columns: m.design.map((c) => c.name), means, cross_products: w };
+}
+
+/** The tables of a categorical claim, or untestable with fewer than k complete cases. */
+function summarizeTableClaim(table: Table, claim: Claim, k: number): ClaimSummary {
+  const rows = completeRows(table, claim);
+  return rows.length < k ? tooFew(claim, rows.length, k) : claimTablesSummary(table, claim, rows, k);
 }
 
 /** Per-stratum x-by-y tables, strata with a cell of 1 … k − 1 rows dropped. Cost: O(n · |S|). */
