@@ -147,6 +147,18 @@ describe("pooled categorical claims", () => {
     }
   });
 
+  it("with --method linear, claims with an ordinal member of S (its level indicators) equal test --method linear on the stacked rows (1e-9)", async () => {
+    for (const s of ["A", "B", "C"]) await summarize("cat-graph.txt", `cat-${s}.csv`, `catlin-${s}.json`, "--site", s, "--method", "linear");
+    const pooled = await auditJson(["cat-graph.txt", "catlin-A.json", "catlin-B.json", "catlin-C.json"]);
+    const stacked = await auditJson(["cat-graph-site.txt", "cat-stacked.csv", "--method", "linear", "--types", "site=nominal"]);
+    const byPair = new Map(stacked.claims.map((c) => [pair(c), c]));
+    expect(pooled.claims.map(pair).sort()).toEqual(["u ⫫ w", "u ⫫ z"]);
+    for (const c of pooled.claims) expectSameClaim(c, byPair.get(pair(c))!);
+    const uw = pooled.claims.find((c) => pair(c) === "u ⫫ w")!;
+    expect(uw.test).toBe("pearson-partial");
+    expect(uw.details?.c).toBe(2 + 1 + 2); // v's levels 2 and 3, z, and sites B and C
+  });
+
   it("u ⫫ w | v, z pooled equals scipy's G² summed over the (v, z, site) strata (1e-9)", async () => {
     for (const s of ["A", "B", "C"]) await summarize("cat-graph.txt", `cat-${s}.csv`, `cat-${s}.json`, "--site", s);
     const pooled = await auditJson(["cat-graph.txt", "cat-A.json", "cat-B.json", "cat-C.json"]);
