@@ -266,6 +266,10 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
   const settings = { ...options.settings, sets: first.settings.sets, method: first.settings.method, listwise: first.settings.listwise };
   const source = { kind: "sites" as const, n: total, sites: sites.map((s) => ({ site: s.summary.site, file: s.file, n: s.summary.n })) };
   const result = runAuditWithTester(graph, { table, moments, source, test }, { ...options, settings });
+  const linear = result.claims.filter((c) => c.test === "pearson-partial" && c.details?.sites !== undefined).length;
+  if (linear > 0 && first.settings.method === "auto") {
+    result.warnings.push(`${linear} claim${linear > 1 ? "s" : ""} with a continuous variable got the linear partial-correlation test given the set and the site, not the default flexible test, which needs rows`);
+  }
   const suppressed = sites.filter((s) => s.summary.suppressed.rows > 0);
   if (suppressed.length > 0) {
     result.warnings.push(`rows in missing-data patterns of fewer than --min-cell ${first.settings.min_cell} rows were left out at ${suppressed.length} site${suppressed.length > 1 ? "s" : ""} (${suppressed.map((s) => `${s.summary.site}: ${s.summary.suppressed.rows}`).join(", ")})`);

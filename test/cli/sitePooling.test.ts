@@ -91,6 +91,7 @@ describe("pooled linear claims", () => {
     for (const c of pooled.claims) expectSameClaim(c, byPair.get(pair(c))!);
     expect(pooled.untestable.map(pair).sort()).toEqual(["a ⫫ g", "c ⫫ g"]);
     expect(pooled.untestable[0]!.reason).toMatch(/nominal .* reads rows/);
+    expect(pooled.warnings).toContain("3 claims with a continuous variable got the linear partial-correlation test given the set and the site, not the default flexible test, which needs rows");
     expect(pooled.data.source).toEqual({
       kind: "sites",
       n: 1650,
