@@ -10,6 +10,8 @@ import { statusLine } from "../progress.js";
 import { inputName, isStreamInput } from "../readStdin.js";
 import { writeOutputs } from "../writeOutputs.js";
 import { loadAuditInputs, settingsFrom } from "./test.js";
+import { isSiteSummaryFile } from "../loadSiteSummaries.js";
+import { UsageError } from "../../src/errors.js";
 
 /**
  * `arrowaudit suggest <graph> <data> [--max-additions 3] [--out revised.txt] [--json]`: greedy
@@ -19,6 +21,7 @@ import { loadAuditInputs, settingsFrom } from "./test.js";
 export async function runSuggest(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<number> {
   const out = typeof opts.out === "string" ? opts.out : undefined;
   if (out !== undefined) refuseOverwritingInputs(io, [{ path: out, role: `--out ${out}` }], [{ path: graphPath, role: "graph file" }, { path: dataPath, role: "data file" }]);
+  if (isSiteSummaryFile(io, dataPath)) throw new UsageError(`${dataPath} is a site summary; suggest re-audits candidate graphs, whose claims a summary of another graph does not hold, so it needs the rows`);
   const { graph, table } = await loadAuditInputs(io, graphPath, dataPath, opts);
   const status = statusLine(io, !!opts.quiet);
   let s: Suggestions;

@@ -341,7 +341,7 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   const varStyle = nameStyle(r.variables.map((v) => v.name), Math.min(20, width - 10), ascii);
   const vars = r.variables.map((v) => `${varStyle.show(v.name)} (${v.type}${v.type_source === "inferred" ? "*" : ""}${v.missing ? `, ${formatCount(v.missing)} missing` : ""})`);
   out.push(...wrap(`variables: ${vars.join(", ")}`, width, "  "));
-  if (r.variables.some((v) => v.type_source === "inferred")) out.push(...wrap(src && src.kind !== "sites" ? "  * assumed continuous (a matrix holds one score per variable); declare categorical ones with --types" : "  * type inferred from the values; declare with --types if wrong", width, "    "));
+  if (r.variables.some((v) => v.type_source === "inferred")) out.push(...wrap(src && src.kind !== "sites" ? "  * assumed continuous (a matrix holds one score per variable); declare categorical ones with --types" : src ? "  * type inferred from the values at the sites; declare it with summarize --types at every site if wrong" : "  * type inferred from the values; declare with --types if wrong", width, "    "));
   out.push("");
 
   const head = ["#", "claim", "n", "test", `effect [${levelText(1 - r.settings.alpha)} CI]`, "detect.", "p", "p adj", "verdict"];

@@ -120,6 +120,7 @@ describe("pooled linear claims", () => {
     const out = await ok(["test", "lin-graph.txt", "lin-A.json", "lin-B.json"]);
     expect(out).toContain("pooled from 2 site summaries (A: 400 rows, B: 700 rows; 1,100 rows in all)");
     expect(out).toContain("linear partial-correlation test");
+    expect(out.replace(/\s+/g, " ")).toContain("type inferred from the values at the sites; declare it with summarize --types at every site if wrong");
   });
 });
 
@@ -207,6 +208,9 @@ describe("refusals", () => {
     const rows = await cli(["test", "lin-graph.txt", "lin-A.json", "--missing", "-9"]);
     expect(rows.code).toBe(1);
     expect(rows.stderr).toContain("--missing reads rows");
+    const sug = await cli(["suggest", "lin-graph.txt", "lin-A.json"]);
+    expect(sug.code).toBe(1);
+    expect(sug.stderr).toContain("lin-A.json is a site summary; suggest re-audits candidate graphs");
     const low = await cli(["summarize", "lin-graph.txt", "lin-A.csv", "--out", "x.json", "--min-cell", "2"]);
     expect(low.code).toBe(1);
     expect(low.stderr).toContain("--min-cell must be a whole number from 3");
