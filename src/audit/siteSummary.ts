@@ -22,8 +22,14 @@
  * 3. A stratum of a categorical claim with a non-empty cell of fewer than k rows (which includes
  *    every stratum of fewer than k rows) is dropped and counted (`dropped`: strata and rows); a
  *    claim left with no stratum is untestable at the site. Empty cells (0) are written.
+ * 4. A linear claim in which a level of a categorical variable, or a combination of levels of two
+ *    of them, has 1 … k − 1 complete cases is untestable at the site (the moments of a level's
+ *    indicator are sums over its rows), with the reason.
  * What this does not prevent: a mean of a binary column of 0 or 1, or an empty cell, says that
- * every row of the claim shares a value (attribute disclosure of a group of at least k).
+ * every row of the claim shares a value (attribute disclosure of a group of at least k); and the
+ * difference of two claims' numbers is a sum over whole patterns of at least k rows, but within
+ * those rows one level of a categorical variable may have fewer than k (rules 3 and 4 hold claim
+ * by claim, not for differences between claims).
  */
 import type { Claim } from "./types.js";
 import type { Column, Table, VariableType } from "../data/Table.js";
@@ -237,6 +243,8 @@ function claimMomentsSummary(table: Table, pm: PatternMoments, claim: Claim, k: 
   const m = claimMoments(pm, table, [claim.x, claim.y], claim.given);
   const n = m?.n ?? 0;
   if (!m || n < k) return tooFew(claim, n, k);
+  const small = smallCategoricalCell(table, claim, k);
+  if (small) return { x: claim.x, y: claim.y, given: [...claim.given], kind: "untestable", reason: `${small} among its complete cases at this site, fewer than --min-cell ${k}: its moments would tell those rows' values, so none is written` };
   const d = m.design.length;
   const w: number[][] = Array.from({ length: d }, (_, a) => Array.from({ length: d }, (_, b) => m.cov[a * d + b]! * (n - 1)));
   const means = Array.from(m.means);
@@ -244,6 +252,40 @@ function claimMomentsSummary(table: Table, pm: PatternMoments, claim: Claim, k: 
     return { x: claim.x, y: claim.y, given: [...claim.given], kind: "untestable", reason: "a sum of squares of this claim's values is beyond the range of double-precision numbers; rescale the variables (e.g. other units) and summarize again" };
   }
   return { x: claim.x, y: claim.y, given: [...claim.given], kind: "moments", n, columns: m.design.map((c) => c.name), means, cross_products: w };
+}
+
+/**
+ * Rule 4 for a linear claim: the first level of a categorical variable of the claim (x, y or a
+ * member of S), or combination of levels of two of them, held by 1 … k − 1 of the claim's
+ * complete cases, in words; undefined when there is none. The means and cross-products of a
+ * level's indicator (or of a binary score) are sums over that level's rows, so a level of fewer
+ * than k rows would be a moment from fewer than k rows. Cost: O(rows · c²) for c categorical variables.
+ */
+function smallCategoricalCell(table: Table, claim: Claim, k: number): string | undefined {
+  const cats = [...new Set([claim.x, claim.y, ...claim.given])].map((v) => table.column(v)!).filter((c) => CATEGORICAL_TYPES.has(c.type) && c.codes);
+  if (cats.length === 0) return undefined;
+  const rows = completeRows(table, claim);
+  for (const c of cats) {
+    const counts = new Map<number, number>();
+    for (const r of rows) counts.set(c.codes![r]!, (counts.get(c.codes![r]!) ?? 0) + 1);
+    for (const [code, count] of [...counts].sort((a, b) => a[0] - b[0])) if (count < k) return `the level ${JSON.stringify(c.levels![code])} of "${c.name}" has ${count} row${count === 1 ? "" : "s"}`;
+  }
+  for (let i = 0; i < cats.length; i++) {
+    for (let j = i + 1; j < cats.length; j++) {
+      const a = cats[i]!;
+      const b = cats[j]!;
+      const counts = new Map<number, number>();
+      const L = b.levels!.length;
+      for (const r of rows) {
+        const key = a.codes![r]! * L + b.codes![r]!;
+        counts.set(key, (counts.get(key) ?? 0) + 1);
+      }
+      for (const [key, count] of [...counts].sort((p, q) => p[0] - q[0])) {
+        if (count < k) return `"${a.name}" = ${JSON.stringify(a.levels![Math.floor(key / L)])} with "${b.name}" = ${JSON.stringify(b.levels![key % L])} has ${count} row${count === 1 ? "" : "s"}`;
+      }
+    }
+  }
+  return undefined;
 }
 
 /** The tables of a categorical claim, or untestable with fewer than k complete cases. */

@@ -61,6 +61,18 @@ describe("summarizeSite(table, options)", () => {
     expect((ac as { reason: string }).reason).toContain("0 complete cases");
   });
 
+  it("summarizeSite makes a linear claim untestable when two categorical variables share a combination of fewer than k rows", () => {
+    const g = graphOf("b -> c\nc -> a\n"); // the claim a ⫫ b | c: binary b, nominal c in S
+    const n = 40;
+    // b binary, c nominal; each level has at least 5 rows, but b = 1 with c = "z" only 2
+    const b = Array.from({ length: n }, (_, i) => (i < 20 ? 0 : 1));
+    const c = Array.from({ length: n }, (_, i) => (i < 20 ? ["x", "y", "z"][i % 3]! : i < 38 ? ["x", "y"][i % 2]! : "z"));
+    const s = site(g, { a: normals(6, n), b, c }, "pairs");
+    const ab = s.claims.find((cl) => [cl.x, cl.y].sort().join() === "a,b")!;
+    expect(ab.kind).toBe("untestable");
+    expect((ab as { reason: string }).reason).toMatch(/"[bc]" = "[1z]" with "[bc]" = "[1z]" has 2 rows/);
+  });
+
   it("summarizeSite refuses --min-cell below 3 (two rows' mean and sum of squares give both values)", () => {
     const g = graphOf(GRAPH);
     expect(() => site(g, { a: [1, 2, 3], b: [1, 2, 3], c: [1, 2, 3] }, "x", { ...SETTINGS, min_cell: 2 })).toThrow(RangeError);

@@ -285,6 +285,18 @@ describe("disclosure control (--min-cell)", () => {
     expect(r.stderr).toContain('lin-B.json: has "c" as continuous, while ordc.json has it as ordinal; declare its type at every site (summarize --types "c=ordinal")');
   });
 
+  it("a linear claim with a level of a categorical variable held by fewer than --min-cell rows is untestable at the site (its indicator's moments would tell that row's values)", async () => {
+    const lines = readFileSync(join(dir, "lin-A.csv"), "utf8").trimEnd().split("\n");
+    lines[1] = lines[1]!.replace(/,[a-z]+$/, ",west"); // one row of a level no other row has
+    writeFileSync(join(dir, "west.csv"), lines.join("\n") + "\n");
+    const s = await summarize("lin-graph.txt", "west.csv", "west.json", "--site", "W");
+    const bd = s.claims.find((c) => pair(c) === "b ⫫ d")!;
+    expect(bd.kind).toBe("untestable");
+    expect((bd as { reason: string }).reason).toContain('the level "west" of "g" has 1 row among its complete cases at this site, fewer than --min-cell 5');
+    expect(s.claims.find((c) => pair(c) === "a ⫫ c")!.kind).toBe("moments"); // no g in it
+    expect(readFileSync(join(dir, "west.json"), "utf8")).not.toContain("g=west");
+  });
+
   it("strata with a cell of 1 … k − 1 rows are dropped and counted; no written cell is below k", async () => {
     const text = readFileSync(join(dir, "cat-A.csv"), "utf8").trimEnd();
     // a new stratum of v (= 9) with 2 rows, one in each of two cells
