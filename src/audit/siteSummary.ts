@@ -223,11 +223,15 @@ function keptRows(table: Table, names: readonly string[], keep: Uint8Array): Tab
 }
 
 /** The complete cases of a claim's variables among the kept rows. Cost: O(rows · (2 + |S|)). */
-function completeRows(table: Table, claim: Claim): number[] {
+function completeRows(table: Table, claim: Claim): Int32Array {
   const vars = [claim.x, claim.y, ...claim.given].map((v) => table.column(v)!.values);
-  const rows: number[] = [];
-  for (let r = 0; r < table.rows; r++) if (vars.every((v) => !Number.isNaN(v[r]!))) rows.push(r);
-  return rows;
+  const rows = new Int32Array(table.rows);
+  let n = 0;
+  next: for (let r = 0; r < table.rows; r++) {
+    for (const v of vars) if (Number.isNaN(v[r]!)) continue next;
+    rows[n++] = r;
+  }
+  return rows.subarray(0, n);
 }
 
 function tooFew(claim: Claim, n: number, k: number): UntestableClaimSummary {
@@ -265,24 +269,25 @@ function smallCategoricalCell(table: Table, claim: Claim, k: number): string | u
   const cats = [...new Set([claim.x, claim.y, ...claim.given])].map((v) => table.column(v)!).filter((c) => CATEGORICAL_TYPES.has(c.type) && c.codes);
   if (cats.length === 0) return undefined;
   const rows = completeRows(table, claim);
+  const plural = (count: number) => `${count} row${count === 1 ? "" : "s"}`;
   for (const c of cats) {
-    const counts = new Map<number, number>();
-    for (const r of rows) counts.set(c.codes![r]!, (counts.get(c.codes![r]!) ?? 0) + 1);
-    for (const [code, count] of [...counts].sort((a, b) => a[0] - b[0])) if (count < k) return `the level ${JSON.stringify(c.levels![code])} of "${c.name}" has ${count} row${count === 1 ? "" : "s"}`;
+    const counts = new Float64Array(c.levels!.length);
+    const codes = c.codes!;
+    for (const r of rows) counts[codes[r]!]++;
+    const code = counts.findIndex((count) => count > 0 && count < k);
+    if (code >= 0) return `the level ${JSON.stringify(c.levels![code])} of "${c.name}" has ${plural(counts[code]!)}`;
   }
   for (let i = 0; i < cats.length; i++) {
     for (let j = i + 1; j < cats.length; j++) {
       const a = cats[i]!;
       const b = cats[j]!;
-      const counts = new Map<number, number>();
       const L = b.levels!.length;
-      for (const r of rows) {
-        const key = a.codes![r]! * L + b.codes![r]!;
-        counts.set(key, (counts.get(key) ?? 0) + 1);
-      }
-      for (const [key, count] of [...counts].sort((p, q) => p[0] - q[0])) {
-        if (count < k) return `"${a.name}" = ${JSON.stringify(a.levels![Math.floor(key / L)])} with "${b.name}" = ${JSON.stringify(b.levels![key % L])} has ${count} row${count === 1 ? "" : "s"}`;
-      }
+      const counts = new Float64Array(a.levels!.length * L);
+      const ac = a.codes!;
+      const bc = b.codes!;
+      for (const r of rows) counts[ac[r]! * L + bc[r]!]++;
+      const key = counts.findIndex((count) => count > 0 && count < k);
+      if (key >= 0) return `"${a.name}" = ${JSON.stringify(a.levels![Math.floor(key / L)])} with "${b.name}" = ${JSON.stringify(b.levels![key % L])} has ${plural(counts[key]!)}`;
     }
   }
   return undefined;
@@ -295,7 +300,7 @@ function summarizeTableClaim(table: Table, claim: Claim, k: number): ClaimSummar
 }
 
 /** Per-stratum x-by-y tables, strata with a cell of 1 … k − 1 rows dropped. Cost: O(n · |S|). */
-function claimTablesSummary(table: Table, claim: Claim, rows: readonly number[], k: number): TablesClaimSummary | UntestableClaimSummary {
+function claimTablesSummary(table: Table, claim: Claim, rows: Int32Array, k: number): TablesClaimSummary | UntestableClaimSummary {
   const x = table.column(claim.x)!;
   const y = table.column(claim.y)!;
   const given = claim.given.map((g) => table.column(g)!);
