@@ -142,6 +142,8 @@ export function checkSitesAgree(graphSha256: string, graphFile: string, sites: r
 /** The pooled partial-correlation test of a linear claim (see the module comment). Cost: O(sites · d² + d³). */
 export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
   const d = parts[0]!.columns.length;
+  const names = JSON.stringify(parts[0]!.columns);
+  if (parts.some((p) => JSON.stringify(p.columns) !== names)) return { ok: false, reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
   const w = new Float64Array(d * d);
   let n = 0;
   for (const p of parts) {
@@ -194,6 +196,9 @@ export function poolTables(claim: Claim, parts: readonly TablesClaimSummary[], c
   const lx = parts[0]!.strata[0]?.counts.length ?? 0;
   const ly = parts[0]!.strata[0]?.counts[0]?.length ?? 0;
   const twoByTwo = lx === 2 && ly === 2;
+  if (parts.some((p) => p.strata.some((s) => s.counts.length !== lx || s.counts.some((row) => row.length !== ly)))) {
+    return { ok: false, reason: "the sites' tables of this claim have different sizes; summarize every site with the same options, --types and --levels" };
+  }
   for (const p of parts) {
     for (const s of p.strata) {
       const xs = s.counts.map((row, i) => (row.some((v) => v > 0) ? i : -1)).filter((i) => i >= 0);

@@ -216,6 +216,18 @@ describe("refusals", () => {
     expect(low.stderr).toContain("--min-cell must be a whole number from 3");
   });
 
+  it("a claim whose design columns differ between sites (an edited file) is untestable with the reason, not pooled", async () => {
+    await summarize("lin-graph.txt", "lin-A.csv", "lin-A.json", "--site", "A");
+    const b = await summarize("lin-graph.txt", "lin-B.csv", "lin-B.json", "--site", "B");
+    const k = b.claims.findIndex((c) => c.kind === "moments");
+    const edited = structuredClone(b);
+    (edited.claims[k] as { columns: string[] }).columns[0] = "renamed";
+    writeFileSync(join(dir, "lin-Bedit.json"), JSON.stringify(edited));
+    const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-Bedit.json"]);
+    const u = pooled.untestable.find((c) => pair(c) === pair(b.claims[k]!))!;
+    expect(u.reason).toContain("the sites' summaries of this claim have different design columns");
+  });
+
   it("a summary that is not one, or of another version, is an input error naming the file", async () => {
     writeFileSync(join(dir, "bad.json"), '{"format": "something-else"}\n');
     const r = await cli(["test", "lin-graph.txt", "bad.json"]);
