@@ -201,8 +201,12 @@ function claimKind(table: Table, claim: Claim, method: SiteSummarySettings["meth
   const scoredPair = types[0] !== "nominal" && types[1] !== "nominal";
   if (method !== "linear" && allCategorical) return "tables";
   if (method !== "chisq" && scoredPair) return "moments";
+  // a nominal side with a continuous or ordinal other side: the Gaussian LR of the linear model of that side, from the moments
+  const scored = (t: VariableType) => t === "continuous" || t === "ordinal";
+  if (method === "auto" && (scored(types[0]!) || scored(types[1]!))) return "moments";
   if (method === "chisq") return { reason: "--method chisq tables categorical claims only, and this claim has a continuous variable" };
-  return { reason: `"${types[0] === "nominal" ? claim.x : claim.y}" is nominal and the claim has a continuous variable: its test reads rows, which a site summary does not hold` };
+  if (method === "linear") return { reason: `"${types[0] === "nominal" ? claim.x : claim.y}" is nominal, and --method linear correlates scores; summarize with --method auto to test it by the linear model of the other side` };
+  return { reason: `"${claim.x}" and "${claim.y}" are categorical and the set has a continuous variable: the logistic or multinomial fit reads rows, which a site summary does not hold` };
 }
 
 /** The rows of `keep` as a table of their own (the columns of `names`). Cost: O(rows · m). */

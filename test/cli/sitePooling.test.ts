@@ -87,10 +87,10 @@ describe("pooled linear claims", () => {
     const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-B.json", "lin-C.json"]);
     const stacked = await auditJson(["lin-graph-site.txt", "lin-stacked.csv", "--method", "linear", "--types", "site=nominal"]);
     const byPair = new Map(stacked.claims.map((c) => [pair(c), c]));
-    expect(pooled.claims.length).toBe(3); // a ⫫ c | b; a ⫫ d | g, c; b ⫫ d | a, g, c (the two with nominal g as x or y need rows)
-    for (const c of pooled.claims) expectSameClaim(c, byPair.get(pair(c))!);
-    expect(pooled.untestable.map(pair).sort()).toEqual(["a ⫫ g", "c ⫫ g"]);
-    expect(pooled.untestable[0]!.reason).toMatch(/nominal .* reads rows/);
+    const linear = pooled.claims.filter((c) => c.test === "pearson-partial");
+    expect(linear.map(pair).sort()).toEqual(["a ⫫ c", "a ⫫ d", "b ⫫ d"]);
+    for (const c of linear) expectSameClaim(c, byPair.get(pair(c))!);
+    expect(pooled.untestable).toEqual([]);
     expect(pooled.warnings).toContain("3 claims with a continuous variable got the linear partial-correlation test given the set and the site, not the default flexible test, which needs rows");
     expect(pooled.data.source).toEqual({
       kind: "sites",
@@ -101,6 +101,19 @@ describe("pooled linear claims", () => {
         { site: "C", file: "lin-C.json", n: 550 },
       ],
     }); // sizes set in scripts/site_pooling_reference.py
+  });
+
+  it("claims with nominal g as a side equal test --method regression on the stacked rows with site in every set (Gaussian LR, 1e-9)", async () => {
+    for (const s of ["A", "B", "C"]) await summarize("lin-graph.txt", `lin-${s}.csv`, `lin-${s}.json`, "--site", s);
+    const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-B.json", "lin-C.json"]);
+    const stacked = await auditJson(["lin-graph-site.txt", "lin-stacked.csv", "--method", "regression", "--types", "site=nominal"]);
+    const byPair = new Map(stacked.claims.map((c) => [pair(c), c]));
+    const lr = pooled.claims.filter((c) => c.test === "regression-lr");
+    expect(lr.map(pair).sort()).toEqual(["a ⫫ g", "c ⫫ g"]);
+    for (const c of lr) {
+      expectSameClaim(c, byPair.get(pair(c))!);
+      expect(c.details?.parameters_full).toBe(byPair.get(pair(c))!.details?.parameters_full);
+    }
   });
 
   it("b ⫫ d | a, g, c pooled equals numpy's residual correlation given S and site indicators and scipy's t (1e-9)", async () => {

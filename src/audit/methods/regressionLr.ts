@@ -858,8 +858,8 @@ function linearFromMoments(claim: Claim, resp: Column, added: Column, ctx: TestC
   return { ok: true, outcome: lrOutcome(fit.lr, fit.df, n, fit.sign, details, warnings, ctx.alpha ?? 0.05) };
 }
 
-/** The common tail of every regression LR: p-value, log p, effect and its interval at confidence 1 − alpha. */
-function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, details: Record<string, unknown>, warnings: string[], alpha: number): TestOutcome {
+/** The common tail of every regression LR: p-value, log p, effect and its interval at confidence 1 − alpha (also used by `poolSiteSummaries`). */
+export function lrOutcome(lrIn: number, df: number, n: number, sign: -1 | 0 | 1, details: Record<string, unknown>, warnings: string[], alpha: number): TestOutcome {
   const lr = lrIn < 0 ? 0 : lrIn; // rounding: the full model's likelihood cannot be lower
   const pAsym = chiSquareUpper(lr, df);
   const logP = logChiSquareUpper(lr, df);
