@@ -7,7 +7,9 @@
  * on site indicators, so the partial correlation of x and y given the columns of S computed from
  * W equals the one given S and the site indicators on the stacked rows (Frisch & Waugh 1933,
  * Econometrica 1:387–401); its t test loses one df per site beyond the first (c + sites − 1
- * conditioning columns). For a categorical claim each site's strata are strata of their own
+ * conditioning columns); a claim with a nominal side gets the Gaussian likelihood-ratio test of
+ * the linear model of its scored side from the same W (as `regression-lr` on the stacked rows
+ * with site in the set). For a categorical claim each site's strata are strata of their own
  * (site added to S), and the stratified chi-square test runs on all of them. A site where a claim
  * is untestable is left out of that claim, and the claim's warnings say so. Claims with a
  * continuous variable therefore get the linear partial-correlation test when pooled, whatever

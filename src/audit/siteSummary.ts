@@ -3,7 +3,8 @@
  * value, so that sites can pool an audit without sharing rows (`poolSiteSummaries`).
  *
  * Terms. A *site* is one data file of a consortium. A *linear claim* is one whose x and y have
- * scores (continuous, binary, ordinal); its site statistics are the complete-case count, the
+ * scores (continuous, binary, ordinal), or (method auto) whose one side is nominal and the other
+ * continuous or ordinal (the nominal side as indicators of its levels but the first); its site statistics are the complete-case count, the
  * means and the *cross-product matrix* W = Σ (z − z̄)(z − z̄)ᵀ (centred sums of squares and
  * products, not divided by n − 1) of the design columns: x, y, and each member of S as its score
  * (continuous, binary) or as 0/1 indicators of its levels but the first (ordinal, nominal), as
