@@ -316,6 +316,7 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
     const reasons = left.map((l) => (l.part as { reason: string }).reason);
     const leftText = left.map((l, i) => `site ${JSON.stringify(l.site)}: ${reasons[i]}`).join("; ");
     if (kept.length === 0) return { ok: false, reason: new Set(reasons).size === 1 ? `untestable at every site: ${reasons[0]}` : `untestable at every site (${leftText})` };
+    if (kept.some((p) => p.kind !== kept[0]!.kind)) return { ok: false, reason: "the sites' summaries of this claim are of different kinds (moments and tables); summarize every site with the same options, --types and --levels" };
     const r = kept[0]!.kind === "moments" ? poolMoments(claim, kept as MomentsClaimSummary[], table, ctx.alpha ?? 0.05) : poolTables(claim, kept as TablesClaimSummary[], ctx);
     if (!r.ok) return r;
     const warnings = [...(r.outcome.warnings ?? [])];

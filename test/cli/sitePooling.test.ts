@@ -239,6 +239,12 @@ describe("refusals", () => {
     const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-Bedit.json"]);
     const u = pooled.untestable.find((c) => pair(c) === pair(b.claims[k]!))!;
     expect(u.reason).toContain("the sites' summaries of this claim have different design columns");
+    const other = structuredClone(b);
+    const c = other.claims[k]!;
+    other.claims[k] = { x: c.x, y: c.y, given: c.given, kind: "tables", n: 10, strata: [], dropped: { strata: 0, rows: 0 } };
+    writeFileSync(join(dir, "lin-Bkind.json"), JSON.stringify(other));
+    const mixed = await auditJson(["lin-graph.txt", "lin-A.json", "lin-Bkind.json"]);
+    expect(mixed.untestable.find((t) => pair(t) === pair(c))!.reason).toContain("are of different kinds (moments and tables)");
   });
 
   it("a summary that is not one, or of another version, is an input error naming the file", async () => {
