@@ -10,15 +10,16 @@ import type { AuditResult, AuditSettings } from "../src/audit/types.js";
 import { checkInputFile } from "./checkPaths.js";
 import { type Io, readInput, sha256File, toolVersion } from "./io.js";
 import { loadGraph, splitList } from "./loadGraph.js";
-import { isStdin } from "./readStdin.js";
+import { isStdin, isStreamInput } from "./readStdin.js";
 
 /**
- * Whether a data argument is a site summary: a file (not standard input) whose first character
+ * Whether a data argument is a site summary: a regular file (not standard input or a pipe) whose first character
  * other than a byte-order mark or white space is "{" (a data table's header never starts a JSON
  * object). Cost: reads at most 4 KiB.
  */
 export function isSiteSummaryFile(io: Pick<Io, "cwd">, path: string): boolean {
-  if (isStdin(path)) return false;
+  // a stream (standard input, a named pipe) is never a summary: opening a pipe here would block until a writer came, and reading it would spend the data
+  if (isStreamInput(io, path)) return false;
   let fd: number;
   try {
     fd = openSync(resolve(io.cwd, path), "r");
