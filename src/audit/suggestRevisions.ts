@@ -22,7 +22,7 @@ import { CycleError } from "../errors.js";
 import type { Graph } from "../graph/Graph.js";
 import type { Table } from "../data/Table.js";
 import { fitGaussianSem } from "../stats/gaussianSem.js";
-import { repairArrows } from "./repairArrows.js";
+import { quoteName, repairArrows } from "./repairArrows.js";
 import { runAudit, type AuditOptions } from "./runAudit.js";
 import type { AuditResult, TestedClaim } from "./types.js";
 
@@ -185,7 +185,7 @@ function candidateEdges(graph: Graph, claims: readonly TestedClaim[]): Edge[] {
   for (const c of claims) {
     for (const text of repairArrows(graph, c.x, c.y)) {
       const kind = text.includes("<->") ? "<->" : "->";
-      const forward = text.startsWith(quoted(c.x) + " ");
+      const forward = text.startsWith(quoteName(c.x) + " ");
       const [from, to] = kind === "<->" ? [c.x, c.y] : forward ? [c.x, c.y] : [c.y, c.x];
       const key = kind === "<->" ? `<->${pairKey({ x: from, y: to })}` : `->${from}\u0000${to}`;
       if (seen.has(key)) continue;
@@ -194,11 +194,6 @@ function candidateEdges(graph: Graph, claims: readonly TestedClaim[]): Edge[] {
     }
   }
   return out;
-}
-
-/** The name as repairArrows writes it (bare or quoted). */
-function quoted(name: string): string {
-  return /^[\p{L}\p{M}\p{N}_.]+$/u.test(name) ? name : `"${name.replace(/\\/g, "\\\\").replace(/"/g, '\\"')}"`;
 }
 
 /** The graph with one more arrow or shared cause; undefined when that would close a cycle. */
