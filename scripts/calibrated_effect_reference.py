@@ -20,12 +20,11 @@ Run:  python3 scripts/calibrated_effect_reference.py          (writes test/fixtu
       python3 scripts/calibrated_effect_reference.py --print  (prints the same JSON)
 """
 import itertools
-import json
 import math
 import os
-import sys
 
 import numpy as np
+from reference_output import emit_reference
 import scipy
 from scipy import optimize, stats
 
@@ -157,13 +156,7 @@ def main():
         "intervals": intervals(),
         "exact_null": exact_null(),
     }
-    text = json.dumps(doc, indent=1) + "\n"
-    if "--print" in sys.argv:
-        sys.stdout.write(text)
-        return
-    os.makedirs(OUT, exist_ok=True)
-    with open(os.path.join(OUT, "reference.json"), "w") as f:
-        f.write(text)
+    emit_reference(doc, OUT)
 
 
 if __name__ == "__main__":

@@ -31,11 +31,10 @@ Run:  python3 scripts/exact_conditional_reference.py          (writes test/fixtu
       python3 scripts/exact_conditional_reference.py --print  (prints the same JSON)
 """
 import itertools
-import json
 import os
-import sys
 
 import numpy as np
+from reference_output import emit_reference
 import scipy
 from scipy import stats
 from scipy.special import xlogy
@@ -222,13 +221,7 @@ def main():
         "r_by_c": rc,
         "williams": williams_rows(),
     }
-    text = json.dumps(doc, indent=1)
-    if "--print" in sys.argv:
-        print(text)
-    else:
-        os.makedirs(OUT, exist_ok=True)
-        with open(os.path.join(OUT, "reference.json"), "w") as f:
-            f.write(text + "\n")
+    emit_reference(doc, OUT)
 
 
 if __name__ == "__main__":

@@ -23,12 +23,11 @@
 Run:  python3 scripts/interval_reference.py          (writes test/fixtures/intervals/reference.json)
       python3 scripts/interval_reference.py --print  (prints the same JSON)
 """
-import json
 import math
 import os
-import sys
 
 import numpy as np
+from reference_output import emit_reference
 import scipy
 from scipy import integrate, optimize, stats
 from scipy.special import expit
@@ -150,13 +149,7 @@ def main():
         "intervals": interval_cases(),
         "coverage": coverage(),
     }
-    text = json.dumps(doc, indent=1) + "\n"
-    if "--print" in sys.argv:
-        sys.stdout.write(text)
-        return
-    os.makedirs(OUT, exist_ok=True)
-    with open(os.path.join(OUT, "reference.json"), "w") as f:
-        f.write(text)
+    emit_reference(doc, OUT)
 
 
 if __name__ == "__main__":

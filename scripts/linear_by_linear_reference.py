@@ -21,12 +21,11 @@ Run:  python3 scripts/linear_by_linear_reference.py          (writes test/fixtur
       python3 scripts/linear_by_linear_reference.py --print  (prints the same JSON)
 """
 import itertools
-import json
 import math
 import os
-import sys
 
 import numpy as np
+from reference_output import emit_reference
 import scipy
 from scipy import stats
 
@@ -167,13 +166,7 @@ def main():
         "exact": ex,
         "malformation": malformation(),
     }
-    text = json.dumps(doc, indent=1) + "\n"
-    if "--print" in sys.argv:
-        sys.stdout.write(text)
-        return
-    os.makedirs(OUT, exist_ok=True)
-    with open(os.path.join(OUT, "reference.json"), "w") as f:
-        f.write(text)
+    emit_reference(doc, OUT)
 
 
 if __name__ == "__main__":
