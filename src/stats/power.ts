@@ -33,15 +33,7 @@ export function noncentralChiSquareQuantile(p: number, df: number, lambda: numbe
   if (!(lambda >= 0 && Number.isFinite(lambda))) throw new RangeError(`noncentrality must be ≥ 0, got ${lambda}`);
   if (p === 0) return 0;
   if (p === 1) return Infinity;
-  let lo = 0;
-  let hi = Math.max(1, df + lambda);
-  while (noncentralChiSquareCdf(hi, df, lambda) < p) hi *= 2;
-  for (let k = 0; k < 200 && hi - lo > 1e-13 * hi; k++) {
-    const mid = (lo + hi) / 2;
-    if (noncentralChiSquareCdf(mid, df, lambda) < p) lo = mid;
-    else hi = mid;
-  }
-  return (lo + hi) / 2;
+  return solveIncreasing((x) => noncentralChiSquareCdf(x, df, lambda), p, Math.max(1, df + lambda), 1e-13);
 }
 
 /**
@@ -56,12 +48,21 @@ export function noncentralityForPower(df: number, alpha: number, power: number):
   if (!(df > 0 && Number.isFinite(df))) throw new RangeError(`df must be positive, got ${df}`);
   if (power <= alpha) return 0;
   const crit = chiSquareUpperQuantileLog(Math.log(alpha), df);
+  return solveIncreasing((lambda) => noncentralChiSquareUpper(crit, df, lambda), power, 1, 1e-12);
+}
+
+/**
+ * The v ≥ 0 with f(v) = target for f non-decreasing: the bracket [0, start] doubled until f
+ * reaches the target, then bisection to `relTol` relative (at most 200 halvings). Cost: about
+ * 60 evaluations of f.
+ */
+function solveIncreasing(f: (v: number) => number, target: number, start: number, relTol: number): number {
   let lo = 0;
-  let hi = 1;
-  while (noncentralChiSquareUpper(crit, df, hi) < power) hi *= 2;
-  for (let k = 0; k < 200 && hi - lo > 1e-12 * hi; k++) {
+  let hi = start;
+  while (f(hi) < target) hi *= 2;
+  for (let k = 0; k < 200 && hi - lo > relTol * hi; k++) {
     const mid = (lo + hi) / 2;
-    if (noncentralChiSquareUpper(crit, df, mid) < power) lo = mid;
+    if (f(mid) < target) lo = mid;
     else hi = mid;
   }
   return (lo + hi) / 2;
