@@ -21,6 +21,7 @@ import {
   formatCount,
   formatEffect,
   formatEffectWithCI,
+  formatLevel,
   formatP,
   formatPInline,
   formatStatistic,
@@ -132,7 +133,7 @@ const TEST_TEXT: Record<TestName, { name: string; text: (cs: readonly TestedClai
     name: "Pearson partial r",
     text: (cs, alpha) => {
       const c = range(cs.map((k) => k.n - 2 - k.df));
-      return `the partial Pearson correlation r, tested with the t statistic on n − 2 − c degrees of freedom, c being the number of columns of the conditioning set (one for each continuous or binary member, one indicator for each level but the first of an ordinal or nominal member${c ? `; here ${c}` : ""}), with a ${levelPercent(1 - alpha)} confidence interval from Fisher's z transformation with the standard error the t test implies, so that it excludes 0 exactly when p < ${alpha} (Fisher 1921; Fisher 1924)`;
+      return `the partial Pearson correlation r, tested with the t statistic on n − 2 − c degrees of freedom, c being the number of columns of the conditioning set (one for each continuous or binary member, one indicator for each level but the first of an ordinal or nominal member${c ? `; here ${c}` : ""}), with a ${formatLevel(1 - alpha)} confidence interval from Fisher's z transformation with the standard error the t test implies, so that it excludes 0 exactly when p < ${alpha} (Fisher 1921; Fisher 1924)`;
     },
     refs: ["fisher1921", "fisher1924"],
   },
@@ -388,7 +389,7 @@ function testsParagraph(result: AuditResult, refs: Set<RefKey>): string | undefi
     refs.add("magee1990");
     refs.add("steiger1990");
     text +=
-      ` Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a ${levelPercent(1 - s.alpha)} interval from the noncentral chi-square distribution (Steiger 1990) whose lower end is the one-sided bound at ${s.alpha}, so that it excludes 0 exactly when the test rejects at ${s.alpha}; one-degree-of-freedom results take the signed-root interval, sign·√LR ± z₁₋α/₂ (${normalQuantile(1 - s.alpha / 2).toFixed(2)}) mapped to the same scale.`;
+      ` Likelihood-ratio results are reported on the correlation scale as the effect e = √(1 − exp(−LR/n)) (Cox & Snell 1989; Magee 1990), or, for tests on more than one degree of freedom, e = √(1 − exp(−max(0, LR − df)/n)), which removes the part of LR expected by chance (as in the RMSEA), with a ${formatLevel(1 - s.alpha)} interval from the noncentral chi-square distribution (Steiger 1990) whose lower end is the one-sided bound at ${s.alpha}, so that it excludes 0 exactly when the test rejects at ${s.alpha}; one-degree-of-freedom results take the signed-root interval, sign·√LR ± z₁₋α/₂ (${normalQuantile(1 - s.alpha / 2).toFixed(2)}) mapped to the same scale.`;
   }
   const mh = claims.filter((c) => c.details?.mantel_haenszel !== undefined);
   if (mh.length > 0) {
@@ -513,7 +514,7 @@ function equivalenceSentence(result: AuditResult, refs: Set<RefKey>): string {
   const detect = det.length
     ? `With ${Math.round(100 * (s.power ?? 0.8))}% power at ${level}, the tests could detect absolute effects from ${formatEffect(Math.min(...det), 3)} to ${formatEffect(Math.max(...det), 3)} (Fisher's z for partial correlations, Cohen 1988; the noncentral chi-square otherwise); smaller violations would usually go unseen, so a claim that was not contradicted is not thereby shown to hold. `
     : "";
-  return `${detect}Equivalence was tested with two one-sided tests at ${s.alpha} against a margin of ±${margin} on the effect scale (Schuirmann 1987), a claim being supported when its ${levelPercent(1 - 2 * s.alpha)} interval lay inside the margin: ${formatCount(g.contradicted)} ${g.contradicted === 1 ? "claim was" : "claims were"} contradicted, ${formatCount(g.contradicted_within_margin)} contradicted but within the margin (a real but negligible dependence), ${formatCount(g.supported)} supported as equivalent to independence, and ${formatCount(g.inconclusive)} inconclusive (neither shown).`;
+  return `${detect}Equivalence was tested with two one-sided tests at ${s.alpha} against a margin of ±${margin} on the effect scale (Schuirmann 1987), a claim being supported when its ${formatLevel(1 - 2 * s.alpha)} interval lay inside the margin: ${formatCount(g.contradicted)} ${g.contradicted === 1 ? "claim was" : "claims were"} contradicted, ${formatCount(g.contradicted_within_margin)} contradicted but within the margin (a real but negligible dependence), ${formatCount(g.supported)} supported as equivalent to independence, and ${formatCount(g.inconclusive)} inconclusive (neither shown).`;
 }
 
 /** The four groups in one line: "2 contradicted, 0 contradicted but within the margin, 5 supported, 3 inconclusive". */
@@ -530,18 +531,11 @@ function methodsText(result: AuditResult, context: ReportContext, refs: Set<RefK
   return paras;
 }
 
-/** A confidence level as a percentage with the decimals that tell it from 100%: 0.95 → "95%", 0.99853 → "99.85%". */
-function levelPercent(level: number): string {
-  const a = 100 * (1 - level);
-  const d = a >= 1 ? 1 : Math.max(1, 1 - Math.floor(Math.log10(a)));
-  return `${Number((100 * level).toFixed(d))}%`;
-}
-
 /** The adjusted-interval cell of a claim: "[lo, hi] at 99.85%", or "n/a". */
 function adjustedCell(c: TestedClaim, alpha: number): string {
   const adj = adjustedInterval(c, alpha);
   if (!adj) return "n/a";
-  return `${formatCI(adj.ci, Math.max(2, ...[c.effect, ...c.ci].map((v) => (Number.isFinite(v) && Math.abs(v) < 0.1 ? 3 : 2))))} at ${levelPercent(adj.level)}`;
+  return `${formatCI(adj.ci, Math.max(2, ...[c.effect, ...c.ci].map((v) => (Number.isFinite(v) && Math.abs(v) < 0.1 ? 3 : 2))))} at ${formatLevel(adj.level)}`;
 }
 
 /** The Mantel–Haenszel odds-ratio cell of a 2×2×K claim: "OR_MH = 1.23 [0.98, 1.55]", or "". */
@@ -693,9 +687,9 @@ function intervalNote(result: AuditResult): string {
   const s = result.settings;
   const floor = s.min_effect > 0 ? ` and on the relevance floor ${s.min_effect}` : "";
   if (s.adjust === "none") {
-    return `The ${levelPercent(1 - s.alpha)} interval is unadjusted, as are the p-values; the adjusted interval is the interval at the level α = ${s.alpha} used for every claim (confidence ${levelPercent(1 - s.alpha)}), and the verdict depends on the p-value${floor}.`;
+    return `The ${formatLevel(1 - s.alpha)} interval is unadjusted, as are the p-values; the adjusted interval is the interval at the level α = ${s.alpha} used for every claim (confidence ${formatLevel(1 - s.alpha)}), and the verdict depends on the p-value${floor}.`;
   }
   const method = s.adjust === "holm" ? "Holm's method" : "the Benjamini–Hochberg method";
   const threshold = s.adjust === "holm" ? "α/(k − j + 1) for the j-th smallest of k p-values" : "jα/k for the j-th smallest of k p-values";
-  return `The ${levelPercent(1 - s.alpha)} interval is unadjusted and can exclude 0 for a claim judged consistent. The verdict depends on the adjusted p-value${floor}; the adjusted interval is the interval at the level ${method} used for that claim (confidence 1 − α·p/p_adjusted, which is 1 − ${threshold} unless the monotone step raised the adjusted p-value), so it excludes 0 when the adjusted p-value is below α = ${s.alpha}.`;
+  return `The ${formatLevel(1 - s.alpha)} interval is unadjusted and can exclude 0 for a claim judged consistent. The verdict depends on the adjusted p-value${floor}; the adjusted interval is the interval at the level ${method} used for that claim (confidence 1 − α·p/p_adjusted, which is 1 − ${threshold} unless the monotone step raised the adjusted p-value), so it excludes 0 when the adjusted p-value is below α = ${s.alpha}.`;
 }

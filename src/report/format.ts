@@ -208,3 +208,15 @@ export function claimEffectSymbol(claim: { test: TestName; details?: Record<stri
 export function typographicMinus(text: string): string {
   return text.replace(/(^|[\s(\[=,])-(?=\d)/g, "$1\u2212");
 }
+
+/**
+ * A confidence level as a percentage with the decimals that tell it from 100%: 0.95 → "95%",
+ * 0.999 → "99.9%", 0.99853 → "99.85%" (one decimal at least below 99%, as many as the distance
+ * to 100% needs above). Cost: O(1).
+ * @example formatLevel(1 - 0.05) // "95%"
+ */
+export function formatLevel(level: number): string {
+  const a = 100 * (1 - level);
+  const d = a >= 1 ? 1 : Math.max(1, 1 - Math.floor(Math.log10(a)));
+  return `${Number((100 * level).toFixed(d))}%`;
+}

@@ -22,7 +22,7 @@ import type { AuditSettings, TestedClaim } from "../audit/types.js";
 import { adjustedInterval } from "./adjustedInterval.js";
 import { escapeXml } from "./escapeXml.js";
 import { independenceSvg } from "./independenceMark.js";
-import { claimEffectSymbol, claimLabel, formatCI, formatEffectWithCI, typographicMinus } from "./format.js";
+import { claimEffectSymbol, claimLabel, formatCI, formatEffectWithCI, formatLevel, typographicMinus } from "./format.js";
 import { estimateTextWidth } from "./textWidth.js";
 import { FONT_STACK, INK, PALETTE } from "./theme.js";
 
@@ -81,11 +81,6 @@ function tickLabel(v: number, step: number): string {
   const d = step >= 1 ? 0 : step >= 0.1 && Math.round(step * 10) === step * 10 ? 1 : 2;
   const s = v.toFixed(d);
   return typographicMinus(/^-0(\.0*)?$/.test(s) ? s.slice(1) : s);
-}
-
-/** The confidence level 1 − α in percent, without trailing zeros (95, 99, 99.9). */
-function confidencePercent(alpha: number): string {
-  return String(Number(((1 - alpha) * 100).toPrecision(6)));
 }
 
 /** Whether a claim's effect is on several degrees of freedom (unsigned, with a one-sided lower limit). */
@@ -147,7 +142,7 @@ export function renderForestPlot(claims: readonly TestedClaim[], options: Forest
     const d = Math.max(...[c.effect, ...c.ci].map((v) => (Number.isFinite(v) && Math.abs(v) < 0.1 ? 3 : 2)));
     return typographicMinus(formatCI(a.ci, d));
   });
-  const levelText = `${confidencePercent(alpha ?? 0.05)}%`;
+  const levelText = formatLevel(1 - (alpha ?? 0.05));
   const estHead = `estimate [${levelText} CI]`;
   const adjHead = "adjusted interval";
   const textW = Math.max(widthOf(estHead, FS, true), ...texts.map((t, i) => widthOf(t, FS, bold[i]!))) + 16;

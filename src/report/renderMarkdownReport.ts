@@ -8,6 +8,7 @@
  */
 import type { AuditResult } from "../audit/types.js";
 import { buildReportText } from "./buildReportText.js";
+import { formatLevel } from "./format.js";
 import type { ReportContext } from "./ReportContext.js";
 
 export interface MarkdownReportOptions {
@@ -94,7 +95,7 @@ export function renderMarkdownReport(result: AuditResult, context: ReportContext
   if (t.claimRows.length === 0) {
     out.push("No claim could be tested.", "");
   } else {
-    out.push(`| # | Claim | n | Test | Effect [${Number((100 * (1 - result.settings.alpha)).toFixed(4))}% CI] | Detectable | Adjusted interval | p | Adjusted p | Verdict | Equivalence | Arrows to consider |`);
+    out.push(`| # | Claim | n | Test | Effect [${formatLevel(1 - result.settings.alpha)} CI] | Detectable | Adjusted interval | p | Adjusted p | Verdict | Equivalence | Arrows to consider |`);
     out.push("|--:|:--|--:|:--|--:|--:|--:|--:|--:|:--|:--|:--|");
     for (const r of t.claimRows) {
       const verdict = (r.verdict === "contradicted" ? "**contradicted**" : "consistent") + (r.undecided ? ` (${e(r.undecided)})` : "");

@@ -12,7 +12,7 @@
 import type { AuditResult, Claim, TestedClaim, TestName, UntestableClaim } from "../audit/types.js";
 import { DEFAULT_MARGIN } from "../audit/equivalence.js";
 import { escapeControlCharacters, escapeTerminal } from "./escapeTerminal.js";
-import { asciiName, claimLabel, formatCount, formatEffectWithCI, formatP, formatPInline, formatStatistic } from "./format.js";
+import { asciiName, claimLabel, formatCount, formatEffectWithCI, formatLevel, formatP, formatPInline, formatStatistic } from "./format.js";
 
 export interface TextOptions {
   ascii?: boolean;
@@ -275,11 +275,6 @@ function monteCarloLines(r: AuditResult): string[] {
   return out;
 }
 
-/** A confidence level as a percentage without trailing zeros: 0.95 → "95%", 0.999 → "99.9%". */
-function levelText(level: number): string {
-  return `${Number((100 * level).toFixed(4))}%`;
-}
-
 /**
  * The groups line: verdict crossed with the equivalence test (margin ±m), in words a methods
  * section can use; undefined without tested claims.
@@ -305,7 +300,7 @@ function intervalNote(r: AuditResult, disagree: readonly TestedClaim[]): string 
   const which = disagree.slice(0, 5).map((c) => `#${c.rank}`).join(", ") + (disagree.length > 5 ? ", ..." : "");
   const basis = s.adjust === "none" ? `unadjusted p < ${s.alpha}` : `${s.adjust === "holm" ? "Holm" : "Benjamini-Hochberg"}-adjusted p-values`;
   const floor = s.min_effect > 0 ? ` and the relevance floor ${s.min_effect}` : "";
-  return `note: the intervals are unadjusted ${levelText(1 - s.alpha)} intervals and the verdicts use ${basis}${floor}, so an interval and its verdict can disagree (${which}); the report also shows each claim's interval at its adjusted level`;
+  return `note: the intervals are unadjusted ${formatLevel(1 - s.alpha)} intervals and the verdicts use ${basis}${floor}, so an interval and its verdict can disagree (${which}); the report also shows each claim's interval at its adjusted level`;
 }
 
 /** Escaped copies of the strings of a result that the test text prints (names are escaped by the name style). */
@@ -344,7 +339,7 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   if (r.variables.some((v) => v.type_source === "inferred")) out.push(...wrap(src && src.kind !== "sites" ? "  * assumed continuous (a matrix holds one score per variable); declare categorical ones with --types" : src ? "  * type inferred from the values at the sites; declare it with summarize --types at every site if wrong" : "  * type inferred from the values; declare with --types if wrong", width, "    "));
   out.push("");
 
-  const head = ["#", "claim", "n", "test", `effect [${levelText(1 - r.settings.alpha)} CI]`, "detect.", "p", "p adj", "verdict"];
+  const head = ["#", "claim", "n", "test", `effect [${formatLevel(1 - r.settings.alpha)} CI]`, "detect.", "p", "p adj", "verdict"];
   const cells = r.claims.map((c) => [
     String(c.rank),
     "",
@@ -388,7 +383,7 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
     const w = String(r.claims.length).length;
     const indent = " ".repeat(w + 2);
     const style = nameStyle(names, nameRoom(width - indent.length), ascii);
-    out.push(...wrap(`ranked claims (verdict; effect [${levelText(1 - r.settings.alpha)} CI]; detectable; p; adjusted p; n; test):`, width, "  "));
+    out.push(...wrap(`ranked claims (verdict; effect [${formatLevel(1 - r.settings.alpha)} CI]; detectable; p; adjusted p; n; test):`, width, "  "));
     r.claims.forEach((c, k) => {
       const label = claimLines(c, width - indent.length, style);
       const row = cells[k]!;
