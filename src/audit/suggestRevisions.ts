@@ -117,11 +117,14 @@ export function suggestRevisions(graph: Graph, table: Table, options: SuggestOpt
     }
     const edges = candidateEdges(current, before);
     const candidates: RevisionCandidate[] = [];
+    // each candidate's graph and audit, so the chosen one is not built and audited again
+    const audited = new Map<string, { graph: Graph; result: AuditResult }>();
     edges.forEach((e, k) => {
       options.onCandidate?.(step, k + 1, edges.length);
       const g = withEdge(current, e);
       if (!g) return;
       const r = audit(g);
+      audited.set(e.text, { graph: g, result: r });
       const s = scoreOf(r, bic.fit(g));
       const after = new Set(contradicted(r).map(pairKey));
       candidates.push({
@@ -143,8 +146,7 @@ export function suggestRevisions(graph: Graph, table: Table, options: SuggestOpt
       break;
     }
     steps.push({ step, candidates, chosen: best });
-    current = withEdge(current, edges.find((e) => e.text === best.change)!)!;
-    result = audit(current);
+    ({ graph: current, result } = audited.get(best.change)!);
     score = best.score;
   }
   return {
