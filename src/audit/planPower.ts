@@ -22,6 +22,7 @@ import { deriveClaims, type ClaimSets } from "../graph/deriveClaims.js";
 import type { VariableType } from "../data/Table.js";
 import { chiSquareSampleSize, correlationSampleSize, detectableChiSquareEffect, detectableCorrelation } from "../stats/power.js";
 import { DEFAULT_POWER, detectableAlpha } from "./detectable.js";
+import { chooseMethod } from "./methods/index.js";
 import type { AuditSettings, UntestableClaim } from "./types.js";
 
 /** Levels assumed for a categorical variable whose count is not given. */
@@ -85,26 +86,27 @@ export function planPower(graph: Graph, options: PowerPlanOptions): PowerPlan {
   const derived = deriveClaims(graph, { sets });
   const a = detectableAlpha({ alpha, adjust }, derived.claims.length);
   const claims = derived.claims.map((c): PlannedClaim => {
-    const all = [c.x, c.y, ...c.given];
-    const anyContinuous = all.some((v) => typeOf(v) === "continuous");
+    // the test --method auto picks from the declared types (audit/methods/index.ts chooseMethod)
+    const method = chooseMethod("auto", { x: typeOf(c.x), y: typeOf(c.y), given: c.given.map(typeOf) }).name;
     const nominalSide = typeOf(c.x) === "nominal" || typeOf(c.y) === "nominal";
     const pairDf = (levelsOf(c.x) - 1 || 1) * (levelsOf(c.y) - 1 || 1);
     let test: PlannedClaim["test"];
     let df: number;
     let p = 0;
-    if (anyContinuous && !nominalSide) {
+    if (method === "linear-by-linear") {
+      test = "linear-by-linear";
+      df = 1;
+    } else if (method === "stratified-chisq") {
+      test = "chi-square";
+      df = pairDf * c.given.reduce((s, v) => s * levelsOf(v), 1);
+    } else if (nominalSide) {
+      // the default test's chi-square analogue for a nominal side
+      test = "chi-square";
+      df = pairDf;
+    } else {
       test = "partial correlation";
       for (const s of c.given) p += typeOf(s) === "continuous" ? 1 : levelsOf(s) - 1;
       df = n - 2 - p;
-    } else if (anyContinuous) {
-      test = "chi-square";
-      df = pairDf;
-    } else if (typeOf(c.x) === "ordinal" && typeOf(c.y) === "ordinal") {
-      test = "linear-by-linear";
-      df = 1;
-    } else {
-      test = "chi-square";
-      df = pairDf * c.given.reduce((s, v) => s * levelsOf(v), 1);
     }
     const correlation = test === "partial correlation";
     const detectable = correlation ? (df >= 2 ? detectableCorrelation(df, a, power) : null) : detectableChiSquareEffect(df, n, a, power);
