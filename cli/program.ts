@@ -150,16 +150,16 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       state.code = await runDraw(io, graph, opts);
     });
 
-  auditOptions(
+  summaryOptions(auditOptions(
     program
       .command("suggest")
       .description("propose arrows or shared causes that explain contradicted claims, greedily, with the revised graph (data-guided: needs subject-matter justification)")
       .argument("<graph>", "graph file")
-      .argument("<data>", "data file")
+      .argument("[data]", "data file; omitted with --correlations or --covariance")
       .option("--max-additions <k>", "most arrows or shared causes to add, one per step", numberIn("--max-additions", 1, 50, true), 3)
       .option("--out <file>", "write the revised graph (arrowaudit's graph format, each change with a comment)")
       .option("--json", "print the steps, candidates and revised graph as one JSON document", false),
-  ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
+  )).action(async (graph: string, data: string | undefined, opts: Record<string, unknown>) => {
     state.code = await runSuggest(io, graph, data, opts);
   });
 

@@ -11,22 +11,30 @@ import { inputName, isStreamInput } from "../readStdin.js";
 import { writeOutputs } from "../writeOutputs.js";
 import { loadAuditInputs, settingsFrom } from "./test.js";
 import { isSiteSummaryFile } from "../loadSiteSummaries.js";
+import { checkSummaryUsage, dataInputs, isSummaryInput, loadSummaryInputs } from "../loadSummary.js";
 import { UsageError } from "../../src/errors.js";
 
 /**
  * `arrowaudit suggest <graph> <data> [--max-additions 3] [--out revised.txt] [--json]`: greedy
  * data-guided revisions (src/audit/suggestRevisions.ts), the revised graph with a comment per
- * change, and the caution.
+ * change, and the caution. The data may be a correlation or covariance matrix in place of rows
+ * (`--correlations m.csv --n N`, as for `test`): every candidate then gets the partial-correlation test.
  */
-export async function runSuggest(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<number> {
+export async function runSuggest(io: Io, graphPath: string, dataPath: string | undefined, opts: Record<string, unknown>): Promise<number> {
   const out = typeof opts.out === "string" ? opts.out : undefined;
-  if (out !== undefined) refuseOverwritingInputs(io, [{ path: out, role: `--out ${out}` }], [{ path: graphPath, role: "graph file" }, { path: dataPath, role: "data file" }]);
-  if (isSiteSummaryFile(io, dataPath)) throw new UsageError(`${dataPath} is a site summary; suggest re-audits candidate graphs, whose claims a summary of another graph does not hold, so it needs the rows`);
-  const { graph, table } = await loadAuditInputs(io, graphPath, dataPath, opts);
+  const fromMatrix = isSummaryInput(opts);
+  if (fromMatrix) checkSummaryUsage(dataPath, opts);
+  else if (dataPath === undefined) throw new UsageError("missing the data file: give a data file, or --correlations or --covariance with --n");
+  if (out !== undefined) refuseOverwritingInputs(io, [{ path: out, role: `--out ${out}` }], [{ path: graphPath, role: "graph file" }, ...dataInputs(dataPath, opts)]);
+  if (dataPath !== undefined && isSiteSummaryFile(io, dataPath)) throw new UsageError(`${dataPath} is a site summary; suggest re-audits candidate graphs, whose claims a summary of another graph does not hold, so it needs the rows (or a correlation or covariance matrix)`);
+  const { graph, data } = fromMatrix
+    ? await loadSummaryInputs(io, graphPath, opts).then(({ graph, input }) => ({ graph, data: input }))
+    : await loadAuditInputs(io, graphPath, dataPath!, opts).then(({ graph, table }) => ({ graph, data: table }));
+  const dataName = fromMatrix ? inputName(dataInputs(undefined, opts)[0]!.path) : inputName(dataPath!);
   const status = statusLine(io, !!opts.quiet);
   let s: Suggestions;
   try {
-    s = suggestRevisions(graph, table, {
+    s = suggestRevisions(graph, data, {
       settings: settingsFrom(opts),
       version: toolVersion(),
       maxAdditions: opts.maxAdditions as number,
@@ -37,12 +45,12 @@ export async function runSuggest(io: Io, graphPath: string, dataPath: string, op
   }
   // the revised graph: the original text with the changes appended (its comments kept), or, for DOT or standard input, the graph written out
   const arrowsText = !isStreamInput(io, graphPath) && !/\.(dot|gv)$/iu.test(graphPath) && opts.format !== "dot" ? new TextDecoder().decode(readInput(graphPath, io.cwd, "graph file")) : undefined;
-  const revised = revisedGraphText(s, graph, arrowsText, inputName(graphPath), inputName(dataPath));
+  const revised = revisedGraphText(s, graph, arrowsText, inputName(graphPath), dataName);
   if (out !== undefined) writeOutputs(io, [{ path: out, content: revised }]);
   if (opts.json) {
     io.stdout(
       JSON.stringify(
-        { tool: { name: "arrowaudit", version: toolVersion() }, graph: inputName(graphPath), data: inputName(dataPath), settings: { ...settingsFrom(opts), max_additions: opts.maxAdditions }, start: s.start, steps: s.steps, ...(s.unapplied ? { unapplied: s.unapplied } : {}), stopped: s.stopped, ...(s.bic_note ? { bic_note: s.bic_note } : {}), revised_graph: revised, caution: s.caution },
+        { tool: { name: "arrowaudit", version: toolVersion() }, graph: inputName(graphPath), data: dataName, ...(fromMatrix ? { data_source: { kind: opts.correlations !== undefined ? "correlations" : "covariance", n: opts.n } } : {}), settings: { ...settingsFrom(opts), ...(fromMatrix ? { method: "linear" } : {}), max_additions: opts.maxAdditions }, start: s.start, steps: s.steps, ...(s.unapplied ? { unapplied: s.unapplied } : {}), stopped: s.stopped, ...(s.bic_note ? { bic_note: s.bic_note } : {}), revised_graph: revised, caution: s.caution },
         null,
         2,
       ) + "\n",

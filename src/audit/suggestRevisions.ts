@@ -23,7 +23,7 @@ import type { Graph } from "../graph/Graph.js";
 import type { Table } from "../data/Table.js";
 import { fitGaussianSem } from "../stats/gaussianSem.js";
 import { quoteName, repairArrows } from "./repairArrows.js";
-import { runAudit, type AuditOptions } from "./runAudit.js";
+import { runAudit, runAuditOnSummary, type AuditOptions, type SummaryAuditInput } from "./runAudit.js";
 import type { AuditResult, TestedClaim } from "./types.js";
 
 /** The caution every output of `suggest` carries. */
@@ -91,17 +91,24 @@ export interface Suggestions {
  * Cost: per step, one audit per candidate (about three per contradicted pair), each the cost of
  * `runAudit` on the candidate graph less the claims already tested (their results are cached
  * by claim), plus an RICF fit per candidate for the BIC.
- * @throws whatever runAudit throws for the starting graph (e.g. too many claims)
+ * `data` is a table of rows, or summary statistics (a covariance or correlation matrix and its n,
+ * `runAuditOnSummary`): then every candidate is audited with the partial-correlation test, and the
+ * BIC is that of the matrix (scaled to unit diagonal, which shifts every graph's BIC by the same
+ * constant, so the differences are those of the original units).
+ * @throws whatever runAudit (or runAuditOnSummary) throws for the starting graph (e.g. too many claims)
  * @example suggestRevisions(graph, table, { maxAdditions: 1 }).steps[0]?.chosen.change // "bmi -> sbp"
  */
-export function suggestRevisions(graph: Graph, table: Table, options: SuggestOptions = {}): Suggestions {
+export function suggestRevisions(graph: Graph, data: Table | SummaryAuditInput, options: SuggestOptions = {}): Suggestions {
   const maxAdditions = options.maxAdditions ?? 3;
   if (!(Number.isInteger(maxAdditions) && maxAdditions >= 1)) throw new RangeError(`maxAdditions must be a whole number of at least 1, got ${maxAdditions}`);
   // every candidate graph shares most of its claims with the graph before it: their results are reused
   const claimCache = options.claimCache ?? new Map();
   const momentsCache = options.momentsCache ?? new Map();
-  const audit = (g: Graph): AuditResult => runAudit(g, table, { ...options, claimCache, momentsCache });
-  const bic = bicModel(graph, table);
+  const summary = isSummaryInput(data) ? data : undefined;
+  const audit = summary
+    ? (g: Graph): AuditResult => runAuditOnSummary(g, summary, options)
+    : (g: Graph): AuditResult => runAudit(g, data as Table, { ...options, claimCache, momentsCache });
+  const bic = summary ? summaryBicModel(graph, summary) : bicModel(graph, data as Table);
   let current = graph;
   let result = audit(current);
   let score = scoreOf(result, bic.fit(current));
@@ -236,23 +243,27 @@ function compareCandidates(a: RevisionCandidate, b: RevisionCandidate): number {
   return 0;
 }
 
+/** Whether the data are summary statistics rather than rows. */
+function isSummaryInput(data: Table | SummaryAuditInput): data is SummaryAuditInput {
+  return "source" in data && "moments" in data;
+}
+
 /**
  * The BIC of a graph's linear Gaussian structural model on the rows complete on every measured
  * variable, when it applies: every measured variable continuous, no unmeasured node, and no pair
  * joined by both an arrow and `<->` (a bow, whose parameters are not identified).
  */
-function bicModel(graph: Graph, table: Table): { fit: (g: Graph) => number | undefined; note?: string } {
+function bicModel(graph: Graph, table: Table): BicModel {
   const names = graph.nodes.filter((n) => graph.isMeasured(n));
-  const none = (note: string) => ({ fit: () => undefined, note });
-  if (names.length !== graph.nodes.length) return none("the graph has unmeasured nodes, so the BIC of the structural model (which would need them) is not computed");
+  if (names.length !== graph.nodes.length) return noBic(UNMEASURED_NOTE);
   const cols = names.map((n) => table.column(n));
-  if (cols.some((c) => !c || c.type !== "continuous")) return none("not every variable is continuous, so the BIC of the linear Gaussian structural model is not computed");
+  if (cols.some((c) => !c || c.type !== "continuous")) return noBic(NOT_CONTINUOUS_NOTE);
   const values = cols.map((c) => c!.values);
   const rows: number[] = [];
   for (let r = 0; r < table.rows; r++) if (values.every((v) => v[r] === v[r])) rows.push(r);
   const n = rows.length;
   const p = names.length;
-  if (n <= p + 1) return none(`only ${n} rows are complete on every variable, too few for the BIC of the structural model`);
+  if (n <= p + 1) return noBic(`only ${n} rows are complete on every variable, too few for the BIC of the structural model`);
   const means = values.map((v) => rows.reduce((s, r) => s + v[r]!, 0) / n);
   const S = new Float64Array(p * p);
   for (let a = 0; a < p; a++) for (let b = 0; b <= a; b++) {
@@ -260,6 +271,43 @@ function bicModel(graph: Graph, table: Table): { fit: (g: Graph) => number | und
     for (const r of rows) s += (values[a]![r]! - means[a]!) * (values[b]![r]! - means[b]!);
     S[a * p + b] = S[b * p + a] = s / n;
   }
+  return semBic(names, S, n);
+}
+
+/**
+ * {@link bicModel} from summary statistics: the matrix of the measured variables (as the audit
+ * reads it, scaled to unit diagonal) times (n − 1)/n, the maximum-likelihood covariance of n
+ * complete cases when the matrix is the usual (n − 1)-divisor one.
+ */
+function summaryBicModel(graph: Graph, input: SummaryAuditInput): BicModel {
+  const names = graph.nodes.filter((n) => graph.isMeasured(n));
+  if (names.length !== graph.nodes.length) return noBic(UNMEASURED_NOTE);
+  if (names.some((v) => input.table.column(v)?.type !== "continuous")) return noBic(NOT_CONTINUOUS_NOTE);
+  const dead = names.find((v) => input.untestableVariables?.has(v));
+  if (dead !== undefined) return noBic(`"${dead}" has variance 0 in the matrix, so the structural model has no likelihood`);
+  const n = input.moments.completeRows;
+  const p = names.length;
+  if (n <= p + 1) return noBic(`n = ${n} is too few for the BIC of the structural model of ${p} variables`);
+  const cov = input.moments.momentsFor(names).cov;
+  const S = Float64Array.from(cov, (v) => (v * (n - 1)) / n);
+  return semBic(names, S, n);
+}
+
+interface BicModel {
+  fit: (g: Graph) => number | undefined;
+  note?: string;
+}
+
+const UNMEASURED_NOTE = "the graph has unmeasured nodes, so the BIC of the structural model (which would need them) is not computed";
+const NOT_CONTINUOUS_NOTE = "not every variable is continuous, so the BIC of the linear Gaussian structural model is not computed";
+
+function noBic(note: string): BicModel {
+  return { fit: () => undefined, note };
+}
+
+/** The BIC of each graph's structural model fitted to the maximum-likelihood covariance S (p × p, row-major) of n cases. */
+function semBic(names: readonly string[], S: Float64Array, n: number): BicModel {
+  const p = names.length;
   const index = new Map(names.map((nm, i) => [nm, i]));
   return {
     fit: (g: Graph): number | undefined => {

@@ -11,6 +11,8 @@ import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
 import { suggestRevisions } from "../../src/audit/suggestRevisions.js";
 import { runAudit } from "../../src/audit/runAudit.js";
+import { createSummaryData } from "../../src/data/summaryData.js";
+import { sampleCorrelation } from "simple-statistics";
 import { createTable } from "../../src/data/createTable.js";
 import { simulateFromGraph } from "../../src/data/simulateFromGraph.js";
 import { parseGraph } from "../../src/graph/parseGraph.js";
@@ -99,6 +101,52 @@ describe("suggestRevisions", () => {
   }, 60_000);
 });
 
+describe("suggestRevisions from a correlation matrix", () => {
+  // The matrix is the rows' Pearson correlation matrix computed by simple-statistics (a
+  // general-purpose library, not our moments), with n the rows; a matrix audit is the
+  // partial-correlation test of complete cases, so it must agree with the rows' audit under
+  // --method linear --listwise claim for claim, and its BIC differences with the rows' (the
+  // matrix's unit scale shifts every graph's BIC by one constant).
+  it("ranks the same candidates, with the same counts, Fisher's C p (1e-9) and BIC changes (1e-6), as the rows under --method linear", () => {
+    const truth = "a -> y\nb -> y\nx -> y\ny -> z\n";
+    const drawn = parseGraph("a -> y\nb -> y\ny -> z\nx\n").graph;
+    const data = simulateFromGraph(parseGraph(truth).graph, { n: 1500, seed: 31, effects: 0.4, coefficients: { "x -> y": 0.25 } });
+    const names = data.columns.map((c) => c.name);
+    const values = data.columns.map((c) => Array.from(c.values as ArrayLike<number>));
+    const m = names.length;
+    const cor = new Float64Array(m * m);
+    for (let a = 0; a < m; a++) for (let b = 0; b < m; b++) cor[a * m + b] = a === b ? 1 : sampleCorrelation(values[a]!, values[b]!);
+    const summary = { ...createSummaryData(names, cor, 1500, {}, "r.csv"), source: { kind: "correlations" as const, n: 1500 } };
+    const table = createTable(Object.fromEntries(data.columns.map((c) => [c.name, c.values])));
+    const fromRows = suggestRevisions(drawn, table, { maxAdditions: 2, settings: { method: "linear", listwise: true } });
+    const fromMatrix = suggestRevisions(drawn, summary, { maxAdditions: 2 });
+    expect(fromMatrix.start.contradicted).toBe(fromRows.start.contradicted);
+    expect(fromMatrix.start.contradicted).toBeGreaterThan(0);
+    expect(fromMatrix.steps.map((s) => s.chosen.change)).toEqual(fromRows.steps.map((s) => s.chosen.change));
+    expect(fromMatrix.steps[0]!.chosen.change).toBe("x -> y");
+    expect(fromMatrix.stopped).toBe(fromRows.stopped);
+    fromMatrix.steps.forEach((step, i) => {
+      const rowStep = fromRows.steps[i]!;
+      expect(step.candidates.map((c) => c.change)).toEqual(rowStep.candidates.map((c) => c.change));
+      step.candidates.forEach((c, k) => {
+        const r = rowStep.candidates[k]!;
+        expect(c.score.contradicted).toBe(r.score.contradicted);
+        expect(c.score.fisher_c_p).toBeCloseTo(r.score.fisher_c_p, 9);
+        expect(c.delta_bic!).toBeCloseTo(r.delta_bic!, 6);
+        expect(c.explains).toEqual(r.explains);
+      });
+    });
+  });
+
+  it("no BIC, with the reason, when the matrix declares a variable binary", () => {
+    const cor = Float64Array.from([1, 0.3, 0.3, 1]);
+    const summary = { ...createSummaryData(["x", "y"], cor, 400, { y: "binary" }, "r.csv"), source: { kind: "correlations" as const, n: 400 } };
+    const s = suggestRevisions(parseGraph("x\ny\n").graph, summary, { maxAdditions: 1 });
+    expect(s.start.contradicted).toBe(1);
+    expect(s.bic_note).toMatch(/not every variable is continuous/);
+  });
+});
+
 describe("the claim cache that suggest uses", () => {
   it("an audit with results cached from another graph equals the audit without them, field by field", () => {
     const t = tableOf("a -> y\nx -> y\ny -> z\nw -> z\n", 1500, 21, 0.3);
@@ -157,6 +205,39 @@ describe("arrowaudit suggest", () => {
   it("refuses --out onto an input (exit 2) and --max-additions 0 (exit 1)", async () => {
     expect((await runCli(["suggest", "g.txt", "d.csv", "--out", "g.txt"], { cwd: work })).code).toBe(2);
     expect((await runCli(["suggest", "g.txt", "d.csv", "--max-additions", "0"], { cwd: work })).code).toBe(1);
+  });
+});
+
+describe("arrowaudit suggest from a correlation matrix", () => {
+  it("suggest g.txt --correlations m.csv --n N finds the omitted x -> y of the simulated truth; the JSON names the matrix", async () => {
+    const truth = "a -> y\nx -> y\ny -> z\n";
+    const data = simulateFromGraph(parseGraph(truth).graph, { n: 2000, seed: 9, effects: 0.3 });
+    const names = data.columns.map((c) => c.name);
+    const values = data.columns.map((c) => Array.from(c.values as ArrayLike<number>));
+    // the matrix a paper would print: correlations by simple-statistics, rounded to 6 decimals
+    const lines = [["", ...names].join(","), ...names.map((v, a) => [v, ...names.map((_, b) => (a === b ? "1" : sampleCorrelation(values[a]!, values[b]!).toFixed(6)))].join(","))];
+    writeFileSync(join(work, "m.csv"), lines.join("\n") + "\n");
+    writeFileSync(join(work, "gm.txt"), "a -> y\ny -> z\nx\n");
+    const r = await runCli(["suggest", "gm.txt", "--correlations", "m.csv", "--n", "2000", "--json", "--quiet"], { cwd: work });
+    expect(r.code, r.stderr).toBe(0);
+    const j = JSON.parse(r.stdout);
+    expect(j.data).toBe("m.csv");
+    expect(j.data_source).toEqual({ kind: "correlations", n: 2000 });
+    expect(j.settings.method).toBe("linear");
+    expect(j.steps[0].chosen.change).toBe("x -> y");
+    expect(j.revised_graph).toContain("from m.csv (data-guided)");
+  });
+
+  it("usage errors: no data at all, a data file with --correlations, and an option that reads rows (exit 1)", async () => {
+    const none = await runCli(["suggest", "gm.txt"], { cwd: work });
+    expect(none.code).toBe(1);
+    expect(none.stderr).toContain("missing the data file");
+    const both = await runCli(["suggest", "gm.txt", "d.csv", "--correlations", "m.csv", "--n", "2000"], { cwd: work });
+    expect(both.code).toBe(1);
+    expect(both.stderr).toContain("--correlations replaces the data file");
+    const rows = await runCli(["suggest", "gm.txt", "--correlations", "m.csv", "--n", "2000", "--listwise"], { cwd: work });
+    expect(rows.code).toBe(1);
+    expect(rows.stderr).toContain("--listwise selects rows");
   });
 });
 
