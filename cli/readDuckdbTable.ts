@@ -54,7 +54,7 @@ export interface DuckdbSource {
 }
 
 /** DuckDB type names read as numbers; every other type is read as text. */
-const NUMERIC_TYPES = /^(TINYINT|SMALLINT|INTEGER|BIGINT|HUGEINT|UTINYINT|USMALLINT|UINTEGER|UBIGINT|UHUGEINT|FLOAT|DOUBLE|DECIMAL(\(\d+,\s*\d+\))?)$/u;
+export const NUMERIC_TYPES = /^(TINYINT|SMALLINT|INTEGER|BIGINT|HUGEINT|UTINYINT|USMALLINT|UINTEGER|UBIGINT|UHUGEINT|FLOAT|DOUBLE|DECIMAL(\(\d+,\s*\d+\))?)$/u;
 
 /** A SQL string literal. */
 const literal = (s: string): string => `'${s.replace(/'/g, "''")}'`;
@@ -67,6 +67,8 @@ export const identifier = (s: string): string => `"${s.replace(/"/g, '""')}"`;
  */
 export interface DuckdbSession {
   connection: DuckDBConnection;
+  /** The instance, for more connections (queries on two connections run in parallel). */
+  instance: DuckDBInstance;
   /** The FROM clause that reads the source (a table function call or a qualified table name). */
   from: string;
   close(): void;
@@ -78,7 +80,7 @@ export interface DuckdbSession {
  * Cost: about 0.3 s the first time (loading DuckDB), then O(1).
  * @throws InputError naming the file when DuckDB cannot open it or the table is not there
  */
-export async function openDuckdbSession(source: DuckdbSource, csvOptions = ""): Promise<DuckdbSession> {
+export async function openDuckdbSession(source: DuckdbSource, csvOptions = "", threads?: number): Promise<DuckdbSession> {
   const { DuckDBInstance } = await import("@duckdb/node-api");
   const spill = mkdtempSync(join(tmpdir(), "arrowaudit-duckdb-"));
   let instance: DuckDBInstance | undefined;
@@ -89,7 +91,7 @@ export async function openDuckdbSession(source: DuckdbSource, csvOptions = ""): 
     rmSync(spill, { recursive: true, force: true });
   };
   try {
-    instance = await DuckDBInstance.create(":memory:", { temp_directory: spill });
+    instance = await DuckDBInstance.create(":memory:", { temp_directory: spill, ...(threads !== undefined ? { threads: String(threads) } : {}) });
     connection = await instance.connect();
     let from: string;
     if (source.format === "parquet") from = `read_parquet(${literal(source.path)})`;
@@ -119,7 +121,7 @@ export async function openDuckdbSession(source: DuckdbSource, csvOptions = ""): 
       const [schema, table] = tables[j]!;
       from = `src.${identifier(schema)}.${identifier(table)}`;
     }
-    return { connection, from, close };
+    return { connection, instance, from, close };
   } catch (e) {
     close();
     throw e;
@@ -127,7 +129,7 @@ export async function openDuckdbSession(source: DuckdbSource, csvOptions = ""): 
 }
 
 /** The source's fields and their DuckDB type names. @throws InputError naming the file when DuckDB cannot read it */
-async function describe(session: DuckdbSession, source: DuckdbSource): Promise<{ name: string; type: string }[]> {
+export async function describe(session: DuckdbSession, source: DuckdbSource): Promise<{ name: string; type: string }[]> {
   try {
     const rows = (await session.connection.runAndReadAll(`DESCRIBE SELECT * FROM ${session.from}`)).getRows();
     return rows.map((r) => ({ name: String(r[0]), type: String(r[1]) }));
@@ -137,7 +139,7 @@ async function describe(session: DuckdbSession, source: DuckdbSource): Promise<{
 }
 
 /** The error for a source DuckDB cannot read, naming the file and DuckDB's reason. */
-function unreadable(source: DuckdbSource, e: unknown): InputError {
+export function unreadable(source: DuckdbSource, e: unknown): InputError {
   const what = source.format === "parquet" ? "Parquet file" : source.format === "csv" ? "delimited text file" : "database table";
   return new DataError(`${source.name}: DuckDB cannot read this ${what} (${firstLine(e)}); check that the file is complete and of that format, or read it with --engine memory if it is delimited text`, { file: source.name });
 }

@@ -21,6 +21,7 @@ import { findCountsColumn } from "../countsColumn.js";
 import { expandCounts } from "../../src/data/expandCounts.js";
 import { UsageError } from "../../src/errors.js";
 import { auditSites, isSiteSummaryFile } from "../loadSiteSummaries.js";
+import { auditFromDuckdbMoments } from "../duckdbMomentsAudit.js";
 
 /** Audit settings from parsed command-line options. */
 export function settingsFrom(opts: Record<string, unknown>): Partial<AuditSettings> {
@@ -46,6 +47,9 @@ export async function audit(io: Io, graphPath: string, dataPath: string | undefi
   // several data arguments, or one site summary: pool the sites (the kind is read from the content)
   if (dataPath !== undefined && (moreData.length > 0 || isSiteSummaryFile(io, dataPath))) return auditSites(io, graphPath, [dataPath, ...moreData], opts, settingsFrom(opts));
   if (dataPath === undefined) throw new UsageError("missing the data file: give a data file, or --correlations or --covariance with --n");
+  // --method linear on a Parquet file or DuckDB table: the moments from SQL, no rows loaded (undefined when the run does not qualify)
+  const rowsFree = await auditFromDuckdbMoments(io, graphPath, dataPath, opts, settingsFrom(opts), toolVersion());
+  if (rowsFree) return rowsFree;
   const { graph, table } = await loadAuditInputs(io, graphPath, dataPath, opts);
   const bar = progressBar(io, !!opts.quiet);
   try {

@@ -290,6 +290,41 @@ export function runAuditOnSummary(graph: Graph, input: SummaryAuditInput, option
   return finishAudit(graph, table, plan, results, forced);
 }
 
+/** Pattern moments computed where the data live (`data/patternSumsMoments.ts`), with a table description and the checks made there. */
+export interface MomentsAuditInput {
+  /** The variables' types, rows and missing counts; no row values. */
+  table: Table;
+  /** The moments of every measured variable's score by missing-data pattern. */
+  moments: PatternMoments;
+  /** Variables no claim can use, with the reason (no observed value, constant), as the row checks word them ({@link constantReason}). */
+  untestableVariables: ReadonlyMap<string, string>;
+}
+
+/**
+ * {@link runAudit} with `--method linear` on pattern moments computed without the rows in memory
+ * (the DuckDB engine's rows-free path): every measured variable continuous or binary, so every
+ * claim is tested by the partial correlation of the scores (`pearson-partial`) from the moments,
+ * exactly as on rows. `settings.method` is recorded as "linear"; `listwise` must be off (the
+ * caller does not filter rows). Adjustment, verdicts and everything after are those of rows.
+ * Cost: per claim O(P·d² + d³), P patterns and d variables.
+ * @throws UnknownNodeError as {@link runAudit}; RangeError for a nominal or ordinal variable or `listwise`
+ * @example runAuditOnMoments(graph, { table, moments, untestableVariables: new Map() }).claims
+ */
+export function runAuditOnMoments(graph: Graph, input: MomentsAuditInput, options: AuditOptions = {}): AuditResult {
+  if (options.settings?.listwise) throw new RangeError("runAuditOnMoments: listwise deletion needs the rows; filter them where the moments are computed");
+  const odd = input.table.columns.filter((c) => c.type !== "continuous" && c.type !== "binary");
+  if (odd.length > 0) throw new RangeError(`runAuditOnMoments: ${odd.map((c) => `"${c.name}" (${c.type})`).join(", ")} would need level indicators; only continuous and binary variables are tested from score moments`);
+  const forced: AuditOptions = { ...options, settings: { ...options.settings, method: "linear", listwise: false } };
+  const claimPlan = planClaims(graph, input.table, forced, input.untestableVariables);
+  const plan = withBuiltMoments(claimPlan, input.table, input.moments);
+  const results = plan.claims.map((claim, i) => {
+    const r = precheck(claim, plan.constant) ?? testClaimMethod(claim, plan.ctx, plan.settings);
+    options.onProgress?.(i + 1, plan.claims.length);
+    return r;
+  });
+  return finishAudit(graph, input.table, plan, results, forced);
+}
+
 /** Data without rows whose claims a caller tests itself (`poolSiteSummaries`): a table description, moments for the record, where they came from, and the test. */
 export interface ClaimTesterInput {
   table: Table;
@@ -760,10 +795,22 @@ function constantColumns(table: Table, names: readonly string[], rowFilter?: Uin
         break;
       }
     }
-    if (distinct === 0) out.set(name, `"${name}" has no observed values${rowFilter ? " among the listwise-complete rows" : ""}`);
-    else if (distinct === 1) out.set(name, `"${name}" is constant (every observed value is ${formatValue(table, name, first)}), so it carries no information`);
+    const why = constantReason(table, name, distinct, first, rowFilter !== undefined);
+    if (why) out.set(name, why);
   }
   return out;
+}
+
+/**
+ * Why a variable with `distinct` (0, 1, or 2 meaning more) observed values cannot be tested, or
+ * undefined; `first` is its one value when constant. The wording of the row checks, shared with
+ * callers that count values elsewhere ({@link runAuditOnMoments}). Cost: O(1).
+ * @example constantReason(table, "sex", 1, 0, false) // "\"sex\" is constant (every observed value is 0), so it carries no information"
+ */
+export function constantReason(table: Table, name: string, distinct: number, first: number, listwise: boolean): string | undefined {
+  if (distinct === 0) return `"${name}" has no observed values${listwise ? " among the listwise-complete rows" : ""}`;
+  if (distinct === 1) return `"${name}" is constant (every observed value is ${formatValue(table, name, first)}), so it carries no information`;
+  return undefined;
 }
 
 function formatValue(table: Table, name: string, v: number): string {
