@@ -18,6 +18,9 @@ import { parallelReadTable } from "../../cli/parallelReadTable.js";
 import { readDuckdbTable } from "../../cli/readDuckdbTable.js";
 import type { Table } from "../../src/data/Table.js";
 import { mulberry32 } from "../../src/stats/mulberry32.js";
+import { momentsFromDuckdb, ROWS_FREE_WARNING } from "../../cli/duckdbMomentsAudit.js";
+import { createGraph } from "../../src/graph/createGraph.js";
+import type { VariableType } from "../../src/data/Table.js";
 import { runCli } from "../helpers/runCli.js";
 
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-duckdb-"));
@@ -320,5 +323,100 @@ describe("chooseEngine", () => {
     expect(chooseEngine("auto", "csv", 1e12, "a.csv")).toBe("memory");
     expect(chooseEngine("duckdb", "csv", 10, "a.csv")).toBe("duckdb");
     expect(chooseEngine("memory", "csv", 1e12, "a.csv")).toBe("memory");
+  });
+});
+
+// The rows-free linear audit (cli/duckdbMomentsAudit.ts): a seeded cohort of continuous and binary
+// variables with missing values in several patterns, whole-number and two-valued fractional
+// columns, a column with the sentinel code -9, a constant column and one entirely missing.
+function rowsFreeCsv(N: number): string {
+  const rng = mulberry32(20261204);
+  const gauss = () => Math.sqrt(-2 * Math.log(1 - rng())) * Math.cos(2 * Math.PI * rng());
+  const lines = ["age,smoker,sbp,chol,steps,dose,score,flat,empty"];
+  for (let i = 0; i < N; i++) {
+    const age = 50 + 10 * gauss();
+    const smoker = rng() < 0.3 + 0.01 * (age - 50) ? 1 : 0;
+    const sbp = 120 + 0.5 * age + 6 * smoker + 8 * gauss();
+    const chol = 5 + 0.02 * sbp + gauss();
+    const steps = Math.round(8000 + 1500 * gauss()); // whole numbers, many values: continuous
+    const dose = rng() < 0.4 ? 2.5 : 7.25; // two fractional values: binary
+    const score = rng() < 0.01 ? -9 : (30 + 3 * gauss() + 0.1 * chol).toFixed(3); // -9 far below the others: a sentinel warning
+    const cell = (v: string | number, p: number) => (rng() < p ? "" : String(v));
+    lines.push([cell(age.toFixed(3), 0.03), cell(smoker, 0.05), cell(sbp.toFixed(2), 0.04), cell(chol.toFixed(4), 0.06), cell(steps, 0.02), dose, cell(score, 0.03), 4, ""].join(","));
+  }
+  return lines.join("\n") + "\n";
+}
+const ROWS_FREE_GRAPH = "age -> smoker\nage, smoker -> sbp\nsbp -> chol\nsteps -> sbp\ndose -> chol\nchol -> score\nflat -> score\nempty -> age\n";
+
+describe("rows-free linear audit (DuckDB computes the moments)", () => {
+  beforeAll(async () => {
+    writeFileSync(at("rowsfree.csv"), rowsFreeCsv(4000));
+    writeFileSync(at("rowsfree-graph.txt"), ROWS_FREE_GRAPH);
+    // DOUBLE for every column (the all-empty one too), empty cells as NULL; small row groups so the two halves split inside the file
+    const typed = `SELECT * FROM read_csv(${sqlPath("rowsfree.csv")}, nullstr = [''], auto_type_candidates = ['DOUBLE'], types = {'empty': 'DOUBLE'})`;
+    await duckdb(
+      `COPY (${typed}) TO ${sqlPath("rowsfree.parquet")} (FORMAT parquet, ROW_GROUP_SIZE 700)`,
+      `ATTACH ${sqlPath("rowsfree.duckdb")} AS db`,
+      `CREATE TABLE db.cohort AS ${typed}`,
+      `DETACH db`,
+    );
+  });
+
+  const linearJson = async (data: string, ...extra: string[]) => {
+    const r = await runCli(["test", "rowsfree-graph.txt", data, "--json", "--quiet", "--method", "linear", ...extra], { cwd: work });
+    expect(r.stderr).toBe("");
+    expect(r.code).toBe(0);
+    return JSON.parse(r.stdout) as { claims: Record<string, unknown>[]; untestable: unknown[]; variables: unknown[]; warnings: string[]; data: Record<string, unknown> };
+  };
+
+  it("test --method linear on Parquet and on a DuckDB table (no rows loaded) equals the memory engine on the CSV to 1e-9 relative: statistics, p-values, intervals, n, missing counts, warnings", async () => {
+    const memory = await linearJson("rowsfree.csv"); // reference: the row path (memory engine) on the same values
+    // the cohort is what the test needs: several missing-data patterns, a binary 0/1 and a binary 2.5/7.25 variable, a sentinel warning, untestable variables
+    expect((memory.data.patterns as number)).toBeGreaterThan(10);
+    expect(memory.variables).toContainEqual(expect.objectContaining({ name: "dose", type: "binary", levels: ["2.5", "7.25"] }));
+    expect(memory.variables).toContainEqual(expect.objectContaining({ name: "steps", type: "continuous" }));
+    expect(memory.warnings.some((w) => w.includes('column "score" has') && w.includes("of -9"))).toBe(true);
+    expect(memory.untestable.length).toBeGreaterThan(0);
+    for (const data of ["rowsfree.parquet", "rowsfree.duckdb"]) {
+      const rowsFree = await linearJson(data);
+      expect(rowsFree.warnings.at(-1)).toBe(ROWS_FREE_WARNING); // the rows-free path ran
+      expect(rowsFree.warnings.slice(0, -1)).toEqual(memory.warnings);
+      expect(rowsFree.variables).toEqual(memory.variables);
+      expect(rowsFree.untestable).toEqual(memory.untestable);
+      expect({ ...rowsFree.data, file: undefined }).toEqual({ ...memory.data, file: undefined });
+      expectClose(rowsFree.claims, memory.claims, 1e-9);
+    }
+  });
+
+  it("momentsFromDuckdb types every column as the memory engine does (binary 0/1 and 2.5/7.25, whole-number and fractional continuous, constant, all missing), declared types too", async () => {
+    const columns = ["age", "smoker", "sbp", "chol", "steps", "dose", "score", "flat", "empty"];
+    const graph = createGraph({ nodes: columns });
+    for (const types of [{}, { smoker: "continuous", dose: "continuous" }, { flat: "binary" }] as Record<string, VariableType>[]) {
+      const memory = await parallelReadTable(at("rowsfree.csv"), { file: "rowsfree.csv", columns, types });
+      const viaSql = await momentsFromDuckdb({ path: at("rowsfree.parquet"), name: "rowsfree.csv", format: "parquet" }, graph, { file: "rowsfree.csv", columns, types });
+      expect(viaSql).toBeDefined();
+      const shape = (t: Table) => t.columns.map((c) => [c.name, c.type, c.typeSource, c.missing, c.type === "continuous" ? undefined : c.levels]);
+      expect(shape(viaSql!.table)).toEqual(shape(memory));
+      expect(viaSql!.table.rows).toBe(memory.rows);
+      expect(viaSql!.table.warnings).toEqual(memory.warnings);
+    }
+  });
+
+  it("a run with an ordinal variable (3 whole-number levels) does not qualify and reads the rows: the same result as the memory engine, without the rows-free warning", async () => {
+    writeFileSync(at("ordinal.csv"), "a,b,c\n" + Array.from({ length: 60 }, (_, i) => `${i % 3},${(i * 7) % 11}.5,${(i * 13) % 17}.25`).join("\n") + "\n");
+    await duckdb(`COPY (SELECT * FROM read_csv(${sqlPath("ordinal.csv")}, auto_type_candidates = ['DOUBLE'])) TO ${sqlPath("ordinal.parquet")} (FORMAT parquet)`);
+    writeFileSync(at("ordinal-graph.txt"), "a -> b\nb -> c\n");
+    const graph = createGraph({ nodes: ["a", "b", "c"] });
+    expect(await momentsFromDuckdb({ path: at("ordinal.parquet"), name: "ordinal.parquet", format: "parquet" }, graph, { columns: ["a", "b", "c"] })).toBeUndefined();
+    const run = async (data: string) => JSON.parse((await runCli(["test", "ordinal-graph.txt", data, "--json", "--method", "linear"], { cwd: work })).stdout) as { warnings: string[] };
+    const [memory, parquet] = [await run("ordinal.csv"), await run("ordinal.parquet")];
+    expect(parquet.warnings).not.toContain(ROWS_FREE_WARNING);
+    expectClose(comparable(parquet as unknown as Record<string, unknown>), comparable(memory as unknown as Record<string, unknown>), 1e-9);
+  });
+
+  it("the rows-free audit is deterministic: two runs print the same bytes (regression: DuckDB's parallel sums differed in the last bits between runs)", async () => {
+    const a = await runCli(["test", "rowsfree-graph.txt", "rowsfree.parquet", "--json", "--method", "linear"], { cwd: work });
+    const b = await runCli(["test", "rowsfree-graph.txt", "rowsfree.parquet", "--json", "--method", "linear"], { cwd: work });
+    expect(a.stdout).toBe(b.stdout);
   });
 });
