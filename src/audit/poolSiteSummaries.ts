@@ -18,20 +18,20 @@
 import { InputError } from "../errors.js";
 import type { Graph } from "../graph/Graph.js";
 import type { Column, Table } from "../data/Table.js";
+import { CATEGORICAL_TYPES } from "../data/Table.js";
 import type { PatternMoments } from "../data/Moments.js";
 import { partialCorrelationWithReason } from "../stats/partialCorrelation.js";
 import { partialCorrelationTest } from "../stats/partialCorrelationTest.js";
 import { gcmCorrelationInterval } from "../stats/generalisedCovariance.js";
 import { testStrata } from "./methods/stratifiedChisq.js";
-import { lrOutcome } from "./methods/regressionLr.js";
-import { gaussianLRFromMoments } from "../stats/gaussianLRFromMoments.js";
+import { gcmTestFromSums, linearCheck, type GcmTestSums } from "./methods/gcm.js";
 import type { CompactStratum } from "./methods/groupRows.js";
 import { linearAdjustment } from "./methods/adjustmentDetails.js";
 import type { MethodResult, TestContext } from "./TestMethod.js";
 import type { AuditResult, Claim } from "./types.js";
 import { runAuditWithTester, type AuditOptions } from "./runAudit.js";
 import {
-  SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION, type ClaimSummary, type MomentsClaimSummary, type SiteSummary, type TablesClaimSummary,
+  SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION, type ClaimSummary, type MomentsClaimSummary, type ResidualsClaimSummary, type SiteSummary, type TablesClaimSummary,
 } from "./siteSummary.js";
 
 /** A site summary with the file it was read from (for messages). */
@@ -63,7 +63,10 @@ export function parseSiteSummary(text: string, file: string): SiteSummary {
   }
   const o = doc as Record<string, unknown>;
   if (typeof o !== "object" || o === null || o.format !== SITE_SUMMARY_FORMAT) fail(file, `is not a site summary (no "format": "${SITE_SUMMARY_FORMAT}"); write one with arrowaudit summarize`);
-  if (o.version !== SITE_SUMMARY_VERSION) fail(file, `is a site summary of version ${JSON.stringify(o.version)}, and this arrowaudit reads version ${SITE_SUMMARY_VERSION}; summarize the site again with this version`);
+  if (o.version !== SITE_SUMMARY_VERSION) {
+    const why = o.version === 1 ? " (version 1 held the linear test's moments for claims with a continuous variable, which are now pooled by the flexible test from residual sums)" : "";
+    fail(file, `is a site summary of version ${JSON.stringify(o.version)}, and this arrowaudit reads version ${SITE_SUMMARY_VERSION}${why}; summarize every site again with this version`);
+  }
   const bad = (field: string, want: string): never => fail(file, `field "${field}" must be ${want}; summarize the site again rather than editing the file`);
   if (typeof o.graph_sha256 !== "string" || !/^[0-9a-f]{64}$/.test(o.graph_sha256)) bad("graph_sha256", "64 hexadecimal digits");
   if (typeof o.site !== "string" || o.site === "") bad("site", "a non-empty text");
@@ -98,7 +101,33 @@ function checkClaim(c: unknown, i: number, bad: (field: string, want: string) =>
     if (!Array.isArray(o.strata) || !o.strata.every((s) => isStringArray(s?.given) && Array.isArray(s?.counts) && s.counts.every((r: unknown) => isNumberArray(r) && r.every((v) => Number.isInteger(v) && v >= 0)))) bad(`${f}.strata`, "a list of { given, counts } with whole counts");
     const dr = o.dropped as Record<string, unknown> | undefined;
     if (typeof dr !== "object" || dr === null || typeof dr.strata !== "number" || typeof dr.rows !== "number") bad(`${f}.dropped`, "{ strata, rows }");
-  } else bad(`${f}.kind`, "moments, tables or untestable");
+  } else if (o.kind === "residuals") {
+    checkResidualsClaim(o, f, bad);
+  } else bad(`${f}.kind`, "moments, tables, residuals or untestable");
+}
+
+const isMatrix = (v: unknown, d: number): boolean => Array.isArray(v) && v.length === d && v.every((r) => isNumberArray(r) && r.length === d);
+const isCount = (v: unknown, least = 0): boolean => typeof v === "number" && Number.isInteger(v) && v >= least;
+
+/** The fields of a residuals claim (see `ResidualsClaimSummary`): shapes from its side columns. */
+function checkResidualsClaim(o: Record<string, unknown>, f: string, bad: (field: string, want: string) => never): void {
+  if (o.test !== "gcm") bad(`${f}.test`, '"gcm"');
+  if (!isCount(o.n, 1)) bad(`${f}.n`, "a whole number above 0");
+  if (!isCount(o.params)) bad(`${f}.params`, "a whole number");
+  const sides = o.sides as unknown[];
+  if (!Array.isArray(sides) || sides.length !== 2 || !sides.every((s) => isStringArray(s) && s.length > 0)) bad(`${f}.sides`, "two non-empty lists of column names");
+  const [qx, qy] = [(sides[0] as string[]).length, (sides[1] as string[]).length];
+  if (!isMatrix(o.residual_cross_products, qx + qy)) bad(`${f}.residual_cross_products`, `a ${qx + qy} × ${qx + qy} matrix of finite numbers`);
+  if (!isMatrix(o.product_variance, qx * qy)) bad(`${f}.product_variance`, `a ${qx * qy} × ${qx * qy} matrix of finite numbers`);
+  const fo = o.fourth_order as Record<string, unknown> | undefined;
+  const keys = ["uu", "vv", "uv", "uuvv", "uuuv", "uvvv", "uuuu", "vvvv"];
+  if (fo !== undefined && (typeof fo !== "object" || fo === null || !keys.every((k) => typeof fo[k] === "number" && Number.isFinite(fo[k])))) bad(`${f}.fourth_order`, `an object of the finite sums ${keys.join(", ")}`);
+  const lin = o.linear as Record<string, unknown> | undefined;
+  if (typeof lin !== "object" || lin === null || !isCount(lin.params) || !isMatrix(lin.residual_cross_products, qx + qy)) bad(`${f}.linear`, `{ params, residual_cross_products: a ${qx + qy} × ${qx + qy} matrix }`);
+  const fl = o.flexibility as Record<string, unknown> | undefined;
+  if (typeof fl !== "object" || fl === null || !["level", "max_level", "level_x", "level_y", "parameters"].every((k) => isCount(fl[k]))) bad(`${f}.flexibility`, "{ level, max_level, level_x, level_y, parameters } as whole numbers");
+  if (!Array.isArray(o.adjustment) || !o.adjustment.every((a) => typeof a?.variable === "string" && typeof a?.entered === "string")) bad(`${f}.adjustment`, "a list of { variable, entered, columns }");
+  if (!isCount(o.aliased)) bad(`${f}.aliased`, "a whole number");
 }
 
 /**
@@ -155,9 +184,6 @@ export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[],
     for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) w[a * d + b] = w[a * d + b]! + p.cross_products[a]![b]!;
   }
   const m = parts.length;
-  const xCol = table.column(claim.x)!;
-  const yCol = table.column(claim.y)!;
-  if (xCol.type === "nominal" || yCol.type === "nominal") return poolGaussianLR(claim, parts, w, n, table, alpha);
   const given = Array.from({ length: d - 2 }, (_, i) => i + 2);
   const c = given.length + m - 1;
   const cases = `${n} complete cases at ${m} site${m === 1 ? "" : "s"}`;
@@ -196,52 +222,97 @@ export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[],
 }
 
 /**
- * The pooled test of a claim with a nominal side and a continuous or ordinal other side: the
- * Gaussian likelihood-ratio test of the linear model of the scored side (the response) on the set
- * and the site, with and without the nominal side's level indicators, LR = n·ln(RSS₀/RSS₁) from
- * the summed within-site cross-products (`gaussianLRFromMoments`), as `regression-lr` tests it on
- * the stacked rows with site in the set (Wilks 1938). Cost: O(d³).
+ * The pooled generalised covariance measure of a flexible claim from the sites' residual sums
+ * (see the module comment): the statistic of the stacked residual products of all sites, with its
+ * p-value, effect and interval from `gcmTestFromSums`, as `gcm` computes them on one table.
+ * Cost: O(sites · q⁴ + q⁶) for q side columns (q⁴ entries of the products' variance).
  */
-function poolGaussianLR(claim: Claim, parts: readonly MomentsClaimSummary[], w: Float64Array, n: number, table: Table, alpha: number): MethodResult {
-  const d = parts[0]!.columns.length;
-  const m = parts.length;
-  const xCol = table.column(claim.x)!;
-  const yCol = table.column(claim.y)!;
-  const width = (c: Column) => (c.type === "nominal" ? Math.max(0, (c.levels?.length ?? 1) - 1) : 1);
-  const xIdx = Array.from({ length: width(xCol) }, (_, i) => i);
-  const yIdx = Array.from({ length: width(yCol) }, (_, i) => xIdx.length + i);
-  const givenIdx = Array.from({ length: d - xIdx.length - yIdx.length }, (_, i) => xIdx.length + yIdx.length + i);
-  const resp = [yCol, xCol].find((c) => c.type === "continuous") ?? [yCol, xCol].find((c) => c.type === "ordinal")!;
-  const added = resp === yCol ? xCol : yCol;
-  const respIdx = (resp === yCol ? yIdx : xIdx)[0]!;
-  const addedIdx = resp === yCol ? xIdx : yIdx;
-  const cov = w.map((v) => v / Math.max(1, n - m));
-  if (!(w[respIdx * d + respIdx]! > 0)) return { ok: false, reason: `"${resp.name}" is constant within every site among the ${n} complete rows; the claim cannot be tested` };
-  if (addedIdx.every((i) => !(w[i * d + i]! > 0))) return { ok: false, reason: `"${added.name}" is constant within every site among the ${n} complete rows; the claim cannot be tested` };
-  const fit = gaussianLRFromMoments(cov, d, n, respIdx, givenIdx, addedIdx);
-  if (!fit) return { ok: false, reason: `the linear model of "${resp.name}" fits exactly among the ${n} complete rows; the claim cannot be tested` };
-  if (fit.df === 0) return { ok: false, reason: `"${added.name}" is determined by ${claim.given.length ? claim.given.map((g) => `"${g}"`).join(", ") + " and " : ""}the site among the complete rows (aliased); the claim cannot be tested` };
-  const warnings: string[] = [];
-  const droppedBase = givenIdx.length - fit.givenKept;
-  if (droppedBase > 0) warnings.push(`${droppedBase} column${droppedBase > 1 ? "s" : ""} of the given set aliased with others (or empty levels) and dropped`);
-  const p = 1 + fit.givenKept + (m - 1) + fit.df;
-  if (n <= p + 1) return { ok: false, reason: `${n} complete rows are too few for the ${p} parameters of the full model (with ${m - 1} site indicators)` };
-  const details: Record<string, unknown> = {
-    model: "linear",
-    response: resp.name,
-    ...(resp.type === "ordinal" ? { response_scored: true } : {}),
-    added: added.name,
-    parameters_null: 1 + fit.givenKept + (m - 1),
-    parameters_full: p,
-    fitted_from: "site summaries",
-    sites: m,
-    adjustment: [...linearAdjustment(table, claim.given), { variable: "site", entered: "indicators", columns: m - 1 }],
-    sides: [
-      { variable: resp.name, model: `linear regression of the ${resp.type === "ordinal" ? "scores" : "values"} on the other side, the adjustment and the site (least squares from the sites' cross-products)` },
-      { variable: added.name, model: "indicators of its levels, added to the model" },
-    ],
+export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummary[], sites: readonly string[], table: Table, alpha: number): MethodResult {
+  const sidesText = JSON.stringify(parts[0]!.sides);
+  const odd = parts.findIndex((p) => JSON.stringify(p.sides) !== sidesText);
+  if (odd >= 0) {
+    return { ok: false, reason: `the sites' residuals of this claim are of different side columns (site ${JSON.stringify(sites[0])}: ${parts[0]!.sides.flat().join(", ")}; site ${JSON.stringify(sites[odd])}: ${parts[odd]!.sides.flat().join(", ")}): a level of a nominal side is absent, or the side is constant, among one site's complete cases, so their products are not the same; test the claim at the sites that share them, or leave the variable out` };
+  }
+  const [qx, qy] = [parts[0]!.sides[0].length, parts[0]!.sides[1].length];
+  const q = qx + qy;
+  const qq = qx * qy;
+  const K = parts.length;
+  let n = 0;
+  let params = K - 1; // an intercept per site beyond the first
+  let linParams = K - 1;
+  const cross = new Float64Array(q * q);
+  const linCross = new Float64Array(q * q);
+  const scatter = new Float64Array(qq * qq);
+  const keys = ["uu", "vv", "uv", "uuvv", "uuuv", "uvvv", "uuuu", "vvvv"] as const;
+  const fourth = parts.every((p) => p.fourth_order) ? Object.fromEntries(keys.map((k) => [k, 0])) as NonNullable<GcmTestSums["adf"]> : undefined;
+  for (const p of parts) {
+    n += p.n;
+    params += p.params;
+    linParams += p.linear.params;
+    for (let a = 0; a < q; a++) {
+      for (let b = 0; b < q; b++) {
+        cross[a * q + b] = cross[a * q + b]! + p.residual_cross_products[a]![b]!;
+        linCross[a * q + b] = linCross[a * q + b]! + p.linear.residual_cross_products[a]![b]!;
+      }
+    }
+    for (let a = 0; a < qq; a++) for (let b = 0; b < qq; b++) scatter[a * qq + b] = scatter[a * qq + b]! + p.product_variance[a]![b]!;
+    if (fourth) for (const k of keys) fourth[k] += p.fourth_order![k];
+  }
+  // Σ R is the x-by-y block of Σ e eᵀ; the products' covariance is centred at their pooled mean
+  const sumR = new Float64Array(qq);
+  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = cross[a * q + qx + b]!;
+  const meanR = sumR.map((v) => v / n);
+  const sigma = new Float64Array(qq * qq);
+  for (let a = 0; a < qq; a++) for (let b = 0; b < qq; b++) sigma[a * qq + b] = (scatter[a * qq + b]! - n * meanR[a]! * meanR[b]!) / n;
+  const res = gcmTestFromSums({ n, params, qx, qy, residual: cross.map((v) => v / (n - 1)), sumR, sigma, m: n, ...(fourth ? { adf: fourth } : {}) }, alpha);
+  if ("reason" in res) return { ok: false, reason: res.reason };
+  const { test, effect, ci, r, interval } = res;
+  const linear = linearCheck(linCross.map((v) => v / (n - 1)), qx, qy, n, linParams);
+  const perSite = parts.map((p, i) => ({ site: sites[i]!, ...p.flexibility }));
+  const sideModel = (name: string) => {
+    const c = table.column(name)!;
+    const what = c.type === "nominal" ? "level indicators" : c.type === "binary" ? "0/1 outcome (linear probability)" : "scores";
+    return `least squares of the ${what} on the adjustment, fitted at each site on its own rows`;
   };
-  return { ok: true, outcome: lrOutcome(fit.lr, fit.df, n, fit.sign, details, warnings, alpha) };
+  const members = claim.given.map((g) => {
+    const entries = parts.map((p) => p.adjustment.find((a) => a.variable === g));
+    const kinds = new Set(entries.map((e) => e?.entered));
+    const entered = kinds.has("spline") ? "spline" : kinds.has("linear") ? "linear" : CATEGORICAL_TYPES.has(table.column(g)!.type) ? "indicators" : "linear";
+    return { variable: g, entered, columns: entries.reduce((a, e) => a + (e?.columns ?? 0), 0) };
+  });
+  const warnings = [`adjustment for the set fitted at each site on its own rows (its own basis, knots and flexibility level: the set interacted with site)`];
+  const aliased = parts.map((p, i) => ({ site: sites[i]!, k: p.aliased })).filter((a) => a.k > 0);
+  if (aliased.length > 0) warnings.push(`adjustment columns of ${claim.given.map((g) => `"${g}"`).join(", ")} aliased with others (or constant among the complete rows) and dropped at ${aliased.map((a) => `${a.site}: ${a.k}`).join(", ")}`);
+  if (test.components < qq) warnings.push(`${qq - test.components} of ${qq} residual products are redundant with the others and were left out`);
+  return {
+    ok: true,
+    outcome: {
+      test: "gcm",
+      n,
+      statistic: test.statistic,
+      df: test.df,
+      p: test.p,
+      log_p: test.log_p,
+      effect,
+      ci,
+      p_method: "asymptotic",
+      details: {
+        ...(r !== undefined ? { r } : {}),
+        ...(interval ? { interval_variance: interval } : {}),
+        sites: K,
+        site_adjustment: "site-specific: each site fitted the flexible adjustment for the set to its own complete cases (the set interacted with site)",
+        adjustment: [...members, { variable: "site", entered: "strata" }],
+        flexibility: { parameters: params, sites: perSite },
+        sides: [claim.x, claim.y].map((variable) => ({ variable, model: sideModel(variable) })),
+        ...(test.f !== undefined ? { f: test.f, df_f: [test.df, test.df2] } : {}),
+        components: test.components,
+        variance_rows: n,
+        ...(linear ? { linear_adjustment: linear } : {}),
+        path: "site sums",
+      },
+      warnings,
+    },
+  };
 }
 
 /** The stratified chi-square test of a categorical claim on every site's strata. Cost: O(Σ cells) plus permutations. */
@@ -312,25 +383,28 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
     const parts = byClaim.map((m) => m.get(key));
     if (parts.some((p) => p === undefined)) return { ok: false, reason: "the site summaries do not list this claim; summarize every site with the same graph and options" };
     const left = sites.map((s, i) => ({ site: s.summary.site, part: parts[i]! })).filter((p) => p.part.kind === "untestable");
-    const kept = parts.filter((p): p is MomentsClaimSummary | TablesClaimSummary => p!.kind !== "untestable");
+    const keptSites = sites.filter((_, i) => parts[i]!.kind !== "untestable").map((s) => s.summary.site);
+    const kept = parts.filter((p): p is MomentsClaimSummary | TablesClaimSummary | ResidualsClaimSummary => p!.kind !== "untestable");
     const reasons = left.map((l) => (l.part as { reason: string }).reason);
     const leftText = left.map((l, i) => `site ${JSON.stringify(l.site)}: ${reasons[i]}`).join("; ");
     if (kept.length === 0) return { ok: false, reason: new Set(reasons).size === 1 ? `untestable at every site: ${reasons[0]}` : `untestable at every site (${leftText})` };
-    if (kept.some((p) => p.kind !== kept[0]!.kind)) return { ok: false, reason: "the sites' summaries of this claim are of different kinds (moments and tables); summarize every site with the same options, --types and --levels" };
-    const r = kept[0]!.kind === "moments" ? poolMoments(claim, kept as MomentsClaimSummary[], table, ctx.alpha ?? 0.05) : poolTables(claim, kept as TablesClaimSummary[], ctx);
+    if (kept.some((p) => p.kind !== kept[0]!.kind)) return { ok: false, reason: `the sites' summaries of this claim are of different kinds (${[...new Set(kept.map((p) => p.kind))].join(" and ")}); summarize every site with the same options, --types and --levels` };
+    const kind = kept[0]!.kind;
+    const alpha = ctx.alpha ?? 0.05;
+    const r = kind === "moments" ? poolMoments(claim, kept as MomentsClaimSummary[], table, alpha) : kind === "residuals" ? poolResiduals(claim, kept as ResidualsClaimSummary[], keptSites, table, alpha) : poolTables(claim, kept as TablesClaimSummary[], ctx);
     if (!r.ok) return r;
     const warnings = [...(r.outcome.warnings ?? [])];
     if (left.length > 0) warnings.push(`${left.length} of ${sites.length} sites left out of this claim (${leftText})`);
-    const dropped = (kept as (MomentsClaimSummary | TablesClaimSummary)[]).filter((p): p is TablesClaimSummary => p.kind === "tables").reduce((a, p) => ({ strata: a.strata + p.dropped.strata, rows: a.rows + p.dropped.rows }), { strata: 0, rows: 0 });
+    const dropped = kept.filter((p): p is TablesClaimSummary => p.kind === "tables").reduce((a, p) => ({ strata: a.strata + p.dropped.strata, rows: a.rows + p.dropped.rows }), { strata: 0, rows: 0 });
     if (dropped.strata > 0) warnings.push(`${dropped.strata} strata (${dropped.rows} rows) were dropped at the sites for a cell below --min-cell ${first.settings.min_cell}`);
     return { ok: true, outcome: { ...r.outcome, ...(warnings.length ? { warnings } : {}) } };
   };
   const settings = { ...options.settings, sets: first.settings.sets, method: first.settings.method, listwise: first.settings.listwise };
   const source = { kind: "sites" as const, n: total, sites: sites.map((s) => ({ site: s.summary.site, file: s.file, n: s.summary.n })) };
   const result = runAuditWithTester(graph, { table, moments, source, test }, { ...options, settings });
-  const linear = result.claims.filter((c) => c.test === "pearson-partial" && c.details?.sites !== undefined).length;
-  if (linear > 0 && first.settings.method === "auto") {
-    result.warnings.push(`${linear} claim${linear > 1 ? "s" : ""} with a continuous variable got the linear partial-correlation test given the set and the site, not the default flexible test, which needs rows`);
+  const flexible = result.claims.filter((c) => c.test === "gcm" && c.details?.sites !== undefined).length;
+  if (flexible > 0) {
+    result.warnings.push(`${flexible} claim${flexible > 1 ? "s" : ""} with a continuous variable got the flexible test (gcm) pooled from the sites' residual sums, with the adjustment for the set fitted at each site on its own rows (the set interacted with site)`);
   }
   const suppressed = sites.filter((s) => s.summary.suppressed.rows > 0);
   if (suppressed.length > 0) {

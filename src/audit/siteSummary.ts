@@ -10,6 +10,19 @@
  * (continuous, binary) or as 0/1 indicators of its levels but the first (ordinal, nominal), as
  * `claimMoments.ts` enters them. A *categorical claim* (x, y and S all categorical) keeps one
  * x-by-y count table per *stratum* (a combination of S's levels seen at the site).
+ * A *flexible claim* (method auto: every claim the site's own audit would test with `gcm`, i.e.
+ * with a continuous variable; this replaces the linear claims of method auto) keeps the sums of
+ * the generalised covariance measure over its complete cases (`gcmSiteSums` in
+ * `methods/gcm.ts`): the site fits the flexible adjustment for S to its own complete cases
+ * exactly as `gcm` does (its own basis, knots and cross-validated level, on all its complete
+ * cases: the row path whatever the site's size, not the moment path with a variance sample that
+ * `gcm` takes above `ROW_PATH_MAX_ROWS` rows), and writes, in the units of the data, n, the
+ * adjustment columns p, the side columns, Σ e eᵀ of the side residuals e (its x-by-y block is
+ * Σ R, the sum of the residual products), Σ V_x ⊗ V_y (the conditional covariance of the residual
+ * products under the claim that `gcm`'s variance sums: e² for a scored side, π(1 − π) for a
+ * two-valued one, the multinomial covariance for a nominal one), for one product the fourth-order
+ * sums behind the interval's ADF variance (Σ e_x⁴, Σ e_x³e_y, …), the same Σ e eᵀ for the linear
+ * (level-0) fit, and the level chosen. Rank tests (`--method rank`) are not summarized.
  *
  * Disclosure control with the threshold k (`--min-cell`, at least 3: the mean and the sum of
  * squares of two rows give both values):
@@ -23,9 +36,12 @@
  * 3. A stratum of a categorical claim with a non-empty cell of fewer than k rows (which includes
  *    every stratum of fewer than k rows) is dropped and counted (`dropped`: strata and rows); a
  *    claim left with no stratum is untestable at the site. Empty cells (0) are written.
- * 4. A linear claim in which a level of a categorical variable, or a combination of levels of two
- *    of them, has 1 … k − 1 complete cases is untestable at the site (the moments of a level's
- *    indicator are sums over its rows), with the reason.
+ * 4. A linear or flexible claim in which a level of a categorical variable, or a combination of
+ *    levels of two of them, has 1 … k − 1 complete cases is untestable at the site (the moments of
+ *    a level's indicator, and the residual sums of a fit with that indicator, are sums over its
+ *    rows), with the reason.
+ * Every number of a flexible claim is a sum over all its n ≥ k complete cases (rules 1, 2, 4),
+ * or a count of columns; its basis knots, coefficients and residuals are not written.
  * What this does not prevent: a mean of a binary column of 0 or 1, or an empty cell, says that
  * every row of the claim shares a value (attribute disclosure of a group of at least k); and the
  * difference of two claims' numbers is a sum over whole patterns of at least k rows, but within
@@ -38,11 +54,15 @@ import type { PatternMoments } from "../data/Moments.js";
 import { buildPatternMoments } from "../data/buildPatternMoments.js";
 import { claimMoments } from "./methods/claimMoments.js";
 import { CATEGORICAL_TYPES } from "../data/Table.js";
+import { chooseMethod } from "./methods/index.js";
+import { gcmSiteResiduals, gcmSiteSums } from "./methods/gcm.js";
+import type { AdjustmentEntry } from "./methods/adjustmentDetails.js";
+import type { TestContext } from "./TestMethod.js";
 
 /** The format tag of a site summary file. */
 export const SITE_SUMMARY_FORMAT = "arrowaudit-site-summary";
 /** The version of the format this code writes and reads. */
-export const SITE_SUMMARY_VERSION = 1;
+export const SITE_SUMMARY_VERSION = 2;
 /** Default and least `--min-cell`. */
 export const DEFAULT_MIN_CELL = 5;
 export const LEAST_MIN_CELL = 3;
@@ -50,7 +70,12 @@ export const LEAST_MIN_CELL = 3;
 /** The settings that change what a summary holds; summaries pool only when they are equal. */
 export interface SiteSummarySettings {
   sets: "union-parents" | "minimal" | "all-minimal";
-  /** auto: categorical claims as tables, the others with scored x and y as moments; linear: moments only; chisq: tables only. */
+  /**
+   * The claims' kinds follow the test the site's own audit would choose under this `--method`
+   * (`chooseMethod`): `gcm` → residual sums, `pearson-partial` → moments, the stratified tests →
+   * tables. auto: categorical claims as tables, the others as residual sums; linear: claims with
+   * scored x and y as moments; chisq: categorical claims as tables; the rest as under auto.
+   */
   method: "auto" | "linear" | "chisq";
   listwise: boolean;
   min_cell: number;
@@ -90,6 +115,36 @@ export interface TablesClaimSummary {
   dropped: { strata: number; rows: number };
 }
 
+/** The sums of the flexible test (`gcm`) over a claim's complete cases at the site (see the module comment). */
+export interface ResidualsClaimSummary {
+  x: string;
+  y: string;
+  given: string[];
+  kind: "residuals";
+  /** The site's test whose residuals these are. */
+  test: "gcm";
+  /** Complete cases. */
+  n: number;
+  /** Adjustment columns of the fit at the chosen level (intercept excluded). */
+  params: number;
+  /** Side columns, x's then y's: the variable's name, or `name=level` for an indicator of a nominal side's level (the first level present is the reference). */
+  sides: [string[], string[]];
+  /** Σ e eᵀ of the q = qx + qy side residuals (q × q; rows and columns in the order of `sides`). */
+  residual_cross_products: number[][];
+  /** Σ_t V_x,t ⊗ V_y,t over the complete cases (qx·qy square, products in x-major order). */
+  product_variance: number[][];
+  /** One product (qx = qy = 1): Σ e_x², Σ e_y², Σ e_x e_y, Σ e_x²e_y², Σ e_x³e_y, Σ e_x e_y³, Σ e_x⁴, Σ e_y⁴. */
+  fourth_order?: { uu: number; vv: number; uv: number; uuvv: number; uuuv: number; uvvv: number; uuuu: number; vvvv: number };
+  /** The linear (level-0) fit: its adjustment columns and Σ e eᵀ of its residuals. */
+  linear: { params: number; residual_cross_products: number[][] };
+  /** The flexibility level used (the higher of the two sides' cross-validated levels plus one), for the record. */
+  flexibility: { level: number; max_level: number; level_x: number; level_y: number; parameters: number };
+  /** How each member of S entered at the chosen level. */
+  adjustment: AdjustmentEntry[];
+  /** Adjustment columns aliased with others (or constant) and left out. */
+  aliased: number;
+}
+
 export interface UntestableClaimSummary {
   x: string;
   y: string;
@@ -98,7 +153,7 @@ export interface UntestableClaimSummary {
   reason: string;
 }
 
-export type ClaimSummary = MomentsClaimSummary | TablesClaimSummary | UntestableClaimSummary;
+export type ClaimSummary = MomentsClaimSummary | TablesClaimSummary | ResidualsClaimSummary | UntestableClaimSummary;
 
 export interface SiteSummary {
   format: typeof SITE_SUMMARY_FORMAT;
@@ -138,23 +193,14 @@ export function summarizeSite(table: Table, options: SummarizeOptions): SiteSumm
   const k = settings.min_cell;
   if (!(Number.isInteger(k) && k >= LEAST_MIN_CELL)) throw new RangeError(`min_cell must be a whole number of at least ${LEAST_MIN_CELL}, got ${k}`);
   for (const v of measured) if (!table.column(v)) throw new RangeError(`summarizeSite: the table has no column "${v}"`);
-  const keep = new Uint8Array(table.rows).fill(1);
-  if (settings.listwise) {
-    for (const v of measured) {
-      const vals = table.column(v)!.values;
-      for (let r = 0; r < table.rows; r++) if (Number.isNaN(vals[r]!)) keep[r] = 0;
-    }
-  }
-  const suppressed = suppressSmallPatterns(table, measured, keep, k);
-  // the kept rows as a table of their own, so that a left-out row cannot touch any number (not even a moment's shift)
-  const kept = keptRows(table, measured, keep);
+  const { kept, suppressed } = siteRows(table, measured, settings);
   const kinds = options.claims.map((c) => claimKind(table, c, settings.method));
   const linear = options.claims.filter((_, i) => kinds[i] === "moments");
   const ordinalMembers = [...new Set(linear.flatMap((c) => c.given.filter((g) => table.column(g)!.type === "ordinal")))];
   const pm = linear.length > 0 ? buildPatternMoments(kept, { variables: [...new Set(linear.flatMap((c) => [c.x, c.y, ...c.given]))], expansions: { indicators: ordinalMembers } }) : undefined;
   const claims = options.claims.map((c, i) => {
     const kind = kinds[i]!;
-    if (typeof kind !== "string") return { x: c.x, y: c.y, given: [...c.given], kind: "untestable" as const, reason: kind.reason };
+    if (kind === "residuals") return claimResidualsSummary(kept, c, k);
     return kind === "moments" ? claimMomentsSummary(kept, pm!, c, k) : summarizeTableClaim(kept, c, k);
   });
   return {
@@ -171,6 +217,23 @@ export function summarizeSite(table: Table, options: SummarizeOptions): SiteSumm
     }),
     claims,
   };
+}
+
+/**
+ * The rows a site's statistics come from (`--listwise`, then rule 1) as a table of their own, so
+ * that a left-out row cannot touch any number (not even a moment's shift or a knot), and what
+ * rule 1 left out. Cost: O(rows · m).
+ */
+function siteRows(table: Table, measured: readonly string[], settings: SiteSummarySettings): { kept: Table; suppressed: { rows: number; patterns: number } } {
+  const keep = new Uint8Array(table.rows).fill(1);
+  if (settings.listwise) {
+    for (const v of measured) {
+      const vals = table.column(v)!.values;
+      for (let r = 0; r < table.rows; r++) if (Number.isNaN(vals[r]!)) keep[r] = 0;
+    }
+  }
+  const suppressed = suppressSmallPatterns(table, measured, keep, settings.min_cell);
+  return { kept: keptRows(table, measured, keep), suppressed };
 }
 
 /** Rule 1: clear `keep` for the rows of missing-data patterns (over `measured`) with fewer than k kept rows. Cost: O(rows · m). */
@@ -196,18 +259,72 @@ function suppressSmallPatterns(table: Table, measured: readonly string[], keep: 
 }
 
 /** Which kind of statistics a claim gets under the method, or why none. */
-function claimKind(table: Table, claim: Claim, method: SiteSummarySettings["method"]): "moments" | "tables" | { reason: string } {
+function claimKind(table: Table, claim: Claim, method: SiteSummarySettings["method"]): "moments" | "tables" | "residuals" {
   const types = [claim.x, claim.y, ...claim.given].map((v) => table.column(v)!.type);
-  const allCategorical = types.every((t) => CATEGORICAL_TYPES.has(t));
-  const scoredPair = types[0] !== "nominal" && types[1] !== "nominal";
-  if (method !== "linear" && allCategorical) return "tables";
-  if (method !== "chisq" && scoredPair) return "moments";
-  // a nominal side with a continuous or ordinal other side: the Gaussian LR of the linear model of that side, from the moments
-  const scored = (t: VariableType) => t === "continuous" || t === "ordinal";
-  if (method === "auto" && (scored(types[0]!) || scored(types[1]!))) return "moments";
-  if (method === "chisq") return { reason: "--method chisq tables categorical claims only, and this claim has a continuous variable" };
-  if (method === "linear") return { reason: `"${types[0] === "nominal" ? claim.x : claim.y}" is nominal, and --method linear correlates scores; summarize with --method auto to test it by the linear model of the other side` };
-  return { reason: `"${claim.x}" and "${claim.y}" are categorical and the set has a continuous variable: the logistic or multinomial fit reads rows, which a site summary does not hold` };
+  // the test the site's own audit would choose under the method (`chooseMethod`: a forced method
+  // where it applies, else the automatic choice), and the statistics that pool it
+  const chosen = chooseMethod(method, { x: types[0]!, y: types[1]!, given: types.slice(2) }).name;
+  if (chosen === "gcm") return "residuals";
+  if (chosen === "pearson-partial") return "moments";
+  return "tables"; // stratified-chisq, or linear-by-linear (pooled by the stratified chi-square)
+}
+
+/** The context in which a site's claims are fitted: its kept rows, no pattern moments (the row path reads rows), the audit's default seed. */
+function siteContext(table: Table): TestContext {
+  const moments = new Proxy({} as PatternMoments, {
+    get() {
+      throw new Error("internal: a site's flexible claims are fitted on its rows");
+    },
+  });
+  return { table, moments, seed: 1, alpha: 0.05 };
+}
+
+/**
+ * The sums of the flexible test of a claim at the site (rules 2 and 4, then `gcmSiteSums` on the
+ * kept rows), or untestable with the reason. Cost: as `gcm`'s row path, O(n · p²).
+ */
+function claimResidualsSummary(table: Table, claim: Claim, k: number): ClaimSummary {
+  const head = { x: claim.x, y: claim.y, given: [...claim.given] };
+  const n = completeRows(table, claim).length;
+  if (n < k) return tooFew(claim, n, k);
+  const small = smallCategoricalCell(table, claim, k);
+  if (small) return { ...head, kind: "untestable", reason: `${small} among its complete cases at this site, fewer than --min-cell ${k}: its residual sums would tell those rows' values, so none is written` };
+  const r = gcmSiteSums("gcm", claim, siteContext(table));
+  if (!r.ok) return { ...head, kind: "untestable", reason: r.reason };
+  const s = r.sums;
+  const q = s.sides[0].length + s.sides[1].length;
+  const qq = s.sides[0].length * s.sides[1].length;
+  const square = (a: Float64Array, d: number) => Array.from({ length: d }, (_, i) => Array.from(a.subarray(i * d, (i + 1) * d)));
+  return {
+    ...head,
+    kind: "residuals",
+    test: "gcm",
+    n: s.n,
+    params: s.params,
+    sides: s.sides,
+    residual_cross_products: square(s.cross, q),
+    product_variance: square(s.scatter, qq),
+    ...(s.adf ? { fourth_order: s.adf } : {}),
+    linear: { params: s.linear.params, residual_cross_products: square(s.linear.cross, q) },
+    flexibility: s.flexibility,
+    adjustment: s.adjustment,
+    aliased: s.aliased,
+  };
+}
+
+/**
+ * A flexible claim's residuals at one site, as its summary's sums are made from them (the kept
+ * rows after rule 1; see `gcmSiteResiduals`): for checking a pooled test against a computation of
+ * one's own. Not written to any summary: these are row-level values.
+ * Cost: as `gcm`'s row path.
+ * @throws RangeError as {@link summarizeSite}
+ * @example siteClaimResiduals(table, claim, options) // { ok: true, n, qx, qy, params, residuals: [ex, ey], variance }
+ */
+export function siteClaimResiduals(table: Table, claim: Claim, options: Pick<SummarizeOptions, "measured" | "settings">): ReturnType<typeof gcmSiteResiduals> {
+  const k = options.settings.min_cell;
+  if (!(Number.isInteger(k) && k >= LEAST_MIN_CELL)) throw new RangeError(`min_cell must be a whole number of at least ${LEAST_MIN_CELL}, got ${k}`);
+  for (const v of options.measured) if (!table.column(v)) throw new RangeError(`siteClaimResiduals: the table has no column "${v}"`);
+  return gcmSiteResiduals("gcm", claim, siteContext(siteRows(table, options.measured, options.settings).kept));
 }
 
 /** The rows of `keep` as a table of their own (the columns of `names`). Cost: O(rows · m). */

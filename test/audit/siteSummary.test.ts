@@ -16,6 +16,7 @@ import { createRng } from "../../src/stats/rng.js";
 
 const SHA = "ab".repeat(32);
 const SETTINGS: SiteSummarySettings = { sets: "union-parents", method: "auto", listwise: false, min_cell: 5, unmeasured: [] };
+const LINEAR: SiteSummarySettings = { ...SETTINGS, method: "linear" };
 
 function graphOf(text: string): Graph {
   return parseGraph(text, { file: "g.txt" }).graph;
@@ -83,12 +84,15 @@ describe("summarizeSite(table, options)", () => {
     const n = 40;
     const s = site(g, { "ålder": normals(3, n), blodtryck: normals(4, n), "心拍": normals(5, n) }, "Malmö");
     expect(parseSiteSummary(JSON.stringify(s), "s.json")).toEqual(s);
-    expect(s.claims[0]!.kind).toBe("moments");
+    expect(s.claims[0]!.kind).toBe("residuals"); // --method auto: the flexible test's sums
+    const lin = site(g, { "ålder": normals(3, n), blodtryck: normals(4, n), "心拍": normals(5, n) }, "Malmö", LINEAR);
+    expect(parseSiteSummary(JSON.stringify(lin), "s.json")).toEqual(lin);
+    expect(lin.claims[0]!.kind).toBe("moments");
   });
 });
 
 describe("poolSiteSummaries(graph, sha, file, sites)", () => {
-  it("poolSiteSummaries equals the stacked rows' partial correlation given S and site indicators (least squares here, 1e-9) and does not mutate its inputs", () => {
+  it("poolSiteSummaries of --method linear summaries equals the stacked rows' partial correlation given S and site indicators (least squares here, 1e-9) and does not mutate its inputs", () => {
     const g = graphOf(GRAPH);
     const sizes = [25, 40, 33];
     const stacked: { a: number; b: number; c: number; s: number }[] = [];
@@ -99,7 +103,7 @@ describe("poolSiteSummaries(graph, sha, file, sites)", () => {
       const f = normals(30 + k, n);
       const c = b.map((v, i) => 0.3 * v + 0.2 * a[i]! + f[i]! + 2 * k);
       a.forEach((_, i) => stacked.push({ a: a[i]!, b: b[i]!, c: c[i]!, s: k }));
-      return deepFreeze({ file: `s${k}.json`, summary: site(g, { a, b, c }, `s${k}`) });
+      return deepFreeze({ file: `s${k}.json`, summary: site(g, { a, b, c }, `s${k}`, LINEAR) });
     });
     const result = poolSiteSummaries(g, SHA, "g.txt", sites);
     const ac = result.claims.find((c) => [c.x, c.y].sort().join() === "a,c")!;
@@ -127,14 +131,17 @@ describe("poolSiteSummaries(graph, sha, file, sites)", () => {
     expect(ac.df).toBe(98 - 2 - 1 - 2); // one column of b, two site indicators
   });
 
-  it("poolSiteSummaries says a column constant within every site is untestable (it is the site)", () => {
+  it("poolSiteSummaries says a column constant within every site is untestable (it is the site), for moments and for residual sums", () => {
     const g = graphOf(GRAPH);
-    const sites = [0, 1].map((k) => {
-      const n = 20;
-      return { file: `s${k}.json`, summary: site(g, { a: new Array<number>(n).fill(k), b: normals(40 + k, n), c: normals(50 + k, n) }, `s${k}`) };
-    });
+    const data = (k: number, n = 20) => ({ a: new Array<number>(n).fill(k), b: normals(40 + k, n), c: normals(50 + k, n) });
+    const sites = [0, 1].map((k) => ({ file: `s${k}.json`, summary: site(g, data(k), `s${k}`, LINEAR) }));
     const result = poolSiteSummaries(g, SHA, "g.txt", sites);
     const ac = result.untestable.find((c) => [c.x, c.y].sort().join() === "a,c");
     expect(ac?.reason).toContain('"a" is constant within every site');
+    // auto: each site's flexible fit finds "a" constant and writes no sums, so no site tests it
+    const auto = [0, 1].map((k) => ({ file: `s${k}.json`, summary: site(g, data(k), `s${k}`) }));
+    expect(auto[0]!.summary.claims.find((c) => [c.x, c.y].sort().join() === "a,c")!.kind).toBe("untestable");
+    const pooled = poolSiteSummaries(g, SHA, "g.txt", auto);
+    expect(pooled.untestable.find((c) => [c.x, c.y].sort().join() === "a,c")?.reason).toBe('untestable at every site: "a" is constant among the 20 complete rows; the claim cannot be tested');
   });
 });

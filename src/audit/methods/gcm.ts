@@ -55,7 +55,7 @@ import { midRanks } from "../../data/rankColumns.js";
 import { lrEffect, lrEffectCIAtAlpha } from "../../stats/effectScale.js";
 import { chiSquareUpperQuantileLog } from "../../stats/quantiles.js";
 import { fillBasisValues, flexibleBasis, MAX_BASIS_LEVEL, scaleBasisTerm, scaleBasisTermByExponent, type BasisTerm, type VariableBasis } from "../../stats/flexibleBasis.js";
-import { gcmCorrelationInterval, gcmStatistic } from "../../stats/generalisedCovariance.js";
+import { gcmCorrelationInterval, gcmStatistic, type GcmStatisticResult } from "../../stats/generalisedCovariance.js";
 import { adfCoefficients, residualCorrelationInterval, type ResidualCorrelationVariance } from "../../stats/residualCorrelationInterval.js";
 import { gramMatrix } from "../../stats/gramMatrix.js";
 import { bestLevel, CONSTANT_TOLERANCE, NestedAdjustment } from "../../stats/nestedAdjustment.js";
@@ -287,6 +287,8 @@ interface SideValues {
   mean: number;
   shift: number;
   twoPoint?: [number, number];
+  /** The exponent e of the buffer's units: buffer value plus `shift` is the value times 2^e. */
+  exponent?: number;
 }
 
 /**
@@ -315,9 +317,10 @@ const FIT_FLOOR = 1e-6;
  * e_r = (side_r − μ_r) − Σ_k β_rk (col_k − μ_k); all columns sit in one buffer, so every read is
  * of one typed array. `squares` receives Σ_t e_r² per side column. Cost: O(m · (p·q + qq²)).
  * Sources: Shah & Peters (2020), Annals of Statistics 48:1514–1538 (the statistic); the variances
- * of the binomial and multinomial distributions (common practice).
+ * of the binomial and multinomial distributions (common practice). With `centre` false the sum
+ * Σ_t V_x,t ⊗ V_y,t is returned as it is (a site summary's sum, centred once the sites are pooled).
  */
-function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array, squares: Float64Array, adf?: AdfSums): Float64Array {
+function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array, squares: Float64Array, adf?: AdfSums, centre = true): Float64Array {
   const q = qx + qy;
   const qq = qx * qy;
   const p = columns.length;
@@ -394,7 +397,7 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
       const v1 = two1 ? twoPointVariance(d1 + s1 - e1, a1, b1) : e1 * e1;
       acc += v0 * v1;
     }
-    scatter[0] = acc - m * meanR[0]! * meanR[0]!;
+    scatter[0] = centre ? acc - m * meanR[0]! * meanR[0]! : acc;
     squares[0] = sq0;
     squares[1] = sq1;
     if (adf) adf.sums = { uu: sq0 * g0 * g0, vv: sq1 * g1 * g1, uv, uuvv, uuuv, uvvv, uuuu, vvvv };
@@ -424,7 +427,7 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
       }
     }
   }
-  for (let a = 0; a < qq; a++) for (let b = 0; b < qq; b++) scatter[a * qq + b] = scatter[a * qq + b]! - m * meanR[a]! * meanR[b]!;
+  if (centre) for (let a = 0; a < qq; a++) for (let b = 0; b < qq; b++) scatter[a * qq + b] = scatter[a * qq + b]! - m * meanR[a]! * meanR[b]!;
   return scatter;
 }
 
@@ -518,33 +521,9 @@ function outcomeOf(
       sigma[b * qq + a] = v;
     }
   }
-  const test = gcmStatistic({ n, params: kept, sumR, sigma });
-  if ("reason" in test) return { ok: false, reason: test.reason };
-
-  // Effect: the residual correlation (one product) or the common LR-type scale (several).
-  let effect: number;
-  let ci: [number, number];
-  let r: number | undefined;
-  let interval: ResidualCorrelationVariance | undefined;
-  if (qq === 1 && test.components === 1) {
-    const vx = snap.residual[0]!;
-    const vy = snap.residual[q * q - 1]!;
-    r = Math.max(-1, Math.min(1, snap.residual[1]! / Math.sqrt(vx * vy)));
-    effect = r;
-    // the null standard error of r that the test used: r/T, or from its parts when r is 0
-    const se0 = r !== 0 && test.statistic !== 0 ? Math.abs(r / test.statistic) : Math.sqrt(sigma[0]! / (n - 1 - kept)) * (n / (n - 1)) / Math.sqrt(vx * vy);
-    const coef = adf?.sums ? adfCoefficients(m, adf.sums) : undefined;
-    if (coef && Number.isFinite(se0)) {
-      interval = { se0, adf: coef };
-      ci = residualCorrelationInterval(r, test.p, test.df, n, kept, interval, 1 - alpha);
-    } else ci = gcmCorrelationInterval(r, test.statistic, test.df, n, kept, 1 - alpha);
-  } else {
-    // on the chi-square scale of the test's own p-value (its F reference), so that the interval's
-    // lower end is above 0 exactly when p < alpha
-    const w = chiSquareUpperQuantileLog(Math.min(0, test.log_p), test.df);
-    effect = lrEffect(w, test.df, n);
-    ci = lrEffectCIAtAlpha(w, test.df, n, 1 - alpha);
-  }
+  const res = gcmTestFromSums({ n, params: kept, qx, qy, residual: snap.residual, sumR, sigma, m, ...(adf?.sums ? { adf: adf.sums } : {}) }, alpha);
+  if ("reason" in res) return { ok: false, reason: res.reason };
+  const { test, effect, ci, r, interval } = res;
 
   // Linear check: the level-0 fit with equal variances assumed.
   const lin = fit.snapshots[0]!;
@@ -587,6 +566,85 @@ function outcomeOf(
   return { ok: true, outcome };
 }
 
+/**
+ * The sums over a claim's complete rows that its test is computed from: what {@link outcomeOf}
+ * gives {@link gcmTestFromSums} on one table, and what pooled site summaries give it from the
+ * sums of the sites' (`audit/poolSiteSummaries.ts`).
+ */
+export interface GcmTestSums {
+  /** Complete cases behind the sum of the residual products. */
+  n: number;
+  /** Adjustment columns in the regressions (intercept excluded). */
+  params: number;
+  /** Side columns of x and of y (one, or one per level but the reference of a nominal side). */
+  qx: number;
+  qy: number;
+  /** Bessel-corrected covariance of the q = qx + qy side residuals over the n rows (q × q row-major). */
+  residual: ArrayLike<number>;
+  /** Σ_i R_i over the n rows (qx·qy components, x's index major). */
+  sumR: ArrayLike<number>;
+  /** Covariance of the residual products under the claim (qx·qy square), as `gcmStatistic` takes it. */
+  sigma: ArrayLike<number>;
+  /** Rows behind `sigma` and `adf`. */
+  m: number;
+  /** One product: the sums behind the ADF variance of the residual correlation (`adfCoefficients`), in any fixed scale of each side. */
+  adf?: { uu: number; vv: number; uv: number; uuvv: number; uuuv: number; uvvv: number; uuuu: number; vvvv: number };
+}
+
+/** The test, effect and interval of {@link gcmTestFromSums}. */
+export interface GcmTestResult {
+  test: GcmStatisticResult;
+  effect: number;
+  ci: [number, number];
+  /** The residual correlation (one product). */
+  r?: number;
+  /** The variances behind its interval, when the ADF sums were usable. */
+  interval?: ResidualCorrelationVariance;
+}
+
+/**
+ * The generalised covariance measure's statistic, p-value, effect and interval at confidence
+ * 1 − alpha from the sums of {@link GcmTestSums} (see the module comment: the residual
+ * correlation with `residualCorrelationInterval` for one product, `lrEffect` with
+ * `lrEffectCIAtAlpha` for several). Returns `{ reason }` as `gcmStatistic` does.
+ * Cost: O(q³) plus about 60 incomplete-beta evaluations.
+ * Source: Shah & Peters (2020), Annals of Statistics 48:1514–1538; Steiger & Hakstian (1982),
+ * British Journal of Mathematical and Statistical Psychology 35:208–215 (the interval's variance).
+ * @example gcmTestFromSums({ n: 100, params: 2, qx: 1, qy: 1, residual: [1, 0.2, 0.2, 1], sumR: [19.8], sigma: [1], m: 100 }, 0.05).effect // 0.2
+ */
+export function gcmTestFromSums(s: GcmTestSums, alpha: number): GcmTestResult | { reason: string } {
+  const { n, qx, qy, params: kept, sigma, m } = s;
+  const q = qx + qy;
+  const qq = qx * qy;
+  const test = gcmStatistic({ n, params: kept, sumR: s.sumR, sigma });
+  if ("reason" in test) return { reason: test.reason };
+  // Effect: the residual correlation (one product) or the common LR-type scale (several).
+  let effect: number;
+  let ci: [number, number];
+  let r: number | undefined;
+  let interval: ResidualCorrelationVariance | undefined;
+  if (qq === 1 && test.components === 1) {
+    const vx = s.residual[0]!;
+    const vy = s.residual[q * q - 1]!;
+    r = Math.max(-1, Math.min(1, s.residual[1]! / Math.sqrt(vx * vy)));
+    effect = r;
+    // the null standard error of r that the test used: r/T, or from its parts when r is 0
+    const se0 = r !== 0 && test.statistic !== 0 ? Math.abs(r / test.statistic) : Math.sqrt(sigma[0]! / (n - 1 - kept)) * (n / (n - 1)) / Math.sqrt(vx * vy);
+    const coef = s.adf ? adfCoefficients(m, s.adf) : undefined;
+    if (coef && Number.isFinite(se0)) {
+      interval = { se0, adf: coef };
+      ci = residualCorrelationInterval(r, test.p, test.df, n, kept, interval, 1 - alpha);
+    } else ci = gcmCorrelationInterval(r, test.statistic, test.df, n, kept, 1 - alpha);
+  } else {
+    // on the chi-square scale of the test's own p-value (its F reference), so that the interval's
+    // lower end is above 0 exactly when p < alpha
+    const w = chiSquareUpperQuantileLog(Math.min(0, test.log_p), test.df);
+    effect = lrEffect(w, test.df, n);
+    ci = lrEffectCIAtAlpha(w, test.df, n, 1 - alpha);
+  }
+  return { test, effect, ci, ...(r !== undefined ? { r } : {}), ...(interval ? { interval } : {}) };
+}
+
 function sideModel(col: Column, name: TestName): string {
   const what = name === "gcm-rank" && col.type !== "nominal" ? "mid-ranks" : col.type === "nominal" ? "level indicators" : col.type === "binary" ? "0/1 outcome (linear probability)" : "scores";
   return `least squares of the ${what} on the adjustment`;
@@ -605,9 +663,10 @@ export interface LinearCheck {
 /**
  * The classic test with the level-0 (linear) adjustment and equal variances: the partial
  * correlation t test on n − 2 − p df for one product; for several, (n − 1)·Σ canonical
- * correlations² (the score statistic of multivariate normal regression) on qx·qy df. Cost: O(q³).
+ * correlations² (the score statistic of multivariate normal regression) on qx·qy df, from the
+ * residual covariance (q × q, any common scale). Cost: O(q³).
  */
-function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, p: number): LinearCheck | undefined {
+export function linearCheck(residual: Float64Array, qx: number, qy: number, n: number, p: number): LinearCheck | undefined {
   const q = qx + qy;
   const nu = n - 2 - p;
   if (!(nu >= 1)) return undefined;
@@ -818,7 +877,24 @@ function claimShiftedValues(c: ClaimColumn, idx: Int32Array, rows: number): Floa
   return v;
 }
 
+/** A claim fitted on its complete rows: the layout, the nested fit with its chosen level, and the columns' values on those rows. */
+interface RowFit {
+  layout: Layout;
+  f: Fitted;
+  values: VarianceRows;
+  /** The side columns kept (those that vary), x's first: `values.side(r)` is the r-th. */
+  sides: ClaimColumn[];
+}
+
 function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext, maxLevel = MAX_BASIS_LEVEL): MethodResult {
+  const fitted = fitRowPath(name, claim, cols, ctx, maxLevel);
+  if (!("layout" in fitted)) return fitted;
+  // all the claim's rows, not a sample: outcomeOf does not check them
+  return outcomeOf(name, claim, fitted.layout, fitted.f, fitted.values, { path: "rows" }, ctx.alpha ?? 0.05) as MethodResult;
+}
+
+/** The row path up to the fit (see the module comment), or why the claim cannot be tested. Cost: O(n · p²). */
+function fitRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext, maxLevel = MAX_BASIS_LEVEL): RowFit | MethodResult {
   const [xCol, yCol, ...given] = cols as [Column, Column, ...Column[]];
   const idx = completeRows(cols, ctx.table.rows, ctx.rowFilter);
   const n = idx.length;
@@ -938,12 +1014,12 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
     adjustment: (c) => ({ offset: slot.get(c)! * n, mean: sums[c]! / n }),
     side: (r) => {
       const c = respCols[r]!;
-      const two = twoValues(c, exponentOfShifted.get(respVals[r]!) ?? rowPathExponent(c));
-      return { offset: (used.length + r) * n, mean: respSums[r]! / n, shift: shiftOf.get(respVals[r]!)!, ...(two ? { twoPoint: two } : {}) };
+      const exponent = exponentOfShifted.get(respVals[r]!) ?? rowPathExponent(c);
+      const two = twoValues(c, exponent);
+      return { offset: (used.length + r) * n, mean: respSums[r]! / n, shift: shiftOf.get(respVals[r]!)!, exponent, ...(two ? { twoPoint: two } : {}) };
     },
   };
-  // all the claim's rows, not a sample: outcomeOf does not check them
-  return outcomeOf(name, claim, layout, f, values, { path: "rows" }, ctx.alpha ?? 0.05) as MethodResult;
+  return { layout, f, values, sides: respCols };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -1272,19 +1348,188 @@ export function runGcm(name: TestName, claim: Claim, ctx: TestContext): MethodRe
  * Cost: as runGcm.
  */
 export function runGcmOn(path: "rows" | "moments", name: TestName, claim: Claim, ctx: TestContext): MethodResult {
-  const cols: Column[] = [];
-  for (const v of [claim.x, claim.y, ...claim.given]) {
-    const col = ctx.table.column(v);
-    if (!col) return { ok: false, reason: `variable "${v}" is not a column of the data` };
-    if (CATEGORICAL_TYPES.has(col.type) && (!col.codes || !col.levels)) return { ok: false, reason: `"${v}" is ${col.type} but has no level codes; declare it or re-read the data` };
-    cols.push(col);
-  }
+  const cols = claimColumns(claim, ctx.table);
+  if (!Array.isArray(cols)) return cols;
   if (path === "moments") {
     const viaMoments = runMomentPath(name, claim, cols, ctx);
     if (!("useRows" in viaMoments)) return viaMoments;
     return runRowPath(name, claim, cols, ctx, viaMoments.maxLevel);
   }
   return runRowPath(name, claim, cols, ctx);
+}
+
+/** The claim's columns, x, y, then S, or why they cannot be read. */
+function claimColumns(claim: Claim, table: Table): Column[] | { ok: false; reason: string } {
+  const cols: Column[] = [];
+  for (const v of [claim.x, claim.y, ...claim.given]) {
+    const col = table.column(v);
+    if (!col) return { ok: false, reason: `variable "${v}" is not a column of the data` };
+    if (CATEGORICAL_TYPES.has(col.type) && (!col.codes || !col.levels)) return { ok: false, reason: `"${v}" is ${col.type} but has no level codes; declare it or re-read the data` };
+    cols.push(col);
+  }
+  return cols;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Sums for pooling across sites
+
+/**
+ * A claim's sums over one site's complete rows, from which sites are pooled
+ * (`audit/siteSummary.ts`, `audit/poolSiteSummaries.ts`), in the units of the data: a side
+ * column's residuals are those of its values as they are (indicators 0/1). The rows' own values
+ * are not in it. q = qx + qy side columns, qq = qx·qy residual products.
+ */
+export interface GcmSiteSums {
+  /** Complete cases. */
+  n: number;
+  /** Adjustment columns kept at the chosen level (intercept excluded). */
+  params: number;
+  /** The side columns whose residuals enter, x's then y's: the variable's name, or `name=level` for a level indicator. */
+  sides: [string[], string[]];
+  /** Σ_t e_t e_tᵀ of the q side residuals (q × q row-major; its x-by-y block is Σ R). */
+  cross: Float64Array;
+  /** Σ_t V_x,t ⊗ V_y,t, the conditional covariances of the residual products under the claim summed, not centred (qq × qq). */
+  scatter: Float64Array;
+  /** One product: Σ e_x², Σ e_y², Σ e_x e_y, Σ e_x²e_y², Σ e_x³e_y, Σ e_x e_y³, Σ e_x⁴, Σ e_y⁴ (the ADF variance's sums). */
+  adf?: { uu: number; vv: number; uv: number; uuvv: number; uuuv: number; uvvv: number; uuuu: number; vvvv: number };
+  /** The level-0 (linear) fit: its kept adjustment columns and Σ e eᵀ of its q residuals. */
+  linear: { params: number; cross: Float64Array };
+  flexibility: { level: number; max_level: number; level_x: number; level_y: number; parameters: number };
+  adjustment: AdjustmentEntry[];
+  /** Adjustment columns aliased with others (or constant) and left out at the chosen level. */
+  aliased: number;
+}
+
+/** x·2^−e, or NaN when that leaves the normal range of doubles (a sum beyond range in the data's units). */
+function toDataUnits(x: number, e: number): number {
+  const v = timesPowerOfTwo(x, -e);
+  return Number.isFinite(v) && (x === 0 || Math.abs(v) >= 2 ** -1020) ? v : NaN;
+}
+
+/** The label of a side column: its variable, or `variable=level` for an indicator. */
+function sideLabel(c: ClaimColumn): string {
+  return c.code !== undefined ? `${c.variable}=${c.column.levels![c.code]!}` : c.variable;
+}
+
+/**
+ * The sums of {@link GcmSiteSums} for a claim on the table of one site: the row path on *all* the
+ * claim's complete rows whatever the table's size (its basis, knots and cross-validated level are
+ * the site's own; the knots come from `varianceSample`, every row up to VARIANCE_SAMPLE_ROWS),
+ * so for a table of at most ROW_PATH_MAX_ROWS rows {@link gcmTestFromSums} on them gives the
+ * site's own `gcm` result. Returns the reason when the claim cannot be tested, or when a sum
+ * leaves the range of doubles in the data's units.
+ * Cost: as the row path, O(n · p²).
+ * @example gcmSiteSums("gcm", { x: "crp", y: "bmi", given: ["age"] }, ctx) // { ok: true, sums: { n, params, cross, scatter, … } }
+ */
+export function gcmSiteSums(name: TestName, claim: Claim, ctx: TestContext): { ok: true; sums: GcmSiteSums } | { ok: false; reason: string } {
+  const cols = claimColumns(claim, ctx.table);
+  if (!Array.isArray(cols)) return cols;
+  const fitted = fitRowPath(name, claim, cols, ctx);
+  if (!("layout" in fitted)) return fitted as { ok: false; reason: string };
+  const { layout, f, values } = fitted;
+  const { fit, n, qx, qy, level } = f;
+  const q = qx + qy;
+  const qq = qx * qy;
+  const snap = fit.snapshots[level]!;
+  const kept = snap.kept;
+  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
+  const sumR = new Float64Array(qq);
+  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = (n - 1) * snap.residual[a * q + qx + b]!;
+  const adf: AdfSums | undefined = qq === 1 ? { scale: [1, 1] } : undefined;
+  const raw = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, sumR.map((v) => v / n), new Float64Array(q), adf, false);
+  const E = Array.from({ length: q }, (_, r) => values.side(r).exponent ?? 0);
+  const cross = new Float64Array(q * q);
+  const lin = fit.snapshots[0]!;
+  const linCross = new Float64Array(q * q);
+  for (let a = 0; a < q; a++) {
+    for (let b = 0; b < q; b++) {
+      cross[a * q + b] = toDataUnits((n - 1) * snap.residual[a * q + b]!, E[a]! + E[b]!);
+      linCross[a * q + b] = toDataUnits((n - 1) * lin.residual[a * q + b]!, E[a]! + E[b]!);
+    }
+  }
+  const scatter = new Float64Array(qq * qq);
+  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) for (let c = 0; c < qx; c++) for (let d = 0; d < qy; d++) {
+    const at = (a * qy + b) * qq + c * qy + d;
+    scatter[at] = toDataUnits(raw[at]!, E[a]! + E[qx + b]! + E[c]! + E[qx + d]!);
+  }
+  let adfSums: GcmSiteSums["adf"];
+  if (adf?.sums) {
+    const [ex, ey] = [E[0]!, E[1]!];
+    const t = adf.sums;
+    adfSums = {
+      uu: toDataUnits(t.uu, 2 * ex), vv: toDataUnits(t.vv, 2 * ey), uv: toDataUnits(t.uv, ex + ey), uuvv: toDataUnits(t.uuvv, 2 * ex + 2 * ey),
+      uuuv: toDataUnits(t.uuuv, 3 * ex + ey), uvvv: toDataUnits(t.uvvv, ex + 3 * ey), uuuu: toDataUnits(t.uuuu, 4 * ex), vvvv: toDataUnits(t.vvvv, 4 * ey),
+    };
+  }
+  const all = [...cross, ...scatter, ...linCross, ...(adfSums ? Object.values(adfSums) : [])];
+  if (!all.every(Number.isFinite)) return { ok: false, reason: "a sum of this claim's residuals (up to their fourth powers) is beyond the range of double-precision numbers in the data's units; rescale the variables (e.g. other units) and summarize again" };
+  const xs = fitted.sides.slice(0, qx).map(sideLabel);
+  const ys = fitted.sides.slice(qx).map(sideLabel);
+  return {
+    ok: true,
+    sums: {
+      n,
+      params: kept,
+      sides: [xs, ys],
+      cross,
+      scatter,
+      ...(adfSums ? { adf: adfSums } : {}),
+      linear: { params: lin.kept, cross: linCross },
+      flexibility: { level, max_level: layout.cap, level_x: f.bestX, level_y: f.bestY, parameters: kept },
+      adjustment: layout.entered.map((en) => ({
+        variable: en.variable,
+        entered: en.entered === "spline" && level === 0 ? "linear" : en.entered,
+        columns: en.levelCounts.slice(0, level + 1).reduce((s, c) => s + c, 0),
+      })),
+      aliased: layout.adjustment.filter((c) => c.level <= level).length - kept,
+    },
+  };
+}
+
+/**
+ * A claim's residuals on one site's complete rows, in the data's units as in {@link gcmSiteSums}:
+ * per side column kept the residual e_r at each row (`residuals[r][t]`), and per row the
+ * conditional covariance of the residual products under the claim, V_x,t ⊗ V_y,t (qq × qq,
+ * `variance[t·qq² + …]`). For checking pooled results against a computation of their own
+ * (the residual products are R_t = e_x,t ⊗ e_y,t). Cost: O(n · (p·q + qq²)).
+ * @example gcmSiteResiduals("gcm", claim, ctx) // { ok: true, n, qx: 1, qy: 1, params, residuals: [ex, ey], variance }
+ */
+export function gcmSiteResiduals(name: TestName, claim: Claim, ctx: TestContext): { ok: true; n: number; qx: number; qy: number; params: number; residuals: Float64Array[]; variance: Float64Array } | { ok: false; reason: string } {
+  const cols = claimColumns(claim, ctx.table);
+  if (!Array.isArray(cols)) return cols;
+  const fitted = fitRowPath(name, claim, cols, ctx);
+  if (!("layout" in fitted)) return fitted as { ok: false; reason: string };
+  const { f, values } = fitted;
+  const { fit, n, qx, qy, level } = f;
+  const q = qx + qy;
+  const qq = qx * qy;
+  const kept = fit.snapshots[level]!.kept;
+  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
+  const columns = f.keptColumns.slice(0, kept).map((j) => values.adjustment(j));
+  const sides = Array.from({ length: q }, (_, r) => values.side(r));
+  const data = values.data();
+  const offs = Int32Array.from(sides, (sd) => sd.offset);
+  const residuals = Array.from({ length: q }, () => new Float64Array(n));
+  const variance = new Float64Array(n * qq * qq);
+  const e = new Float64Array(q);
+  const Vx = new Float64Array(qx * qx);
+  const Vy = new Float64Array(qy * qy);
+  for (let t = 0; t < n; t++) {
+    const i = values.index ? values.index[t]! : t;
+    for (let r = 0; r < q; r++) {
+      let v = data[offs[r]! + i]! - sides[r]!.mean;
+      for (let k = 0; k < kept; k++) v -= beta[r]![k]! * (data[columns[k]!.offset + i]! - columns[k]!.mean);
+      e[r] = v;
+      residuals[r]![t] = timesPowerOfTwo(v, -(sides[r]!.exponent ?? 0));
+    }
+    sideCovariance(Vx, e, 0, qx, sides, data, offs, i);
+    sideCovariance(Vy, e, qx, qy, sides, data, offs, i);
+    for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) for (let c = 0; c < qx; c++) for (let d = 0; d < qy; d++) {
+      const scale = (sides[a]!.exponent ?? 0) + (sides[qx + b]!.exponent ?? 0) + (sides[c]!.exponent ?? 0) + (sides[qx + d]!.exponent ?? 0);
+      variance[t * qq * qq + (a * qy + b) * qq + c * qy + d] = timesPowerOfTwo(Vx[a * qx + c]! * Vy[b * qy + d]!, -scale);
+    }
+  }
+  return { ok: true, n, qx, qy, params: kept, residuals, variance };
 }
 
 /** Whether claims of this table are tested on the rows (at most ROW_PATH_MAX_ROWS rows within the filter). */
