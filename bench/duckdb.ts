@@ -14,8 +14,9 @@
  * 5. `arrowaudit test --json` on a 10,000,000 × 20 continuous Parquet file generated here by
  *    DuckDB (a seeded-shape linear Gaussian chain, 4% missing in every fourth column; DuckDB's
  *    random() is not reproducible across threads, so the values differ between runs), read by
- *    the DuckDB engine into memory (the rows are materialised: the SQL moments are not wired
- *    into the audit yet), with wall time and peak RSS. BENCH_LARGE_ROWS changes its rows.
+ *    the DuckDB engine into memory with the default method, and with `--method linear` on the
+ *    rows-free path (the moments in DuckDB SQL, no rows loaded: cli/duckdbMomentsAudit.ts),
+ *    each with wall time and peak RSS. BENCH_LARGE_ROWS changes its rows.
  * Data: bench/out/numeric-<rows>.csv from bench/run.ts (generated here when absent). Set
  * BENCH_ROWS to run smaller. Writes bench/out/duckdb-results.json.
  */
@@ -127,7 +128,15 @@ export async function largeParquet(rowsLarge = Number(process.env.BENCH_LARGE_RO
   const run = await measure("node", [cli, "test", graph, path, "--json"], { cwd: root });
   if (run.code !== 0) throw new Error(`arrowaudit test failed (${run.code}): ${run.stderr}`);
   const result = JSON.parse(run.stdout) as { claims: unknown[]; data: { rows: number; patterns: number } };
-  return { data: path.slice(root.length + 1), rows: result.data.rows, columns: 20, patterns: result.data.patterns, claims: result.claims.length, megabytes: +(statSync(path).size / 2 ** 20).toFixed(1), end_to_end_s: +run.seconds.toFixed(2), peak_rss_mb: Math.round(run.peakRssMB), under_2_gib: run.peakRssMB < 2048 };
+  // --method linear: the rows-free path (moments in DuckDB SQL, no rows loaded)
+  const linear = await measure("node", [cli, "test", graph, path, "--json", "--method", "linear"], { cwd: root });
+  if (linear.code !== 0) throw new Error(`arrowaudit test --method linear failed (${linear.code}): ${linear.stderr}`);
+  const rowsFree = (JSON.parse(linear.stdout) as { warnings: string[] }).warnings.some((w) => w.startsWith("the rows were not loaded"));
+  return {
+    data: path.slice(root.length + 1), rows: result.data.rows, columns: 20, patterns: result.data.patterns, claims: result.claims.length, megabytes: +(statSync(path).size / 2 ** 20).toFixed(1),
+    end_to_end_s: +run.seconds.toFixed(2), peak_rss_mb: Math.round(run.peakRssMB), under_2_gib: run.peakRssMB < 2048,
+    linear: { rows_free: rowsFree, end_to_end_s: +linear.seconds.toFixed(2), peak_rss_mb: Math.round(linear.peakRssMB), under_2_gib: linear.peakRssMB < 2048 },
+  };
 }
 
 /** Largest relative difference between the p-values of two results, claim by claim. */
