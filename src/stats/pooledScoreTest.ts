@@ -391,3 +391,29 @@ export function pooledScoreStatistic(sites: readonly { score: ArrayLike<number>;
   const logP = q.df > 0 ? logChiSquareUpper(q.statistic, q.df) : 0;
   return { ...q, score: U, information: I, p: p > 0 ? p : Number.MIN_VALUE, log_p: logP };
 }
+
+/**
+ * The Newton step δ that solves I δ = U on the directions with information (a Cholesky sweep of
+ * I, {@link sweepFactor}), leaving the others at 0: one step of Fisher scoring from coefficients
+ * whose score is U and information I. Used to take a fit that stopped at its convergence
+ * criterion (coefficients within about 1e-7) to the maximum to working precision, which the
+ * efficient information needs: it depends on the coefficients to first order. Cost: O(P³).
+ * Source: McCullagh & Nelder (1989), §2.5 (Fisher scoring); Golub & Van Loan (2013), §4.2.
+ * @throws RangeError when sizes disagree
+ * @example newtonStep(new Float64Array([1, 0]), new Float64Array([2, 0, 0, 0]), 2) // [0.5, 0]
+ */
+export function newtonStep(U: ArrayLike<number>, I: ArrayLike<number>, P: number): Float64Array {
+  if (U.length !== P || I.length !== P * P) throw new RangeError(`score has ${U.length} and information ${I.length} entries, expected ${P} and ${P}×${P}`);
+  const all = Array.from({ length: P }, (_, j) => j);
+  const { kept, L } = sweepFactor(I, P, all);
+  const r = kept.length;
+  const y = forward(L, r, Float64Array.from(kept, (j) => U[j]!));
+  for (let i = r - 1; i >= 0; i--) {
+    let s = y[i]!;
+    for (let k = i + 1; k < r; k++) s -= L[k * r + i]! * y[k]!;
+    y[i] = s / L[i * r + i]!;
+  }
+  const delta = new Float64Array(P);
+  kept.forEach((j, t) => (delta[j] = y[t]!));
+  return delta;
+}

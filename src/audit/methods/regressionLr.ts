@@ -128,7 +128,7 @@ function countCodes(codes: Int32Array, seen: Float64Array, m: number): void {
  * sweep in column order that skips a column whose pivot falls below `tol` times its diagonal.
  * Cost: O(p³).
  */
-function independentColumns(G: Float64Array, p: number, tol = 1e-9): number[] {
+export function independentColumns(G: Float64Array, p: number, tol = 1e-9): number[] {
   // L rows for kept columns only (L[k] has entries for kept columns in order).
   const kept: number[] = [];
   const L: Float64Array[] = [];
