@@ -1,8 +1,10 @@
 /**
  * Audits pooled across sites (`summarize`, then `test <graph> site-a.json site-b.json …`): the
- * pooled result equals our own audit of the stacked rows with a site column added to every
- * conditioning set, and one linear and one categorical claim equal numpy/scipy computed directly
- * on the stacked rows; summaries of another graph or other settings are refused; the --min-cell
+ * pooled result of `--method linear` and `chisq` summaries equals our own audit of the stacked rows
+ * with a site column added to every conditioning set, and one linear and one categorical claim
+ * equal numpy/scipy computed directly on the stacked rows; under `--method auto` claims with a
+ * continuous variable get the flexible test from residual sums, and one site pooled alone equals
+ * that site's own `test`; summaries of another graph or other settings are refused; the --min-cell
  * rule; determinism. Data and reference values: `scripts/site_pooling_reference.py` (live when
  * python3 with numpy, scipy and pandas is available, else its committed output in
  * test/fixtures/sites).
@@ -14,7 +16,7 @@ import { join } from "node:path";
 import { beforeAll, describe, expect, it } from "vitest";
 import { runCli } from "../helpers/runCli.js";
 import type { AuditResult, TestedClaim } from "../../src/audit/types.js";
-import type { SiteSummary, TablesClaimSummary } from "../../src/audit/siteSummary.js";
+import type { ResidualsClaimSummary, SiteSummary, TablesClaimSummary } from "../../src/audit/siteSummary.js";
 
 const FIXTURES = join(__dirname, "..", "fixtures", "sites");
 const SCRIPT = join(__dirname, "..", "..", "scripts", "site_pooling_reference.py");
@@ -82,43 +84,55 @@ function expectSameClaim(pooled: TestedClaim, stacked: TestedClaim): void {
 }
 
 describe("pooled linear claims", () => {
-  it("test <graph> A.json B.json C.json equals test --method linear on the stacked rows with site in every set (1e-9)", async () => {
-    for (const s of ["A", "B", "C"]) await summarize("lin-graph.txt", `lin-${s}.csv`, `lin-${s}.json`, "--site", s);
-    const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-B.json", "lin-C.json"]);
+  it("test <graph> A.json B.json C.json of --method linear summaries equals test --method linear on the stacked rows with site in every set (1e-9)", async () => {
+    for (const s of ["A", "B", "C"]) await summarize("lin-graph.txt", `lin-${s}.csv`, `linl-${s}.json`, "--site", s, "--method", "linear");
+    const pooled = await auditJson(["lin-graph.txt", "linl-A.json", "linl-B.json", "linl-C.json"]);
     const stacked = await auditJson(["lin-graph-site.txt", "lin-stacked.csv", "--method", "linear", "--types", "site=nominal"]);
     const byPair = new Map(stacked.claims.map((c) => [pair(c), c]));
     const linear = pooled.claims.filter((c) => c.test === "pearson-partial");
     expect(linear.map(pair).sort()).toEqual(["a ⫫ c", "a ⫫ d", "b ⫫ d"]);
     for (const c of linear) expectSameClaim(c, byPair.get(pair(c))!);
     expect(pooled.untestable).toEqual([]);
-    expect(pooled.warnings).toContain("3 claims with a continuous variable got the linear partial-correlation test given the set and the site, not the default flexible test, which needs rows");
+    // the claims with nominal g as a side: --method linear falls back to the automatic choice there, as on rows (gcm)
+    expect(pooled.claims.filter((c) => c.test === "gcm").map(pair).sort()).toEqual(["a ⫫ g", "c ⫫ g"]);
     expect(pooled.data.source).toEqual({
       kind: "sites",
       n: 1650,
       sites: [
-        { site: "A", file: "lin-A.json", n: 400 },
-        { site: "B", file: "lin-B.json", n: 700 },
-        { site: "C", file: "lin-C.json", n: 550 },
+        { site: "A", file: "linl-A.json", n: 400 },
+        { site: "B", file: "linl-B.json", n: 700 },
+        { site: "C", file: "linl-C.json", n: 550 },
       ],
     }); // sizes set in scripts/site_pooling_reference.py
   });
 
-  it("claims with nominal g as a side equal test --method regression on the stacked rows with site in every set (Gaussian LR, 1e-9)", async () => {
+  it("under --method auto one site pooled alone equals test on that site's rows for every claim, nominal g as a side included (gcm: statistic, p, effect, interval, 1e-9)", async () => {
     for (const s of ["A", "B", "C"]) await summarize("lin-graph.txt", `lin-${s}.csv`, `lin-${s}.json`, "--site", s);
-    const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-B.json", "lin-C.json"]);
-    const stacked = await auditJson(["lin-graph-site.txt", "lin-stacked.csv", "--method", "regression", "--types", "site=nominal"]);
-    const byPair = new Map(stacked.claims.map((c) => [pair(c), c]));
-    const lr = pooled.claims.filter((c) => c.test === "regression-lr");
-    expect(lr.map(pair).sort()).toEqual(["a ⫫ g", "c ⫫ g"]);
-    for (const c of lr) {
-      expectSameClaim(c, byPair.get(pair(c))!);
-      expect(c.details?.parameters_full).toBe(byPair.get(pair(c))!.details?.parameters_full);
+    for (const s of ["A", "C"]) {
+      const alone = await auditJson(["lin-graph.txt", `lin-${s}.json`]);
+      const own = await auditJson(["lin-graph.txt", `lin-${s}.csv`]);
+      const byPair = new Map(own.claims.map((c) => [pair(c), c]));
+      expect(alone.claims.map(pair).sort()).toEqual(["a ⫫ c", "a ⫫ d", "a ⫫ g", "b ⫫ d", "c ⫫ g"]);
+      for (const c of alone.claims) {
+        const o = byPair.get(pair(c))!;
+        expect([c.test, o.test]).toEqual(["gcm", "gcm"]);
+        expect([c.n, c.df]).toEqual([o.n, o.df]);
+        for (const [what, a, b] of [["statistic", c.statistic, o.statistic], ["p", c.p, o.p], ["effect", c.effect, o.effect], ["ci low", c.ci[0], o.ci[0]], ["ci high", c.ci[1], o.ci[1]]] as const) {
+          expect(rel(a, b), `site ${s} ${pair(c)} ${what}: pooled ${a}, own ${b}`).toBeLessThan(1e-9);
+        }
+      }
+      expect(alone.claims.filter((c) => c.details?.f !== undefined).map(pair).sort()).toEqual(["a ⫫ g", "c ⫫ g"]); // g's two residual products
     }
+    const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-B.json", "lin-C.json"]);
+    expect(pooled.claims.every((c) => c.test === "gcm" && c.details?.sites === 3)).toBe(true);
+    expect(pooled.untestable).toEqual([]);
+    expect(pooled.claims[0]!.details?.site_adjustment).toContain("site-specific");
+    expect(pooled.warnings).toContain("5 claims with a continuous variable got the flexible test (gcm) pooled from the sites' residual sums, with the adjustment for the set fitted at each site on its own rows (the set interacted with site)");
   });
 
-  it("b ⫫ d | a, g, c pooled equals numpy's residual correlation given S and site indicators and scipy's t (1e-9)", async () => {
-    for (const s of ["A", "B", "C"]) await summarize("lin-graph.txt", `lin-${s}.csv`, `lin-${s}.json`, "--site", s);
-    const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-B.json", "lin-C.json"]);
+  it("b ⫫ d | a, g, c pooled from --method linear summaries equals numpy's residual correlation given S and site indicators and scipy's t (1e-9)", async () => {
+    for (const s of ["A", "B", "C"]) await summarize("lin-graph.txt", `lin-${s}.csv`, `linl-${s}.json`, "--site", s, "--method", "linear");
+    const pooled = await auditJson(["lin-graph.txt", "linl-A.json", "linl-B.json", "linl-C.json"]);
     const c = pooled.claims.find((k) => pair(k) === "b ⫫ d")!;
     expect(c.n).toBe(ref.linear.n); // numpy: complete cases of the stacked rows
     expect(c.df).toBe(ref.linear.df); // numpy: n − 2 − (columns of S and site)
@@ -128,11 +142,11 @@ describe("pooled linear claims", () => {
     expect(c.details?.sites).toBe(3);
   });
 
-  it("test prints the sites and their rows, and says claims with a continuous variable get the linear test", async () => {
+  it("test prints the sites and their rows, and says claims with a continuous variable get the flexible test with a site-specific adjustment", async () => {
     for (const s of ["A", "B"]) await summarize("lin-graph.txt", `lin-${s}.csv`, `lin-${s}.json`, "--site", s);
     const out = await ok(["test", "lin-graph.txt", "lin-A.json", "lin-B.json"]);
     expect(out).toContain("pooled from 2 site summaries (A: 400 rows, B: 700 rows; 1,100 rows in all)");
-    expect(out).toContain("linear partial-correlation test");
+    expect(out.replace(/\s+/g, " ")).toContain("5 claims with a continuous variable got the flexible test (gcm) pooled from the sites' residual sums, with the adjustment for the set fitted at each site on its own rows");
     expect(out.replace(/\s+/g, " ")).toContain("type inferred from the values at the sites; declare it with summarize --types at every site if wrong");
   });
 });
@@ -230,21 +244,32 @@ describe("refusals", () => {
   });
 
   it("a claim whose design columns differ between sites (an edited file) is untestable with the reason, not pooled", async () => {
-    await summarize("lin-graph.txt", "lin-A.csv", "lin-A.json", "--site", "A");
-    const b = await summarize("lin-graph.txt", "lin-B.csv", "lin-B.json", "--site", "B");
+    await summarize("lin-graph.txt", "lin-A.csv", "linl-A.json", "--site", "A", "--method", "linear");
+    const b = await summarize("lin-graph.txt", "lin-B.csv", "linl-B.json", "--site", "B", "--method", "linear");
     const k = b.claims.findIndex((c) => c.kind === "moments");
     const edited = structuredClone(b);
     (edited.claims[k] as { columns: string[] }).columns[0] = "renamed";
     writeFileSync(join(dir, "lin-Bedit.json"), JSON.stringify(edited));
-    const pooled = await auditJson(["lin-graph.txt", "lin-A.json", "lin-Bedit.json"]);
+    const pooled = await auditJson(["lin-graph.txt", "linl-A.json", "lin-Bedit.json"]);
     const u = pooled.untestable.find((c) => pair(c) === pair(b.claims[k]!))!;
     expect(u.reason).toContain("the sites' summaries of this claim have different design columns");
     const other = structuredClone(b);
     const c = other.claims[k]!;
     other.claims[k] = { x: c.x, y: c.y, given: c.given, kind: "tables", n: 10, strata: [], dropped: { strata: 0, rows: 0 } };
     writeFileSync(join(dir, "lin-Bkind.json"), JSON.stringify(other));
-    const mixed = await auditJson(["lin-graph.txt", "lin-A.json", "lin-Bkind.json"]);
+    const mixed = await auditJson(["lin-graph.txt", "linl-A.json", "lin-Bkind.json"]);
     expect(mixed.untestable.find((t) => pair(t) === pair(c))!.reason).toContain("are of different kinds (moments and tables)");
+    // residual sums whose side columns differ (a level of g absent at one site) are not stacked
+    await summarize("lin-graph.txt", "lin-A.csv", "lin-A.json", "--site", "A");
+    const r = await summarize("lin-graph.txt", "lin-B.csv", "lin-B.json", "--site", "B");
+    const j = r.claims.findIndex((c) => pair(c) === "c ⫫ g");
+    const sides = structuredClone(r);
+    const rc = sides.claims[j] as ResidualsClaimSummary;
+    expect(rc.sides).toEqual([["g=north", "g=south"], ["c"]]); // g's levels but the first ("east")
+    rc.sides = [["g=east", "g=south"], ["c"]];
+    writeFileSync(join(dir, "lin-Bsides.json"), JSON.stringify(sides));
+    const odd = await auditJson(["lin-graph.txt", "lin-A.json", "lin-Bsides.json"]);
+    expect(odd.untestable.find((t) => pair(t) === "c ⫫ g")!.reason).toContain("the sites' residuals of this claim are of different side columns");
   });
 
   it("a summary that is not one, or of another version, is an input error naming the file", async () => {
@@ -253,10 +278,15 @@ describe("refusals", () => {
     expect(r.code).toBe(2);
     expect(r.stderr).toContain("bad.json: is not a site summary");
     const s = await summarize("lin-graph.txt", "lin-A.csv", "lin-A.json", "--site", "A");
-    writeFileSync(join(dir, "v2.json"), JSON.stringify({ ...s, version: 2 }));
-    const v = await cli(["test", "lin-graph.txt", "v2.json"]);
+    writeFileSync(join(dir, "v3.json"), JSON.stringify({ ...s, version: 3 }));
+    const v = await cli(["test", "lin-graph.txt", "v3.json"]);
     expect(v.code).toBe(2);
-    expect(v.stderr).toContain("v2.json: is a site summary of version 2");
+    expect(v.stderr).toContain("v3.json: is a site summary of version 3, and this arrowaudit reads version 2");
+    // a summary of the previous format among current ones: refused by name, with what changed
+    writeFileSync(join(dir, "v1.json"), JSON.stringify({ ...s, version: 1 }));
+    const old = await cli(["test", "lin-graph.txt", "lin-A.json", "v1.json"]);
+    expect(old.code).toBe(2);
+    expect(old.stderr).toContain("v1.json: is a site summary of version 1, and this arrowaudit reads version 2 (version 1 held the linear test's moments for claims with a continuous variable, which are now pooled by the flexible test from residual sums); summarize every site again with this version");
     writeFileSync(join(dir, "cut.json"), JSON.stringify(s).slice(0, 200));
     const cut = await cli(["test", "lin-graph.txt", "cut.json"]);
     expect(cut.code).toBe(2);
@@ -291,7 +321,7 @@ describe("disclosure control (--min-cell)", () => {
     expect((ac as { reason: string }).reason).toContain("0 complete cases at this site, fewer than --min-cell 5");
     // no claim's numbers come from 1 … 4 rows; the claims without c use the 7 rows
     for (const c of s.claims) if (c.kind !== "untestable") expect(c.n).toBeGreaterThanOrEqual(5);
-    expect(s.claims.filter((c) => c.kind === "moments").map((c) => (c as { n: number }).n)).toEqual([]);
+    expect(s.claims.filter((c) => c.kind === "moments" || c.kind === "residuals").map((c) => (c as { n: number }).n)).toEqual([]);
     // every number in the file is the same as for the file without the 4 rows
     writeFileSync(join(dir, "small7.csv"), [lines[0], ...lines.slice(5)].join("\n") + "\n");
     const s7 = await summarize("lin-graph.txt", "small7.csv", "small7.json", "--site", "S", ...cont);
@@ -324,7 +354,7 @@ describe("disclosure control (--min-cell)", () => {
     const bd = s.claims.find((c) => pair(c) === "b ⫫ d")!;
     expect(bd.kind).toBe("untestable");
     expect((bd as { reason: string }).reason).toContain('the level "west" of "g" has 1 row among its complete cases at this site, fewer than --min-cell 5');
-    expect(s.claims.find((c) => pair(c) === "a ⫫ c")!.kind).toBe("moments"); // no g in it
+    expect(s.claims.find((c) => pair(c) === "a ⫫ c")!.kind).toBe("residuals"); // no g in it
     expect(readFileSync(join(dir, "west.json"), "utf8")).not.toContain("g=west");
   });
 
