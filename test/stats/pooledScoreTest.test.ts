@@ -2,7 +2,7 @@ import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import {
-  categoryProbabilities, efficientScore, multinomialScoreInformation, pooledScoreStatistic, scoreInformationAt, scoreQuadraticForm,
+  categoryProbabilities, efficientScore, multinomialScoreInformation, newtonStep, pooledScoreStatistic, scoreInformationAt, scoreQuadraticForm,
 } from "../../src/stats/pooledScoreTest.js";
 import { logisticRegression } from "../../src/stats/logisticRegression.js";
 import { multinomialLogit } from "../../src/stats/multinomialLogit.js";
@@ -172,6 +172,25 @@ describe("pooledScoreTest pieces", () => {
     const r = pooledScoreStatistic([{ score: [100], information: [[1e-2]] }]);
     expect(r.p).toBeGreaterThan(0);
     expect(r.log_p).toBeLessThan(-400000); // statistic 1e6 on 1 df: ln p ≈ −5e5 (from memory: −x/2 − ½ ln(πx/2))
+  });
+
+  it("newtonStep solves I δ = U on the directions with information and leaves the others at 0", () => {
+    // I = [[2, 0, 0], [0, 0, 0], [0, 0, 4]] (the second direction has no information), U = (1, 5, 2): δ = (0.5, 0, 0.5) by hand
+    const d = newtonStep(new Float64Array([1, 5, 2]), new Float64Array([2, 0, 0, 0, 0, 0, 0, 0, 4]), 3);
+    expect(d[0]).toBeCloseTo(0.5, 15);
+    expect(d[1]).toBe(0);
+    expect(d[2]).toBeCloseTo(0.5, 15);
+  });
+
+  it("newtonStep from statsmodels' null fit moved by 1e-3 returns to it: one scoring step for the logistic model (1e-5)", () => {
+    const c = ref.single.logistic!;
+    const { N, p0, y, m } = designs(c);
+    const theta0 = Array.from({ length: p0 }, (_, j) => c.theta[j]!);
+    const start = theta0.map((v) => v + 1e-3);
+    const si = multinomialScoreInformation(N, m, p0, y, 2, start);
+    const next = start.map((v, j) => v + newtonStep(si.score, si.information, p0)[j]!);
+    // Newton converges quadratically: an error of 1e-3 becomes of the order of 1e-6
+    for (let j = 0; j < p0; j++) expect(Math.abs(next[j]! - theta0[j]!)).toBeLessThan(1e-5); // statsmodels Logit params
   });
 
   it("pooledScoreStatistic refuses sites of different sizes, naming the site", () => {
