@@ -1,19 +1,27 @@
 /**
  * An audit pooled from site summaries (`siteSummary.ts`), with site as a stratum.
  *
- * Terms. For a linear claim the pooled cross-product matrix is W = Σ_s W_s, the sum over sites of
+ * Terms. For a flexible claim (residual sums, `gcm` at the sites) the statistic is the generalised
+ * covariance measure of the *stacked residual products* of all sites: each site s fitted its own
+ * flexible adjustment for S to its own complete cases (its basis, knots and cross-validated level,
+ * with its own intercept: the adjustment of the stacked rows with S fully interacted with site,
+ * p = Σ_s p_s + sites − 1 columns), and the sums add: Σ R (the x-by-y block of Σ e eᵀ), Σ V (the
+ * conditional variances of the products under the claim, centred at the pooled mean of R, which
+ * gives σ̂² = Σ V/N − mean(R)²: the empirical variance of the stacked R for two scored sides), the
+ * residual correlation Σ e_x e_y / √(Σ e_x² Σ e_y²) and the fourth-order sums of its interval.
+ * They go through `gcmTestFromSums`, the function `gcm` itself calls, so one site alone gives its
+ * own `gcm` result (Shah & Peters 2020, Annals of Statistics 48:1514–1538). The linear check
+ * (`details.linear_adjustment`) pools the linear fits' Σ e eᵀ the same way. The claim's details
+ * (`site_adjustment`, `flexibility.sites`) and warnings say the adjustment was site-specific.
+ * For a linear claim the pooled cross-product matrix is W = Σ_s W_s, the sum over sites of
  * the within-site centred cross-products, on n = Σ n_s complete cases. W is the cross-product
  * matrix of the stacked rows after removing each site's mean, i.e. the residuals of a regression
  * on site indicators, so the partial correlation of x and y given the columns of S computed from
  * W equals the one given S and the site indicators on the stacked rows (Frisch & Waugh 1933,
  * Econometrica 1:387–401); its t test loses one df per site beyond the first (c + sites − 1
- * conditioning columns); a claim with a nominal side gets the Gaussian likelihood-ratio test of
- * the linear model of its scored side from the same W (as `regression-lr` on the stacked rows
- * with site in the set). For a categorical claim each site's strata are strata of their own
+ * conditioning columns). For a categorical claim each site's strata are strata of their own
  * (site added to S), and the stratified chi-square test runs on all of them. A site where a claim
- * is untestable is left out of that claim, and the claim's warnings say so. Claims with a
- * continuous variable therefore get the linear partial-correlation test when pooled, whatever
- * `--method`: the default flexible test reads rows.
+ * is untestable is left out of that claim, and the claim's warnings say so.
  */
 import { InputError } from "../errors.js";
 import type { Graph } from "../graph/Graph.js";

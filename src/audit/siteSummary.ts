@@ -2,16 +2,17 @@
  * The site summary: what the audit of one graph needs from one site's rows, with no row-level
  * value, so that sites can pool an audit without sharing rows (`poolSiteSummaries`).
  *
- * Terms. A *site* is one data file of a consortium. A *linear claim* is one whose x and y have
- * scores (continuous, binary, ordinal), or (method auto) whose one side is nominal and the other
- * continuous or ordinal (the nominal side as indicators of its levels but the first); its site statistics are the complete-case count, the
+ * Terms. A *site* is one data file of a consortium. A claim's kind follows the test the site's own
+ * audit would choose under the method (`chooseMethod`). A *linear claim* (method linear, x and y
+ * with scores: continuous, binary, ordinal) has as its site statistics the complete-case count, the
  * means and the *cross-product matrix* W = Σ (z − z̄)(z − z̄)ᵀ (centred sums of squares and
  * products, not divided by n − 1) of the design columns: x, y, and each member of S as its score
  * (continuous, binary) or as 0/1 indicators of its levels but the first (ordinal, nominal), as
  * `claimMoments.ts` enters them. A *categorical claim* (x, y and S all categorical) keeps one
  * x-by-y count table per *stratum* (a combination of S's levels seen at the site).
- * A *flexible claim* (method auto: every claim the site's own audit would test with `gcm`, i.e.
- * with a continuous variable; this replaces the linear claims of method auto) keeps the sums of
+ * A *flexible claim* (every claim the site's own audit would test with `gcm`: under method auto
+ * every claim with a continuous variable, under linear or chisq those the forced test does not
+ * take) keeps the sums of
  * the generalised covariance measure over its complete cases (`gcmSiteSums` in
  * `methods/gcm.ts`): the site fits the flexible adjustment for S to its own complete cases
  * exactly as `gcm` does (its own basis, knots and cross-validated level, on all its complete
