@@ -91,6 +91,23 @@ describe("summarizeSite(table, options)", () => {
   });
 });
 
+describe("parseSiteSummary(text, file)", () => {
+  it("parseSiteSummary refuses a residuals claim whose sums do not fit its side columns, naming the field", () => {
+    const g = graphOf("s -> x\ns -> y\n");
+    const n = 40;
+    const s = site(g, { s: normals(7, n), x: normals(8, n), y: normals(9, n) }, "R");
+    const k = s.claims.findIndex((c) => c.kind === "residuals");
+    expect(k).toBeGreaterThanOrEqual(0);
+    expect(parseSiteSummary(JSON.stringify(s), "r.json")).toEqual(s);
+    const edited = JSON.parse(JSON.stringify(s)) as { claims: Record<string, unknown>[] };
+    edited.claims[k]!.product_variance = [[1, 2], [3, 4]]; // one product: a 1 × 1 matrix
+    expect(() => parseSiteSummary(JSON.stringify(edited), "r.json")).toThrow(`r.json: field "claims[${k}].product_variance" must be a 1 × 1 matrix of finite numbers`);
+    const noSides = JSON.parse(JSON.stringify(s)) as { claims: Record<string, unknown>[] };
+    noSides.claims[k]!.sides = [["x"], []];
+    expect(() => parseSiteSummary(JSON.stringify(noSides), "r.json")).toThrow(`r.json: field "claims[${k}].sides" must be two non-empty lists of column names`);
+  });
+});
+
 describe("poolSiteSummaries(graph, sha, file, sites)", () => {
   it("poolSiteSummaries of --method linear summaries equals the stacked rows' partial correlation given S and site indicators (least squares here, 1e-9) and does not mutate its inputs", () => {
     const g = graphOf(GRAPH);
