@@ -12,10 +12,9 @@
  * x-by-y count table per *stratum* (a combination of S's levels seen at the site).
  * A *flexible claim* (every claim the site's own audit would test with `gcm`: under method auto
  * every claim with a continuous variable, under linear or chisq those the forced test does not
- * take) keeps the sums of
- * the generalised covariance measure over its complete cases (`gcmSiteSums` in
- * `methods/gcm.ts`): the site fits the flexible adjustment for S to its own complete cases
- * exactly as `gcm` does (its own basis, knots and cross-validated level, on all its complete
+ * take) keeps the sums of the generalised covariance measure over its complete cases
+ * (`gcmSiteSums`, from `gcm`'s own row-path fit exported by `methods/gcm.ts`): the site fits the
+ * flexible adjustment for S to its own complete cases exactly as `gcm` does (its own basis, knots and cross-validated level, on all its complete
  * cases: the row path whatever the site's size, not the moment path with a variance sample that
  * `gcm` takes above `ROW_PATH_MAX_ROWS` rows), and writes, in the units of the data, n, the
  * adjustment columns p, the side columns, Σ e eᵀ of the side residuals e (its x-by-y block is
@@ -56,9 +55,11 @@ import { buildPatternMoments } from "../data/buildPatternMoments.js";
 import { claimMoments } from "./methods/claimMoments.js";
 import { CATEGORICAL_TYPES } from "../data/Table.js";
 import { chooseMethod } from "./methods/index.js";
-import { gcmSiteResiduals, gcmSiteSums } from "./methods/gcm.js";
+import { claimColumns, fitRowPath, residualProductScatter, sideCovariance, type AdfSums, type ClaimColumn } from "./methods/gcm.js";
 import type { AdjustmentEntry } from "./methods/adjustmentDetails.js";
 import type { TestContext } from "./TestMethod.js";
+import type { TestName } from "./types.js";
+import { timesPowerOfTwo } from "../stats/powerOfTwoScale.js";
 
 /** The format tag of a site summary file. */
 export const SITE_SUMMARY_FORMAT = "arrowaudit-site-summary";
@@ -257,6 +258,166 @@ function suppressSmallPatterns(table: Table, measured: readonly string[], keep: 
   }
   if (patterns > 0) for (let r = 0; r < table.rows; r++) if (keep[r] && counts.get(keys[r]!)! < k) keep[r] = 0;
   return { rows, patterns };
+}
+
+/**
+ * A claim's sums of the flexible test over one site's complete rows, from which sites are pooled
+ * (`poolSiteSummaries.ts`), in the units of the data: a side
+ * column's residuals are those of its values as they are (indicators 0/1). The rows' own values
+ * are not in it. q = qx + qy side columns, qq = qx·qy residual products.
+ */
+export interface GcmSiteSums {
+  /** Complete cases. */
+  n: number;
+  /** Adjustment columns kept at the chosen level (intercept excluded). */
+  params: number;
+  /** The side columns whose residuals enter, x's then y's: the variable's name, or `name=level` for a level indicator. */
+  sides: [string[], string[]];
+  /** Σ_t e_t e_tᵀ of the q side residuals (q × q row-major; its x-by-y block is Σ R). */
+  cross: Float64Array;
+  /** Σ_t V_x,t ⊗ V_y,t, the conditional covariances of the residual products under the claim summed, not centred (qq × qq). */
+  scatter: Float64Array;
+  /** One product: Σ e_x², Σ e_y², Σ e_x e_y, Σ e_x²e_y², Σ e_x³e_y, Σ e_x e_y³, Σ e_x⁴, Σ e_y⁴ (the ADF variance's sums). */
+  adf?: { uu: number; vv: number; uv: number; uuvv: number; uuuv: number; uvvv: number; uuuu: number; vvvv: number };
+  /** The level-0 (linear) fit: its kept adjustment columns and Σ e eᵀ of its q residuals. */
+  linear: { params: number; cross: Float64Array };
+  flexibility: { level: number; max_level: number; level_x: number; level_y: number; parameters: number };
+  adjustment: AdjustmentEntry[];
+  /** Adjustment columns aliased with others (or constant) and left out at the chosen level. */
+  aliased: number;
+}
+
+/** x·2^−e, or NaN when that leaves the normal range of doubles (a sum beyond range in the data's units). */
+function toDataUnits(x: number, e: number): number {
+  const v = timesPowerOfTwo(x, -e);
+  return Number.isFinite(v) && (x === 0 || Math.abs(v) >= 2 ** -1020) ? v : NaN;
+}
+
+/** The label of a side column: its variable, or `variable=level` for an indicator. */
+function sideLabel(c: ClaimColumn): string {
+  return c.code !== undefined ? `${c.variable}=${c.column.levels![c.code]!}` : c.variable;
+}
+
+/**
+ * The sums of {@link GcmSiteSums} for a claim on the table of one site: `gcm`'s row path
+ * (`fitRowPath`, `residualProductScatter` of `methods/gcm.ts`) on *all* the
+ * claim's complete rows whatever the table's size (its basis, knots and cross-validated level are
+ * the site's own; the knots come from `varianceSample`, every row up to VARIANCE_SAMPLE_ROWS),
+ * so for a table of at most ROW_PATH_MAX_ROWS rows {@link gcmTestFromSums} on them gives the
+ * site's own `gcm` result. Returns the reason when the claim cannot be tested, or when a sum
+ * leaves the range of doubles in the data's units.
+ * Cost: as the row path, O(n · p²).
+ * @example gcmSiteSums("gcm", { x: "crp", y: "bmi", given: ["age"] }, ctx) // { ok: true, sums: { n, params, cross, scatter, … } }
+ */
+export function gcmSiteSums(name: TestName, claim: Claim, ctx: TestContext): { ok: true; sums: GcmSiteSums } | { ok: false; reason: string } {
+  const cols = claimColumns(claim, ctx.table);
+  if (!Array.isArray(cols)) return cols;
+  const fitted = fitRowPath(name, claim, cols, ctx);
+  if (!("layout" in fitted)) return fitted as { ok: false; reason: string };
+  const { layout, f, values } = fitted;
+  const { fit, n, qx, qy, level } = f;
+  const q = qx + qy;
+  const qq = qx * qy;
+  const snap = fit.snapshots[level]!;
+  const kept = snap.kept;
+  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
+  const sumR = new Float64Array(qq);
+  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = (n - 1) * snap.residual[a * q + qx + b]!;
+  const adf: AdfSums | undefined = qq === 1 ? { scale: [1, 1] } : undefined;
+  const raw = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, sumR.map((v) => v / n), new Float64Array(q), adf, false);
+  const E = Array.from({ length: q }, (_, r) => values.side(r).exponent ?? 0);
+  const cross = new Float64Array(q * q);
+  const lin = fit.snapshots[0]!;
+  const linCross = new Float64Array(q * q);
+  for (let a = 0; a < q; a++) {
+    for (let b = 0; b < q; b++) {
+      cross[a * q + b] = toDataUnits((n - 1) * snap.residual[a * q + b]!, E[a]! + E[b]!);
+      linCross[a * q + b] = toDataUnits((n - 1) * lin.residual[a * q + b]!, E[a]! + E[b]!);
+    }
+  }
+  const scatter = new Float64Array(qq * qq);
+  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) for (let c = 0; c < qx; c++) for (let d = 0; d < qy; d++) {
+    const at = (a * qy + b) * qq + c * qy + d;
+    scatter[at] = toDataUnits(raw[at]!, E[a]! + E[qx + b]! + E[c]! + E[qx + d]!);
+  }
+  let adfSums: GcmSiteSums["adf"];
+  if (adf?.sums) {
+    const [ex, ey] = [E[0]!, E[1]!];
+    const t = adf.sums;
+    adfSums = {
+      uu: toDataUnits(t.uu, 2 * ex), vv: toDataUnits(t.vv, 2 * ey), uv: toDataUnits(t.uv, ex + ey), uuvv: toDataUnits(t.uuvv, 2 * ex + 2 * ey),
+      uuuv: toDataUnits(t.uuuv, 3 * ex + ey), uvvv: toDataUnits(t.uvvv, ex + 3 * ey), uuuu: toDataUnits(t.uuuu, 4 * ex), vvvv: toDataUnits(t.vvvv, 4 * ey),
+    };
+  }
+  const all = [...cross, ...scatter, ...linCross, ...(adfSums ? Object.values(adfSums) : [])];
+  if (!all.every(Number.isFinite)) return { ok: false, reason: "a sum of this claim's residuals (up to their fourth powers) is beyond the range of double-precision numbers in the data's units; rescale the variables (e.g. other units) and summarize again" };
+  const xs = fitted.sides.slice(0, qx).map(sideLabel);
+  const ys = fitted.sides.slice(qx).map(sideLabel);
+  return {
+    ok: true,
+    sums: {
+      n,
+      params: kept,
+      sides: [xs, ys],
+      cross,
+      scatter,
+      ...(adfSums ? { adf: adfSums } : {}),
+      linear: { params: lin.kept, cross: linCross },
+      flexibility: { level, max_level: layout.cap, level_x: f.bestX, level_y: f.bestY, parameters: kept },
+      adjustment: layout.entered.map((en) => ({
+        variable: en.variable,
+        entered: en.entered === "spline" && level === 0 ? "linear" : en.entered,
+        columns: en.levelCounts.slice(0, level + 1).reduce((s, c) => s + c, 0),
+      })),
+      aliased: layout.adjustment.filter((c) => c.level <= level).length - kept,
+    },
+  };
+}
+
+/**
+ * A claim's residuals on one site's complete rows, in the data's units as in {@link gcmSiteSums}:
+ * per side column kept the residual e_r at each row (`residuals[r][t]`), and per row the
+ * conditional covariance of the residual products under the claim, V_x,t ⊗ V_y,t (qq × qq,
+ * `variance[t·qq² + …]`). For checking pooled results against a computation of their own
+ * (the residual products are R_t = e_x,t ⊗ e_y,t). Cost: O(n · (p·q + qq²)).
+ * @example gcmSiteResiduals("gcm", claim, ctx) // { ok: true, n, qx: 1, qy: 1, params, residuals: [ex, ey], variance }
+ */
+export function gcmSiteResiduals(name: TestName, claim: Claim, ctx: TestContext): { ok: true; n: number; qx: number; qy: number; params: number; residuals: Float64Array[]; variance: Float64Array } | { ok: false; reason: string } {
+  const cols = claimColumns(claim, ctx.table);
+  if (!Array.isArray(cols)) return cols;
+  const fitted = fitRowPath(name, claim, cols, ctx);
+  if (!("layout" in fitted)) return fitted as { ok: false; reason: string };
+  const { f, values } = fitted;
+  const { fit, n, qx, qy, level } = f;
+  const q = qx + qy;
+  const qq = qx * qy;
+  const kept = fit.snapshots[level]!.kept;
+  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
+  const columns = f.keptColumns.slice(0, kept).map((j) => values.adjustment(j));
+  const sides = Array.from({ length: q }, (_, r) => values.side(r));
+  const data = values.data();
+  const offs = Int32Array.from(sides, (sd) => sd.offset);
+  const residuals = Array.from({ length: q }, () => new Float64Array(n));
+  const variance = new Float64Array(n * qq * qq);
+  const e = new Float64Array(q);
+  const Vx = new Float64Array(qx * qx);
+  const Vy = new Float64Array(qy * qy);
+  for (let t = 0; t < n; t++) {
+    const i = values.index ? values.index[t]! : t;
+    for (let r = 0; r < q; r++) {
+      let v = data[offs[r]! + i]! - sides[r]!.mean;
+      for (let k = 0; k < kept; k++) v -= beta[r]![k]! * (data[columns[k]!.offset + i]! - columns[k]!.mean);
+      e[r] = v;
+      residuals[r]![t] = timesPowerOfTwo(v, -(sides[r]!.exponent ?? 0));
+    }
+    sideCovariance(Vx, e, 0, qx, sides, data, offs, i);
+    sideCovariance(Vy, e, qx, qy, sides, data, offs, i);
+    for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) for (let c = 0; c < qx; c++) for (let d = 0; d < qy; d++) {
+      const scale = (sides[a]!.exponent ?? 0) + (sides[qx + b]!.exponent ?? 0) + (sides[c]!.exponent ?? 0) + (sides[qx + d]!.exponent ?? 0);
+      variance[t * qq * qq + (a * qy + b) * qq + c * qy + d] = timesPowerOfTwo(Vx[a * qx + c]! * Vy[b * qy + d]!, -scale);
+    }
+  }
+  return { ok: true, n, qx, qy, params: kept, residuals, variance };
 }
 
 /** Which kind of statistics a claim gets under the method, or why none. */

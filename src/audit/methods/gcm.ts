@@ -82,7 +82,7 @@ export const UNDERSMOOTH_LEVELS = 1;
 export const ROWS_PER_PARAMETER = 10;
 
 /** One adjustment or side column of a claim: how to read its value in a row. */
-interface ClaimColumn {
+export interface ClaimColumn {
   variable: string;
   /** Level of the hierarchy (0 for indicators and linear terms). */
   level: number;
@@ -168,7 +168,7 @@ export function rowPathLevelCap(n: number, indicatorColumns: number, bases: read
 
 // ---------------------------------------------------------------------------------------------
 
-interface Layout {
+export interface Layout {
   /** Adjustment columns of every level up to the cap, in level order. */
   adjustment: ClaimColumn[];
   /** x then y side columns (one, or one per level but the first of a nominal side). */
@@ -239,7 +239,7 @@ function presentCodes(col: Column, idx: Int32Array): number[] {
 
 // ---------------------------------------------------------------------------------------------
 
-interface Fitted {
+export interface Fitted {
   fit: NestedAdjustment;
   n: number;
   /** Response columns kept (side columns that vary), x first. */
@@ -269,7 +269,7 @@ function chooseLevel(fit: NestedAdjustment, qx: number, q: number): { level: num
  * kept (x's first), with `shift` (its buffer value plus `shift` is the value itself) and, for a
  * side with two values a < b, `twoPoint: [a, b]`.
  */
-interface VarianceRows {
+export interface VarianceRows {
   rows: number;
   /**
    * Whether the rows are a sample of the claim's complete rows (moment path): the sample must
@@ -282,7 +282,7 @@ interface VarianceRows {
   side(r: number): SideValues;
 }
 
-interface SideValues {
+export interface SideValues {
   offset: number;
   mean: number;
   shift: number;
@@ -320,7 +320,7 @@ const FIT_FLOOR = 1e-6;
  * of the binomial and multinomial distributions (common practice). With `centre` false the sum
  * Σ_t V_x,t ⊗ V_y,t is returned as it is (a site summary's sum, centred once the sites are pooled).
  */
-function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array, squares: Float64Array, adf?: AdfSums, centre = true): Float64Array {
+export function residualProductScatter(values: VarianceRows, beta: readonly Float64Array[], columns: readonly number[], qx: number, qy: number, meanR: Float64Array, squares: Float64Array, adf?: AdfSums, centre = true): Float64Array {
   const q = qx + qy;
   const qq = qx * qy;
   const p = columns.length;
@@ -436,7 +436,7 @@ function residualProductScatter(values: VarianceRows, beta: readonly Float64Arra
  * e_y·scale[1], chosen near 1/σ so that fourth powers stay in range), for the ADF variance of the
  * residual correlation (`adfCoefficients`); filled by {@link residualProductScatter} for one product.
  */
-interface AdfSums {
+export interface AdfSums {
   scale: [number, number];
   sums?: { uu: number; vv: number; uv: number; uuvv: number; uuuv: number; uvvv: number; uuuu: number; vvvv: number };
 }
@@ -455,7 +455,7 @@ function twoPointVariance(mu: number, a: number, b: number): number {
  * indicator columns (a nominal side) diag(π) − ππᵀ of the fitted probabilities π = value − e,
  * clipped and scaled so that they sum to at most 1 − FIT_FLOOR.
  */
-function sideCovariance(V: Float64Array, e: Float64Array, from: number, k: number, sides: readonly SideValues[], data: Float64Array, offs: Int32Array, i: number): void {
+export function sideCovariance(V: Float64Array, e: Float64Array, from: number, k: number, sides: readonly SideValues[], data: Float64Array, offs: Int32Array, i: number): void {
   if (k === 1) {
     const sd = sides[from]!;
     const er = e[from]!;
@@ -878,7 +878,7 @@ function claimShiftedValues(c: ClaimColumn, idx: Int32Array, rows: number): Floa
 }
 
 /** A claim fitted on its complete rows: the layout, the nested fit with its chosen level, and the columns' values on those rows. */
-interface RowFit {
+export interface RowFit {
   layout: Layout;
   f: Fitted;
   values: VarianceRows;
@@ -893,8 +893,11 @@ function runRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestConte
   return outcomeOf(name, claim, fitted.layout, fitted.f, fitted.values, { path: "rows" }, ctx.alpha ?? 0.05) as MethodResult;
 }
 
-/** The row path up to the fit (see the module comment), or why the claim cannot be tested. Cost: O(n · p²). */
-function fitRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext, maxLevel = MAX_BASIS_LEVEL): RowFit | MethodResult {
+/**
+ * The row path up to the fit (see the module comment), or why the claim cannot be tested; for
+ * the site sums of `siteSummary.ts` too. Cost: O(n · p²).
+ */
+export function fitRowPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext, maxLevel = MAX_BASIS_LEVEL): RowFit | MethodResult {
   const [xCol, yCol, ...given] = cols as [Column, Column, ...Column[]];
   const idx = completeRows(cols, ctx.table.rows, ctx.rowFilter);
   const n = idx.length;
@@ -1358,8 +1361,8 @@ export function runGcmOn(path: "rows" | "moments", name: TestName, claim: Claim,
   return runRowPath(name, claim, cols, ctx);
 }
 
-/** The claim's columns, x, y, then S, or why they cannot be read. */
-function claimColumns(claim: Claim, table: Table): Column[] | { ok: false; reason: string } {
+/** The claim's columns, x, y, then S, or why they cannot be read (also for `siteSummary.ts`). */
+export function claimColumns(claim: Claim, table: Table): Column[] | { ok: false; reason: string } {
   const cols: Column[] = [];
   for (const v of [claim.x, claim.y, ...claim.given]) {
     const col = table.column(v);
@@ -1368,168 +1371,6 @@ function claimColumns(claim: Claim, table: Table): Column[] | { ok: false; reaso
     cols.push(col);
   }
   return cols;
-}
-
-// ---------------------------------------------------------------------------------------------
-// Sums for pooling across sites
-
-/**
- * A claim's sums over one site's complete rows, from which sites are pooled
- * (`audit/siteSummary.ts`, `audit/poolSiteSummaries.ts`), in the units of the data: a side
- * column's residuals are those of its values as they are (indicators 0/1). The rows' own values
- * are not in it. q = qx + qy side columns, qq = qx·qy residual products.
- */
-export interface GcmSiteSums {
-  /** Complete cases. */
-  n: number;
-  /** Adjustment columns kept at the chosen level (intercept excluded). */
-  params: number;
-  /** The side columns whose residuals enter, x's then y's: the variable's name, or `name=level` for a level indicator. */
-  sides: [string[], string[]];
-  /** Σ_t e_t e_tᵀ of the q side residuals (q × q row-major; its x-by-y block is Σ R). */
-  cross: Float64Array;
-  /** Σ_t V_x,t ⊗ V_y,t, the conditional covariances of the residual products under the claim summed, not centred (qq × qq). */
-  scatter: Float64Array;
-  /** One product: Σ e_x², Σ e_y², Σ e_x e_y, Σ e_x²e_y², Σ e_x³e_y, Σ e_x e_y³, Σ e_x⁴, Σ e_y⁴ (the ADF variance's sums). */
-  adf?: { uu: number; vv: number; uv: number; uuvv: number; uuuv: number; uvvv: number; uuuu: number; vvvv: number };
-  /** The level-0 (linear) fit: its kept adjustment columns and Σ e eᵀ of its q residuals. */
-  linear: { params: number; cross: Float64Array };
-  flexibility: { level: number; max_level: number; level_x: number; level_y: number; parameters: number };
-  adjustment: AdjustmentEntry[];
-  /** Adjustment columns aliased with others (or constant) and left out at the chosen level. */
-  aliased: number;
-}
-
-/** x·2^−e, or NaN when that leaves the normal range of doubles (a sum beyond range in the data's units). */
-function toDataUnits(x: number, e: number): number {
-  const v = timesPowerOfTwo(x, -e);
-  return Number.isFinite(v) && (x === 0 || Math.abs(v) >= 2 ** -1020) ? v : NaN;
-}
-
-/** The label of a side column: its variable, or `variable=level` for an indicator. */
-function sideLabel(c: ClaimColumn): string {
-  return c.code !== undefined ? `${c.variable}=${c.column.levels![c.code]!}` : c.variable;
-}
-
-/**
- * The sums of {@link GcmSiteSums} for a claim on the table of one site: the row path on *all* the
- * claim's complete rows whatever the table's size (its basis, knots and cross-validated level are
- * the site's own; the knots come from `varianceSample`, every row up to VARIANCE_SAMPLE_ROWS),
- * so for a table of at most ROW_PATH_MAX_ROWS rows {@link gcmTestFromSums} on them gives the
- * site's own `gcm` result. Returns the reason when the claim cannot be tested, or when a sum
- * leaves the range of doubles in the data's units.
- * Cost: as the row path, O(n · p²).
- * @example gcmSiteSums("gcm", { x: "crp", y: "bmi", given: ["age"] }, ctx) // { ok: true, sums: { n, params, cross, scatter, … } }
- */
-export function gcmSiteSums(name: TestName, claim: Claim, ctx: TestContext): { ok: true; sums: GcmSiteSums } | { ok: false; reason: string } {
-  const cols = claimColumns(claim, ctx.table);
-  if (!Array.isArray(cols)) return cols;
-  const fitted = fitRowPath(name, claim, cols, ctx);
-  if (!("layout" in fitted)) return fitted as { ok: false; reason: string };
-  const { layout, f, values } = fitted;
-  const { fit, n, qx, qy, level } = f;
-  const q = qx + qy;
-  const qq = qx * qy;
-  const snap = fit.snapshots[level]!;
-  const kept = snap.kept;
-  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
-  const sumR = new Float64Array(qq);
-  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = (n - 1) * snap.residual[a * q + qx + b]!;
-  const adf: AdfSums | undefined = qq === 1 ? { scale: [1, 1] } : undefined;
-  const raw = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, sumR.map((v) => v / n), new Float64Array(q), adf, false);
-  const E = Array.from({ length: q }, (_, r) => values.side(r).exponent ?? 0);
-  const cross = new Float64Array(q * q);
-  const lin = fit.snapshots[0]!;
-  const linCross = new Float64Array(q * q);
-  for (let a = 0; a < q; a++) {
-    for (let b = 0; b < q; b++) {
-      cross[a * q + b] = toDataUnits((n - 1) * snap.residual[a * q + b]!, E[a]! + E[b]!);
-      linCross[a * q + b] = toDataUnits((n - 1) * lin.residual[a * q + b]!, E[a]! + E[b]!);
-    }
-  }
-  const scatter = new Float64Array(qq * qq);
-  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) for (let c = 0; c < qx; c++) for (let d = 0; d < qy; d++) {
-    const at = (a * qy + b) * qq + c * qy + d;
-    scatter[at] = toDataUnits(raw[at]!, E[a]! + E[qx + b]! + E[c]! + E[qx + d]!);
-  }
-  let adfSums: GcmSiteSums["adf"];
-  if (adf?.sums) {
-    const [ex, ey] = [E[0]!, E[1]!];
-    const t = adf.sums;
-    adfSums = {
-      uu: toDataUnits(t.uu, 2 * ex), vv: toDataUnits(t.vv, 2 * ey), uv: toDataUnits(t.uv, ex + ey), uuvv: toDataUnits(t.uuvv, 2 * ex + 2 * ey),
-      uuuv: toDataUnits(t.uuuv, 3 * ex + ey), uvvv: toDataUnits(t.uvvv, ex + 3 * ey), uuuu: toDataUnits(t.uuuu, 4 * ex), vvvv: toDataUnits(t.vvvv, 4 * ey),
-    };
-  }
-  const all = [...cross, ...scatter, ...linCross, ...(adfSums ? Object.values(adfSums) : [])];
-  if (!all.every(Number.isFinite)) return { ok: false, reason: "a sum of this claim's residuals (up to their fourth powers) is beyond the range of double-precision numbers in the data's units; rescale the variables (e.g. other units) and summarize again" };
-  const xs = fitted.sides.slice(0, qx).map(sideLabel);
-  const ys = fitted.sides.slice(qx).map(sideLabel);
-  return {
-    ok: true,
-    sums: {
-      n,
-      params: kept,
-      sides: [xs, ys],
-      cross,
-      scatter,
-      ...(adfSums ? { adf: adfSums } : {}),
-      linear: { params: lin.kept, cross: linCross },
-      flexibility: { level, max_level: layout.cap, level_x: f.bestX, level_y: f.bestY, parameters: kept },
-      adjustment: layout.entered.map((en) => ({
-        variable: en.variable,
-        entered: en.entered === "spline" && level === 0 ? "linear" : en.entered,
-        columns: en.levelCounts.slice(0, level + 1).reduce((s, c) => s + c, 0),
-      })),
-      aliased: layout.adjustment.filter((c) => c.level <= level).length - kept,
-    },
-  };
-}
-
-/**
- * A claim's residuals on one site's complete rows, in the data's units as in {@link gcmSiteSums}:
- * per side column kept the residual e_r at each row (`residuals[r][t]`), and per row the
- * conditional covariance of the residual products under the claim, V_x,t ⊗ V_y,t (qq × qq,
- * `variance[t·qq² + …]`). For checking pooled results against a computation of their own
- * (the residual products are R_t = e_x,t ⊗ e_y,t). Cost: O(n · (p·q + qq²)).
- * @example gcmSiteResiduals("gcm", claim, ctx) // { ok: true, n, qx: 1, qy: 1, params, residuals: [ex, ey], variance }
- */
-export function gcmSiteResiduals(name: TestName, claim: Claim, ctx: TestContext): { ok: true; n: number; qx: number; qy: number; params: number; residuals: Float64Array[]; variance: Float64Array } | { ok: false; reason: string } {
-  const cols = claimColumns(claim, ctx.table);
-  if (!Array.isArray(cols)) return cols;
-  const fitted = fitRowPath(name, claim, cols, ctx);
-  if (!("layout" in fitted)) return fitted as { ok: false; reason: string };
-  const { f, values } = fitted;
-  const { fit, n, qx, qy, level } = f;
-  const q = qx + qy;
-  const qq = qx * qy;
-  const kept = fit.snapshots[level]!.kept;
-  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
-  const columns = f.keptColumns.slice(0, kept).map((j) => values.adjustment(j));
-  const sides = Array.from({ length: q }, (_, r) => values.side(r));
-  const data = values.data();
-  const offs = Int32Array.from(sides, (sd) => sd.offset);
-  const residuals = Array.from({ length: q }, () => new Float64Array(n));
-  const variance = new Float64Array(n * qq * qq);
-  const e = new Float64Array(q);
-  const Vx = new Float64Array(qx * qx);
-  const Vy = new Float64Array(qy * qy);
-  for (let t = 0; t < n; t++) {
-    const i = values.index ? values.index[t]! : t;
-    for (let r = 0; r < q; r++) {
-      let v = data[offs[r]! + i]! - sides[r]!.mean;
-      for (let k = 0; k < kept; k++) v -= beta[r]![k]! * (data[columns[k]!.offset + i]! - columns[k]!.mean);
-      e[r] = v;
-      residuals[r]![t] = timesPowerOfTwo(v, -(sides[r]!.exponent ?? 0));
-    }
-    sideCovariance(Vx, e, 0, qx, sides, data, offs, i);
-    sideCovariance(Vy, e, qx, qy, sides, data, offs, i);
-    for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) for (let c = 0; c < qx; c++) for (let d = 0; d < qy; d++) {
-      const scale = (sides[a]!.exponent ?? 0) + (sides[qx + b]!.exponent ?? 0) + (sides[c]!.exponent ?? 0) + (sides[qx + d]!.exponent ?? 0);
-      variance[t * qq * qq + (a * qy + b) * qq + c * qy + d] = timesPowerOfTwo(Vx[a * qx + c]! * Vy[b * qy + d]!, -scale);
-    }
-  }
-  return { ok: true, n, qx, qy, params: kept, residuals, variance };
 }
 
 /** Whether claims of this table are tested on the rows (at most ROW_PATH_MAX_ROWS rows within the filter). */
