@@ -82,7 +82,7 @@ export function parseSiteSummary(text: string, file: string): SiteSummary {
   const st = o.settings as Record<string, unknown> | undefined;
   if (typeof st !== "object" || st === null) bad("settings", "an object");
   if (!["union-parents", "minimal", "all-minimal"].includes(st!.sets as string)) bad("settings.sets", "union-parents, minimal or all-minimal");
-  if (!["auto", "linear", "chisq"].includes(st!.method as string)) bad("settings.method", "auto, linear or chisq");
+  if (!["auto", "linear", "chisq", "rank"].includes(st!.method as string)) bad("settings.method", "auto, linear, chisq or rank");
   if (typeof st!.listwise !== "boolean") bad("settings.listwise", "true or false");
   if (typeof st!.min_cell !== "number" || !Number.isInteger(st!.min_cell)) bad("settings.min_cell", "a whole number");
   if (!isStringArray(st!.unmeasured)) bad("settings.unmeasured", "a list of names");
@@ -119,7 +119,7 @@ const isCount = (v: unknown, least = 0): boolean => typeof v === "number" && Num
 
 /** The fields of a residuals claim (see `ResidualsClaimSummary`): shapes from its side columns. */
 function checkResidualsClaim(o: Record<string, unknown>, f: string, bad: (field: string, want: string) => never): void {
-  if (o.test !== "gcm") bad(`${f}.test`, '"gcm"');
+  if (o.test !== "gcm" && o.test !== "gcm-rank") bad(`${f}.test`, '"gcm" or "gcm-rank"');
   if (!isCount(o.n, 1)) bad(`${f}.n`, "a whole number above 0");
   if (!isCount(o.params)) bad(`${f}.params`, "a whole number");
   const sides = o.sides as unknown[];
@@ -236,6 +236,7 @@ export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[],
  * Cost: O(sites · q⁴ + q⁶) for q side columns (q⁴ entries of the products' variance).
  */
 export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummary[], sites: readonly string[], table: Table, alpha: number): MethodResult {
+  if (parts.some((p) => p.test !== parts[0]!.test)) return { ok: false, reason: "the sites' residuals of this claim come from different tests (gcm and gcm-rank); summarize every site with the same --method" };
   const sidesText = JSON.stringify(parts[0]!.sides);
   const odd = parts.findIndex((p) => JSON.stringify(p.sides) !== sidesText);
   if (odd >= 0) {
@@ -279,7 +280,7 @@ export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummar
   const perSite = parts.map((p, i) => ({ site: sites[i]!, ...p.flexibility }));
   const sideModel = (name: string) => {
     const c = table.column(name)!;
-    const what = c.type === "nominal" ? "level indicators" : c.type === "binary" ? "0/1 outcome (linear probability)" : "scores";
+    const what = c.type === "nominal" ? "level indicators" : parts[0]!.test === "gcm-rank" ? "mid-ranks (among the site's values)" : c.type === "binary" ? "0/1 outcome (linear probability)" : "scores";
     return `least squares of the ${what} on the adjustment, fitted at each site on its own rows`;
   };
   const members = claim.given.map((g) => {
@@ -295,7 +296,7 @@ export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummar
   return {
     ok: true,
     outcome: {
-      test: "gcm",
+      test: parts[0]!.test,
       n,
       statistic: test.statistic,
       df: test.df,
@@ -413,6 +414,10 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
   const flexible = result.claims.filter((c) => c.test === "gcm" && c.details?.sites !== undefined).length;
   if (flexible > 0) {
     result.warnings.push(`${flexible} claim${flexible > 1 ? "s" : ""} with a continuous variable got the flexible test (gcm) pooled from the sites' residual sums, with the adjustment for the set fitted at each site on its own rows (the set interacted with site)`);
+  }
+  const ranked = result.claims.filter((c) => c.test === "gcm-rank" && c.details?.sites !== undefined).length;
+  if (ranked > 0) {
+    result.warnings.push(`${ranked} claim${ranked > 1 ? "s" : ""} got the rank test (gcm-rank) pooled from the sites' residual sums: mid-ranks among each site's own values, the adjustment for the set fitted at each site on its own rows (the set interacted with site)`);
   }
   const suppressed = sites.filter((s) => s.summary.suppressed.rows > 0);
   if (suppressed.length > 0) {

@@ -22,7 +22,9 @@
  * products under the claim that `gcm`'s variance sums: e² for a scored side, π(1 − π) for a
  * two-valued one, the multinomial covariance for a nominal one), for one product the fourth-order
  * sums behind the interval's ADF variance (Σ e_x⁴, Σ e_x³e_y, …), the same Σ e eᵀ for the linear
- * (level-0) fit, and the level chosen. Rank tests (`--method rank`) are not summarized.
+ * (level-0) fit, and the level chosen. Under method rank every claim is a flexible claim of
+ * `gcm-rank`: the same sums for the sides' mid-ranks among the site's own observed values (a
+ * monotone transform within the site, so x ⫫ y | S at the site holds for the ranks too).
  *
  * Disclosure control with the threshold k (`--min-cell`, at least 3: the mean and the sum of
  * squares of two rows give both values):
@@ -76,9 +78,10 @@ export interface SiteSummarySettings {
    * The claims' kinds follow the test the site's own audit would choose under this `--method`
    * (`chooseMethod`): `gcm` → residual sums, `pearson-partial` → moments, the stratified tests →
    * tables. auto: categorical claims as tables, the others as residual sums; linear: claims with
-   * scored x and y as moments; chisq: categorical claims as tables; the rest as under auto.
+   * scored x and y as moments; chisq: categorical claims as tables; the rest as under auto; rank:
+   * every claim as residual sums of `gcm-rank` (the sides' mid-ranks among the site's values).
    */
-  method: "auto" | "linear" | "chisq";
+  method: "auto" | "linear" | "chisq" | "rank";
   listwise: boolean;
   min_cell: number;
   /** Nodes declared unmeasured on the command line, sorted. */
@@ -123,8 +126,8 @@ export interface ResidualsClaimSummary {
   y: string;
   given: string[];
   kind: "residuals";
-  /** The site's test whose residuals these are. */
-  test: "gcm";
+  /** The site's test whose residuals these are (`gcm-rank`: of the sides' mid-ranks at the site). */
+  test: "gcm" | "gcm-rank";
   /** Complete cases. */
   n: number;
   /** Adjustment columns of the fit at the chosen level (intercept excluded). */
@@ -202,7 +205,7 @@ export function summarizeSite(table: Table, options: SummarizeOptions): SiteSumm
   const pm = linear.length > 0 ? buildPatternMoments(kept, { variables: [...new Set(linear.flatMap((c) => [c.x, c.y, ...c.given]))], expansions: { indicators: ordinalMembers } }) : undefined;
   const claims = options.claims.map((c, i) => {
     const kind = kinds[i]!;
-    if (kind === "residuals") return claimResidualsSummary(kept, c, k);
+    if (kind === "residuals") return claimResidualsSummary(kept, c, k, flexibleTest(settings.method));
     return kind === "moments" ? claimMomentsSummary(kept, pm!, c, k) : summarizeTableClaim(kept, c, k);
   });
   return {
@@ -426,9 +429,14 @@ function claimKind(table: Table, claim: Claim, method: SiteSummarySettings["meth
   // the test the site's own audit would choose under the method (`chooseMethod`: a forced method
   // where it applies, else the automatic choice), and the statistics that pool it
   const chosen = chooseMethod(method, { x: types[0]!, y: types[1]!, given: types.slice(2) }).name;
-  if (chosen === "gcm") return "residuals";
+  if (chosen === "gcm" || chosen === "gcm-rank") return "residuals";
   if (chosen === "pearson-partial") return "moments";
   return "tables"; // stratified-chisq, or linear-by-linear (pooled by the stratified chi-square)
+}
+
+/** The flexible test of the residual claims under a method: `gcm-rank` under rank (every claim), else `gcm`. */
+function flexibleTest(method: SiteSummarySettings["method"]): "gcm" | "gcm-rank" {
+  return method === "rank" ? "gcm-rank" : "gcm";
 }
 
 /** The context in which a site's claims are fitted: its kept rows, no pattern moments (the row path reads rows), the audit's default seed. */
@@ -445,13 +453,13 @@ function siteContext(table: Table): TestContext {
  * The sums of the flexible test of a claim at the site (rules 2 and 4, then `gcmSiteSums` on the
  * kept rows), or untestable with the reason. Cost: as `gcm`'s row path, O(n · p²).
  */
-function claimResidualsSummary(table: Table, claim: Claim, k: number): ClaimSummary {
+function claimResidualsSummary(table: Table, claim: Claim, k: number, test: "gcm" | "gcm-rank"): ClaimSummary {
   const head = { x: claim.x, y: claim.y, given: [...claim.given] };
   const n = completeRows(table, claim).length;
   if (n < k) return tooFew(claim, n, k);
   const small = smallCategoricalCell(table, claim, k);
   if (small) return { ...head, kind: "untestable", reason: `${small} among its complete cases at this site, fewer than --min-cell ${k}: its residual sums would tell those rows' values, so none is written` };
-  const r = gcmSiteSums("gcm", claim, siteContext(table));
+  const r = gcmSiteSums(test, claim, siteContext(table));
   if (!r.ok) return { ...head, kind: "untestable", reason: r.reason };
   const s = r.sums;
   const q = s.sides[0].length + s.sides[1].length;
@@ -460,7 +468,7 @@ function claimResidualsSummary(table: Table, claim: Claim, k: number): ClaimSumm
   return {
     ...head,
     kind: "residuals",
-    test: "gcm",
+    test,
     n: s.n,
     params: s.params,
     sides: s.sides,
@@ -486,7 +494,7 @@ export function siteClaimResiduals(table: Table, claim: Claim, options: Pick<Sum
   const k = options.settings.min_cell;
   if (!(Number.isInteger(k) && k >= LEAST_MIN_CELL)) throw new RangeError(`min_cell must be a whole number of at least ${LEAST_MIN_CELL}, got ${k}`);
   for (const v of options.measured) if (!table.column(v)) throw new RangeError(`siteClaimResiduals: the table has no column "${v}"`);
-  return gcmSiteResiduals("gcm", claim, siteContext(siteRows(table, options.measured, options.settings).kept));
+  return gcmSiteResiduals(flexibleTest(options.settings.method), claim, siteContext(siteRows(table, options.measured, options.settings).kept));
 }
 
 /** The rows of `keep` as a table of their own (the columns of `names`). Cost: O(rows · m). */

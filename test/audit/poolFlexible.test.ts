@@ -113,6 +113,30 @@ describe("one site pooled alone", () => {
   });
 });
 
+describe("rank summaries", () => {
+  it("under method rank one site pooled alone equals runAudit --method rank at that site (gcm-rank on the site's mid-ranks, 1e-9), and three sites pool every claim", () => {
+    const g = graphOf(MIXED);
+    const table = createTable(mixedSite(1, 380, 51), { file: "A.csv" });
+    const rank: SiteSummarySettings = { ...SETTINGS, method: "rank" };
+    const own = runAudit(g, table, { settings: { method: "rank" } });
+    const alone = pool(g, [summarize(g, table, "A", rank)]);
+    const ownBy = new Map(own.claims.map((c) => [pair(c), c]));
+    expect(alone.claims.length).toBe(own.claims.length);
+    for (const c of alone.claims) {
+      const o = ownBy.get(pair(c))!;
+      expect([c.test, o.test]).toEqual(["gcm-rank", "gcm-rank"]);
+      expect([c.n, c.df]).toEqual([o.n, o.df]);
+      for (const [what, x, y] of [["statistic", c.statistic, o.statistic], ["p", c.p, o.p], ["effect", c.effect, o.effect], ["ci low", c.ci[0], o.ci[0]], ["ci high", c.ci[1], o.ci[1]]] as const) {
+        expect(rel(x, y), `${pair(c)} ${what}: pooled ${x}, own ${y}`).toBeLessThan(1e-9);
+      }
+    }
+    const three = pool(g, [0, 1, 2].map((k) => summarize(g, createTable(mixedSite(k, 300, 52), { file: `r${k}.csv` }), `r${k}`, rank)));
+    expect(three.claims.map((c) => c.test)).toEqual(new Array(6).fill("gcm-rank"));
+    expect(three.untestable).toEqual([]);
+    expect(three.warnings.join(" ")).toContain("6 claims got the rank test (gcm-rank) pooled from the sites' residual sums");
+  });
+});
+
 describe("three sites against numpy", () => {
   it("the pooled statistic and p equal the GCM of the stacked residual products computed by numpy and scipy (1e-6: gcm's own Σ R accuracy)", () => {
     const g = graphOf(MIXED);
