@@ -13,10 +13,14 @@
  * A *flexible claim* (every claim the site's own audit would test with `gcm`: under method auto
  * every claim with a continuous variable, under linear or chisq those the forced test does not
  * take) keeps the sums of the generalised covariance measure over its complete cases
- * (`gcmSiteSums`, from `gcm`'s own row-path fit exported by `methods/gcm.ts`): the site fits the
- * flexible adjustment for S to its own complete cases exactly as `gcm` does (its own basis, knots and cross-validated level, on all its complete
- * cases: the row path whatever the site's size, not the moment path with a variance sample that
- * `gcm` takes above `ROW_PATH_MAX_ROWS` rows), and writes, in the units of the data, n, the
+ * (`gcmSiteSums`, from `gcm`'s own fits exported by `methods/gcm.ts`): the site fits the
+ * flexible adjustment for S to its own complete cases exactly as its own `gcm` test does (its own
+ * basis, knots and cross-validated level; the row path up to `ROW_PATH_MAX_ROWS` rows, above it
+ * the moment path, whose variance sums come from the seeded sample of `VARIANCE_SAMPLE_ROWS` rows
+ * and are scaled by n/m to stand for sums over all n complete cases, or the rows where `gcm`
+ * itself falls back to them, and also when the sample holds fewer than k of the claim's rows),
+ * so that one site pooled alone gives its own test's result at any size, at the cost of that
+ * test, and writes, in the units of the data, n, the
  * adjustment columns p, the side columns, Σ e eᵀ of the side residuals e (its x-by-y block is
  * Σ R, the sum of the residual products), Σ V_x ⊗ V_y (the conditional covariance of the residual
  * products under the claim that `gcm`'s variance sums: e² for a scored side, π(1 − π) for a
@@ -57,7 +61,10 @@ import { buildPatternMoments } from "../data/buildPatternMoments.js";
 import { claimMoments } from "./methods/claimMoments.js";
 import { CATEGORICAL_TYPES } from "../data/Table.js";
 import { chooseMethod } from "./methods/index.js";
-import { claimColumns, fitRowPath, residualProductScatter, sideCovariance, type AdfSums, type ClaimColumn } from "./methods/gcm.js";
+import { claimColumns, fitMomentPath, fitRowPath, residualProductScatter, sampleRepresents, sideCovariance, usesRowPath, type AdfSums, type ClaimColumn, type RowFit } from "./methods/gcm.js";
+import { momentExpansions } from "./momentExpansions.js";
+import { DEFAULT_SETTINGS } from "./runAudit.js";
+import type { MethodResult } from "./TestMethod.js";
 import type { AdjustmentEntry } from "./methods/adjustmentDetails.js";
 import type { TestContext } from "./TestMethod.js";
 import type { TestName } from "./types.js";
@@ -203,9 +210,11 @@ export function summarizeSite(table: Table, options: SummarizeOptions): SiteSumm
   const linear = options.claims.filter((_, i) => kinds[i] === "moments");
   const ordinalMembers = [...new Set(linear.flatMap((c) => c.given.filter((g) => table.column(g)!.type === "ordinal")))];
   const pm = linear.length > 0 ? buildPatternMoments(kept, { variables: [...new Set(linear.flatMap((c) => [c.x, c.y, ...c.given]))], expansions: { indicators: ordinalMembers } }) : undefined;
+  const flexible = options.claims.filter((_, i) => kinds[i] === "residuals");
+  const ctx = flexible.length > 0 ? siteContext(kept, measured, options.claims, settings) : undefined;
   const claims = options.claims.map((c, i) => {
     const kind = kinds[i]!;
-    if (kind === "residuals") return claimResidualsSummary(kept, c, k, flexibleTest(settings.method));
+    if (kind === "residuals") return claimResidualsSummary(ctx!, c, k, flexibleTest(settings.method));
     return kind === "moments" ? claimMomentsSummary(kept, pm!, c, k) : summarizeTableClaim(kept, c, k);
   });
   return {
@@ -290,6 +299,28 @@ export interface GcmSiteSums {
   aliased: number;
 }
 
+/**
+ * A fit's uncentred Σ V_x ⊗ V_y over its variance rows (`raw`), the per-side Σ e² there
+ * (`squares`) and, for one product, the ADF sums on unscaled residuals; or the fit's reason.
+ * Cost: O(m · (p·q + qq²)) for m variance rows.
+ */
+function scatterOf(fitted: RowFit | MethodResult): { fitted: RowFit; raw: Float64Array; squares: Float64Array; adf?: AdfSums } | { ok: false; reason: string } {
+  if (!("layout" in fitted)) return fitted.ok ? { ok: false, reason: "internal: a fit without its layout" } : fitted;
+  const { f, values } = fitted;
+  const { fit, n, qx, qy, level } = f;
+  const q = qx + qy;
+  const qq = qx * qy;
+  const snap = fit.snapshots[level]!;
+  const kept = snap.kept;
+  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
+  const sumR = new Float64Array(qq);
+  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = (n - 1) * snap.residual[a * q + qx + b]!;
+  const adf: AdfSums | undefined = qq === 1 ? { scale: [1, 1] } : undefined;
+  const squares = new Float64Array(q);
+  const raw = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, sumR.map((v) => v / n), squares, adf, false);
+  return { fitted, raw, squares, ...(adf ? { adf } : {}) };
+}
+
 /** x·2^−e, or NaN when that leaves the normal range of doubles (a sum beyond range in the data's units). */
 function toDataUnits(x: number, e: number): number {
   const v = timesPowerOfTwo(x, -e);
@@ -302,32 +333,48 @@ function sideLabel(c: ClaimColumn): string {
 }
 
 /**
- * The sums of {@link GcmSiteSums} for a claim on the table of one site: `gcm`'s row path
- * (`fitRowPath`, `residualProductScatter` of `methods/gcm.ts`) on *all* the
- * claim's complete rows whatever the table's size (its basis, knots and cross-validated level are
- * the site's own; the knots come from `varianceSample`, every row up to VARIANCE_SAMPLE_ROWS),
- * so for a table of at most ROW_PATH_MAX_ROWS rows {@link gcmTestFromSums} on them gives the
- * site's own `gcm` result. Returns the reason when the claim cannot be tested, or when a sum
- * leaves the range of doubles in the data's units.
- * Cost: as the row path, O(n · p²).
+ * The sums of {@link GcmSiteSums} for a claim on the table of one site, on the path the site's
+ * own `gcm` takes (`fitRowPath` or `fitMomentPath`, then `residualProductScatter` of
+ * `methods/gcm.ts`; the basis, knots and cross-validated level are the site's own). On the moment
+ * path the variance sums over the m sampled rows are scaled by n/m; the claim goes to its rows
+ * where `gcm` would send it there, and when fewer than `minRows` sampled rows hold it. So
+ * {@link gcmTestFromSums} on one site's sums gives the site's own `gcm` result at any size.
+ * Returns the reason when the claim cannot be tested, or when a sum leaves the range of doubles
+ * in the data's units. Cost: as the site's own test of the claim.
  * @example gcmSiteSums("gcm", { x: "crp", y: "bmi", given: ["age"] }, ctx) // { ok: true, sums: { n, params, cross, scatter, … } }
  */
-export function gcmSiteSums(name: TestName, claim: Claim, ctx: TestContext): { ok: true; sums: GcmSiteSums } | { ok: false; reason: string } {
+export function gcmSiteSums(name: TestName, claim: Claim, ctx: TestContext, minRows = LEAST_MIN_CELL): { ok: true; sums: GcmSiteSums } | { ok: false; reason: string } {
   const cols = claimColumns(claim, ctx.table);
   if (!Array.isArray(cols)) return cols;
-  const fitted = fitRowPath(name, claim, cols, ctx);
-  if (!("layout" in fitted)) return fitted as { ok: false; reason: string };
+  const onRows = (maxLevel?: number) => scatterOf(fitRowPath(name, claim, cols, ctx, maxLevel));
+  let pass: ReturnType<typeof scatterOf>;
+  if (usesRowPath(ctx.table, ctx.rowFilter)) pass = onRows();
+  else {
+    // gcm's moment path, as the site's own test takes it: the fit from the pattern moments and the
+    // variance sums from the seeded sample of rows, scaled by n/m to sums over all n rows; the
+    // rows when the moments lack a column, the sample does not represent the claim's rows, or
+    // it holds fewer than minRows of them
+    const viaMoments = fitMomentPath(name, claim, cols, ctx);
+    if ("useRows" in viaMoments) pass = onRows();
+    else {
+      pass = scatterOf(viaMoments);
+      if ("fitted" in pass && pass.fitted.values.sampled && (!sampleRepresents(pass.fitted.f, pass.squares, pass.fitted.values.rows) || pass.fitted.values.rows < minRows)) {
+        pass = onRows(pass.fitted.layout.cap);
+      }
+    }
+  }
+  if (!("fitted" in pass)) return pass;
+  const { fitted, adf } = pass;
   const { layout, f, values } = fitted;
   const { fit, n, qx, qy, level } = f;
   const q = qx + qy;
   const qq = qx * qy;
   const snap = fit.snapshots[level]!;
   const kept = snap.kept;
-  const beta = Array.from({ length: q }, (_, r) => fit.coefficients(r, kept));
-  const sumR = new Float64Array(qq);
-  for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = (n - 1) * snap.residual[a * q + qx + b]!;
-  const adf: AdfSums | undefined = qq === 1 ? { scale: [1, 1] } : undefined;
-  const raw = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, sumR.map((v) => v / n), new Float64Array(q), adf, false);
+  // sampled variance rows: their sums stand for sums over all n rows
+  const toAll = values.rows < n ? n / values.rows : 1;
+  const raw = toAll === 1 ? pass.raw : pass.raw.map((v) => v * toAll);
+  if (adf?.sums && toAll !== 1) for (const key of Object.keys(adf.sums) as (keyof NonNullable<AdfSums["sums"]>)[]) adf.sums[key] *= toAll;
   const E = Array.from({ length: q }, (_, r) => values.side(r).exponent ?? 0);
   const cross = new Float64Array(q * q);
   const lin = fit.snapshots[0]!;
@@ -439,27 +486,43 @@ function flexibleTest(method: SiteSummarySettings["method"]): "gcm" | "gcm-rank"
   return method === "rank" ? "gcm-rank" : "gcm";
 }
 
-/** The context in which a site's claims are fitted: its kept rows, no pattern moments (the row path reads rows), the audit's default seed. */
-function siteContext(table: Table): TestContext {
+/**
+ * The context in which a site's flexible claims are fitted, as the site's own audit would fit
+ * them: its kept rows, the audit's default seed, and, above ROW_PATH_MAX_ROWS rows, the pattern
+ * moments of the measured variables with the expansions the audit would build for the claims
+ * (`momentExpansions`: level indicators, basis columns within the compute budget, mid-ranks), so
+ * that `gcm`'s moment path runs as in `test`. Cost: O(rows · D²) for D design columns above that
+ * size, else O(1).
+ */
+function siteContext(table: Table, measured: readonly string[], claims: readonly Claim[], settings: SiteSummarySettings): TestContext {
+  if (usesRowPath(table)) return rowsOnlyContext(table);
+  const audit = { ...DEFAULT_SETTINGS, method: settings.method, sets: settings.sets, listwise: false };
+  const moments = buildPatternMoments(table, { variables: measured, expansions: momentExpansions(claims, table, audit, measured) });
+  return { table, moments, seed: DEFAULT_SETTINGS.seed, alpha: 0.05 };
+}
+
+/** A context for fits on the rows (`gcm`'s row path), whose pattern moments nothing may read. */
+function rowsOnlyContext(table: Table): TestContext {
   const moments = new Proxy({} as PatternMoments, {
     get() {
-      throw new Error("internal: a site's flexible claims are fitted on its rows");
+      throw new Error("internal: these flexible claims are fitted on their rows");
     },
   });
-  return { table, moments, seed: 1, alpha: 0.05 };
+  return { table, moments, seed: DEFAULT_SETTINGS.seed, alpha: 0.05 };
 }
 
 /**
  * The sums of the flexible test of a claim at the site (rules 2 and 4, then `gcmSiteSums` on the
- * kept rows), or untestable with the reason. Cost: as `gcm`'s row path, O(n · p²).
+ * kept rows), or untestable with the reason. Cost: as the site's own `gcm` test of the claim.
  */
-function claimResidualsSummary(table: Table, claim: Claim, k: number, test: "gcm" | "gcm-rank"): ClaimSummary {
+function claimResidualsSummary(ctx: TestContext, claim: Claim, k: number, test: "gcm" | "gcm-rank"): ClaimSummary {
+  const table = ctx.table;
   const head = { x: claim.x, y: claim.y, given: [...claim.given] };
   const n = completeRows(table, claim).length;
   if (n < k) return tooFew(claim, n, k);
   const small = smallCategoricalCell(table, claim, k);
   if (small) return { ...head, kind: "untestable", reason: `${small} among its complete cases at this site, fewer than --min-cell ${k}: its residual sums would tell those rows' values, so none is written` };
-  const r = gcmSiteSums(test, claim, siteContext(table));
+  const r = gcmSiteSums(test, claim, ctx, k);
   if (!r.ok) return { ...head, kind: "untestable", reason: r.reason };
   const s = r.sums;
   const q = s.sides[0].length + s.sides[1].length;
@@ -485,7 +548,8 @@ function claimResidualsSummary(table: Table, claim: Claim, k: number, test: "gcm
 /**
  * A flexible claim's residuals at one site, as its summary's sums are made from them (the kept
  * rows after rule 1; see `gcmSiteResiduals`): for checking a pooled test against a computation of
- * one's own. Not written to any summary: these are row-level values.
+ * one's own. Not written to any summary: these are row-level values. Always the row path: for
+ * sites of at most ROW_PATH_MAX_ROWS rows, where the summary's sums come from the same fit.
  * Cost: as `gcm`'s row path.
  * @throws RangeError as {@link summarizeSite}
  * @example siteClaimResiduals(table, claim, options) // { ok: true, n, qx, qy, params, residuals: [ex, ey], variance }
@@ -494,7 +558,8 @@ export function siteClaimResiduals(table: Table, claim: Claim, options: Pick<Sum
   const k = options.settings.min_cell;
   if (!(Number.isInteger(k) && k >= LEAST_MIN_CELL)) throw new RangeError(`min_cell must be a whole number of at least ${LEAST_MIN_CELL}, got ${k}`);
   for (const v of options.measured) if (!table.column(v)) throw new RangeError(`siteClaimResiduals: the table has no column "${v}"`);
-  return gcmSiteResiduals(flexibleTest(options.settings.method), claim, siteContext(siteRows(table, options.measured, options.settings).kept));
+  const kept = siteRows(table, options.measured, options.settings).kept;
+  return gcmSiteResiduals(flexibleTest(options.settings.method), claim, rowsOnlyContext(kept));
 }
 
 /** The rows of `keep` as a table of their own (the columns of `names`). Cost: O(rows · m). */

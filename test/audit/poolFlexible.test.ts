@@ -113,6 +113,36 @@ describe("one site pooled alone", () => {
   });
 });
 
+describe("one site above the row-path size", () => {
+  it("a site of 25,000 rows is summarized on gcm's moment path, as its own test runs: pooled alone it equals runAudit's gcm there (1e-9), variance sums scaled from the 20,000 sampled rows", () => {
+    // pins: summaries of large sites were fitted on all rows (the row path) and cost 20× the site's own test
+    const g = graphOf(MIXED);
+    const table = createTable(mixedSite(2, 25_000, 19), { file: "A.csv" });
+    const own = runAudit(g, table);
+    const summary = summarize(g, table, "A");
+    const pooled = pool(g, [summary]);
+    const ownBy = new Map(own.claims.map((c) => [pair(c), c]));
+    expect(pooled.claims.length).toBe(own.claims.length);
+    for (const c of pooled.claims) {
+      const o = ownBy.get(pair(c))!;
+      expect(o.test).toBe("gcm");
+      expect(o.details?.path).toBe("moments");
+      expect(o.details?.variance_sample).toBe(true);
+      expect(c.n).toBe(o.n);
+      for (const [what, a, b] of [
+        ["statistic", c.statistic, o.statistic],
+        ["p", c.p, o.p],
+        ["effect", c.effect, o.effect],
+        ["ci low", c.ci[0], o.ci[0]],
+        ["ci high", c.ci[1], o.ci[1]],
+      ] as const) {
+        expect(rel(a, b), `${pair(c)} ${what}: pooled ${a}, own ${b}`).toBeLessThan(1e-9);
+      }
+      expect((c.details?.flexibility as { sites: { level: number }[] }).sites[0]!.level).toBe((o.details?.flexibility as { level: number }).level);
+    }
+  }, 60_000);
+});
+
 describe("rank summaries", () => {
   it("under method rank one site pooled alone equals runAudit --method rank at that site (gcm-rank on the site's mid-ranks, 1e-9), and three sites pool every claim", () => {
     const g = graphOf(MIXED);

@@ -507,13 +507,7 @@ function outcomeOf(
   // scaled by their standard deviations over all n rows
   const adf: AdfSums | undefined = qq === 1 ? { scale: [1 / Math.sqrt(snap.residual[0]!), 1 / Math.sqrt(snap.residual[q * q - 1]!)] } : undefined;
   const sigma = residualProductScatter(values, beta, f.keptColumns.slice(0, kept), qx, qy, meanR, squares, adf);
-  if (values.sampled) {
-    for (let r = 0; r < q; r++) {
-      const full = (snap.residual[r * q + r]! * (n - 1)) / n;
-      const ratio = squares[r]! / m / full;
-      if (full > 0 && !(ratio >= 1 / SAMPLE_VARIANCE_RATIO && ratio <= SAMPLE_VARIANCE_RATIO)) return UNREPRESENTATIVE_SAMPLE;
-    }
-  }
+  if (values.sampled && !sampleRepresents(f, squares, m)) return UNREPRESENTATIVE_SAMPLE;
   for (let a = 0; a < qq; a++) {
     for (let b = 0; b <= a; b++) {
       const v = sigma[a * qq + b]! / m;
@@ -564,6 +558,22 @@ function outcomeOf(
     ...(warnings.length ? { warnings } : {}),
   };
   return { ok: true, outcome };
+}
+
+/**
+ * Whether sampled variance rows represent a claim's rows: each side's residual mean square over
+ * the m sampled rows (`squares`, Σ e² per side column) within a factor SAMPLE_VARIANCE_RATIO of
+ * its residual variance over all n rows (see the module comment). Cost: O(q).
+ */
+export function sampleRepresents(f: Fitted, squares: ArrayLike<number>, m: number): boolean {
+  const q = f.qx + f.qy;
+  const snap = f.fit.snapshots[f.level]!;
+  for (let r = 0; r < q; r++) {
+    const full = (snap.residual[r * q + r]! * (f.n - 1)) / f.n;
+    const ratio = squares[r]! / m / full;
+    if (full > 0 && !(ratio >= 1 / SAMPLE_VARIANCE_RATIO && ratio <= SAMPLE_VARIANCE_RATIO)) return false;
+  }
+  return true;
 }
 
 /**
@@ -1160,6 +1170,23 @@ function overallMoments(ctx: TestContext): (index: number) => { mean: number; va
 type MomentPathResult = MethodResult | { useRows: true; maxLevel?: number };
 
 function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): MomentPathResult {
+  const fitted = fitMomentPath(name, claim, cols, ctx);
+  if (!("layout" in fitted)) return fitted;
+  const { layout, f, values } = fitted;
+  // the moments' rows are tested on the rows when the sample does not represent them
+  const out = outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: values.rows < f.n }, ctx.alpha ?? 0.05);
+  return out === UNREPRESENTATIVE_SAMPLE ? { useRows: true, maxLevel: layout.cap } : out;
+}
+
+/**
+ * The moment path up to the fit (see the module comment): the claim's layout and nested fit from
+ * the pattern moments, and its variance rows (the sampled rows complete on the claim); or why the
+ * claim cannot be tested; or that it is to be fitted on its rows (the moments lack a column it
+ * needs). Whether the variance rows represent the claim's rows is judged afterwards, from their
+ * residuals ({@link sampleRepresents}). Also for the site sums of `siteSummary.ts`.
+ * Cost: O(P · d²) for P missing-data patterns, plus the sampled columns once per audit.
+ */
+export function fitMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestContext): RowFit | MethodResult | { useRows: true } {
   const layout = momentLayout(name, cols, ctx);
   if (!layout) return { useRows: true };
   const { adjustment } = layout;
@@ -1236,9 +1263,7 @@ function runMomentPath(name: TestName, claim: Claim, cols: Column[], ctx: TestCo
       return { offset: cache.offset(sidesKept[r]!, e), mean: m.means[respPos[r]!]!, shift: 0, ...(two ? { twoPoint: two } : {}) };
     },
   };
-  // the moments' rows are tested on the rows when the sample does not represent them
-  const out = outcomeOf(name, claim, layout, f, values, { path: "moments", variance_sample: m2 < n }, ctx.alpha ?? 0.05);
-  return out === UNREPRESENTATIVE_SAMPLE ? { useRows: true, maxLevel: layout.cap } : out;
+  return { layout, f, values, sides: sidesKept };
 }
 
 /** Per-audit values of sampled columns (the variance sample's rows), keyed by the pattern moments. */
