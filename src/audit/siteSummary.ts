@@ -57,7 +57,7 @@
 import type { Claim } from "./types.js";
 import type { Column, Table, VariableType } from "../data/Table.js";
 import type { PatternMoments } from "../data/Moments.js";
-import { buildPatternMoments } from "../data/buildPatternMoments.js";
+import { buildPatternMoments, type PatternMomentsOptions } from "../data/buildPatternMoments.js";
 import { claimMoments } from "./methods/claimMoments.js";
 import { CATEGORICAL_TYPES } from "../data/Table.js";
 import { chooseMethod } from "./methods/index.js";
@@ -201,20 +201,52 @@ export interface SummarizeOptions {
  * @example summarizeSite(table, { graphSha256, site: "A", settings, measured, claims }).claims[0].kind // "moments"
  */
 export function summarizeSite(table: Table, options: SummarizeOptions): SiteSummary {
+  const plan = planSite(table, options);
+  return finishSite(table, options, plan, plan.flexibleMoments ? buildPatternMoments(plan.kept, plan.flexibleMoments) : undefined);
+}
+
+/**
+ * {@link summarizeSite} with the pattern moments of the flexible claims (sites above
+ * ROW_PATH_MAX_ROWS rows) built by `build`, e.g. over two threads as `test` builds them; the
+ * same summary. Cost: as summarizeSite.
+ * @throws as {@link summarizeSite}
+ * @example await summarizeSiteWith(table, options, (t, o) => parallelPatternMoments(t, o))
+ */
+export async function summarizeSiteWith(table: Table, options: SummarizeOptions, build: (table: Table, options: PatternMomentsOptions) => Promise<PatternMoments>): Promise<SiteSummary> {
+  const plan = planSite(table, options);
+  return finishSite(table, options, plan, plan.flexibleMoments ? await build(plan.kept, plan.flexibleMoments) : undefined);
+}
+
+interface SitePlan {
+  kept: Table;
+  suppressed: { rows: number; patterns: number };
+  kinds: ("moments" | "tables" | "residuals")[];
+  /** What the flexible claims' pattern moments are built over, when they take the moment path. */
+  flexibleMoments?: PatternMomentsOptions;
+}
+
+function planSite(table: Table, options: SummarizeOptions): SitePlan {
   const { settings, measured } = options;
   const k = settings.min_cell;
   if (!(Number.isInteger(k) && k >= LEAST_MIN_CELL)) throw new RangeError(`min_cell must be a whole number of at least ${LEAST_MIN_CELL}, got ${k}`);
   for (const v of measured) if (!table.column(v)) throw new RangeError(`summarizeSite: the table has no column "${v}"`);
   const { kept, suppressed } = siteRows(table, measured, settings);
   const kinds = options.claims.map((c) => claimKind(table, c, settings.method));
+  const flexible = kinds.includes("residuals");
+  return { kept, suppressed, kinds, ...(flexible && !usesRowPath(kept) ? { flexibleMoments: flexibleMomentsOptions(kept, measured, options.claims, settings) } : {}) };
+}
+
+function finishSite(table: Table, options: SummarizeOptions, plan: SitePlan, flexibleMoments: PatternMoments | undefined): SiteSummary {
+  const { settings, measured } = options;
+  const k = settings.min_cell;
+  const { kept, suppressed, kinds } = plan;
   const linear = options.claims.filter((_, i) => kinds[i] === "moments");
   const ordinalMembers = [...new Set(linear.flatMap((c) => c.given.filter((g) => table.column(g)!.type === "ordinal")))];
   const pm = linear.length > 0 ? buildPatternMoments(kept, { variables: [...new Set(linear.flatMap((c) => [c.x, c.y, ...c.given]))], expansions: { indicators: ordinalMembers } }) : undefined;
-  const flexible = options.claims.filter((_, i) => kinds[i] === "residuals");
-  const ctx = flexible.length > 0 ? siteContext(kept, measured, options.claims, settings) : undefined;
+  const ctx = flexibleMoments ? { table: kept, moments: flexibleMoments, seed: DEFAULT_SETTINGS.seed, alpha: 0.05 } : rowsOnlyContext(kept);
   const claims = options.claims.map((c, i) => {
     const kind = kinds[i]!;
-    if (kind === "residuals") return claimResidualsSummary(ctx!, c, k, flexibleTest(settings.method));
+    if (kind === "residuals") return claimResidualsSummary(ctx, c, k, flexibleTest(settings.method));
     return kind === "moments" ? claimMomentsSummary(kept, pm!, c, k) : summarizeTableClaim(kept, c, k);
   });
   return {
@@ -487,18 +519,15 @@ function flexibleTest(method: SiteSummarySettings["method"]): "gcm" | "gcm-rank"
 }
 
 /**
- * The context in which a site's flexible claims are fitted, as the site's own audit would fit
- * them: its kept rows, the audit's default seed, and, above ROW_PATH_MAX_ROWS rows, the pattern
- * moments of the measured variables with the expansions the audit would build for the claims
- * (`momentExpansions`: level indicators, basis columns within the compute budget, mid-ranks), so
- * that `gcm`'s moment path runs as in `test`. Cost: O(rows · D²) for D design columns above that
- * size, else O(1).
+ * What a site's flexible claims' pattern moments are built over (sites above ROW_PATH_MAX_ROWS
+ * rows), as the site's own audit would build them: the measured variables with the expansions the
+ * audit would add for the claims (`momentExpansions`: level indicators, basis columns within the
+ * compute budget, mid-ranks), so that `gcm`'s moment path runs as in `test`, at the audit's
+ * default seed. Cost: the sorting of each continuous member of a set once.
  */
-function siteContext(table: Table, measured: readonly string[], claims: readonly Claim[], settings: SiteSummarySettings): TestContext {
-  if (usesRowPath(table)) return rowsOnlyContext(table);
+function flexibleMomentsOptions(table: Table, measured: readonly string[], claims: readonly Claim[], settings: SiteSummarySettings): PatternMomentsOptions {
   const audit = { ...DEFAULT_SETTINGS, method: settings.method, sets: settings.sets, listwise: false };
-  const moments = buildPatternMoments(table, { variables: measured, expansions: momentExpansions(claims, table, audit, measured) });
-  return { table, moments, seed: DEFAULT_SETTINGS.seed, alpha: 0.05 };
+  return { variables: measured, expansions: momentExpansions(claims, table, audit, measured) };
 }
 
 /** A context for fits on the rows (`gcm`'s row path), whose pattern moments nothing may read. */
@@ -518,7 +547,7 @@ function rowsOnlyContext(table: Table): TestContext {
 function claimResidualsSummary(ctx: TestContext, claim: Claim, k: number, test: "gcm" | "gcm-rank"): ClaimSummary {
   const table = ctx.table;
   const head = { x: claim.x, y: claim.y, given: [...claim.given] };
-  const n = completeRows(table, claim).length;
+  const n = completeCount(table, claim);
   if (n < k) return tooFew(claim, n, k);
   const small = smallCategoricalCell(table, claim, k);
   if (small) return { ...head, kind: "untestable", reason: `${small} among its complete cases at this site, fewer than --min-cell ${k}: its residual sums would tell those rows' values, so none is written` };
@@ -570,25 +599,143 @@ function keptRows(table: Table, names: readonly string[], keep: Uint8Array): Tab
   for (let r = 0, j = 0; r < table.rows; r++) if (keep[r]) index[j++] = r;
   const columns: Column[] = names.map((name) => {
     const c = table.column(name)!;
-    const values = Float64Array.from(index, (r) => c.values[r]!);
+    // plain loops: Float64Array.from with a mapping function was a tenth of a 100,000-row summary
+    const values = new Float64Array(n);
+    const from = c.values;
     let missing = 0;
-    for (const v of values) if (Number.isNaN(v)) missing++;
-    return { ...c, values, missing, ...(c.codes ? { codes: Int32Array.from(index, (r) => c.codes![r]!) } : {}) };
+    for (let j = 0; j < n; j++) {
+      const v = from[index[j]!]!;
+      values[j] = v;
+      if (v !== v) missing++;
+    }
+    let codes: Int32Array | undefined;
+    if (c.codes) {
+      codes = new Int32Array(n);
+      for (let j = 0; j < n; j++) codes[j] = c.codes[index[j]!]!;
+    }
+    return { ...c, values, missing, ...(codes ? { codes } : {}) };
   });
   const byName = new Map(columns.map((c) => [c.name, c]));
   return { ...(table.file !== undefined ? { file: table.file } : {}), rows: n, columns, warnings: [], column: (name) => byName.get(name) };
 }
 
-/** The complete cases of a claim's variables among the kept rows. Cost: O(rows · (2 + |S|)). */
-function completeRows(table: Table, claim: Claim): Int32Array {
-  const vars = [claim.x, claim.y, ...claim.given].map((v) => table.column(v)!.values);
-  const rows = new Int32Array(table.rows);
-  let n = 0;
-  next: for (let r = 0; r < table.rows; r++) {
-    for (const v of vars) if (Number.isNaN(v[r]!)) continue next;
-    rows[n++] = r;
+/**
+ * The kept rows' missing-data patterns (over the table's columns, the measured variables) and,
+ * built when first asked, each categorical variable's level counts and each pair's level-pair
+ * counts per pattern, so that a claim's complete cases and the counts of rule 4 cost O(patterns)
+ * rather than a pass over the rows per claim.
+ */
+interface SitePatterns {
+  /** Pattern of each row (dense, in order of first appearance). */
+  ids: Int32Array;
+  count: number;
+  /** Rows per pattern. */
+  sizes: Float64Array;
+  /** Per variable, per pattern: 1 where the variable is observed. */
+  observed: Map<string, Uint8Array>;
+  levels: Map<string, Float64Array>;
+  pairs: Map<string, Float64Array | null>;
+}
+
+/** Most cells (patterns × level pairs) a pair's per-pattern counts may hold; beyond it the rows are read. */
+const MAX_PAIR_CELLS = 1 << 22;
+
+const patternMemo = new WeakMap<Table, SitePatterns>();
+
+/** The patterns of {@link SitePatterns} for a table (memoised). Cost: O(rows · m) once. */
+function patternsOf(table: Table): SitePatterns {
+  let pats = patternMemo.get(table);
+  if (pats) return pats;
+  const ids = new Int32Array(table.rows);
+  let count = 1;
+  let lookup = new Int32Array(2);
+  for (const c of table.columns) {
+    lookup = lookup.length >= 2 * count ? lookup : new Int32Array(2 * count);
+    lookup.fill(-1, 0, 2 * count);
+    let next = 0;
+    const v = c.values;
+    for (let r = 0; r < table.rows; r++) {
+      const key = 2 * ids[r]! + (Number.isNaN(v[r]!) ? 0 : 1);
+      let id = lookup[key]!;
+      if (id < 0) lookup[key] = id = next++;
+      ids[r] = id;
+    }
+    count = Math.max(1, next);
   }
-  return rows.subarray(0, n);
+  const sizes = new Float64Array(count);
+  const first = new Int32Array(count).fill(-1);
+  for (let r = 0; r < table.rows; r++) {
+    sizes[ids[r]!]++;
+    if (first[ids[r]!] === -1) first[ids[r]!] = r;
+  }
+  const observed = new Map<string, Uint8Array>();
+  for (const c of table.columns) observed.set(c.name, Uint8Array.from(first, (r) => (r >= 0 && !Number.isNaN(c.values[r]!) ? 1 : 0)));
+  pats = { ids, count, sizes, observed, levels: new Map(), pairs: new Map() };
+  patternMemo.set(table, pats);
+  return pats;
+}
+
+/** Per pattern, 1 where every one of the variables is observed. Cost: O(patterns · variables). */
+function completePatterns(pats: SitePatterns, vars: readonly string[]): Uint8Array {
+  const ok = new Uint8Array(pats.count).fill(1);
+  for (const v of vars) {
+    const o = pats.observed.get(v)!;
+    for (let p = 0; p < pats.count; p++) ok[p] &= o[p]!;
+  }
+  return ok;
+}
+
+/** The complete cases of a claim's variables among the kept rows. Cost: O(rows) after the patterns. */
+function completeRows(table: Table, claim: Claim): Int32Array {
+  const pats = patternsOf(table);
+  const ok = completePatterns(pats, [claim.x, claim.y, ...claim.given]);
+  let n = 0;
+  for (let p = 0; p < pats.count; p++) if (ok[p]) n += pats.sizes[p]!;
+  const rows = new Int32Array(n);
+  const ids = pats.ids;
+  for (let r = 0, j = 0; j < n; r++) if (ok[ids[r]!]) rows[j++] = r;
+  return rows;
+}
+
+/** The number of a claim's complete cases among the kept rows. Cost: O(patterns · (2 + |S|)). */
+function completeCount(table: Table, claim: Claim): number {
+  const pats = patternsOf(table);
+  const ok = completePatterns(pats, [claim.x, claim.y, ...claim.given]);
+  let n = 0;
+  for (let p = 0; p < pats.count; p++) if (ok[p]) n += pats.sizes[p]!;
+  return n;
+}
+
+/** A categorical column's level counts per pattern (patterns × levels). Cost: O(rows) once. */
+function levelCountsOf(table: Table, pats: SitePatterns, c: Column): Float64Array {
+  let out = pats.levels.get(c.name);
+  if (!out) {
+    const L = c.levels!.length;
+    out = new Float64Array(pats.count * L);
+    const codes = c.codes!;
+    for (let r = 0; r < table.rows; r++) if (codes[r]! >= 0) out[pats.ids[r]! * L + codes[r]!]++;
+    pats.levels.set(c.name, out);
+  }
+  return out;
+}
+
+/** Two categorical columns' level-pair counts per pattern (patterns × La·Lb), or null when too large to keep. Cost: O(rows) once. */
+function pairCountsOf(table: Table, pats: SitePatterns, a: Column, b: Column): Float64Array | null {
+  const key = `${a.name}\u0000${b.name}`;
+  let out = pats.pairs.get(key);
+  if (out === undefined) {
+    const La = a.levels!.length;
+    const Lb = b.levels!.length;
+    if (pats.count * La * Lb > MAX_PAIR_CELLS) out = null;
+    else {
+      out = new Float64Array(pats.count * La * Lb);
+      const ac = a.codes!;
+      const bc = b.codes!;
+      for (let r = 0; r < table.rows; r++) if (ac[r]! >= 0 && bc[r]! >= 0) out[(pats.ids[r]! * La + ac[r]!) * Lb + bc[r]!]++;
+    }
+    pats.pairs.set(key, out);
+  }
+  return out;
 }
 
 function tooFew(claim: Claim, n: number, k: number): UntestableClaimSummary {
@@ -620,29 +767,47 @@ function claimMomentsSummary(table: Table, pm: PatternMoments, claim: Claim, k: 
  * member of S), or combination of levels of two of them, held by 1 … k − 1 of the claim's
  * complete cases, in words; undefined when there is none. The means and cross-products of a
  * level's indicator (or of a binary score) are sums over that level's rows, so a level of fewer
- * than k rows would be a moment from fewer than k rows. Cost: O(rows · c²) for c categorical variables.
+ * than k rows would be a moment from fewer than k rows. Cost: O(P · c² · L²) for P patterns and c
+ * categorical variables of at most L levels, from the per-pattern counts ({@link SitePatterns}).
  */
 function smallCategoricalCell(table: Table, claim: Claim, k: number): string | undefined {
   const cats = [...new Set([claim.x, claim.y, ...claim.given])].map((v) => table.column(v)!).filter((c) => CATEGORICAL_TYPES.has(c.type) && c.codes);
   if (cats.length === 0) return undefined;
-  const rows = completeRows(table, claim);
+  const pats = patternsOf(table);
+  const ok = completePatterns(pats, [claim.x, claim.y, ...claim.given]);
   const plural = (count: number) => `${count} row${count === 1 ? "" : "s"}`;
+  // the claim's complete cases are the rows of its complete patterns: sum the per-pattern counts
+  const sumOver = (perPattern: Float64Array, width: number): Float64Array => {
+    const counts = new Float64Array(width);
+    for (let p = 0; p < pats.count; p++) {
+      if (!ok[p]) continue;
+      const at = p * width;
+      for (let j = 0; j < width; j++) counts[j] += perPattern[at + j]!;
+    }
+    return counts;
+  };
   for (const c of cats) {
-    const counts = new Float64Array(c.levels!.length);
-    const codes = c.codes!;
-    for (const r of rows) counts[codes[r]!]++;
+    const counts = sumOver(levelCountsOf(table, pats, c), c.levels!.length);
     const code = counts.findIndex((count) => count > 0 && count < k);
     if (code >= 0) return `the level ${JSON.stringify(c.levels![code])} of "${c.name}" has ${plural(counts[code]!)}`;
   }
+  let rows: Int32Array | undefined;
   for (let i = 0; i < cats.length; i++) {
     for (let j = i + 1; j < cats.length; j++) {
       const a = cats[i]!;
       const b = cats[j]!;
       const L = b.levels!.length;
-      const counts = new Float64Array(a.levels!.length * L);
-      const ac = a.codes!;
-      const bc = b.codes!;
-      for (const r of rows) counts[ac[r]! * L + bc[r]!]++;
+      const width = a.levels!.length * L;
+      const kept = pairCountsOf(table, pats, a, b);
+      let counts: Float64Array;
+      if (kept) counts = sumOver(kept, width);
+      else {
+        rows ??= completeRows(table, claim);
+        counts = new Float64Array(width);
+        const ac = a.codes!;
+        const bc = b.codes!;
+        for (const r of rows) counts[ac[r]! * L + bc[r]!]++;
+      }
       const key = counts.findIndex((count) => count > 0 && count < k);
       if (key >= 0) return `"${a.name}" = ${JSON.stringify(a.levels![Math.floor(key / L)])} with "${b.name}" = ${JSON.stringify(b.levels![key % L])} has ${plural(counts[key]!)}`;
     }
