@@ -2,6 +2,7 @@
  * Site summaries as the data argument of `test` and `report`: detects them by their content, reads
  * and checks them, and runs the pooled audit (`poolSiteSummaries`).
  */
+import { isUtf8 } from "node:buffer";
 import { closeSync, openSync, readSync } from "node:fs";
 import { resolve } from "node:path";
 import { InputError, UsageError } from "../src/errors.js";
@@ -38,6 +39,19 @@ export function isSiteSummaryFile(io: Pick<Io, "cwd">, path: string): boolean {
   }
 }
 
+/**
+ * A summary file's bytes as text: strict UTF-8 (checked by `isUtf8`, then decoded by Buffer, which
+ * is faster on megabytes than a fatal TextDecoder and gives the same text), without a leading
+ * byte-order mark (up to two, as the TextDecoder, which drops one, followed by a replace did).
+ * @throws InputError when the bytes are not UTF-8
+ */
+function decodeSummary(bytes: Uint8Array, path: string): string {
+  const buf = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  if (!isUtf8(buf)) throw new InputError(`${path}: the site summary is not UTF-8 text; give the file that arrowaudit summarize wrote, unchanged`, { file: path });
+  const bom = buf.length >= 3 && buf[0] === 0xef && buf[1] === 0xbb && buf[2] === 0xbf ? 3 : 0;
+  return buf.toString("utf8", bom).replace(/^\uFEFF/, "");
+}
+
 /** Options that read rows or matrices, which site summaries do not have. */
 const ROW_OPTIONS: ReadonlyArray<[string, string]> = [
   ["missing", "--missing"],
@@ -68,13 +82,7 @@ export async function auditSites(io: Io, graphPath: string, paths: readonly stri
     if (isStdin(path)) throw new UsageError("site summaries are read from files; give their paths instead of -");
     checkInputFile(io, { path, role: "site summary" });
     if (!isSiteSummaryFile(io, path)) throw new InputError(`${path}: is a data table among site summaries; give either one data file or site summaries written by arrowaudit summarize`, { file: path });
-    let text: string;
-    try {
-      text = new TextDecoder("utf-8", { fatal: true }).decode(readInput(path, io.cwd, "site summary")).replace(/^\uFEFF/, "");
-    } catch (e) {
-      if (e instanceof InputError) throw e;
-      throw new InputError(`${path}: the site summary is not UTF-8 text; give the file that arrowaudit summarize wrote, unchanged`, { file: path });
-    }
+    const text = decodeSummary(readInput(path, io.cwd, "site summary"), path);
     sites.push({ file: path, summary: parseSiteSummary(text, path) });
   }
   const first = sites[0]!.summary;

@@ -52,8 +52,20 @@ function fail(file: string, what: string): never {
   throw new InputError(`${file}: ${what}`, { file });
 }
 
-const isNumberArray = (v: unknown): v is number[] => Array.isArray(v) && v.every((x) => typeof x === "number" && Number.isFinite(x));
-const isStringArray = (v: unknown): v is string[] => Array.isArray(v) && v.every((x) => typeof x === "string");
+// The shape checks run on every number of every summary (about 150,000 a 2 MB file), so they are plain loops.
+function isNumberArray(v: unknown): v is number[] {
+  if (!Array.isArray(v)) return false;
+  for (let i = 0; i < v.length; i++) {
+    const x: unknown = v[i];
+    if (typeof x !== "number" || !Number.isFinite(x)) return false;
+  }
+  return true;
+}
+function isStringArray(v: unknown): v is string[] {
+  if (!Array.isArray(v)) return false;
+  for (let i = 0; i < v.length; i++) if (typeof v[i] !== "string") return false;
+  return true;
+}
 
 /**
  * Read and check a site summary's JSON text: the format tag and version, and the shape of every
@@ -114,8 +126,28 @@ function checkClaim(c: unknown, i: number, bad: (field: string, want: string) =>
   } else bad(`${f}.kind`, "moments, tables, residuals or untestable");
 }
 
-const isMatrix = (v: unknown, d: number): boolean => Array.isArray(v) && v.length === d && v.every((r) => isNumberArray(r) && r.length === d);
+function isMatrix(v: unknown, d: number): boolean {
+  if (!Array.isArray(v) || v.length !== d) return false;
+  for (let i = 0; i < d; i++) {
+    const r: unknown = v[i];
+    if (!isNumberArray(r) || r.length !== d) return false;
+  }
+  return true;
+}
 const isCount = (v: unknown, least = 0): boolean => typeof v === "number" && Number.isInteger(v) && v >= least;
+
+const FOURTH_ORDER_KEYS = ["uu", "vv", "uv", "uuvv", "uuuv", "uvvv", "uuuu", "vvvv"] as const;
+const FLEXIBILITY_KEYS = ["level", "max_level", "level_x", "level_y", "parameters"] as const;
+
+/** Whether two lists of names are equal, name by name. */
+function sameNames(a: readonly string[], b: readonly string[]): boolean {
+  if (a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
+  return true;
+}
+
+/** Whether two summaries' claims are the same claim (x, y and the set, in order). */
+const sameClaim = (a: ClaimSummary, b: ClaimSummary): boolean => a.x === b.x && a.y === b.y && sameNames(a.given, b.given);
 
 /** The fields of a residuals claim (see `ResidualsClaimSummary`): shapes from its side columns. */
 function checkResidualsClaim(o: Record<string, unknown>, f: string, bad: (field: string, want: string) => never): void {
@@ -128,12 +160,11 @@ function checkResidualsClaim(o: Record<string, unknown>, f: string, bad: (field:
   if (!isMatrix(o.residual_cross_products, qx + qy)) bad(`${f}.residual_cross_products`, `a ${qx + qy} × ${qx + qy} matrix of finite numbers`);
   if (!isMatrix(o.product_variance, qx * qy)) bad(`${f}.product_variance`, `a ${qx * qy} × ${qx * qy} matrix of finite numbers`);
   const fo = o.fourth_order as Record<string, unknown> | undefined;
-  const keys = ["uu", "vv", "uv", "uuvv", "uuuv", "uvvv", "uuuu", "vvvv"];
-  if (fo !== undefined && (typeof fo !== "object" || fo === null || !keys.every((k) => typeof fo[k] === "number" && Number.isFinite(fo[k])))) bad(`${f}.fourth_order`, `an object of the finite sums ${keys.join(", ")}`);
+  if (fo !== undefined && (typeof fo !== "object" || fo === null || !FOURTH_ORDER_KEYS.every((k) => typeof fo[k] === "number" && Number.isFinite(fo[k])))) bad(`${f}.fourth_order`, `an object of the finite sums ${FOURTH_ORDER_KEYS.join(", ")}`);
   const lin = o.linear as Record<string, unknown> | undefined;
   if (typeof lin !== "object" || lin === null || !isCount(lin.params) || !isMatrix(lin.residual_cross_products, qx + qy)) bad(`${f}.linear`, `{ params, residual_cross_products: a ${qx + qy} × ${qx + qy} matrix }`);
   const fl = o.flexibility as Record<string, unknown> | undefined;
-  if (typeof fl !== "object" || fl === null || !["level", "max_level", "level_x", "level_y", "parameters"].every((k) => isCount(fl[k]))) bad(`${f}.flexibility`, "{ level, max_level, level_x, level_y, parameters } as whole numbers");
+  if (typeof fl !== "object" || fl === null || !FLEXIBILITY_KEYS.every((k) => isCount(fl[k]))) bad(`${f}.flexibility`, "{ level, max_level, level_x, level_y, parameters } as whole numbers");
   if (!Array.isArray(o.adjustment) || !o.adjustment.every((a) => typeof a?.variable === "string" && typeof a?.entered === "string")) bad(`${f}.adjustment`, "a list of { variable, entered, columns }");
   if (!isCount(o.aliased)) bad(`${f}.aliased`, "a whole number");
 }
@@ -159,8 +190,7 @@ export function checkSitesAgree(graphSha256: string, graphFile: string, sites: r
   const settingsText = (s: SiteSummary) => JSON.stringify({ sets: s.settings.sets, method: s.settings.method, listwise: s.settings.listwise, min_cell: s.settings.min_cell, unmeasured: s.settings.unmeasured });
   const varsOf = (s: SiteSummary) => new Map(s.variables.map((v) => [v.name, v]));
   const firstVars = varsOf(first.summary);
-  const claimKey = (c: ClaimSummary) => JSON.stringify([c.x, c.y, c.given]);
-  const firstClaims = first.summary.claims.map(claimKey).join("\n");
+  const firstClaims = first.summary.claims;
   for (const { file, summary } of rest) {
     if (settingsText(summary) !== settingsText(first.summary)) {
       const keys = ["sets", "method", "listwise", "min_cell", "unmeasured"] as const;
@@ -176,15 +206,15 @@ export function checkSitesAgree(graphSha256: string, graphFile: string, sites: r
       }
     }
     if (summary.variables.length !== firstVars.size) fail(file, `has ${summary.variables.length} variables and ${first.file} has ${firstVars.size}; summarize every site with the same graph and options`);
-    if (summary.claims.map(claimKey).join("\n") !== firstClaims) fail(file, `lists other claims than ${first.file}; summarize every site with the same graph and options`);
+    if (summary.claims.length !== firstClaims.length || !summary.claims.every((c, i) => sameClaim(c, firstClaims[i]!))) fail(file, `lists other claims than ${first.file}; summarize every site with the same graph and options`);
   }
 }
 
 /** The pooled partial-correlation test of a linear claim (see the module comment). Cost: O(sites · d² + d³). */
 export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
   const d = parts[0]!.columns.length;
-  const names = JSON.stringify(parts[0]!.columns);
-  if (parts.some((p) => JSON.stringify(p.columns) !== names)) return { ok: false, reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
+  const names = parts[0]!.columns;
+  if (parts.some((p) => !sameNames(p.columns, names))) return { ok: false, reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
   const w = new Float64Array(d * d);
   let n = 0;
   for (const p of parts) {
@@ -237,8 +267,8 @@ export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[],
  */
 export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummary[], sites: readonly string[], table: Table, alpha: number): MethodResult {
   if (parts.some((p) => p.test !== parts[0]!.test)) return { ok: false, reason: "the sites' residuals of this claim come from different tests (gcm and gcm-rank); summarize every site with the same --method" };
-  const sidesText = JSON.stringify(parts[0]!.sides);
-  const odd = parts.findIndex((p) => JSON.stringify(p.sides) !== sidesText);
+  const [sx, sy] = parts[0]!.sides;
+  const odd = parts.findIndex((p) => !sameNames(p.sides[0], sx) || !sameNames(p.sides[1], sy));
   if (odd >= 0) {
     return { ok: false, reason: `the sites' residuals of this claim are of different side columns (site ${JSON.stringify(sites[0])}: ${parts[0]!.sides.flat().join(", ")}; site ${JSON.stringify(sites[odd])}: ${parts[odd]!.sides.flat().join(", ")}): a level of a nominal side is absent, or the side is constant, among one site's complete cases, so their products are not the same; test the claim at the sites that share them, or leave the variable out` };
   }
@@ -252,7 +282,7 @@ export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummar
   const cross = new Float64Array(q * q);
   const linCross = new Float64Array(q * q);
   const scatter = new Float64Array(qq * qq);
-  const keys = ["uu", "vv", "uv", "uuvv", "uuuv", "uvvv", "uuuu", "vvvv"] as const;
+  const keys = FOURTH_ORDER_KEYS;
   const fourth = parts.every((p) => p.fourth_order) ? Object.fromEntries(keys.map((k) => [k, 0])) as NonNullable<GcmTestSums["adf"]> : undefined;
   for (const p of parts) {
     n += p.n;
@@ -386,10 +416,11 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
       throw new Error("internal: pooled site summaries hold no pattern moments");
     },
   };
-  const byClaim = sites.map((s) => new Map(s.summary.claims.map((c) => [JSON.stringify([c.x, c.y, c.given]), c])));
+  // every site lists the same claims in the same order (checkSitesAgree), so one index serves them all
+  const claimIndex = new Map(first.claims.map((c, i) => [JSON.stringify([c.x, c.y, c.given]), i]));
   const test = (claim: Claim, ctx: TestContext): MethodResult => {
-    const key = JSON.stringify([claim.x, claim.y, claim.given]);
-    const parts = byClaim.map((m) => m.get(key));
+    const at = claimIndex.get(JSON.stringify([claim.x, claim.y, claim.given]));
+    const parts = sites.map((s) => (at === undefined ? undefined : s.summary.claims[at]));
     if (parts.some((p) => p === undefined)) return { ok: false, reason: "the site summaries do not list this claim; summarize every site with the same graph and options" };
     const left = sites.map((s, i) => ({ site: s.summary.site, part: parts[i]! })).filter((p) => p.part.kind === "untestable");
     const keptSites = sites.filter((_, i) => parts[i]!.kind !== "untestable").map((s) => s.summary.site);
