@@ -8,7 +8,11 @@
  * 4. claims whose conditioning set makes thousands of sparse strata (permutation p-values;
  *    bench/sparse.ts, also `npm run bench:sparse` on its own, where BENCH_CLI picks another build);
  * 5. the DuckDB engine against the memory engine on the numeric cohort, as CSV and as Parquet
- *    (bench/duckdb.ts, also runnable on its own).
+ *    (bench/duckdb.ts, also runnable on its own);
+ * 6. pooling 20 site summaries of the mixed 50-variable cohort (5,000 rows a site), end to end and
+ *    the library part alone, and summarize against test on one site of 100,000 rows
+ *    (bench/sites.ts, also runnable on its own; BENCH_SITES, BENCH_SITE_ROWS and
+ *    BENCH_LARGE_SITE_ROWS run it smaller).
  * Data are generated (invented) into bench/out/ on first use. Set BENCH_ROWS to run smaller.
  */
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
@@ -17,6 +21,7 @@ import { fileURLToPath } from "node:url";
 import { benchClaims } from "./claims.js";
 import { generateMixedCohort } from "./generateMixedCsv.js";
 import { benchDuckdb } from "./duckdb.js";
+import { benchSites } from "./sites.js";
 import { benchSparse } from "./sparse.js";
 import { ioFloor, measure } from "./measure.js";
 
@@ -72,5 +77,6 @@ console.log(JSON.stringify(results.mixed, null, 2));
 results.sparse = await benchSparse(rows, cli);
 console.log(JSON.stringify(results.sparse, null, 2));
 results.duckdb = await benchDuckdb();
+results.sites = await benchSites();
 writeFileSync(join(out, "results.json"), JSON.stringify(results, null, 2));
 console.log(`results written to ${join(out, "results.json")}`);
