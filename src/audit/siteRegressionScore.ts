@@ -75,6 +75,7 @@ import { independentColumns, lrOutcome } from "./methods/regressionLr.js";
 import { linearAdjustment } from "./methods/adjustmentDetails.js";
 import type { MethodResult, TestContext } from "./TestMethod.js";
 import type { Claim } from "./types.js";
+import { smallCategoricalCell } from "./siteDisclosure.js";
 
 /** A row is fitted with certainty by a null fit at its limit when its observed category has probability above this (as in `logisticRegression.ts`). */
 const CERTAIN = 1 - 1e-9;
@@ -140,38 +141,6 @@ export function responseOf(table: Table, claim: Claim): { response: Column; adde
 }
 
 const untestable = (claim: Claim, reason: string): UntestableScoreSummary => ({ x: claim.x, y: claim.y, given: [...claim.given], kind: "untestable", reason });
-
-/**
- * Rule 4 of `siteSummary.ts` for a claim's complete cases `rows`: the first level of a categorical
- * variable of the claim, or combination of levels of two of them, held by 1 … k − 1 rows, in
- * words; undefined when there is none. A copy of `siteSummary.ts`'s `smallCategoricalCell` (not
- * exported there), with the same wording. Cost: O(rows · c²) for c categorical variables.
- */
-export function smallCategoricalCell(table: Table, claim: Claim, rows: Int32Array, k: number): string | undefined {
-  const cats = [...new Set([claim.x, claim.y, ...claim.given])].map((v) => table.column(v)!).filter((c) => CATEGORICAL_TYPES.has(c.type) && c.codes);
-  const plural = (count: number) => `${count} row${count === 1 ? "" : "s"}`;
-  for (const c of cats) {
-    const counts = new Float64Array(c.levels!.length);
-    const codes = c.codes!;
-    for (const r of rows) counts[codes[r]!]++;
-    const code = counts.findIndex((count) => count > 0 && count < k);
-    if (code >= 0) return `the level ${JSON.stringify(c.levels![code])} of "${c.name}" has ${plural(counts[code]!)}`;
-  }
-  for (let i = 0; i < cats.length; i++) {
-    for (let j = i + 1; j < cats.length; j++) {
-      const a = cats[i]!;
-      const b = cats[j]!;
-      const L = b.levels!.length;
-      const counts = new Float64Array(a.levels!.length * L);
-      const ac = a.codes!;
-      const bc = b.codes!;
-      for (const r of rows) counts[ac[r]! * L + bc[r]!]++;
-      const key = counts.findIndex((count) => count > 0 && count < k);
-      if (key >= 0) return `"${a.name}" = ${JSON.stringify(a.levels![Math.floor(key / L)])} with "${b.name}" = ${JSON.stringify(b.levels![key % L])} has ${plural(counts[key]!)}`;
-    }
-  }
-  return undefined;
-}
 
 /** The rows where every column is observed (code ≥ 0, or a finite value). Cost: O(rows · k). */
 function completeRows(table: Table, cols: readonly Column[]): Int32Array {
@@ -308,7 +277,7 @@ export function regressionScoreSummary(table: Table, claim: Claim, k: number): R
   const rows = completeRows(table, cols);
   const n = rows.length;
   if (n < k) return untestable(claim, `${n} complete case${n === 1 ? "" : "s"} at this site, fewer than --min-cell ${k}: no statistic is written for it`);
-  const small = smallCategoricalCell(table, claim, rows, k);
+  const small = smallCategoricalCell(table, claim, k);
   if (small) return untestable(claim, `${small} among its complete cases at this site, fewer than --min-cell ${k}: its score would tell those rows' values, so none is written`);
 
   const { response, added } = responseOf(table, claim);
