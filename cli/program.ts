@@ -109,7 +109,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .requiredOption("--out <file>", "site summary file to write (JSON); an existing file is overwritten")
       .option("--site <name>", "the site's name in the pooled audit (default: the data file's name without extension)")
       .option("--min-cell <k>", "disclosure control: no moment or table cell from fewer than k rows", numberIn("--min-cell", 3, 1e9, true), 5)
-      .addOption(new Option("--method <method>", "auto: categorical claims as tables, others as moments; linear: every claim with scored x and y as moments; chisq: categorical claims only").choices(["auto", "linear", "chisq"]).default("auto"))
+      .addOption(new Option("--method <method>", "the test each claim is summarized for, as test would choose it: auto: categorical claims as tables, the others as residual sums of the flexible test; linear: claims with scored x and y as moments; chisq: categorical claims as tables; rank: every claim as residual sums of the rank test; regression: binary and nominal pairs as scores of their logistic or multinomial model, the others as moments; claims a forced test does not take as under auto").choices(["auto", "linear", "chisq", "rank", "regression"]).default("auto"))
       .option("--missing <codes>", "extra missing-value codes, as for test")
       .option("--ignore <names>", "comma-separated columns to leave out")
       .option("--types <list>", 'declare variable types, e.g. "education=ordinal,region=nominal" (declare them alike at every site)')

@@ -36,10 +36,10 @@ export async function runSummarize(io: Io, graphPath: string, dataPath: string, 
   const summary = await summarizeSiteWith(table, { graphSha256: await sha256File(graphPath, io.cwd), site, settings, measured, claims }, (t, o) => parallelPatternMoments(t, o));
   writeAtomic(out, io.cwd, JSON.stringify(summary, null, 1) + "\n");
   if (!opts.quiet) {
-    const kinds = { moments: 0, tables: 0, residuals: 0, untestable: 0 };
+    const kinds = { moments: 0, tables: 0, residuals: 0, score: 0, untestable: 0 };
     for (const c of summary.claims) kinds[c.kind]++;
     io.stderr(
-      `site ${JSON.stringify(site)}: ${summary.n} rows; ${summary.claims.length} claims: ${kinds.residuals} as residual sums of the flexible test, ${kinds.moments} as moments, ${kinds.tables} as tables, ${kinds.untestable} untestable at this site` +
+      `site ${JSON.stringify(site)}: ${summary.n} rows; ${summary.claims.length} claims: ${kinds.residuals} as residual sums of the flexible test, ${kinds.moments} as moments, ${kinds.tables} as tables, ${kinds.score ? `${kinds.score} as regression scores, ` : ""}${kinds.untestable} untestable at this site` +
         `${summary.suppressed.rows > 0 ? `; ${summary.suppressed.rows} rows in ${summary.suppressed.patterns} missing-data patterns of fewer than ${settings.min_cell} rows left out` : ""}; wrote ${out}\n`,
     );
   }

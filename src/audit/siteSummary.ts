@@ -63,6 +63,7 @@ import { chooseMethod } from "./methods/index.js";
 import { claimColumns, fitMomentPath, fitRowPath, residualProductScatter, sampleRepresents, sideCovariance, usesRowPath, type AdfSums, type ClaimColumn, type RowFit } from "./methods/gcm.js";
 import { momentExpansions } from "./momentExpansions.js";
 import { completeCount, completeRows, smallCategoricalCell } from "./siteDisclosure.js";
+import { isScoreClaim, regressionScoreSummary, type ScoreClaimSummary } from "./siteRegressionScore.js";
 import { DEFAULT_SETTINGS } from "./runAudit.js";
 import type { MethodResult } from "./TestMethod.js";
 import type { AdjustmentEntry } from "./methods/adjustmentDetails.js";
@@ -86,9 +87,12 @@ export interface SiteSummarySettings {
    * (`chooseMethod`): `gcm` → residual sums, `pearson-partial` → moments, the stratified tests →
    * tables. auto: categorical claims as tables, the others as residual sums; linear: claims with
    * scored x and y as moments; chisq: categorical claims as tables; the rest as under auto; rank:
-   * every claim as residual sums of `gcm-rank` (the sides' mid-ranks among the site's values).
+   * every claim as residual sums of `gcm-rank` (the sides' mid-ranks among the site's values);
+   * regression: claims `regression-lr` fits by a logistic or multinomial model as their
+   * efficient score and information (`siteRegressionScore.ts`), the others (a continuous or
+   * ordinal side: a Gaussian linear model) as moments.
    */
-  method: "auto" | "linear" | "chisq" | "rank";
+  method: "auto" | "linear" | "chisq" | "rank" | "regression";
   listwise: boolean;
   min_cell: number;
   /** Nodes declared unmeasured on the command line, sorted. */
@@ -165,7 +169,7 @@ export interface UntestableClaimSummary {
   reason: string;
 }
 
-export type ClaimSummary = MomentsClaimSummary | TablesClaimSummary | ResidualsClaimSummary | UntestableClaimSummary;
+export type ClaimSummary = MomentsClaimSummary | TablesClaimSummary | ResidualsClaimSummary | ScoreClaimSummary | UntestableClaimSummary;
 
 export interface SiteSummary {
   format: typeof SITE_SUMMARY_FORMAT;
@@ -220,7 +224,7 @@ export async function summarizeSiteWith(table: Table, options: SummarizeOptions,
 interface SitePlan {
   kept: Table;
   suppressed: { rows: number; patterns: number };
-  kinds: ("moments" | "tables" | "residuals")[];
+  kinds: ("moments" | "tables" | "residuals" | "score")[];
   /** What the flexible claims' pattern moments are built over, when they take the moment path. */
   flexibleMoments?: PatternMomentsOptions;
 }
@@ -247,6 +251,7 @@ function finishSite(table: Table, options: SummarizeOptions, plan: SitePlan, fle
   const claims = options.claims.map((c, i) => {
     const kind = kinds[i]!;
     if (kind === "residuals") return claimResidualsSummary(ctx, c, k, flexibleTest(settings.method));
+    if (kind === "score") return regressionScoreSummary(kept, c, k);
     return kind === "moments" ? claimMomentsSummary(kept, pm!, c, k) : summarizeTableClaim(kept, c, k);
   });
   return {
@@ -503,13 +508,15 @@ export function gcmSiteResiduals(name: TestName, claim: Claim, ctx: TestContext)
 }
 
 /** Which kind of statistics a claim gets under the method, or why none. */
-function claimKind(table: Table, claim: Claim, method: SiteSummarySettings["method"]): "moments" | "tables" | "residuals" {
+function claimKind(table: Table, claim: Claim, method: SiteSummarySettings["method"]): "moments" | "tables" | "residuals" | "score" {
   const types = [claim.x, claim.y, ...claim.given].map((v) => table.column(v)!.type);
   // the test the site's own audit would choose under the method (`chooseMethod`: a forced method
   // where it applies, else the automatic choice), and the statistics that pool it
   const chosen = chooseMethod(method, { x: types[0]!, y: types[1]!, given: types.slice(2) }).name;
   if (chosen === "gcm" || chosen === "gcm-rank") return "residuals";
   if (chosen === "pearson-partial") return "moments";
+  // regression-lr: a logistic or multinomial model pools by its score, a Gaussian linear model (a continuous or ordinal side) from moments
+  if (chosen === "regression-lr") return isScoreClaim(table, claim) ? "score" : "moments";
   return "tables"; // stratified-chisq, or linear-by-linear (pooled by the stratified chi-square)
 }
 

@@ -14,6 +14,7 @@ import { normalQuantile } from "../stats/quantiles.js";
 import { claimGroup, DEFAULT_MARGIN, GROUP_WORDS, groupCounts } from "../audit/equivalence.js";
 import { adjustedInterval } from "./adjustedInterval.js";
 import type { ReportContext } from "./ReportContext.js";
+import { pooledRulesText } from "./pooledRules.js";
 import {
   claimLabel,
   claimEffectSymbol,
@@ -439,7 +440,7 @@ function decisionsParagraph(result: AuditResult, refs: Set<RefKey>): string {
   let missing: string;
   const src = result.data.source;
   if (src?.kind === "sites") {
-    missing = `The claims were tested from the summaries of ${src.sites?.length ?? 0} sites (${(src.sites ?? []).map((t) => `${t.site}, ${formatCount(t.n)} rows`).join("; ")}), pooled with site as a stratum: linear claims by the partial correlation given the conditioning set and site, from the sum of the sites' within-site cross-products, categorical claims by the stratified test on every site's strata; each site used the rows complete for the claim's variables.`;
+    missing = `The claims were tested from the summaries of ${src.sites?.length ?? 0} sites (${(src.sites ?? []).map((t) => `${t.site}, ${formatCount(t.n)} rows`).join("; ")}), pooled with site as a stratum${claims.length ? `: ${pooledRulesText(claims)}` : ""}; each site used the rows complete for the claim's variables.`;
   } else if (src) {
     missing = `The claims were tested from summary statistics: the ${src.kind === "correlations" ? "correlation" : "covariance"} matrix of ${formatCount(src.n)} complete cases${result.data.file !== undefined ? ` in ${result.data.file}` : ""}${src.sd_file !== undefined ? `, turned into covariances by the standard deviations in ${src.sd_file}` : ""}, each claim by the partial correlation of the variables' scores; claims that need the levels of a categorical variable could not be tested.`;
   } else if (s.listwise) {

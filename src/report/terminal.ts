@@ -13,6 +13,7 @@ import type { AuditResult, Claim, TestedClaim, TestName, UntestableClaim } from 
 import { DEFAULT_MARGIN } from "../audit/equivalence.js";
 import { escapeControlCharacters, escapeTerminal } from "./escapeTerminal.js";
 import { asciiName, claimLabel, formatCount, formatEffectWithCI, formatLevel, formatP, formatPInline, formatStatistic } from "./format.js";
+import { pooledRulesText } from "./pooledRules.js";
 
 export interface TextOptions {
   ascii?: boolean;
@@ -325,7 +326,7 @@ export function renderTestText(r: AuditResult, opts: TextOptions = {}): string {
   out.push(
     ...wrap(
       src?.kind === "sites"
-        ? `pooled from ${src.sites?.length ?? 0} site summaries (${(src.sites ?? []).map((t) => `${escapeTerminal(t.site)}: ${formatCount(t.n)} rows`).join(", ")}; ${formatCount(src.n)} rows in all), with site as a stratum: claims with a continuous variable get the linear partial-correlation test given S and site (the default flexible test reads rows), categorical claims site-stratified tables`
+        ? `pooled from ${src.sites?.length ?? 0} site summaries (${(src.sites ?? []).map((t) => `${escapeTerminal(t.site)}: ${formatCount(t.n)} rows`).join(", ")}; ${formatCount(src.n)} rows in all), with site as a stratum${r.claims.length ? `: ${pooledRulesText(r.claims)}` : ""}`
         : src
         ? `${safe.file}: ${src.kind === "correlations" ? "correlation" : "covariance"} matrix of ${formatCount(src.n)} complete cases${src.sd_file !== undefined ? ` with the standard deviations of ${escapeTerminal(src.sd_file)}` : ""} (summary statistics: every claim gets the partial-correlation test)`
         : `${safe.file}: ${formatCount(r.data.rows)} rows read, ${formatCount(r.data.rows_used)} used in at least one test; ${r.data.patterns} missing-data pattern${r.data.patterns === 1 ? "" : "s"}`,
