@@ -47,9 +47,21 @@ export function noncentralityForPower(df: number, alpha: number, power: number):
   checkLevel(alpha, power);
   if (!(df > 0 && Number.isFinite(df))) throw new RangeError(`df must be positive, got ${df}`);
   if (power <= alpha) return 0;
+  // a pure function of (df, alpha, power), asked once per claim with few distinct arguments in an
+  // audit (detectable effects: every claim of one df shares it), so solved once per argument
+  const key = `${df} ${alpha} ${power}`;
+  const known = noncentralityMemo.get(key);
+  if (known !== undefined) return known;
   const crit = chiSquareUpperQuantileLog(Math.log(alpha), df);
-  return solveIncreasing((lambda) => noncentralChiSquareUpper(crit, df, lambda), power, 1, 1e-12);
+  const lambda = solveIncreasing((l) => noncentralChiSquareUpper(crit, df, l), power, 1, 1e-12);
+  if (noncentralityMemo.size >= NONCENTRALITY_MEMO_SIZE) noncentralityMemo.clear();
+  noncentralityMemo.set(key, lambda);
+  return lambda;
 }
+
+/** Solved noncentralities by (df, alpha, power); cleared when it reaches NONCENTRALITY_MEMO_SIZE entries. */
+const noncentralityMemo = new Map<string, number>();
+const NONCENTRALITY_MEMO_SIZE = 10_000;
 
 /**
  * The v ≥ 0 with f(v) = target for f non-decreasing: the bracket [0, start] doubled until f
