@@ -19,7 +19,12 @@
  * on site indicators, so the partial correlation of x and y given the columns of S computed from
  * W equals the one given S and the site indicators on the stacked rows (Frisch & Waugh 1933,
  * Econometrica 1:387–401); its t test loses one df per site beyond the first (c + sites − 1
- * conditioning columns). For a categorical claim each site's strata are strata of their own
+ * conditioning columns); summaries made under `--method regression` get instead, from the same W,
+ * the Gaussian likelihood-ratio test of the linear model of the continuous (else ordinal) side
+ * (`poolGaussianLR`, as `regression-lr` on the stacked rows with site in the set). A score claim
+ * (a logistic or multinomial model under `--method regression`) gets the pooled efficient score
+ * test U'I⁺U of the sites' scores and informations (`poolScoreClaims` in `siteRegressionScore.ts`:
+ * site-specific nuisance parameters; Rao 1948). For a categorical claim each site's strata are strata of their own
  * (site added to S), and the stratified chi-square test runs on all of them. A site where a claim
  * is untestable is left out of that claim, and the claim's warnings say so.
  */
@@ -38,6 +43,9 @@ import { linearAdjustment } from "./methods/adjustmentDetails.js";
 import type { MethodResult, TestContext } from "./TestMethod.js";
 import type { AuditResult, Claim } from "./types.js";
 import { runAuditWithTester, type AuditOptions } from "./runAudit.js";
+import { lrOutcome } from "./methods/regressionLr.js";
+import { gaussianLRFromMoments } from "../stats/gaussianLRFromMoments.js";
+import { checkScoreClaimShape, poolScoreClaims, type ScoreClaimSummary } from "./siteRegressionScore.js";
 import {
   SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION, type ClaimSummary, type MomentsClaimSummary, type ResidualsClaimSummary, type SiteSummary, type TablesClaimSummary,
 } from "./siteSummary.js";
@@ -94,7 +102,7 @@ export function parseSiteSummary(text: string, file: string): SiteSummary {
   const st = o.settings as Record<string, unknown> | undefined;
   if (typeof st !== "object" || st === null) bad("settings", "an object");
   if (!["union-parents", "minimal", "all-minimal"].includes(st!.sets as string)) bad("settings.sets", "union-parents, minimal or all-minimal");
-  if (!["auto", "linear", "chisq", "rank"].includes(st!.method as string)) bad("settings.method", "auto, linear, chisq or rank");
+  if (!["auto", "linear", "chisq", "rank", "regression"].includes(st!.method as string)) bad("settings.method", "auto, linear, chisq, rank or regression");
   if (typeof st!.listwise !== "boolean") bad("settings.listwise", "true or false");
   if (typeof st!.min_cell !== "number" || !Number.isInteger(st!.min_cell)) bad("settings.min_cell", "a whole number");
   if (!isStringArray(st!.unmeasured)) bad("settings.unmeasured", "a list of names");
@@ -123,7 +131,9 @@ function checkClaim(c: unknown, i: number, bad: (field: string, want: string) =>
     if (typeof dr !== "object" || dr === null || typeof dr.strata !== "number" || typeof dr.rows !== "number") bad(`${f}.dropped`, "{ strata, rows }");
   } else if (o.kind === "residuals") {
     checkResidualsClaim(o, f, bad);
-  } else bad(`${f}.kind`, "moments, tables, residuals or untestable");
+  } else if (o.kind === "score") {
+    checkScoreClaimShape(o, f, bad);
+  } else bad(`${f}.kind`, "moments, tables, residuals, score or untestable");
 }
 
 function isMatrix(v: unknown, d: number): boolean {
@@ -354,6 +364,66 @@ export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummar
   };
 }
 
+/**
+ * The pooled test of a moments claim under `--method regression`: the Gaussian likelihood-ratio
+ * test of the linear model of the scored side (the response: the continuous side, y first, else
+ * an ordinal side, as `regression-lr` chooses it) on the set and the site, with and without the
+ * other side (its score, or a nominal side's level indicators), LR = n·ln(RSS₀/RSS₁) from the
+ * summed within-site cross-products (`gaussianLRFromMoments`), as `regression-lr` tests it on the
+ * stacked rows with site in the set (Wilks 1938, Annals of Mathematical Statistics 9:60–62).
+ * Cost: O(sites · d² + d³).
+ */
+export function poolGaussianLR(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
+  const d = parts[0]!.columns.length;
+  const names = parts[0]!.columns;
+  if (parts.some((p) => !sameNames(p.columns, names))) return { ok: false, reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
+  const w = new Float64Array(d * d);
+  let n = 0;
+  for (const p of parts) {
+    n += p.n;
+    for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) w[a * d + b] = w[a * d + b]! + p.cross_products[a]![b]!;
+  }
+  const m = parts.length;
+  const xCol = table.column(claim.x)!;
+  const yCol = table.column(claim.y)!;
+  const width = (c: Column) => (c.type === "nominal" ? Math.max(0, (c.levels?.length ?? 1) - 1) : 1);
+  const xIdx = Array.from({ length: width(xCol) }, (_, i) => i);
+  const yIdx = Array.from({ length: width(yCol) }, (_, i) => xIdx.length + i);
+  const givenIdx = Array.from({ length: d - xIdx.length - yIdx.length }, (_, i) => xIdx.length + yIdx.length + i);
+  const resp = [yCol, xCol].find((c) => c.type === "continuous") ?? [yCol, xCol].find((c) => c.type === "ordinal");
+  if (!resp) return { ok: false, reason: `neither "${claim.x}" nor "${claim.y}" is continuous or ordinal, so no linear model of either side pools from moments` };
+  const added = resp === yCol ? xCol : yCol;
+  const respIdx = (resp === yCol ? yIdx : xIdx)[0]!;
+  const addedIdx = resp === yCol ? xIdx : yIdx;
+  const cov = w.map((v) => v / Math.max(1, n - m));
+  if (!(w[respIdx * d + respIdx]! > 0)) return { ok: false, reason: `"${resp.name}" is constant within every site among the ${n} complete rows; the claim cannot be tested` };
+  if (addedIdx.every((i) => !(w[i * d + i]! > 0))) return { ok: false, reason: `"${added.name}" is constant within every site among the ${n} complete rows; the claim cannot be tested` };
+  const fit = gaussianLRFromMoments(cov, d, n, respIdx, givenIdx, addedIdx);
+  if (!fit) return { ok: false, reason: `the linear model of "${resp.name}" fits exactly among the ${n} complete rows; the claim cannot be tested` };
+  if (fit.df === 0) return { ok: false, reason: `"${added.name}" is determined by ${claim.given.length ? claim.given.map((g) => `"${g}"`).join(", ") + " and " : ""}the site among the complete rows (aliased); the claim cannot be tested` };
+  const warnings: string[] = [];
+  const droppedBase = givenIdx.length - fit.givenKept;
+  if (droppedBase > 0) warnings.push(`${droppedBase} column${droppedBase > 1 ? "s" : ""} of the given set aliased with others (or empty levels) and dropped`);
+  const p = 1 + fit.givenKept + (m - 1) + fit.df;
+  if (n <= p + 1) return { ok: false, reason: `${n} complete rows are too few for the ${p} parameters of the full model (with ${m - 1} site indicators)` };
+  const details: Record<string, unknown> = {
+    model: "linear",
+    response: resp.name,
+    ...(resp.type === "ordinal" ? { response_scored: true } : {}),
+    added: added.name,
+    parameters_null: 1 + fit.givenKept + (m - 1),
+    parameters_full: p,
+    fitted_from: "site summaries",
+    sites: m,
+    adjustment: [...linearAdjustment(table, claim.given), { variable: "site", entered: "indicators", columns: m - 1 }],
+    sides: [
+      { variable: resp.name, model: `linear regression of the ${resp.type === "ordinal" ? "scores" : "values"} on the other side, the adjustment and the site (least squares from the sites' cross-products)` },
+      { variable: added.name, model: added.type === "nominal" ? "indicators of its levels, added to the model" : "its score, added to the model" },
+    ],
+  };
+  return { ok: true, outcome: lrOutcome(fit.lr, fit.df, n, fit.sign, details, warnings, alpha) };
+}
+
 /** The stratified chi-square test of a categorical claim on every site's strata. Cost: O(Σ cells) plus permutations. */
 export function poolTables(claim: Claim, parts: readonly TablesClaimSummary[], ctx: TestContext): MethodResult {
   const strata: CompactStratum[] = [];
@@ -424,14 +494,23 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
     if (parts.some((p) => p === undefined)) return { ok: false, reason: "the site summaries do not list this claim; summarize every site with the same graph and options" };
     const left = sites.map((s, i) => ({ site: s.summary.site, part: parts[i]! })).filter((p) => p.part.kind === "untestable");
     const keptSites = sites.filter((_, i) => parts[i]!.kind !== "untestable").map((s) => s.summary.site);
-    const kept = parts.filter((p): p is MomentsClaimSummary | TablesClaimSummary | ResidualsClaimSummary => p!.kind !== "untestable");
+    const kept = parts.filter((p): p is MomentsClaimSummary | TablesClaimSummary | ResidualsClaimSummary | ScoreClaimSummary => p!.kind !== "untestable");
     const reasons = left.map((l) => (l.part as { reason: string }).reason);
     const leftText = left.map((l, i) => `site ${JSON.stringify(l.site)}: ${reasons[i]}`).join("; ");
     if (kept.length === 0) return { ok: false, reason: new Set(reasons).size === 1 ? `untestable at every site: ${reasons[0]}` : `untestable at every site (${leftText})` };
     if (kept.some((p) => p.kind !== kept[0]!.kind)) return { ok: false, reason: `the sites' summaries of this claim are of different kinds (${[...new Set(kept.map((p) => p.kind))].join(" and ")}); summarize every site with the same options, --types and --levels` };
     const kind = kept[0]!.kind;
     const alpha = ctx.alpha ?? 0.05;
-    const r = kind === "moments" ? poolMoments(claim, kept as MomentsClaimSummary[], table, alpha) : kind === "residuals" ? poolResiduals(claim, kept as ResidualsClaimSummary[], keptSites, table, alpha) : poolTables(claim, kept as TablesClaimSummary[], ctx);
+    const r =
+      kind === "moments"
+        ? first.settings.method === "regression"
+          ? poolGaussianLR(claim, kept as MomentsClaimSummary[], table, alpha)
+          : poolMoments(claim, kept as MomentsClaimSummary[], table, alpha)
+        : kind === "residuals"
+        ? poolResiduals(claim, kept as ResidualsClaimSummary[], keptSites, table, alpha)
+        : kind === "score"
+        ? poolScoreClaims(kept as ScoreClaimSummary[], claim, { table, alpha }, keptSites)
+        : poolTables(claim, kept as TablesClaimSummary[], ctx);
     if (!r.ok) return r;
     const warnings = [...(r.outcome.warnings ?? [])];
     if (left.length > 0) warnings.push(`${left.length} of ${sites.length} sites left out of this claim (${leftText})`);

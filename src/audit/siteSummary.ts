@@ -46,8 +46,12 @@
  *    levels of two of them, has 1 … k − 1 complete cases is untestable at the site (the moments of
  *    a level's indicator, and the residual sums of a fit with that indicator, are sums over its
  *    rows), with the reason.
- * Every number of a flexible claim is a sum over all its n ≥ k complete cases (rules 1, 2, 4),
- * or a count of columns; its basis knots, coefficients and residuals are not written.
+ * Every number of a flexible claim is a sum over all its n ≥ k complete cases (rules 1, 2, 4;
+ * above ROW_PATH_MAX_ROWS rows the variance sums are over its complete cases among the sampled
+ * rows, at least k of them, scaled by n/m), or a count of columns; its basis knots, coefficients
+ * and residuals are not written. A *score claim* (method regression, x and y binary or nominal)
+ * keeps the efficient score and information of its logistic or multinomial model
+ * (`siteRegressionScore.ts`), sums over its n ≥ k complete cases (rules 2 and 4).
  * What this does not prevent: a mean of a binary column of 0 or 1, or an empty cell, says that
  * every row of the claim shares a value (attribute disclosure of a group of at least k); and the
  * difference of two claims' numbers is a sum over whole patterns of at least k rows, but within
