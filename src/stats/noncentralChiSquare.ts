@@ -26,33 +26,89 @@ function logPoisson(j: number, mu: number): number {
   return j * Math.log1p(d / j) - d - 0.5 * Math.log(2 * Math.PI * j) - stirlingRemainder(j);
 }
 
-/** Sum the Poisson mixture of central chi-square tails (upper when `upper`) at x. */
+/**
+ * ln of the gamma density term g(a) = z^a e^{−z}/Γ(a + 1) for real a > 0, z > 0. For a ≥ 15 in
+ * the form a ln(z/a) − (z − a) − ½ ln(2πa) − remainder(a) like {@link logPoisson}, but with
+ * ln(z/a) taken directly when z is far from a (log1p(d/a) would lose digits as z/a → 0).
+ */
+function logGammaDensity(a: number, z: number): number {
+  if (a < 15) return a * Math.log(z) - z - logGamma(a + 1);
+  const d = z - a;
+  const logRatio = Math.abs(d) < 0.5 * a ? Math.log1p(d / a) : Math.log(z / a);
+  return a * logRatio - d - 0.5 * Math.log(2 * Math.PI * a) - stirlingRemainder(a);
+}
+
+/** Below this a term or a tail is recomputed directly, not carried by the recurrence (subnormal range ahead). */
+const TINY = 1e-250;
+/**
+ * In the subtracting direction a tail is recomputed directly once it has fallen below this
+ * fraction of the last directly computed tail, so cancellation costs at most ~1.3 digits.
+ */
+const CANCEL = 0.05;
+
+/**
+ * Sum the Poisson mixture of central chi-square tails (upper when `upper`) at x.
+ *
+ * The central tails of neighbouring terms differ by one gamma density term: with
+ * g(a) = z^a e^{−z}/Γ(a + 1), z = x/2, a = df/2 + j, Q(a + 1, z) = Q(a, z) + g(a) and
+ * P(a + 1, z) = P(a, z) − g(a) (Abramowitz & Stegun 1964, 6.5.21; DLMF 8.8.5/8.8.6, from
+ * memory), and g(a ± 1) follows from g(a) by the factor z/(a + 1) or a/z. So only the tail at
+ * the Poisson mode is an incomplete-gamma evaluation; the others cost O(1). Precision: in the
+ * direction where the recurrence adds (upper tails going up, lower tails going down) errors stay
+ * relative; in the other direction a tail is recomputed directly whenever it falls below CANCEL
+ * of the last direct value (or to 0), and g or a tail below TINY (or g above 2, as for subnormal
+ * z) is recomputed from logs or directly, so every term keeps about 1e-13 relative accuracy.
+ */
 function poissonMixture(x: number, df: number, lambda: number, upper: boolean): number {
   const z = x / 2;
-  const tail = (j: number): number => (upper ? regularizedGammaQ(df / 2 + j, z) : regularizedGammaP(df / 2 + j, z));
+  const a0 = df / 2;
+  const direct = (j: number): number => (upper ? regularizedGammaQ(a0 + j, z) : regularizedGammaP(a0 + j, z));
   const mu = lambda / 2;
-  if (mu === 0) return tail(0); // λ = 0, or so small that λ/2 underflows
+  if (mu === 0) return direct(0); // λ = 0, or so small that λ/2 underflows
+  const densityTerm = (j: number): number => Math.exp(logGammaDensity(a0 + j, z)); // g(a0 + j) from logs
   const mode = Math.floor(mu);
   const w0 = Math.exp(logPoisson(mode, mu));
-  let sum = w0 * tail(mode);
-  // upward: j = mode+1, mode+2, ...; w_{j} = w_{j−1} · mu / j
+  const tMode = direct(mode);
+  const gMode = densityTerm(mode);
+  let sum = w0 * tMode;
+  // upward: j = mode+1, mode+2, ...; w_{j} = w_{j−1} · mu / j; T_j = T_{j−1} ± g(a0 + j − 1)
   let w = w0;
-  let massLeft = 1; // bound, refined below
+  let t = tMode;
+  let tRef = tMode; // last directly computed tail (subtracting direction only)
+  let g = gMode; // g(a0 + j − 1) at the top of the loop
   for (let j = mode + 1, it = 0; it < MAX_TERMS; j++, it++) {
     w *= mu / j;
-    const t = tail(j);
+    if (upper) {
+      t += g; // adds: Q(a + 1) = Q(a) + g(a)
+      if (t < TINY) t = direct(j);
+    } else {
+      t -= g; // subtracts: P(a + 1) = P(a) − g(a)
+      if (t < CANCEL * tRef || t < TINY) tRef = t = direct(j);
+    }
+    g = (g * z) / (a0 + j); // g(a0 + j) from g(a0 + j − 1)
+    if (!(g >= TINY && g <= 2)) g = densityTerm(j); // g ≤ 1 exactly; outside, z is extreme: from logs
     sum += w * t;
     // remaining Poisson mass above j is below w · r/(1 − r) with r = mu/(j + 1) < 1 past the mode
     const r = mu / (j + 1);
-    massLeft = r < 1 ? (w * r) / (1 - r) : Infinity;
+    const massLeft = r < 1 ? (w * r) / (1 - r) : Infinity;
     const bound = upper ? massLeft : massLeft * t; // lower tails shrink as j grows
     if (bound <= EPS * sum || w === 0) break;
   }
-  // downward: j = mode−1, ..., 0; w_{j} = w_{j+1} · (j + 1)/mu
+  // downward: j = mode−1, ..., 0; w_{j} = w_{j+1} · (j + 1)/mu; T_j = T_{j+1} ∓ g(a0 + j)
   w = w0;
+  t = tRef = tMode;
+  g = gMode; // g(a0 + j + 1) at the top of the loop
   for (let j = mode - 1; j >= 0; j--) {
     w *= (j + 1) / mu;
-    const t = tail(j);
+    g = (g * (a0 + j + 1)) / z; // g(a0 + j) from g(a0 + j + 1); a/z alone may overflow for subnormal z
+    if (!(g >= TINY && g <= 2)) g = densityTerm(j);
+    if (upper) {
+      t -= g; // subtracts: Q(a − 1) = Q(a) − g(a − 1)
+      if (t < CANCEL * tRef || t < TINY) tRef = t = direct(j);
+    } else {
+      t += g; // adds: P(a − 1) = P(a) + g(a − 1)
+      if (t < TINY) t = direct(j);
+    }
     sum += w * t;
     // remaining mass below j is below w · s/(1 − s) with s = j/mu < 1
     const s = j / mu;

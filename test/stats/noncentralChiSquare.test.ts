@@ -1,8 +1,12 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { noncentralChiSquareCdf, noncentralChiSquareUpper } from "../../src/stats/noncentralChiSquare.js";
-import { regularizedGammaQ } from "../../src/stats/pvalues.js";
+import { logGamma, regularizedGammaP, regularizedGammaQ, stirlingRemainder } from "../../src/stats/pvalues.js";
 import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
+import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
+import { dirname, join } from "node:path";
+import { fileURLToPath } from "node:url";
 
 interface NcRef { rows: { x: number; df: number; lambda: number; cdf: number; sf: number }[] }
 const ref = loadReference<NcRef>("ncx2");
@@ -13,6 +17,79 @@ describe(`noncentral chi-square against scipy.stats.ncx2 (reference: ${ref.origi
       const where = `x=${r.x} df=${r.df} λ=${r.lambda}`;
       if (r.cdf > 1e-300) expect(relErr(noncentralChiSquareCdf(r.x, r.df, r.lambda), r.cdf), where).toBeLessThanOrEqual(1e-9);
       if (r.sf > 1e-300) expect(relErr(noncentralChiSquareUpper(r.x, r.df, r.lambda), r.sf), where).toBeLessThanOrEqual(1e-9);
+    }
+  });
+});
+
+interface GridRow { x: number; df: number; lambda: number; sf: number; cdf: number; sf_mpmath: number; cdf_mpmath: number }
+const root = join(dirname(fileURLToPath(import.meta.url)), "..", "..");
+const grid = (JSON.parse(readFileSync(join(root, "test", "fixtures", "ncx2-grid", "ncx2-grid.json"), "utf8")) as { rows: GridRow[] }).rows;
+// scipy's sf and cdf at the fixture's points: live when python3 with scipy runs the script, else the committed columns
+const liveScipy = ((): { sf: number; cdf: number }[] | null => {
+  if (process.env.ARROWAUDIT_FIXTURES_ONLY) return null;
+  const r = spawnSync("python3", [join(root, "scripts", "ncx2_grid_reference.py"), "--scipy-at-fixture"], { encoding: "utf8", timeout: 120_000 });
+  return r.status === 0 ? (JSON.parse(r.stdout) as { sf: number; cdf: number }[]) : null;
+})();
+/**
+ * Lower tails where x/2 < 1e-3 · df/2 with df/2 ≥ 15: regularizedGammaP itself (src/stats/pvalues.ts,
+ * logGammaPrefactor's log1p((z − a)/a) near −1) loses up to 3 digits there, so the mixture's mode term
+ * and the direct reference inherit it; pinned by the it.fails test below, outside this module's reach.
+ */
+const centralPBug = (x: number, df: number, upper: boolean): boolean => !upper && df / 2 >= 15 && x / 2 < 1e-3 * (df / 2);
+const scipyAt = (i: number): { sf: number; cdf: number } => liveScipy?.[i] ?? grid[i];
+
+describe(`noncentral chi-square on df 1–500, λ 0–5000, both tails down to 1e-300 (scipy ${liveScipy ? "live" : "from the fixture"}; mpmath from test/fixtures/ncx2-grid)`, () => {
+  it("the grid reaches both far tails (values near 1e-300 in sf and cdf) and all df and λ", () => {
+    expect(grid.length).toBeGreaterThan(400);
+    expect(Math.min(...grid.map((r) => r.sf_mpmath).filter((v) => v > 0))).toBeLessThan(1e-299);
+    expect(Math.min(...grid.map((r) => r.cdf_mpmath).filter((v) => v > 0))).toBeLessThan(1e-299);
+    expect(new Set(grid.map((r) => r.df))).toEqual(new Set([1, 2, 5, 10, 50, 500]));
+    expect(new Set(grid.map((r) => r.lambda))).toEqual(new Set([0, 0.5, 5, 50, 500, 5000]));
+  });
+
+  it("sf and cdf match a 40-digit mpmath Poisson mixture (scripts/ncx2_grid_reference.py) to 1e-9 relative wherever it is ≥ 1e-300", () => {
+    for (const r of grid) {
+      const where = `x=${r.x} df=${r.df} λ=${r.lambda}`;
+      if (r.sf_mpmath >= 1e-300) expect(relErr(noncentralChiSquareUpper(r.x, r.df, r.lambda), r.sf_mpmath), `sf ${where}`).toBeLessThanOrEqual(1e-9);
+      if (r.cdf_mpmath >= 1e-300 && !centralPBug(r.x, r.df, false)) expect(relErr(noncentralChiSquareCdf(r.x, r.df, r.lambda), r.cdf_mpmath), `cdf ${where}`).toBeLessThanOrEqual(1e-9);
+    }
+  });
+
+  it("sf and cdf match scipy.stats.ncx2.sf / .cdf to 1e-9 relative wherever scipy agrees with mpmath (scipy returns 0 or is off by up to 17% in some far tails at λ ≥ 5)", () => {
+    let compared = 0;
+    grid.forEach((r, i) => {
+      const s = scipyAt(i);
+      const where = `x=${r.x} df=${r.df} λ=${r.lambda}`;
+      for (const [ours, theirs, exact, name] of [
+        [noncentralChiSquareUpper(r.x, r.df, r.lambda), s.sf, r.sf_mpmath, "sf"],
+        [noncentralChiSquareCdf(r.x, r.df, r.lambda), s.cdf, r.cdf_mpmath, "cdf"],
+      ] as const) {
+        if (name === "cdf" && centralPBug(r.x, r.df, false)) continue;
+        if (!(theirs >= 1e-300) || relErr(theirs, exact) > 1e-9) continue; // scipy itself is off here; the mpmath test covers the point
+        expect(relErr(ours, theirs), `${name} ${where}`).toBeLessThanOrEqual(1e-9);
+        compared++;
+      }
+    });
+    expect(compared).toBeGreaterThan(700); // of 822 values, scipy is off at about 40 far-tail ones
+  });
+
+  it.fails("known bug, outside this module: regularizedGammaP(25, 1.0177e-11) is 2e-3 off the 40-digit mpmath value (ncx2 cdf at x = 2.035e-11, df = 50, λ = 0)", () => {
+    const r = grid.find((g) => g.df === 50 && g.lambda === 0 && g.x < 1e-10)!;
+    expect(relErr(noncentralChiSquareCdf(r.x, 50, 0), r.cdf_mpmath)).toBeLessThanOrEqual(1e-9);
+  });
+
+  it("the neighbour-term recurrence agrees with a direct incomplete-gamma evaluation of every term to 1e-11 relative (grid and random points)", () => {
+    const points: [number, number, number][] = grid.map((r) => [r.x, r.df, r.lambda]);
+    fc.sample(fc.tuple(fc.double({ min: 0.001, max: 12000, noNaN: true }), fc.double({ min: 0.5, max: 500, noNaN: true }), fc.double({ min: 0, max: 5000, noNaN: true })), { numRuns: 300, seed: 29 }).forEach((p) => points.push(p));
+    for (const [x, df, lambda] of points) {
+      const where = `x=${x} df=${df} λ=${lambda}`;
+      for (const upper of [true, false]) {
+        const slow = directMixture(x, df, lambda, upper);
+        const fast = upper ? noncentralChiSquareUpper(x, df, lambda) : noncentralChiSquareCdf(x, df, lambda);
+        if (slow < 1e-300 && fast < 1e-300) continue; // both below the reach of the grid (p down to 1e-300)
+        if (centralPBug(x, df, upper)) continue; // the direct reference is off there (see centralPBug)
+        expect(relErr(fast, slow), `${upper ? "sf" : "cdf"} ${where}`).toBeLessThanOrEqual(1e-11);
+      }
     }
   });
 });
@@ -64,4 +141,43 @@ describe("noncentral chi-square theorems", () => {
 /** erfc by its continued fraction/series via the incomplete gamma: erfc(z) = Q(½, z²) for z ≥ 0. */
 function erfcApprox(z: number): number {
   return z >= 0 ? regularizedGammaQ(0.5, z * z) : 2 - regularizedGammaQ(0.5, z * z);
+}
+
+/**
+ * Slow reference: the Poisson mixture with every central tail evaluated directly by
+ * regularizedGammaQ / regularizedGammaP (no recurrence between terms), summed outward from the
+ * Poisson mode with the same stopping rules as the library before it used the recurrence.
+ */
+function directMixture(x: number, df: number, lambda: number, upper: boolean): number {
+  const logPoisson = (j: number, mu: number): number => {
+    if (j < 15) return -mu + j * Math.log(mu) - logGamma(j + 1);
+    const d = mu - j;
+    return j * Math.log1p(d / j) - d - 0.5 * Math.log(2 * Math.PI * j) - stirlingRemainder(j);
+  };
+  const z = x / 2;
+  const tail = (j: number): number => (upper ? regularizedGammaQ(df / 2 + j, z) : regularizedGammaP(df / 2 + j, z));
+  const mu = lambda / 2;
+  if (mu === 0) return tail(0);
+  const mode = Math.floor(mu);
+  const w0 = Math.exp(logPoisson(mode, mu));
+  let sum = w0 * tail(mode);
+  let w = w0;
+  for (let j = mode + 1; j < mode + 200_000; j++) {
+    w *= mu / j;
+    const t = tail(j);
+    sum += w * t;
+    const r = mu / (j + 1);
+    const massLeft = r < 1 ? (w * r) / (1 - r) : Infinity;
+    if ((upper ? massLeft : massLeft * t) <= 1e-17 * sum || w === 0) break;
+  }
+  w = w0;
+  for (let j = mode - 1; j >= 0; j--) {
+    w *= (j + 1) / mu;
+    const t = tail(j);
+    sum += w * t;
+    const s = j / mu;
+    const rest = (w * s) / (1 - s);
+    if ((upper ? rest * t : rest) <= 1e-17 * sum || w === 0) break;
+  }
+  return Math.min(1, sum);
 }
