@@ -87,8 +87,10 @@ export function logGamma(x: number): number {
 /** ln of the prefactor e^{−z} z^a / Γ(a), arranged to avoid cancellation when a is large. */
 function logGammaPrefactor(a: number, z: number): number {
   if (a >= 15) {
-    // a ln z − z − ln Γ(a) = a ln(z/a) − (z − a) + ½ ln a − ½ ln 2π − remainder(a)
-    return a * Math.log1p((z - a) / a) - (z - a) + 0.5 * Math.log(a) - HALF_LOG_2PI - stirlingRemainder(a);
+    // a ln z − z − ln Γ(a) = a ln(z/a) − (z − a) + ½ ln a − ½ ln 2π − remainder(a); ln(z/a) by
+    // log1p near z = a, directly elsewhere: (z − a)/a near −1 (z ≪ a) loses the digits of z/a
+    const logRatio = Math.abs(z - a) < a / 2 ? Math.log1p((z - a) / a) : Math.log(z / a);
+    return a * logRatio - (z - a) + 0.5 * Math.log(a) - HALF_LOG_2PI - stirlingRemainder(a);
   }
   return a * Math.log(z) - z - logGamma(a);
 }

@@ -30,12 +30,6 @@ const liveScipy = ((): { sf: number; cdf: number }[] | null => {
   const r = spawnSync("python3", [join(root, "scripts", "ncx2_grid_reference.py"), "--scipy-at-fixture"], { encoding: "utf8", timeout: 120_000 });
   return r.status === 0 ? (JSON.parse(r.stdout) as { sf: number; cdf: number }[]) : null;
 })();
-/**
- * Lower tails where x/2 < 1e-3 · df/2 with df/2 ≥ 15: regularizedGammaP itself (src/stats/pvalues.ts,
- * logGammaPrefactor's log1p((z − a)/a) near −1) loses up to 3 digits there, so the mixture's mode term
- * and the direct reference inherit it; pinned by the it.fails test below, outside this module's reach.
- */
-const centralPBug = (x: number, df: number, upper: boolean): boolean => !upper && df / 2 >= 15 && x / 2 < 1e-3 * (df / 2);
 const scipyAt = (i: number): { sf: number; cdf: number } => liveScipy?.[i] ?? grid[i];
 
 describe(`noncentral chi-square on df 1–500, λ 0–5000, both tails down to 1e-300 (scipy ${liveScipy ? "live" : "from the fixture"}; mpmath from test/fixtures/ncx2-grid)`, () => {
@@ -51,7 +45,7 @@ describe(`noncentral chi-square on df 1–500, λ 0–5000, both tails down to 1
     for (const r of grid) {
       const where = `x=${r.x} df=${r.df} λ=${r.lambda}`;
       if (r.sf_mpmath >= 1e-300) expect(relErr(noncentralChiSquareUpper(r.x, r.df, r.lambda), r.sf_mpmath), `sf ${where}`).toBeLessThanOrEqual(1e-9);
-      if (r.cdf_mpmath >= 1e-300 && !centralPBug(r.x, r.df, false)) expect(relErr(noncentralChiSquareCdf(r.x, r.df, r.lambda), r.cdf_mpmath), `cdf ${where}`).toBeLessThanOrEqual(1e-9);
+      if (r.cdf_mpmath >= 1e-300) expect(relErr(noncentralChiSquareCdf(r.x, r.df, r.lambda), r.cdf_mpmath), `cdf ${where}`).toBeLessThanOrEqual(1e-9);
     }
   });
 
@@ -64,7 +58,6 @@ describe(`noncentral chi-square on df 1–500, λ 0–5000, both tails down to 1
         [noncentralChiSquareUpper(r.x, r.df, r.lambda), s.sf, r.sf_mpmath, "sf"],
         [noncentralChiSquareCdf(r.x, r.df, r.lambda), s.cdf, r.cdf_mpmath, "cdf"],
       ] as const) {
-        if (name === "cdf" && centralPBug(r.x, r.df, false)) continue;
         if (!(theirs >= 1e-300) || relErr(theirs, exact) > 1e-9) continue; // scipy itself is off here; the mpmath test covers the point
         expect(relErr(ours, theirs), `${name} ${where}`).toBeLessThanOrEqual(1e-9);
         compared++;
@@ -73,7 +66,8 @@ describe(`noncentral chi-square on df 1–500, λ 0–5000, both tails down to 1
     expect(compared).toBeGreaterThan(700); // of 822 values, scipy is off at about 40 far-tail ones
   });
 
-  it.fails("known bug, outside this module: regularizedGammaP(25, 1.0177e-11) is 2e-3 off the 40-digit mpmath value (ncx2 cdf at x = 2.035e-11, df = 50, λ = 0)", () => {
+  it("regularizedGammaP(25, 1.0177e-11) matches the 40-digit mpmath value (ncx2 cdf at x = 2.035e-11, df = 50, λ = 0) to 1e-9", () => {
+    // pins: logGammaPrefactor took ln(z/a) as log1p((z − a)/a), which loses the digits of z/a when z ≪ a (2e-3 off here)
     const r = grid.find((g) => g.df === 50 && g.lambda === 0 && g.x < 1e-10)!;
     expect(relErr(noncentralChiSquareCdf(r.x, 50, 0), r.cdf_mpmath)).toBeLessThanOrEqual(1e-9);
   });
@@ -87,7 +81,6 @@ describe(`noncentral chi-square on df 1–500, λ 0–5000, both tails down to 1
         const slow = directMixture(x, df, lambda, upper);
         const fast = upper ? noncentralChiSquareUpper(x, df, lambda) : noncentralChiSquareCdf(x, df, lambda);
         if (slow < 1e-300 && fast < 1e-300) continue; // both below the reach of the grid (p down to 1e-300)
-        if (centralPBug(x, df, upper)) continue; // the direct reference is off there (see centralPBug)
         expect(relErr(fast, slow), `${upper ? "sf" : "cdf"} ${where}`).toBeLessThanOrEqual(1e-11);
       }
     }
