@@ -9,6 +9,7 @@ import type { MethodResult } from "../src/audit/TestMethod.js";
 import type { AuditSettings, Claim } from "../src/audit/types.js";
 import type { Column } from "../src/data/Table.js";
 import { startWorker } from "./startWorker.js";
+import type { ClaimSummary, SiteClaimHelper } from "../src/audit/siteSummary.js";
 
 /** What the main thread hands to the worker (see claimWorker.ts). */
 export interface ClaimTask {
@@ -81,3 +82,56 @@ function plainColumn(c: Column): Column {
     missing: c.missing,
   };
 }
+
+/** What the main thread hands to a site-summary worker (see claimWorker.ts). */
+export interface SiteClaimTask {
+  file?: string;
+  rows: number;
+  columns: Column[];
+  claims: readonly Claim[];
+  counter: Int32Array;
+  k: number;
+  test: "gcm" | "gcm-rank";
+}
+
+/** A message from a site-summary worker: one claim's summary (by index in the job), or the end. */
+export type SiteClaimReply = { k: number; summary: ClaimSummary } | { done: true };
+
+/**
+ * The helper thread of `summarize` on a site of at most 20,000 rows (`summarizeSiteWith`): a
+ * worker that makes flexible claims' summaries, taking them from the counter it shares with the
+ * main thread. Resolves with what it finished (a failed worker leaves the rest to the caller).
+ */
+export const siteClaimHelper: SiteClaimHelper = (job) => {
+  const names = new Set<string>();
+  for (const c of job.claims) for (const v of [c.x, c.y, ...c.given]) names.add(v);
+  const task: SiteClaimTask = {
+    ...(job.table.file !== undefined ? { file: job.table.file } : {}),
+    rows: job.table.rows,
+    columns: [...names].map((n) => plainColumn(job.table.column(n)!)),
+    claims: job.claims,
+    counter: job.counter,
+    k: job.k,
+    test: job.test,
+  };
+  const results = new Map<number, ClaimSummary>();
+  return new Promise((resolve) => {
+    let worker: ReturnType<typeof startWorker>;
+    try {
+      worker = startWorker(import.meta.url, "claimWorker", { kind: "siteClaims", task });
+    } catch {
+      resolve(results);
+      return;
+    }
+    const end = () => {
+      void worker.terminate();
+      resolve(results);
+    };
+    worker.on("message", (m: SiteClaimReply) => {
+      if ("done" in m) end();
+      else results.set(m.k, m.summary);
+    });
+    worker.once("error", end);
+    worker.once("exit", () => resolve(results));
+  });
+};

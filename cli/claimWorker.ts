@@ -1,5 +1,5 @@
 /**
- * Worker thread of {@link claimHelper}: rebuilds the table from the columns it was sent, then
+ * Worker thread of {@link claimHelper} (and of `siteClaimHelper`, for `summarize`): rebuilds the table from the columns it was sent, then
  * takes claims from the shared counter until none is left, posting each result as it is done.
  * A claim that throws (it should not) is not answered: the main thread tests it again and
  * reports what happens there.
@@ -7,7 +7,8 @@
 import { parentPort, workerData } from "node:worker_threads";
 import { helperContext, testClaimMethod } from "../src/audit/runAudit.js";
 import { assembleTable } from "../src/data/columnBuilder.js";
-import type { ClaimReply, ClaimTask } from "./claimHelper.js";
+import type { ClaimReply, ClaimTask, SiteClaimReply, SiteClaimTask } from "./claimHelper.js";
+import { flexibleClaimSummary } from "../src/audit/siteSummary.js";
 
 if (parentPort && workerData && (workerData as { kind?: string }).kind === "claims") {
   const task = (workerData as { task: ClaimTask }).task;
@@ -26,4 +27,20 @@ if (parentPort && workerData && (workerData as { kind?: string }).kind === "clai
     }
   }
   port.postMessage({ done: true } satisfies ClaimReply);
+}
+
+if (parentPort && workerData && (workerData as { kind?: string }).kind === "siteClaims") {
+  const task = (workerData as { task: SiteClaimTask }).task;
+  const table = assembleTable(task.file, task.rows, task.columns, []);
+  const port = parentPort;
+  for (;;) {
+    const k = Atomics.add(task.counter, 0, 1);
+    if (k >= task.claims.length) break;
+    try {
+      port.postMessage({ k, summary: flexibleClaimSummary(table, task.claims[k]!, task.k, task.test) } satisfies SiteClaimReply);
+    } catch {
+      // left to the main thread
+    }
+  }
+  port.postMessage({ done: true } satisfies SiteClaimReply);
 }

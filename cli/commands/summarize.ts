@@ -9,6 +9,7 @@ import { deriveClaims } from "../../src/graph/deriveClaims.js";
 import { MAX_SETS_PER_PAIR } from "../../src/audit/runAudit.js";
 import { DEFAULT_MIN_CELL, summarizeSiteWith, type SiteSummarySettings } from "../../src/audit/siteSummary.js";
 import { parallelPatternMoments } from "../parallelPatternMoments.js";
+import { siteClaimHelper } from "../claimHelper.js";
 import { refuseOverwritingInputs } from "../checkPaths.js";
 import { EXIT } from "../exitCodes.js";
 import { type Io, sha256File, writeAtomic } from "../io.js";
@@ -32,8 +33,8 @@ export async function runSummarize(io: Io, graphPath: string, dataPath: string, 
   const site = typeof opts.site === "string" ? opts.site : isStdin(dataPath) ? "site" : basename(dataPath, extname(dataPath));
   const measured = graph.nodes.filter((n) => graph.isMeasured(n));
   const { claims } = deriveClaims(graph, { sets: settings.sets, cap: MAX_SETS_PER_PAIR });
-  // the flexible claims' pattern moments over two threads, as `test` builds them
-  const summary = await summarizeSiteWith(table, { graphSha256: await sha256File(graphPath, io.cwd), site, settings, measured, claims }, (t, o) => parallelPatternMoments(t, o));
+  // the flexible claims' pattern moments over two threads, or their row-path fits shared with a helper thread, as `test` does
+  const summary = await summarizeSiteWith(table, { graphSha256: await sha256File(graphPath, io.cwd), site, settings, measured, claims }, (t, o) => parallelPatternMoments(t, o), siteClaimHelper);
   writeAtomic(out, io.cwd, JSON.stringify(summary, null, 1) + "\n");
   if (!opts.quiet) {
     const kinds = { moments: 0, tables: 0, residuals: 0, score: 0, untestable: 0 };

@@ -220,9 +220,53 @@ export function summarizeSite(table: Table, options: SummarizeOptions): SiteSumm
  * @throws as {@link summarizeSite}
  * @example await summarizeSiteWith(table, options, (t, o) => parallelPatternMoments(t, o))
  */
-export async function summarizeSiteWith(table: Table, options: SummarizeOptions, build: (table: Table, options: PatternMomentsOptions) => Promise<PatternMoments>): Promise<SiteSummary> {
+export async function summarizeSiteWith(table: Table, options: SummarizeOptions, build: (table: Table, options: PatternMomentsOptions) => Promise<PatternMoments>, helper?: SiteClaimHelper): Promise<SiteSummary> {
   const plan = planSite(table, options);
-  return finishSite(table, options, plan, plan.flexibleMoments ? await build(plan.kept, plan.flexibleMoments) : undefined);
+  // a site on the row path shares its flexible claims with a helper thread, as `test` does
+  const done = helper && !plan.flexibleMoments ? await shareFlexibleClaims(plan, options, helper) : undefined;
+  return finishSite(table, options, plan, plan.flexibleMoments ? await build(plan.kept, plan.flexibleMoments) : undefined, done);
+}
+
+/**
+ * Summarises a share of a site's flexible claims on another thread: it takes claims one at a
+ * time by `Atomics.add(counter, 0, 1)` (an index into `claims`) and resolves with the summaries it
+ * made ({@link flexibleClaimSummary}), by that index; a claim it took but did not answer is made
+ * again by the caller.
+ */
+export type SiteClaimHelper = (job: { table: Table; claims: readonly Claim[]; k: number; test: "gcm" | "gcm-rank"; counter: Int32Array }) => Promise<Map<number, ClaimSummary>>;
+
+/** Fewest flexible claims worth a helper thread (its start costs about as much as a few claims). */
+const HELPER_MIN_CLAIMS = 8;
+
+/**
+ * The summary of one flexible claim on a site's kept rows by `gcm`'s row path (a site of at most
+ * ROW_PATH_MAX_ROWS rows), as `summarizeSite` makes it: for a helper thread
+ * ({@link SiteClaimHelper}). Cost: as the site's own test of the claim.
+ * @example flexibleClaimSummary(kept, claim, 5, "gcm").kind // "residuals"
+ */
+export function flexibleClaimSummary(table: Table, claim: Claim, k: number, test: "gcm" | "gcm-rank"): ClaimSummary {
+  return claimResidualsSummary(rowsOnlyContext(table), claim, k, test);
+}
+
+/** The flexible claims' summaries, by index in `options.claims`, made here and by the helper from one counter. */
+async function shareFlexibleClaims(plan: SitePlan, options: SummarizeOptions, helper: SiteClaimHelper): Promise<Map<number, ClaimSummary> | undefined> {
+  const at = plan.kinds.flatMap((kind, i) => (kind === "residuals" ? [i] : []));
+  if (at.length < HELPER_MIN_CLAIMS) return undefined;
+  const claims = at.map((i) => options.claims[i]!);
+  const k = options.settings.min_cell;
+  const test = flexibleTest(options.settings.method);
+  const counter = new Int32Array(new SharedArrayBuffer(8));
+  const helped = helper({ table: plan.kept, claims, k, test, counter });
+  const out = new Map<number, ClaimSummary>();
+  const ctx = rowsOnlyContext(plan.kept);
+  for (;;) {
+    const j = Atomics.add(counter, 0, 1);
+    if (j >= claims.length) break;
+    out.set(at[j]!, claimResidualsSummary(ctx, claims[j]!, k, test));
+  }
+  for (const [j, summary] of await helped) if (j >= 0 && j < claims.length) out.set(at[j]!, summary);
+  for (let j = 0; j < claims.length; j++) if (!out.has(at[j]!)) out.set(at[j]!, claimResidualsSummary(ctx, claims[j]!, k, test));
+  return out;
 }
 
 interface SitePlan {
@@ -244,7 +288,7 @@ function planSite(table: Table, options: SummarizeOptions): SitePlan {
   return { kept, suppressed, kinds, ...(flexible && !usesRowPath(kept) ? { flexibleMoments: flexibleMomentsOptions(kept, measured, options.claims, settings) } : {}) };
 }
 
-function finishSite(table: Table, options: SummarizeOptions, plan: SitePlan, flexibleMoments: PatternMoments | undefined): SiteSummary {
+function finishSite(table: Table, options: SummarizeOptions, plan: SitePlan, flexibleMoments: PatternMoments | undefined, done?: ReadonlyMap<number, ClaimSummary>): SiteSummary {
   const { settings, measured } = options;
   const k = settings.min_cell;
   const { kept, suppressed, kinds } = plan;
@@ -254,7 +298,7 @@ function finishSite(table: Table, options: SummarizeOptions, plan: SitePlan, fle
   const ctx = flexibleMoments ? { table: kept, moments: flexibleMoments, seed: DEFAULT_SETTINGS.seed, alpha: 0.05 } : rowsOnlyContext(kept);
   const claims = options.claims.map((c, i) => {
     const kind = kinds[i]!;
-    if (kind === "residuals") return claimResidualsSummary(ctx, c, k, flexibleTest(settings.method));
+    if (kind === "residuals") return done?.get(i) ?? claimResidualsSummary(ctx, c, k, flexibleTest(settings.method));
     if (kind === "score") return regressionScoreSummary(kept, c, k);
     return kind === "moments" ? claimMomentsSummary(kept, pm!, c, k) : summarizeTableClaim(kept, c, k);
   });

@@ -18,11 +18,14 @@ import type { Table } from "../../src/data/Table.js";
 import { parseGraph } from "../../src/graph/parseGraph.js";
 import { deriveClaims } from "../../src/graph/deriveClaims.js";
 import { runAudit } from "../../src/audit/runAudit.js";
-import { siteClaimResiduals, summarizeSite, type ResidualsClaimSummary, type SiteSummary, type SiteSummarySettings } from "../../src/audit/siteSummary.js";
+import { flexibleClaimSummary, siteClaimResiduals, summarizeSite, type ResidualsClaimSummary, type SiteSummary, type SiteSummarySettings } from "../../src/audit/siteSummary.js";
+import { siteClaimHelper } from "../../cli/claimHelper.js";
 import { poolSiteSummaries } from "../../src/audit/poolSiteSummaries.js";
 import type { Graph } from "../../src/graph/Graph.js";
 import type { TestedClaim } from "../../src/audit/types.js";
 import { createRng } from "../../src/stats/rng.js";
+import { createHash } from "node:crypto";
+import { runCli } from "../helpers/runCli.js";
 
 const SHA = "cd".repeat(32);
 const SETTINGS: SiteSummarySettings = { sets: "union-parents", method: "auto", listwise: false, min_cell: 5, unmeasured: [] };
@@ -140,6 +143,39 @@ describe("one site above the row-path size", () => {
       }
       expect((c.details?.flexibility as { sites: { level: number }[] }).sites[0]!.level).toBe((o.details?.flexibility as { level: number }).level);
     }
+  }, 60_000);
+});
+
+describe("summarize with a helper thread", () => {
+  it("summarize on a site of the row path shares its flexible claims with a helper thread and writes the summary the library makes alone, byte for byte", async () => {
+    // 12 flexible claims (at least the 8 that start a helper); values written in full so the CSV reads back exactly
+    const graphText = "s -> x\ns -> y\ns -> b\nx -> u\ny -> w\nb -> v\n";
+    const g = graphOf(graphText);
+    const { u, z } = draws(77, "helper site");
+    const n = 900;
+    const s = Array.from({ length: n }, () => z());
+    const cols: Record<string, number[]> = { s, x: s.map((v) => Math.sin(v) + z()), y: s.map((v) => v * v + z()), b: s.map((v) => (u() < logistic(v) ? 1 : 0)) };
+    cols.u = cols.x!.map((v) => v + z());
+    cols.w = cols.y!.map((v) => 0.5 * v + z());
+    cols.v = cols.b!.map((v) => v + z());
+    const names = Object.keys(cols);
+    const dir = mkdtempSync(join(tmpdir(), "arrowaudit-helper-"));
+    writeFileSync(join(dir, "g.txt"), graphText);
+    writeFileSync(join(dir, "A.csv"), [names.join(","), ...Array.from({ length: n }, (_, r) => names.map((k) => String(cols[k]![r])).join(","))].join("\n") + "\n");
+    const r = await runCli(["summarize", "g.txt", "A.csv", "--out", "A.json", "--site", "A", "--quiet"], { cwd: dir });
+    expect(r.code, r.stderr).toBe(0);
+    const written = readFileSync(join(dir, "A.json"), "utf8");
+    const { claims } = deriveClaims(g, { sets: "union-parents", cap: 100 });
+    const flexible = (JSON.parse(written) as SiteSummary).claims.filter((c) => c.kind === "residuals").length;
+    expect(flexible).toBeGreaterThanOrEqual(8);
+    const table = createTable(cols, { file: "A.csv" });
+    const alone = summarizeSite(table, { graphSha256: createHash("sha256").update(graphText).digest("hex"), site: "A", settings: SETTINGS, measured: measuredOf(g), claims });
+    expect(written).toBe(JSON.stringify(alone, null, 1) + "\n");
+    // the worker alone (nothing competes for the counter): every claim's summary equals the one made on this thread
+    const flex = claims.filter((c) => alone.claims.find((k) => k.x === c.x && k.y === c.y && JSON.stringify(k.given) === JSON.stringify(c.given))?.kind === "residuals");
+    const fromWorker = await siteClaimHelper({ table, claims: flex, k: 5, test: "gcm", counter: new Int32Array(new SharedArrayBuffer(8)) });
+    expect(fromWorker.size).toBe(flex.length);
+    flex.forEach((c, j) => expect(fromWorker.get(j)).toEqual(flexibleClaimSummary(table, c, 5, "gcm")));
   }, 60_000);
 });
 
