@@ -10,6 +10,7 @@ import type { AuditSettings, Claim } from "../src/audit/types.js";
 import type { Column } from "../src/data/Table.js";
 import { startWorker } from "./startWorker.js";
 import type { ClaimSummary, SiteClaimHelper } from "../src/audit/siteSummary.js";
+import type { PatternMomentsOptions } from "../src/data/buildPatternMoments.js";
 
 /** What the main thread hands to the worker (see claimWorker.ts). */
 export interface ClaimTask {
@@ -92,18 +93,21 @@ export interface SiteClaimTask {
   counter: Int32Array;
   k: number;
   test: "gcm" | "gcm-rank";
+  /** On the moment path: what the pattern moments are built over (the worker builds the same ones). */
+  moments?: PatternMomentsOptions;
 }
 
 /** A message from a site-summary worker: one claim's summary (by index in the job), or the end. */
 export type SiteClaimReply = { k: number; summary: ClaimSummary } | { done: true };
 
 /**
- * The helper thread of `summarize` on a site of at most 20,000 rows (`summarizeSiteWith`): a
- * worker that makes flexible claims' summaries, taking them from the counter it shares with the
- * main thread. Resolves with what it finished (a failed worker leaves the rest to the caller).
+ * The helper thread of `summarize` (`summarizeSiteWith`): a worker that makes flexible claims'
+ * summaries (building the site's pattern moments for itself on the moment path), taking them
+ * from the counter it shares with the main thread. Resolves with what it finished (a failed worker leaves the rest to the caller).
  */
 export const siteClaimHelper: SiteClaimHelper = (job) => {
-  const names = new Set<string>();
+  // on the moment path every measured column (the moments are built over them all), else the claims' columns
+  const names = new Set<string>(job.moments ? job.table.columns.map((c) => c.name) : []);
   for (const c of job.claims) for (const v of [c.x, c.y, ...c.given]) names.add(v);
   const task: SiteClaimTask = {
     ...(job.table.file !== undefined ? { file: job.table.file } : {}),
@@ -113,6 +117,7 @@ export const siteClaimHelper: SiteClaimHelper = (job) => {
     counter: job.counter,
     k: job.k,
     test: job.test,
+    ...(job.moments ? { moments: job.moments } : {}),
   };
   const results = new Map<number, ClaimSummary>();
   return new Promise((resolve) => {

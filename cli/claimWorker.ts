@@ -8,7 +8,7 @@ import { parentPort, workerData } from "node:worker_threads";
 import { helperContext, testClaimMethod } from "../src/audit/runAudit.js";
 import { assembleTable } from "../src/data/columnBuilder.js";
 import type { ClaimReply, ClaimTask, SiteClaimReply, SiteClaimTask } from "./claimHelper.js";
-import { flexibleClaimSummary } from "../src/audit/siteSummary.js";
+import { flexibleClaimContext, flexibleClaimSummary } from "../src/audit/siteSummary.js";
 
 if (parentPort && workerData && (workerData as { kind?: string }).kind === "claims") {
   const task = (workerData as { task: ClaimTask }).task;
@@ -32,12 +32,13 @@ if (parentPort && workerData && (workerData as { kind?: string }).kind === "clai
 if (parentPort && workerData && (workerData as { kind?: string }).kind === "siteClaims") {
   const task = (workerData as { task: SiteClaimTask }).task;
   const table = assembleTable(task.file, task.rows, task.columns, []);
+  const ctx = flexibleClaimContext(table, task.moments);
   const port = parentPort;
   for (;;) {
     const k = Atomics.add(task.counter, 0, 1);
     if (k >= task.claims.length) break;
     try {
-      port.postMessage({ k, summary: flexibleClaimSummary(table, task.claims[k]!, task.k, task.test) } satisfies SiteClaimReply);
+      port.postMessage({ k, summary: flexibleClaimSummary(ctx, task.claims[k]!, task.k, task.test) } satisfies SiteClaimReply);
     } catch {
       // left to the main thread
     }

@@ -222,43 +222,60 @@ export function summarizeSite(table: Table, options: SummarizeOptions): SiteSumm
  */
 export async function summarizeSiteWith(table: Table, options: SummarizeOptions, build: (table: Table, options: PatternMomentsOptions) => Promise<PatternMoments>, helper?: SiteClaimHelper): Promise<SiteSummary> {
   const plan = planSite(table, options);
-  // a site on the row path shares its flexible claims with a helper thread, as `test` does
-  const done = helper && !plan.flexibleMoments ? await shareFlexibleClaims(plan, options, helper) : undefined;
-  return finishSite(table, options, plan, plan.flexibleMoments ? await build(plan.kept, plan.flexibleMoments) : undefined, done);
+  const flexible = plan.kinds.filter((kind) => kind === "residuals").length;
+  // enough flexible claims: shared with a helper thread, as `test` shares the claims that read
+  // rows; on the moment path the helper builds the same pattern moments for itself (worth it when
+  // the claims cost more than a second build of the moments), so both threads build them alone
+  const share = helper !== undefined && flexible >= (plan.flexibleMoments ? HELPER_MIN_MOMENT_CLAIMS : HELPER_MIN_CLAIMS);
+  const moments = plan.flexibleMoments ? (share ? buildPatternMoments(plan.kept, plan.flexibleMoments) : await build(plan.kept, plan.flexibleMoments)) : undefined;
+  const done = share ? await shareFlexibleClaims(plan, options, helper!, moments) : undefined;
+  return finishSite(table, options, plan, moments, done);
 }
 
 /**
- * Summarises a share of a site's flexible claims on another thread: it takes claims one at a
- * time by `Atomics.add(counter, 0, 1)` (an index into `claims`) and resolves with the summaries it
- * made ({@link flexibleClaimSummary}), by that index; a claim it took but did not answer is made
- * again by the caller.
+ * Summarises a share of a site's flexible claims on another thread: it builds the pattern moments
+ * of `moments` on `table` when given (a site on the moment path; else it fits on the rows), takes
+ * claims one at a time by `Atomics.add(counter, 0, 1)` (an index into `claims`) and resolves with
+ * the summaries it made ({@link flexibleClaimSummary}), by that index; a claim it took but did not
+ * answer is made again by the caller.
  */
-export type SiteClaimHelper = (job: { table: Table; claims: readonly Claim[]; k: number; test: "gcm" | "gcm-rank"; counter: Int32Array }) => Promise<Map<number, ClaimSummary>>;
+export type SiteClaimHelper = (job: { table: Table; claims: readonly Claim[]; k: number; test: "gcm" | "gcm-rank"; counter: Int32Array; moments?: PatternMomentsOptions }) => Promise<Map<number, ClaimSummary>>;
 
-/** Fewest flexible claims worth a helper thread (its start costs about as much as a few claims). */
+/** Fewest flexible claims worth a helper thread on the row path (its start costs about as much as a few claims). */
 const HELPER_MIN_CLAIMS = 8;
+/** Fewest flexible claims worth a helper thread on the moment path (the helper builds the moments again). */
+const HELPER_MIN_MOMENT_CLAIMS = 64;
 
 /**
- * The summary of one flexible claim on a site's kept rows by `gcm`'s row path (a site of at most
- * ROW_PATH_MAX_ROWS rows), as `summarizeSite` makes it: for a helper thread
- * ({@link SiteClaimHelper}). Cost: as the site's own test of the claim.
- * @example flexibleClaimSummary(kept, claim, 5, "gcm").kind // "residuals"
+ * The context in which a helper thread makes flexible claims' summaries: the site's kept rows and,
+ * on the moment path, the pattern moments built over `moments` (the same options give the same
+ * moments, so the same summaries). Cost: O(rows · D²) on the moment path, else O(1).
+ * @example flexibleClaimContext(kept) // fits on the rows
  */
-export function flexibleClaimSummary(table: Table, claim: Claim, k: number, test: "gcm" | "gcm-rank"): ClaimSummary {
-  return claimResidualsSummary(rowsOnlyContext(table), claim, k, test);
+export function flexibleClaimContext(table: Table, moments?: PatternMomentsOptions): TestContext {
+  return moments ? { table, moments: buildPatternMoments(table, moments), seed: DEFAULT_SETTINGS.seed, alpha: 0.05 } : rowsOnlyContext(table);
+}
+
+/**
+ * The summary of one flexible claim on a site's kept rows, as `summarizeSite` makes it, in the
+ * context of {@link flexibleClaimContext}: for a helper thread ({@link SiteClaimHelper}).
+ * Cost: as the site's own test of the claim.
+ * @example flexibleClaimSummary(flexibleClaimContext(kept), claim, 5, "gcm").kind // "residuals"
+ */
+export function flexibleClaimSummary(ctx: TestContext, claim: Claim, k: number, test: "gcm" | "gcm-rank"): ClaimSummary {
+  return claimResidualsSummary(ctx, claim, k, test);
 }
 
 /** The flexible claims' summaries, by index in `options.claims`, made here and by the helper from one counter. */
-async function shareFlexibleClaims(plan: SitePlan, options: SummarizeOptions, helper: SiteClaimHelper): Promise<Map<number, ClaimSummary> | undefined> {
+async function shareFlexibleClaims(plan: SitePlan, options: SummarizeOptions, helper: SiteClaimHelper, moments: PatternMoments | undefined): Promise<Map<number, ClaimSummary>> {
   const at = plan.kinds.flatMap((kind, i) => (kind === "residuals" ? [i] : []));
-  if (at.length < HELPER_MIN_CLAIMS) return undefined;
   const claims = at.map((i) => options.claims[i]!);
   const k = options.settings.min_cell;
   const test = flexibleTest(options.settings.method);
   const counter = new Int32Array(new SharedArrayBuffer(8));
-  const helped = helper({ table: plan.kept, claims, k, test, counter });
+  const helped = helper({ table: plan.kept, claims, k, test, counter, ...(plan.flexibleMoments ? { moments: plan.flexibleMoments } : {}) });
   const out = new Map<number, ClaimSummary>();
-  const ctx = rowsOnlyContext(plan.kept);
+  const ctx = moments ? { table: plan.kept, moments, seed: DEFAULT_SETTINGS.seed, alpha: 0.05 } : rowsOnlyContext(plan.kept);
   for (;;) {
     const j = Atomics.add(counter, 0, 1);
     if (j >= claims.length) break;
@@ -579,8 +596,9 @@ function flexibleTest(method: SiteSummarySettings["method"]): "gcm" | "gcm-rank"
  * audit would add for the claims (`momentExpansions`: level indicators, basis columns within the
  * compute budget, mid-ranks), so that `gcm`'s moment path runs as in `test`, at the audit's
  * default seed. Cost: the sorting of each continuous member of a set once.
+ * @example flexibleMomentsOptions(kept, measured, claims, settings).expansions.basis // the basis columns of the continuous members of the sets
  */
-function flexibleMomentsOptions(table: Table, measured: readonly string[], claims: readonly Claim[], settings: SiteSummarySettings): PatternMomentsOptions {
+export function flexibleMomentsOptions(table: Table, measured: readonly string[], claims: readonly Claim[], settings: SiteSummarySettings): PatternMomentsOptions {
   const audit = { ...DEFAULT_SETTINGS, method: settings.method, sets: settings.sets, listwise: false };
   return { variables: measured, expansions: momentExpansions(claims, table, audit, measured) };
 }
@@ -654,8 +672,9 @@ function keptRows(table: Table, names: readonly string[], keep: Uint8Array): Tab
   for (let r = 0, j = 0; r < table.rows; r++) if (keep[r]) index[j++] = r;
   const columns: Column[] = names.map((name) => {
     const c = table.column(name)!;
-    // plain loops: Float64Array.from with a mapping function was a tenth of a 100,000-row summary
-    const values = new Float64Array(n);
+    // plain loops: Float64Array.from with a mapping function was a tenth of a 100,000-row summary;
+    // shared memory, so that a helper thread reads these columns without a copy
+    const values = new Float64Array(new SharedArrayBuffer(8 * n));
     const from = c.values;
     let missing = 0;
     for (let j = 0; j < n; j++) {
@@ -665,7 +684,7 @@ function keptRows(table: Table, names: readonly string[], keep: Uint8Array): Tab
     }
     let codes: Int32Array | undefined;
     if (c.codes) {
-      codes = new Int32Array(n);
+      codes = new Int32Array(new SharedArrayBuffer(4 * n));
       for (let j = 0; j < n; j++) codes[j] = c.codes[index[j]!]!;
     }
     return { ...c, values, missing, ...(codes ? { codes } : {}) };

@@ -18,8 +18,9 @@ import type { Table } from "../../src/data/Table.js";
 import { parseGraph } from "../../src/graph/parseGraph.js";
 import { deriveClaims } from "../../src/graph/deriveClaims.js";
 import { runAudit } from "../../src/audit/runAudit.js";
-import { flexibleClaimSummary, siteClaimResiduals, summarizeSite, type ResidualsClaimSummary, type SiteSummary, type SiteSummarySettings } from "../../src/audit/siteSummary.js";
+import { flexibleClaimContext, flexibleClaimSummary, flexibleMomentsOptions, siteClaimResiduals, summarizeSite, summarizeSiteWith, type ResidualsClaimSummary, type SiteSummary, type SiteSummarySettings } from "../../src/audit/siteSummary.js";
 import { siteClaimHelper } from "../../cli/claimHelper.js";
+import { buildPatternMoments } from "../../src/data/buildPatternMoments.js";
 import { poolSiteSummaries } from "../../src/audit/poolSiteSummaries.js";
 import type { Graph } from "../../src/graph/Graph.js";
 import type { TestedClaim } from "../../src/audit/types.js";
@@ -175,8 +176,40 @@ describe("summarize with a helper thread", () => {
     const flex = claims.filter((c) => alone.claims.find((k) => k.x === c.x && k.y === c.y && JSON.stringify(k.given) === JSON.stringify(c.given))?.kind === "residuals");
     const fromWorker = await siteClaimHelper({ table, claims: flex, k: 5, test: "gcm", counter: new Int32Array(new SharedArrayBuffer(8)) });
     expect(fromWorker.size).toBe(flex.length);
-    flex.forEach((c, j) => expect(fromWorker.get(j)).toEqual(flexibleClaimSummary(table, c, 5, "gcm")));
+    flex.forEach((c, j) => expect(fromWorker.get(j)).toEqual(flexibleClaimSummary(flexibleClaimContext(table), c, 5, "gcm")));
   }, 60_000);
+});
+
+describe("summarize with a helper thread on the moment path", () => {
+  it("a site of 25,000 rows with 70 flexible claims: summarizeSiteWith and the helper thread (which builds the pattern moments again) give summarizeSite's summary", async () => {
+    // a chain of 13 continuous nodes and a binary one: 13·14/2 − 13 = 78 claims, all flexible
+    const names = Array.from({ length: 14 }, (_, i) => `v${i}`);
+    const graphText = names.slice(1).map((v, i) => `${names[i]} -> ${v}`).join("\n") + "\n";
+    const g = graphOf(graphText);
+    const { u, z } = draws(91, "moment-path helper site");
+    const n = 25_000;
+    const cols: Record<string, number[]> = {};
+    let prev = Array.from({ length: n }, () => z());
+    cols.v0 = prev;
+    for (let i = 1; i < 14; i++) {
+      const next = i === 13 ? prev.map((v) => (u() < logistic(v) ? 1 : 0)) : prev.map((v) => Math.tanh(v) + 0.8 * z());
+      cols[`v${i}`] = next;
+      prev = next;
+    }
+    const table = createTable(cols, { file: "big.csv" });
+    const { claims } = deriveClaims(g, { sets: "union-parents", cap: 100 });
+    const options = { graphSha256: SHA, site: "big", settings: SETTINGS, measured: measuredOf(g), claims };
+    const alone = summarizeSite(table, options);
+    expect(alone.claims.filter((c) => c.kind === "residuals").length).toBeGreaterThanOrEqual(64);
+    const shared = await summarizeSiteWith(table, options, async (t, o) => buildPatternMoments(t, o), siteClaimHelper);
+    expect(shared).toEqual(alone);
+    // the worker alone (nothing competes for the counter), building the moments for itself: every claim's summary equals the library's
+    const moments = flexibleMomentsOptions(table, measuredOf(g), claims, SETTINGS);
+    const at = alone.claims.flatMap((c, i) => (c.kind === "residuals" ? [i] : []));
+    const fromWorker = await siteClaimHelper({ table, claims: at.map((i) => claims[i]!), k: 5, test: "gcm", counter: new Int32Array(new SharedArrayBuffer(8)), moments });
+    expect(fromWorker.size).toBe(at.length);
+    at.forEach((i, j) => expect(fromWorker.get(j)).toEqual(alone.claims[i]));
+  }, 120_000);
 });
 
 describe("rank summaries", () => {
