@@ -730,16 +730,26 @@ function claimTablesSummary(table: Table, claim: Claim, rows: Int32Array, k: num
   const given = claim.given.map((g) => table.column(g)!);
   const lx = x.levels!.length;
   const ly = y.levels!.length;
-  const byKey = new Map<string, { codes: number[]; counts: number[][] }>();
+  // strata keyed by the mixed-radix number of S's codes while it stays an exact integer (a text key beyond)
+  const radix = given.reduce((m, g) => m * Math.max(1, g.levels!.length), 1);
+  const numeric = radix <= Number.MAX_SAFE_INTEGER;
+  const byKey = new Map<number | string, { codes: number[]; counts: number[][] }>();
+  const gc = given.map((g) => g.codes!);
+  const xc = x.codes!;
+  const yc = y.codes!;
   for (const r of rows) {
-    const codes = given.map((g) => g.codes![r]!);
-    const key = codes.join(",");
+    let key: number | string;
+    if (numeric) {
+      let v = 0;
+      for (let i = 0; i < gc.length; i++) v = v * Math.max(1, given[i]!.levels!.length) + gc[i]![r]!;
+      key = v;
+    } else key = gc.map((c) => c[r]!).join(",");
     let s = byKey.get(key);
     if (!s) {
-      s = { codes, counts: Array.from({ length: lx }, () => new Array<number>(ly).fill(0)) };
+      s = { codes: gc.map((c) => c[r]!), counts: Array.from({ length: lx }, () => new Array<number>(ly).fill(0)) };
       byKey.set(key, s);
     }
-    s.counts[x.codes![r]!]![y.codes![r]!]!++;
+    s.counts[xc[r]!]![yc[r]!]!++;
   }
   const all = [...byKey.values()].sort((a, b) => {
     for (let i = 0; i < a.codes.length; i++) if (a.codes[i] !== b.codes[i]) return a.codes[i]! - b.codes[i]!;
