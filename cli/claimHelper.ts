@@ -47,29 +47,39 @@ export const claimHelper: ClaimHelper = (job: HelperJob, onResult: () => void) =
     ...(job.rowFilter ? { rowFilter: job.rowFilter } : {}),
   };
   const results = new Map<number, MethodResult>();
+  return runClaimWorker({ kind: "claims", task }, (m: ClaimReply) => {
+    if ("done" in m) return true;
+    results.set(m.k, m.result);
+    onResult();
+    return false;
+  }).then(() => results);
+};
+
+/**
+ * Start claimWorker.ts on `workerData` and pass each message to `onMessage` until it returns true
+ * (the worker's last message); resolves then, or when the worker fails, exits or cannot start
+ * (the caller keeps what it received). Cost: one thread start.
+ */
+function runClaimWorker<M>(workerData: unknown, onMessage: (m: M) => boolean): Promise<void> {
   return new Promise((resolve) => {
     let worker: ReturnType<typeof startWorker>;
     try {
-      worker = startWorker(import.meta.url, "claimWorker", { kind: "claims", task });
+      worker = startWorker(import.meta.url, "claimWorker", workerData);
     } catch {
-      resolve(results);
+      resolve();
       return;
     }
     const end = () => {
       void worker.terminate();
-      resolve(results);
+      resolve();
     };
-    worker.on("message", (m: ClaimReply) => {
-      if ("done" in m) end();
-      else {
-        results.set(m.k, m.result);
-        onResult();
-      }
+    worker.on("message", (m: M) => {
+      if (onMessage(m)) end();
     });
     worker.once("error", end);
-    worker.once("exit", () => resolve(results));
+    worker.once("exit", () => resolve());
   });
-};
+}
 
 /** A column as a plain object (structured clone keeps its typed arrays, sharing shared ones). */
 function plainColumn(c: Column): Column {
@@ -120,23 +130,9 @@ export const siteClaimHelper: SiteClaimHelper = (job) => {
     ...(job.moments ? { moments: job.moments } : {}),
   };
   const results = new Map<number, ClaimSummary>();
-  return new Promise((resolve) => {
-    let worker: ReturnType<typeof startWorker>;
-    try {
-      worker = startWorker(import.meta.url, "claimWorker", { kind: "siteClaims", task });
-    } catch {
-      resolve(results);
-      return;
-    }
-    const end = () => {
-      void worker.terminate();
-      resolve(results);
-    };
-    worker.on("message", (m: SiteClaimReply) => {
-      if ("done" in m) end();
-      else results.set(m.k, m.summary);
-    });
-    worker.once("error", end);
-    worker.once("exit", () => resolve(results));
-  });
+  return runClaimWorker({ kind: "siteClaims", task }, (m: SiteClaimReply) => {
+    if ("done" in m) return true;
+    results.set(m.k, m.summary);
+    return false;
+  }).then(() => results);
 };

@@ -220,17 +220,25 @@ export function checkSitesAgree(graphSha256: string, graphFile: string, sites: r
   }
 }
 
-/** The pooled partial-correlation test of a linear claim (see the module comment). Cost: O(sites · d² + d³). */
-export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
+/** The sites' summed cross-product matrix W (d × d) and complete cases of a moments claim, or why they cannot be added. Cost: O(sites · d²). */
+function sumCrossProducts(parts: readonly MomentsClaimSummary[]): { d: number; w: Float64Array; n: number } | { reason: string } {
   const d = parts[0]!.columns.length;
   const names = parts[0]!.columns;
-  if (parts.some((p) => !sameNames(p.columns, names))) return { ok: false, reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
+  if (parts.some((p) => !sameNames(p.columns, names))) return { reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
   const w = new Float64Array(d * d);
   let n = 0;
   for (const p of parts) {
     n += p.n;
     for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) w[a * d + b] = w[a * d + b]! + p.cross_products[a]![b]!;
   }
+  return { d, w, n };
+}
+
+/** The pooled partial-correlation test of a linear claim (see the module comment). Cost: O(sites · d² + d³). */
+export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
+  const summed = sumCrossProducts(parts);
+  if ("reason" in summed) return { ok: false, reason: summed.reason };
+  const { d, w, n } = summed;
   const m = parts.length;
   const given = Array.from({ length: d - 2 }, (_, i) => i + 2);
   const c = given.length + m - 1;
@@ -374,15 +382,9 @@ export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummar
  * Cost: O(sites · d² + d³).
  */
 export function poolGaussianLR(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
-  const d = parts[0]!.columns.length;
-  const names = parts[0]!.columns;
-  if (parts.some((p) => !sameNames(p.columns, names))) return { ok: false, reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
-  const w = new Float64Array(d * d);
-  let n = 0;
-  for (const p of parts) {
-    n += p.n;
-    for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) w[a * d + b] = w[a * d + b]! + p.cross_products[a]![b]!;
-  }
+  const summed = sumCrossProducts(parts);
+  if ("reason" in summed) return { ok: false, reason: summed.reason };
+  const { d, w, n } = summed;
   const m = parts.length;
   const xCol = table.column(claim.x)!;
   const yCol = table.column(claim.y)!;

@@ -78,8 +78,7 @@ function completePatterns(pats: SitePatterns, vars: readonly string[]): Uint8Arr
 export function completeRows(table: Table, claim: Claim): Int32Array {
   const pats = patternsOf(table);
   const ok = completePatterns(pats, [claim.x, claim.y, ...claim.given]);
-  let n = 0;
-  for (let p = 0; p < pats.count; p++) if (ok[p]) n += pats.sizes[p]!;
+  const n = rowsIn(pats, ok);
   const rows = new Int32Array(n);
   const ids = pats.ids;
   for (let r = 0, j = 0; j < n; r++) if (ok[ids[r]!]) rows[j++] = r;
@@ -89,7 +88,11 @@ export function completeRows(table: Table, claim: Claim): Int32Array {
 /** The number of a claim's complete cases among the kept rows. Cost: O(patterns · (2 + |S|)). */
 export function completeCount(table: Table, claim: Claim): number {
   const pats = patternsOf(table);
-  const ok = completePatterns(pats, [claim.x, claim.y, ...claim.given]);
+  return rowsIn(pats, completePatterns(pats, [claim.x, claim.y, ...claim.given]));
+}
+
+/** The rows of the patterns marked in `ok`. Cost: O(patterns). */
+function rowsIn(pats: SitePatterns, ok: Uint8Array): number {
   let n = 0;
   for (let p = 0; p < pats.count; p++) if (ok[p]) n += pats.sizes[p]!;
   return n;
