@@ -185,6 +185,7 @@ export async function readDuckdbTable(source: DuckdbSource, options: ReadOptions
   const session = await openDuckdbSession(source);
   try {
     const fields = await describe(session, source);
+    refuseNestedFields(fields, options, source);
     const builder = new ColumnBuilder(
       fields.map((f) => f.name),
       { ...options, file: source.name },
@@ -195,6 +196,23 @@ export async function readDuckdbTable(source: DuckdbSource, options: ReadOptions
     return finishTable(builder);
   } finally {
     session.close();
+  }
+}
+
+/** DuckDB's names of nested types: lists (`T[]`), arrays (`T[n]`), structs, maps and unions. */
+const NESTED_TYPE = /^(STRUCT|MAP|UNION)\b|\[\d*\]$/u;
+
+/**
+ * A column the audit reads (a measured node, or every column when none are named) whose type is
+ * nested is an input error naming the file, the column and its type: its cells are not one value
+ * of a variable (read as text, each list would be a level of its own).
+ * @throws DataError naming the file and the column
+ */
+function refuseNestedFields(fields: readonly { name: string; type: string }[], options: ReadOptions, source: DuckdbSource): void {
+  const wanted = options.columns ? new Set(options.columns.map((c) => c.normalize("NFC"))) : undefined;
+  const nested = fields.find((f) => NESTED_TYPE.test(f.type) && (!wanted || wanted.has(f.name.normalize("NFC"))));
+  if (nested) {
+    throw new DataError(`${source.name}: column ${JSON.stringify(nested.name)} is of the nested type ${nested.type}, not one value per row; give the variable as a plain column (a number, text, true/false or a date), or declare the node unmeasured (--unmeasured ${nested.name})`, { file: source.name });
   }
 }
 

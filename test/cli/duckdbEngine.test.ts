@@ -275,6 +275,21 @@ describe("arrowaudit test --engine", () => {
     expect(none.stderr).toContain("empty.duckdb: the database holds no tables");
   });
 
+  it("a measured node stored as a nested Parquet type (list, struct) is an input error (exit 2) naming the file, the column and its type; nested columns the graph does not use are left alone", async () => {
+    // pins: a LIST column was read as text, one nominal level per distinct list
+    await duckdb(`COPY (SELECT i / 7.0 AS a, (i % 3)::INTEGER AS b, [i, i + 1] AS l, {'k': i} AS st FROM range(60) t(i)) TO ${sqlPath("nested.parquet")} (FORMAT parquet)`);
+    writeFileSync(at("nested-ok.txt"), "a -> b\n");
+    writeFileSync(at("nested-list.txt"), "a -> l\nl -> b\n");
+    writeFileSync(at("nested-struct.txt"), "a -> st\nst -> b\n");
+    expect((await runCli(["test", "nested-ok.txt", "nested.parquet", "--quiet"], { cwd: work })).code).toBe(0);
+    const list = await runCli(["test", "nested-list.txt", "nested.parquet"], { cwd: work });
+    expect(list.code).toBe(2);
+    expect(list.stderr).toContain('nested.parquet: column "l" is of the nested type BIGINT[], not one value per row');
+    const struct = await runCli(["summarize", "nested-struct.txt", "nested.parquet", "--out", "nested.json"], { cwd: work });
+    expect(struct.code).toBe(2);
+    expect(struct.stderr).toContain('column "st" is of the nested type STRUCT(k BIGINT)');
+  });
+
   it("an unreadable Parquet file is an input error (exit 2) naming the file", async () => {
     const r = await runCli(["test", "graph.txt", "broken.parquet"], { cwd: work });
     expect(r.code).toBe(2);
