@@ -10,7 +10,7 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { DuckDBInstance } from "@duckdb/node-api";
 import { afterAll, describe, expect, it } from "vitest";
-import { completeCaseMoments, patternMomentsSql, quoteSqlIdentifier, readPatternSums } from "../../src/data/patternMomentsSql.js";
+import { completeCaseMoments, mergePatternSums, patternMomentsSql, profileOfPatterns, quoteSqlIdentifier, readPatternSums } from "../../src/data/patternMomentsSql.js";
 import { mulberry32 } from "../../src/stats/mulberry32.js";
 
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-sql-"));
@@ -87,6 +87,48 @@ describe("patternMomentsSql", () => {
     const a = completeCaseMoments(shifted, [0, 1, 2], shifts);
     const b = completeCaseMoments(plain, [0, 1, 2]);
     a.cov.forEach((v, i) => expect(close(v, b.cov[i]!, 1e-9)).toBe(true));
+  });
+
+  it("the profile columns give numpy's per-column observed count, min, max and count of values that are not whole (profileOfPatterns)", async () => {
+    const rows = await runSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! })), { profile: true }));
+    const profile = profileOfPatterns(readPatternSums(rows, NAMES.length, { profile: true }), NAMES.length);
+    const script = [
+      "import json, sys, numpy as np",
+      "x = np.genfromtxt(sys.argv[1], delimiter=',', skip_header=1)",
+      "out = []",
+      "for j in range(x.shape[1]):",
+      "    v = x[:, j][~np.isnan(x[:, j])]",
+      "    out.append({'observed': int(v.size), 'min': float(v.min()), 'max': float(v.max()), 'fractional': int(np.sum(v != np.floor(v)))})",
+      "print(json.dumps(out))",
+    ].join("\n");
+    const r = spawnSync("python3", ["-c", script, csv], { encoding: "utf8" });
+    if (r.status !== 0) throw new Error(`python3 with numpy is needed for this reference: ${r.stderr}`);
+    const ref = JSON.parse(r.stdout) as { observed: number; min: number; max: number; fractional: number }[]; // numpy on the CSV's columns
+    expect(profile).toEqual(ref);
+    const plain = readPatternSums(await runSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! })))), NAMES.length);
+    expect(() => profileOfPatterns(plain, NAMES.length)).toThrow(/profile/);
+  });
+
+  it("mergePatternSums of two parts of the rows gives the whole query's patterns (rows, sums to 1e-12, products to 1e-12, profile exactly), whatever the order of the halves' patterns", async () => {
+    const cols = NAMES.map((name, j) => ({ name, shift: shifts[j]! }));
+    // two disjoint parts that cover every row, whatever order DuckDB scans them in
+    const inFirst = "(age < 50 OR age IS NULL)";
+    const whole = readPatternSums(await runSql(patternMomentsSql(from, cols, { profile: true })), NAMES.length, { profile: true });
+    const first = readPatternSums(await runSql(patternMomentsSql(`(SELECT * FROM ${from} WHERE ${inFirst})`, cols, { profile: true })), NAMES.length, { profile: true });
+    const second = readPatternSums(await runSql(patternMomentsSql(`(SELECT * FROM ${from} WHERE NOT ${inFirst})`, cols, { profile: true })), NAMES.length, { profile: true });
+    expect(first.reduce((n, p) => n + p.rows, 0)).toBeGreaterThan(500);
+    expect(second.reduce((n, p) => n + p.rows, 0)).toBeGreaterThan(500);
+    const merged = mergePatternSums([first, [...second].reverse()]);
+    expect(merged.map((p) => p.observed)).toEqual(whole.map((p) => p.observed));
+    merged.forEach((p, i) => {
+      const w = whole[i]!;
+      expect(p.rows).toBe(w.rows);
+      p.sums.forEach((v, j) => expect(close(v, w.sums[j]!, 1e-12) || Math.abs(v - w.sums[j]!) < 1e-9, `sum ${i}.${j}`).toBe(true));
+      p.products.forEach((v, j) => expect(close(v, w.products[j]!, 1e-12) || Math.abs(v - w.products[j]!) < 1e-9, `product ${i}.${j}`).toBe(true));
+      expect([p.min, p.max, p.fractional]).toEqual([w.min, w.max, w.fractional]);
+    });
+    // the order of the parts is the order of the additions: swapping them may change the last bits, never the patterns
+    expect(mergePatternSums([second, first]).map((p) => p.rows)).toEqual(whole.map((p) => p.rows));
   });
 
   it("patternMomentsSql uses only count, sum, CASE, CAST and GROUP BY (standard aggregates)", () => {
