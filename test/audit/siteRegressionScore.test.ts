@@ -1,4 +1,3 @@
-import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import type { Column, Table, VariableType } from "../../src/data/Table.js";
@@ -12,6 +11,7 @@ import { chiSquareUpper } from "../../src/stats/pvalues.js";
 import { lrEffect, lrEffectInterval } from "../../src/stats/effectScale.js";
 import { mulberry32 } from "../helpers/randomGraph.js";
 import { binomialInterval } from "../helpers/simulate.js";
+import { printedReference } from "../fixtures/stats/loadReference.js";
 
 /** Reference values from scripts/pooled_score_reference.py (statsmodels/numpy), live or the committed fixture. */
 interface ClaimRef { name: string; x: string; y: string; given: string[]; response: string; added: string; n: number; statistic: number; glm_score_test?: number }
@@ -22,15 +22,7 @@ interface Ref {
   single: Record<string, SingleRef>; stacked: Record<string, StackedRef>; edge: Record<string, ClaimRef & { rows_uncertain: number }>;
 }
 const fixtures = new URL("../fixtures/pooled-score/", import.meta.url);
-function reference(): { ref: Ref; from: string } {
-  const script = new URL("../../scripts/pooled_score_reference.py", import.meta.url).pathname;
-  if (!process.env.ARROWAUDIT_FIXTURES_ONLY) {
-    const run = spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 120_000 });
-    if (run.status === 0) return { ref: JSON.parse(run.stdout) as Ref, from: "python3 statsmodels/numpy (live)" };
-  }
-  return { ref: JSON.parse(readFileSync(new URL("reference.json", fixtures), "utf8")) as Ref, from: "committed fixture reference.json" };
-}
-const { ref, from } = reference();
+const { ref, from } = printedReference<Ref>("pooled_score_reference.py", "pooled-score/reference.json", "python3 statsmodels/numpy (live)");
 const SITES = ["A", "B", "C"];
 
 /** Columns of a table: continuous values, or categorical codes on a given level list (shared by every site, as summaries require). */

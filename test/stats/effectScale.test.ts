@@ -1,11 +1,10 @@
-import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { lrEffect, lrEffectCI, lrEffectCIAtAlpha, lrEffectInterval, lrToEffect, permutationLrEffect, signedRootEffectCI } from "../../src/stats/effectScale.js";
 import { chiSquareUpper } from "../../src/stats/pvalues.js";
 import { noncentralChiSquareUpper } from "../../src/stats/noncentralChiSquare.js";
-import { loadReference, relErr } from "../fixtures/stats/loadReference.js";
+import { loadReference, relErr, printedReference } from "../fixtures/stats/loadReference.js";
 
 interface EffRef { rows: { lr: number; df: number; n: number; lambda: [number, number]; ci: [number, number] }[] }
 const ref = loadReference<EffRef>("effect");
@@ -186,15 +185,7 @@ describe("signedRootEffectCI", () => {
 });
 
 interface CalRef { intervals: { g2: number; df: number; n: number; mean: number; variance: number; scale: number; nu: number; p: number; ci: [number, number]; effect: number; central_tail: number }[] }
-function calibratedReference(): { ref: CalRef; from: string } {
-  const script = new URL("../../scripts/calibrated_effect_reference.py", import.meta.url).pathname;
-  if (!process.env.ARROWAUDIT_FIXTURES_ONLY) {
-    const run = spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 60_000 });
-    if (run.status === 0) return { ref: JSON.parse(run.stdout) as CalRef, from: "python3 scipy (live)" };
-  }
-  return { ref: JSON.parse(readFileSync(new URL("../fixtures/calibrated-effect/reference.json", import.meta.url), "utf8")) as CalRef, from: "committed fixture" };
-}
-const cal = calibratedReference();
+const cal = printedReference<CalRef>("calibrated_effect_reference.py", "calibrated-effect/reference.json", "python3 scipy (live)", 60_000);
 
 describe(`permutationLrEffect [reference: ${cal.from}]`, () => {
   it("permutationLrEffect matches scipy's recalibrated noncentral inversion on the scaled chi-square matched to the null, and the signed root on 1 df (1e-8)", () => {

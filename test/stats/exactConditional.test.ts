@@ -11,7 +11,6 @@
  * for the (1 + hits)/(1 + N) form (common practice); with 14 such comparisons at 4 SE a correct
  * sampler fails one with probability below 1e-3 (normal tail 6.3e-5 each).
  */
-import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import { linearByLinear } from "../../src/audit/methods/linearByLinear.js";
@@ -21,6 +20,7 @@ import type { Column, Table } from "../../src/data/Table.js";
 import { createScoredTableSampler, createTableStatisticSampler } from "../../src/stats/permutation.js";
 import { createRng } from "../../src/stats/rng.js";
 import { stratifiedChiSquare } from "../../src/stats/stratifiedChiSquare.js";
+import { printedReference } from "../fixtures/stats/loadReference.js";
 
 interface TwoByTwoCase {
   name: string;
@@ -52,13 +52,7 @@ interface Reference {
 }
 
 const fixture = new URL("../fixtures/exact-conditional/reference.json", import.meta.url);
-function reference(): { ref: Reference; from: string } {
-  const script = new URL("../../scripts/exact_conditional_reference.py", import.meta.url).pathname;
-  const run = spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 120_000 });
-  if (run.status === 0) return { ref: JSON.parse(run.stdout) as Reference, from: "python3 scipy (live)" };
-  return { ref: JSON.parse(readFileSync(fixture, "utf8")) as Reference, from: "committed fixture" };
-}
-const { ref, from } = reference();
+const { ref, from } = printedReference<Reference>("exact_conditional_reference.py", "exact-conditional/reference.json", "python3 scipy (live)");
 
 /** The band of a Monte-Carlo p-value from `draws` draws around the exact p: 4 standard errors plus 1/(draws + 1). */
 function band(pExact: number, draws: number): number {

@@ -1,9 +1,9 @@
-import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { centredScores, linearByLinear, type ScoredStratum } from "../../src/stats/linearByLinear.js";
 import { mantelHaenszel } from "../../src/stats/mantelHaenszel.js";
+import { printedReference } from "../fixtures/stats/loadReference.js";
 
 /** Reference values from scripts/linear_by_linear_reference.py (numpy/scipy), live or the committed fixture. */
 interface LblRef {
@@ -16,15 +16,7 @@ interface LblRef {
   exact: { counts: number[][]; row_scores: number[]; col_scores: number[]; orderings: number; mean: number; variance: number };
   malformation: { absent: number[]; present: number[]; scores: number[]; n: number; r: number; q: number; p: number };
 }
-function reference(): { ref: LblRef; from: string } {
-  const script = new URL("../../scripts/linear_by_linear_reference.py", import.meta.url).pathname;
-  if (!process.env.ARROWAUDIT_FIXTURES_ONLY) {
-    const run = spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 60_000 });
-    if (run.status === 0) return { ref: JSON.parse(run.stdout) as LblRef, from: "python3 numpy/scipy (live)" };
-  }
-  return { ref: JSON.parse(readFileSync(new URL("../fixtures/linear-by-linear/reference.json", import.meta.url), "utf8")) as LblRef, from: "committed fixture reference.json" };
-}
-const { ref, from } = reference();
+const { ref, from } = printedReference<LblRef>("linear_by_linear_reference.py", "linear-by-linear/reference.json", "python3 numpy/scipy (live)", 60_000);
 
 const rel = (a: number, b: number) => Math.abs(a - b) / Math.max(Math.abs(b), 1e-300);
 function stratum(counts: number[][], rowScores: number[], colScores: number[]): ScoredStratum {

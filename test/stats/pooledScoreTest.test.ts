@@ -1,4 +1,3 @@
-import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import {
@@ -7,6 +6,7 @@ import {
 import { logisticRegression } from "../../src/stats/logisticRegression.js";
 import { multinomialLogit } from "../../src/stats/multinomialLogit.js";
 import { chiSquareUpper } from "../../src/stats/pvalues.js";
+import { printedReference } from "../fixtures/stats/loadReference.js";
 
 /** Reference values from scripts/pooled_score_reference.py (statsmodels/numpy), live or the committed fixture. */
 interface SingleRef {
@@ -17,15 +17,7 @@ interface SingleRef {
 }
 interface Ref { source: string; levels: Record<string, string[]>; single: Record<string, SingleRef> }
 const fixtures = new URL("../fixtures/pooled-score/", import.meta.url);
-function reference(): { ref: Ref; from: string } {
-  const script = new URL("../../scripts/pooled_score_reference.py", import.meta.url).pathname;
-  if (!process.env.ARROWAUDIT_FIXTURES_ONLY) {
-    const run = spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 120_000 });
-    if (run.status === 0) return { ref: JSON.parse(run.stdout) as Ref, from: "python3 statsmodels/numpy (live)" };
-  }
-  return { ref: JSON.parse(readFileSync(new URL("reference.json", fixtures), "utf8")) as Ref, from: "committed fixture reference.json" };
-}
-const { ref, from } = reference();
+const { ref, from } = printedReference<Ref>("pooled_score_reference.py", "pooled-score/reference.json", "python3 statsmodels/numpy (live)");
 
 /** single.csv as columns: z, and the codes of the categorical columns on the script's level lists. */
 function single(): { z: number[]; codes: Record<string, number[]>; m: number } {

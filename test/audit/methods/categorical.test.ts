@@ -14,6 +14,7 @@ import { chiSquareUpper } from "../../../src/stats/pvalues.js";
 import { lazyMoments } from "../../helpers/lazyMoments.js";
 import { createRng } from "../../../src/stats/rng.js";
 import { lookSchedule } from "../../../src/stats/confidenceSequence.js";
+import { printedReference } from "../../fixtures/stats/loadReference.js";
 
 // ---- tiny hand-built tables (the CSV reader is tested elsewhere) ----
 function cat(name: string, labels: readonly (string | null)[], type: VariableType = "nominal", levels?: readonly string[]): Column {
@@ -254,9 +255,7 @@ describe("stratifiedChisq with permutation p-values: effects agree with the test
 
   it("the permutation null mean and variance of G² behind the effect match their exact values (enumeration of all tables)", () => {
     interface ExactNull { strata: number[][][]; g2: number; df: number; mean: number; variance: number; mu4: number; p: number }
-    const script = new URL("../../../scripts/calibrated_effect_reference.py", import.meta.url).pathname;
-    const run = process.env.ARROWAUDIT_FIXTURES_ONLY ? undefined : spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 60_000 });
-    const exact = (run?.status === 0 ? JSON.parse(run.stdout) : JSON.parse(readFileSync(new URL("../../fixtures/calibrated-effect/reference.json", import.meta.url), "utf8"))).exact_null as ExactNull;
+    const exact = printedReference<{ exact_null: ExactNull }>("calibrated_effect_reference.py", "calibrated-effect/reference.json", "python3 scipy (live)", 60_000).ref.exact_null;
     const x: string[] = [], y: string[] = [], z: string[] = [];
     exact.strata.forEach((c, s) => c.forEach((row, i) => row.forEach((k, j) => { for (let t = 0; t < k; t++) { x.push(`x${i}`); y.push(`y${j}`); z.push(`z${s}`); } })));
     const o = ok(stratifiedChisq.run(claimXYZ, ctx(table([cat("x", x), cat("y", y), cat("z", z)]), { permutations: 5000, seed: 4 })));

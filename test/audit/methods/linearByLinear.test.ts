@@ -1,4 +1,3 @@
-import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import { linearByLinear } from "../../../src/audit/methods/linearByLinear.js";
@@ -7,6 +6,7 @@ import type { TestContext } from "../../../src/audit/TestMethod.js";
 import type { Claim, TestOutcome } from "../../../src/audit/types.js";
 import type { Column, Table, VariableType } from "../../../src/data/Table.js";
 import { createRng, type Rng } from "../../../src/stats/rng.js";
+import { printedReference } from "../../fixtures/stats/loadReference.js";
 
 // ---- hand-built tables (the CSV reader is tested elsewhere) ----
 /** A categorical column from labels; `scores` gives the values of the levels (default: the level index). */
@@ -39,15 +39,7 @@ interface LblRef {
   one_stratum: { counts: number[][]; row_scores: number[]; col_scores: number[]; n: number; r: number; q: number; p: number; log_p: number };
   stratified: { row_scores: number[]; col_scores: number[]; strata: number[][][]; n: number; strata_used: number; t: number; e: number; v: number; q: number; p: number; log_p: number; correlation: number };
 }
-function reference(): { ref: LblRef; from: string } {
-  const script = new URL("../../../scripts/linear_by_linear_reference.py", import.meta.url).pathname;
-  if (!process.env.ARROWAUDIT_FIXTURES_ONLY) {
-    const run = spawnSync("python3", [script, "--print"], { encoding: "utf8", timeout: 60_000 });
-    if (run.status === 0) return { ref: JSON.parse(run.stdout) as LblRef, from: "python3 numpy/scipy (live)" };
-  }
-  return { ref: JSON.parse(readFileSync(new URL("../../fixtures/linear-by-linear/reference.json", import.meta.url), "utf8")) as LblRef, from: "committed fixture reference.json" };
-}
-const { ref, from } = reference();
+const { ref, from } = printedReference<LblRef>("linear_by_linear_reference.py", "linear-by-linear/reference.json", "python3 numpy/scipy (live)", 60_000);
 
 /** Rows of strata of counts: ordinal x and y whose levels are their scores (as numbers), nominal z naming the stratum. */
 function expandStrata(strata: number[][][], rowScores: number[], colScores: number[]): Table {
