@@ -59,6 +59,7 @@ import patsy
 import scipy
 import statsmodels
 from scipy import optimize, stats
+from residual_correlation_inversion import invert_residual_correlation
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 DEFAULT_OUT = os.path.join(HERE, "..", "test", "fixtures", "gcm")
@@ -271,35 +272,8 @@ def adf_interval(ex, ey, r, t, p_value, nu, n, params, level=0.95):
     v = ey / math.sqrt(float(np.mean(ey * ey)))
     uv, w2 = u * v, (u * u + v * v) / 2
     A = lambda rho: float(np.var(uv - rho * w2))
-    A0 = A(0.0)
-    se0 = abs(r / t)
     k = float(stats.t.ppf(1 - (1 - level) / 2, nu))
-    f = n / (n - 1 - params)
-    sgn = -1.0 if r < 0 else 1.0
-
-    def weight(rho):
-        x, rr = sgn * rho, abs(r)
-        return 1.0 if x <= 0 else (1 - x / rr) ** 2 if x < rr else 0.0
-
-    g = lambda rho: (r - rho) ** 2 - k * k * (se0 * se0 * weight(rho) + f / n * (A(rho) - A0 * weight(rho)))
-
-    def walk(start, direction):
-        step = 2e-3
-        a = start
-        while True:
-            b = a + direction * step
-            if (direction > 0 and b >= 1) or (direction < 0 and b <= -1):
-                b = float(direction)
-                return optimize.brentq(g, a, b, xtol=1e-15, rtol=1e-15) if g(b) > 0 else b
-            if g(b) > 0:
-                return optimize.brentq(g, a, b, xtol=1e-15, rtol=1e-15)
-            a = b
-
-    hi = walk(r, sgn)
-    lo = walk(r, -sgn)
-    if p_value >= 1 - level and sgn * lo > 0:
-        lo = walk(0.0, -sgn)
-    return sorted([lo, hi])
+    return invert_residual_correlation(r, abs(r / t), A, k, n / (n - 1 - params), n, p_value >= 1 - level, 2e-3)
 
 
 # ------------------------------------------------------------------------------------------

@@ -28,6 +28,7 @@ import os
 
 import numpy as np
 from reference_output import emit_reference
+from residual_correlation_inversion import invert_residual_correlation
 import scipy
 from scipy import integrate, optimize, stats
 from scipy.special import expit
@@ -61,34 +62,9 @@ def adf_cases():
 def interval(r, se0, adf, nu, n, params, alpha):
     c0, c1, c2 = adf
     k = float(stats.t.ppf(1 - alpha / 2, nu))
-    f = n / (n - 1 - params)
     A = lambda rho: c0 + c1 * rho + c2 * rho * rho
-    sgn = -1.0 if r < 0 else 1.0
-    rr = abs(r)
-
-    def weight(rho):
-        x = sgn * rho
-        return 1.0 if x <= 0 else (1 - x / rr) ** 2 if x < rr else 0.0
-
-    g = lambda rho: (r - rho) ** 2 - k * k * (se0 * se0 * weight(rho) + f / n * (A(rho) - c0 * weight(rho)))
-
-    def walk(start, direction):
-        a = start
-        while True:
-            b = a + direction * 1e-3
-            if (direction > 0 and b >= 1) or (direction < 0 and b <= -1):
-                b = float(direction)
-                return optimize.brentq(g, a, b, xtol=1e-15, rtol=1e-15) if g(b) > 0 else b
-            if g(b) > 0:
-                return optimize.brentq(g, a, b, xtol=1e-15, rtol=1e-15)
-            a = b
-
     p = float(2 * stats.t.sf(abs(r / se0), nu)) if se0 > 0 and r != 0 else 1.0
-    hi = walk(r, sgn)
-    lo = walk(r, -sgn)
-    if p >= alpha and sgn * lo > 0:
-        lo = walk(0.0, -sgn)
-    return p, sorted([lo, hi])
+    return p, invert_residual_correlation(r, se0, A, k, n / (n - 1 - params), n, p >= alpha, 1e-3)
 
 
 def interval_cases():
