@@ -30,7 +30,7 @@ import numpy as np
 from reference_output import emit_reference
 from residual_correlation_inversion import invert_residual_correlation
 import scipy
-from scipy import integrate, optimize, stats
+from scipy import integrate, stats
 from scipy.special import expit
 
 HERE = os.path.dirname(os.path.abspath(__file__))
