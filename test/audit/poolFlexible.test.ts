@@ -23,10 +23,10 @@ import { siteClaimHelper } from "../../cli/claimHelper.js";
 import { buildPatternMoments } from "../../src/data/buildPatternMoments.js";
 import { poolSiteSummaries } from "../../src/audit/poolSiteSummaries.js";
 import type { Graph } from "../../src/graph/Graph.js";
-import type { TestedClaim } from "../../src/audit/types.js";
 import { createRng } from "../../src/stats/rng.js";
 import { createHash } from "node:crypto";
 import { runCli } from "../helpers/runCli.js";
+import { expectClaimNumbersClose, relDiff, TEST_NUMBERS } from "../helpers/claimNumbers.js";
 
 const SHA = "cd".repeat(32);
 const SETTINGS: SiteSummarySettings = { sets: "union-parents", method: "auto", listwise: false, min_cell: 5, unmeasured: [] };
@@ -51,7 +51,6 @@ function pool(graph: Graph, summaries: SiteSummary[]) {
 }
 
 const pair = (c: { x: string; y: string }) => [c.x, c.y].sort().join(" ⫫ ");
-const rel = (a: number, b: number) => (a === b ? 0 : Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b), 1e-300));
 const logistic = (t: number) => 1 / (1 + Math.exp(-t));
 
 /** Seeded draws on the project's stream: uniforms and normals (Box–Muller). */
@@ -97,17 +96,7 @@ describe("one site pooled alone", () => {
       expect(c.test).toBe("gcm");
       expect(c.n).toBe(o.n);
       expect(c.df).toBe(o.df);
-      for (const [what, a, b] of [
-        ["statistic", c.statistic, o.statistic],
-        ["p", c.p, o.p],
-        ["log_p", c.log_p, o.log_p],
-        ["effect", c.effect, o.effect],
-        ["ci low", c.ci[0], o.ci[0]],
-        ["ci high", c.ci[1], o.ci[1]],
-        ["linear check p", (c.details?.linear_adjustment as { p: number }).p, (o.details?.linear_adjustment as { p: number }).p],
-      ] as const) {
-        expect(rel(a, b), `${pair(c)} ${what}: pooled ${a}, own ${b}`).toBeLessThan(1e-9);
-      }
+      expectClaimNumbersClose(c, o, 1e-9, `${pair(c)} (pooled vs own)`, [...TEST_NUMBERS, "linear check p"]);
       const flex = c.details?.flexibility as { parameters: number; sites: { level: number }[] };
       expect(flex.sites[0]!.level).toBe((o.details?.flexibility as { level: number }).level);
       expect(c.warnings?.join(" ")).toContain("adjustment for the set fitted at each site on its own rows");
@@ -133,15 +122,7 @@ describe("one site above the row-path size", () => {
       expect(o.details?.path).toBe("moments");
       expect(o.details?.variance_sample).toBe(true);
       expect(c.n).toBe(o.n);
-      for (const [what, a, b] of [
-        ["statistic", c.statistic, o.statistic],
-        ["p", c.p, o.p],
-        ["effect", c.effect, o.effect],
-        ["ci low", c.ci[0], o.ci[0]],
-        ["ci high", c.ci[1], o.ci[1]],
-      ] as const) {
-        expect(rel(a, b), `${pair(c)} ${what}: pooled ${a}, own ${b}`).toBeLessThan(1e-9);
-      }
+      expectClaimNumbersClose(c, o, 1e-9, `${pair(c)} (pooled vs own)`, ["statistic", "p", "effect", "ci low", "ci high"]);
       expect((c.details?.flexibility as { sites: { level: number }[] }).sites[0]!.level).toBe((o.details?.flexibility as { level: number }).level);
     }
   }, 60_000);
@@ -225,9 +206,7 @@ describe("rank summaries", () => {
       const o = ownBy.get(pair(c))!;
       expect([c.test, o.test]).toEqual(["gcm-rank", "gcm-rank"]);
       expect([c.n, c.df]).toEqual([o.n, o.df]);
-      for (const [what, x, y] of [["statistic", c.statistic, o.statistic], ["p", c.p, o.p], ["effect", c.effect, o.effect], ["ci low", c.ci[0], o.ci[0]], ["ci high", c.ci[1], o.ci[1]]] as const) {
-        expect(rel(x, y), `${pair(c)} ${what}: pooled ${x}, own ${y}`).toBeLessThan(1e-9);
-      }
+      expectClaimNumbersClose(c, o, 1e-9, `${pair(c)} (pooled vs own)`, ["statistic", "p", "effect", "ci low", "ci high"]);
     }
     const three = pool(g, [0, 1, 2].map((k) => summarize(g, createTable(mixedSite(k, 300, 52), { file: `r${k}.csv` }), `r${k}`, rank)));
     expect(three.claims.map((c) => c.test)).toEqual(new Array(6).fill("gcm-rank"));
@@ -283,8 +262,8 @@ describe("three sites against numpy", () => {
       // residual covariances, which at the higher flexibility levels agree with the direct sums of the
       // rows' residual products that numpy adds to about 1e-8 relative (measured: 9e-9 for Σ e_x e_y at one
       // site here), and a statistic built on a small Σ R carries that error over a smaller mean (measured: 1.1e-7)
-      expect(rel(c.statistic, ref[w]!.statistic), w).toBeLessThan(1e-6); // numpy: √N·mean(R)/sd(R) scaled, or the scaled Wald form (numpy.linalg.solve)
-      expect(rel(c.p, ref[w]!.p), w).toBeLessThan(1e-6); // scipy.stats.t.sf two-sided, or scipy.stats.f.sf
+      expect(relDiff(c.statistic, ref[w]!.statistic), w).toBeLessThan(1e-6); // numpy: √N·mean(R)/sd(R) scaled, or the scaled Wald form (numpy.linalg.solve)
+      expect(relDiff(c.p, ref[w]!.p), w).toBeLessThan(1e-6); // scipy.stats.t.sf two-sided, or scipy.stats.f.sf
     }
   });
 });

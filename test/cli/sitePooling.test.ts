@@ -17,6 +17,7 @@ import { beforeAll, describe, expect, it } from "vitest";
 import { runCli } from "../helpers/runCli.js";
 import type { AuditResult, TestedClaim } from "../../src/audit/types.js";
 import type { ResidualsClaimSummary, SiteSummary, TablesClaimSummary } from "../../src/audit/siteSummary.js";
+import { expectClaimNumbersClose, relDiff } from "../helpers/claimNumbers.js";
 
 const FIXTURES = join(__dirname, "..", "fixtures", "sites");
 const SCRIPT = join(__dirname, "..", "..", "scripts", "site_pooling_reference.py");
@@ -62,7 +63,6 @@ async function summarize(graph: string, data: string, out: string, ...more: stri
 
 const auditJson = async (args: string[]): Promise<AuditResult> => JSON.parse(await ok(["test", ...args, "--json", "--quiet"])) as AuditResult;
 const pair = (c: { x: string; y: string }) => [c.x, c.y].sort().join(" ⫫ ");
-const rel = (a: number, b: number) => (a === b ? 0 : Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b), 1e-300));
 
 /** The pooled claim and the stacked claim (site in its set) agree: test, n, df, and to 1e-9 relative the statistic, p, log p, effect and interval. */
 function expectSameClaim(pooled: TestedClaim, stacked: TestedClaim): void {
@@ -71,16 +71,7 @@ function expectSameClaim(pooled: TestedClaim, stacked: TestedClaim): void {
   expect(pooled.test).toBe(stacked.test);
   expect(pooled.n).toBe(stacked.n);
   expect(pooled.df).toBe(stacked.df);
-  for (const [what, a, b] of [
-    ["statistic", pooled.statistic, stacked.statistic],
-    ["p", pooled.p, stacked.p],
-    ["log_p", pooled.log_p, stacked.log_p],
-    ["effect", pooled.effect, stacked.effect],
-    ["ci low", pooled.ci[0], stacked.ci[0]],
-    ["ci high", pooled.ci[1], stacked.ci[1]],
-  ] as const) {
-    expect(rel(a, b), `${pair(pooled)} ${what}: pooled ${a}, stacked ${b}`).toBeLessThan(1e-9);
-  }
+  expectClaimNumbersClose(pooled, stacked, 1e-9, `${pair(pooled)} (pooled vs stacked)`);
 }
 
 describe("pooled linear claims", () => {
@@ -117,9 +108,7 @@ describe("pooled linear claims", () => {
         const o = byPair.get(pair(c))!;
         expect([c.test, o.test]).toEqual(["gcm", "gcm"]);
         expect([c.n, c.df]).toEqual([o.n, o.df]);
-        for (const [what, a, b] of [["statistic", c.statistic, o.statistic], ["p", c.p, o.p], ["effect", c.effect, o.effect], ["ci low", c.ci[0], o.ci[0]], ["ci high", c.ci[1], o.ci[1]]] as const) {
-          expect(rel(a, b), `site ${s} ${pair(c)} ${what}: pooled ${a}, own ${b}`).toBeLessThan(1e-9);
-        }
+        expectClaimNumbersClose(c, o, 1e-9, `site ${s} ${pair(c)} (pooled vs own)`, ["statistic", "p", "effect", "ci low", "ci high"]);
       }
       expect(alone.claims.filter((c) => c.details?.f !== undefined).map(pair).sort()).toEqual(["a ⫫ g", "c ⫫ g"]); // g's two residual products
     }
@@ -136,9 +125,9 @@ describe("pooled linear claims", () => {
     const c = pooled.claims.find((k) => pair(k) === "b ⫫ d")!;
     expect(c.n).toBe(ref.linear.n); // numpy: complete cases of the stacked rows
     expect(c.df).toBe(ref.linear.df); // numpy: n − 2 − (columns of S and site)
-    expect(rel(c.effect, ref.linear.r), source).toBeLessThan(1e-9); // numpy.linalg.lstsq residuals, numpy.corrcoef
-    expect(rel(c.statistic, ref.linear.t), source).toBeLessThan(1e-9); // t = r·√(df/(1 − r²))
-    expect(rel(c.p, ref.linear.p), source).toBeLessThan(1e-9); // scipy.stats.t.sf, two-sided
+    expect(relDiff(c.effect, ref.linear.r), source).toBeLessThan(1e-9); // numpy.linalg.lstsq residuals, numpy.corrcoef
+    expect(relDiff(c.statistic, ref.linear.t), source).toBeLessThan(1e-9); // t = r·√(df/(1 − r²))
+    expect(relDiff(c.p, ref.linear.p), source).toBeLessThan(1e-9); // scipy.stats.t.sf, two-sided
     expect(c.details?.sites).toBe(3);
   });
 
@@ -238,8 +227,8 @@ describe("pooled categorical claims", () => {
     expect(c.test).toBe("stratified-chisq");
     expect(c.n).toBe(ref.categorical.n);
     expect(c.df).toBe(ref.categorical.df); // scipy.stats.chi2_contingency dof, summed
-    expect(rel(c.statistic, ref.categorical.g2), source).toBeLessThan(1e-9); // scipy.stats.chi2_contingency(lambda_="log-likelihood", correction=False), summed
-    expect(rel(c.p, ref.categorical.p), source).toBeLessThan(1e-9); // scipy.stats.chi2.sf
+    expect(relDiff(c.statistic, ref.categorical.g2), source).toBeLessThan(1e-9); // scipy.stats.chi2_contingency(lambda_="log-likelihood", correction=False), summed
+    expect(relDiff(c.p, ref.categorical.p), source).toBeLessThan(1e-9); // scipy.stats.chi2.sf
   });
 });
 
@@ -432,7 +421,7 @@ describe("determinism", () => {
     const first = JSON.parse(a) as AuditResult;
     for (const c of first.claims) {
       const d = swapped.claims.find((k) => pair(k) === pair(c))!;
-      expect(rel(c.p, d.p)).toBeLessThan(1e-12); // the same sums in another order
+      expect(relDiff(c.p, d.p)).toBeLessThan(1e-12); // the same sums in another order
     }
   });
 });

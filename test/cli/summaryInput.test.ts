@@ -14,6 +14,7 @@ import { Readable } from "node:stream";
 import { beforeAll, describe, expect, it } from "vitest";
 import { runCli } from "../helpers/runCli.js";
 import type { AuditResult, TestedClaim } from "../../src/audit/types.js";
+import { expectClaimNumbersClose, relDiff, TEST_NUMBERS } from "../helpers/claimNumbers.js";
 
 const FIXTURES = join(__dirname, "..", "fixtures", "summary");
 const SCRIPT = join(__dirname, "..", "..", "scripts", "summary_matrix_reference.py");
@@ -44,26 +45,13 @@ async function auditJson(args: string[]): Promise<AuditResult> {
 }
 
 const key = (c: { x: string; y: string; given?: readonly string[] }) => `${c.x} ⫫ ${c.y} | ${(c.given ?? []).join(",")}`;
-const rel = (a: number, b: number) => (a === b ? 0 : Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b), 1e-300));
 
 /** Every number of two tested claims agrees to `tol` relative: n, df, statistic, p, log p, effect, interval, detectable effect, equivalence interval. */
 function expectSameClaim(a: TestedClaim, b: TestedClaim, tol: number): void {
   expect(b.test).toBe(a.test);
   expect(b.n).toBe(a.n);
   expect(b.df).toBe(a.df);
-  const pairs: [string, number, number][] = [
-    ["statistic", a.statistic, b.statistic],
-    ["p", a.p, b.p],
-    ["log_p", a.log_p, b.log_p],
-    ["effect", a.effect, b.effect],
-    ["ci low", a.ci[0], b.ci[0]],
-    ["ci high", a.ci[1], b.ci[1]],
-    ["detectable", a.detectable ?? NaN, b.detectable ?? NaN],
-  ];
-  for (const [name, x, y] of pairs) {
-    if (Number.isNaN(x) && Number.isNaN(y)) continue;
-    expect(rel(x, y), `${key(a)} ${name}: ${x} vs ${y}`).toBeLessThan(tol);
-  }
+  expectClaimNumbersClose(a, b, tol, key(a), [...TEST_NUMBERS, "detectable"], true);
   expect(b.equivalence).toBe(a.equivalence);
 }
 
@@ -108,7 +96,7 @@ describe("summary input reproduces the rows' partial correlations", () => {
     for (const other of [cov, sd]) {
       expect(other.claims.map(key)).toEqual(corr.claims.map(key));
       other.claims.forEach((c, i) => expectSameClaim(corr.claims[i]!, c, 1e-9));
-      expect(rel(other.global.statistic, corr.global.statistic)).toBeLessThan(1e-9);
+      expect(relDiff(other.global.statistic, corr.global.statistic)).toBeLessThan(1e-9);
       expect(other.untestable.map((u) => u.reason)).toEqual(corr.untestable.map((u) => u.reason));
     }
   });
