@@ -25,6 +25,7 @@ import { join } from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
 import { generateMixedCohort } from "./generateMixedCsv.js";
 import { ioFloor, measure } from "./measure.js";
+import { duckdbSql } from "../test/helpers/duckdbSql.js";
 
 const here = fileURLToPath(new URL(".", import.meta.url));
 const out = join(here, "out");
@@ -32,18 +33,6 @@ const root = join(here, "..");
 const cli = join(root, "dist", "cli", "main.js");
 const rows = Number(process.env.BENCH_ROWS ?? 1_000_000);
 
-/** Run SQL in a fresh in-memory DuckDB. */
-async function duckdbRun(...statements: string[]): Promise<void> {
-  const { DuckDBInstance } = await import("@duckdb/node-api");
-  const instance = await DuckDBInstance.create(":memory:");
-  const connection = await instance.connect();
-  try {
-    for (const s of statements) await connection.run(s);
-  } finally {
-    connection.closeSync();
-    instance.closeSync();
-  }
-}
 const literal = (s: string) => `'${s.replace(/'/g, "''")}'`;
 
 /** The first `n` data rows of a CSV file, written beside it (once). */
@@ -122,7 +111,7 @@ export async function largeParquet(rowsLarge = Number(process.env.BENCH_LARGE_RO
     for (let k = 1; k < 20; k++) defs.push(`(0.5 * ${defs[k - 1]}${k >= 3 ? ` + 0.3 * ${defs[k - 3]}` : ""} + e${k + 1})`);
     const select = names.map((n, k) => (k % 4 === 3 ? `CASE WHEN random() < 0.04 THEN NULL ELSE ${k === 0 ? "v01" : defs[k]} END AS ${n}` : `${k === 0 ? "v01" : defs[k]} AS ${n}`));
     const t0 = performance.now();
-    await duckdbRun(`COPY (SELECT ${select.join(", ")} FROM (SELECT ${cols.join(", ")} FROM range(${rowsLarge}))) TO ${literal(path)} (FORMAT parquet)`);
+    await duckdbSql(`COPY (SELECT ${select.join(", ")} FROM (SELECT ${cols.join(", ")} FROM range(${rowsLarge}))) TO ${literal(path)} (FORMAT parquet)`);
     console.error(`generated ${path} in ${((performance.now() - t0) / 1000).toFixed(1)} s`);
   }
   const run = await measure("node", [cli, "test", graph, path, "--json"], { cwd: root });
@@ -170,7 +159,7 @@ export async function benchDuckdb(): Promise<Record<string, unknown>> {
   const memory = await endToEnd(graph, csv, types, ["--engine", "memory"]);
   const duckdb = await endToEnd(graph, csv, types, ["--engine", "duckdb"]);
   const parquetPath = join(out, `numeric-${rows}.parquet`);
-  if (!existsSync(parquetPath)) await duckdbRun(`COPY (SELECT * FROM read_csv(${literal(csv)})) TO ${literal(parquetPath)} (FORMAT parquet)`);
+  if (!existsSync(parquetPath)) await duckdbSql(`COPY (SELECT * FROM read_csv(${literal(csv)})) TO ${literal(parquetPath)} (FORMAT parquet)`);
   const parquet = await endToEnd(graph, parquetPath, types, []);
   const moments = await momentsTwoWays(parquetPath);
   console.log(JSON.stringify(moments, null, 2));

@@ -11,7 +11,6 @@
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
-import { DuckDBInstance } from "@duckdb/node-api";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { chooseEngine, formatOfHead } from "../../cli/dataFormat.js";
 import { parallelReadTable } from "../../cli/parallelReadTable.js";
@@ -22,23 +21,13 @@ import { momentsFromDuckdb, ROWS_FREE_WARNING } from "../../cli/duckdbMomentsAud
 import { createGraph } from "../../src/graph/createGraph.js";
 import type { VariableType } from "../../src/data/Table.js";
 import { runCli } from "../helpers/runCli.js";
+import { duckdbSql } from "../helpers/duckdbSql.js";
 
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-duckdb-"));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
 const at = (name: string) => join(work, name);
 const sqlPath = (name: string) => `'${at(name).replace(/'/g, "''")}'`;
 
-/** Run SQL statements in a fresh in-memory DuckDB. */
-async function duckdb(...statements: string[]): Promise<void> {
-  const instance = await DuckDBInstance.create(":memory:");
-  const connection = await instance.connect();
-  try {
-    for (const s of statements) await connection.run(s);
-  } finally {
-    connection.closeSync();
-    instance.closeSync();
-  }
-}
 
 // A seeded cohort with missing values (empty cells and NA) and categorical columns of every
 // kind: binary text (smoker), nominal text (region), ordinal integers (stage), continuous.
@@ -69,7 +58,7 @@ beforeAll(async () => {
   // Typed as DuckDB sniffs them among BIGINT, DOUBLE and VARCHAR (yes/no would otherwise become
   // BOOLEAN, written back as false/true), NA and empty cells as NULL.
   const typed = `SELECT * FROM read_csv(${sqlPath("cohort.csv")}, nullstr = ['NA', ''], auto_type_candidates = ['BIGINT', 'DOUBLE', 'VARCHAR'])`;
-  await duckdb(
+  await duckdbSql(
     `COPY (${typed}) TO ${sqlPath("cohort.parquet")} (FORMAT parquet, ROW_GROUP_SIZE 500)`,
     `COPY (SELECT * FROM read_csv(${sqlPath("large.csv")}, nullstr = ['NA', ''], auto_type_candidates = ['BIGINT', 'DOUBLE', 'VARCHAR'])) TO ${sqlPath("large.parquet")} (FORMAT parquet)`,
     `ATTACH ${sqlPath("cohort.duckdb")} AS db`,
@@ -187,7 +176,7 @@ describe("readDuckdbTable", () => {
       );
     }
     const names = "i8, i16, i32, i64, dec, f32, f64, flag, grade, letter, day, nothing";
-    await duckdb(
+    await duckdbSql(
       `CREATE TABLE t AS SELECT * FROM (VALUES ${rows.join(", ")}) v(${names})`,
       `COPY t TO ${sqlPath("types.parquet")} (FORMAT parquet)`,
       `COPY t TO ${sqlPath("types.csv")} (FORMAT csv, HEADER)`,
@@ -277,7 +266,7 @@ describe("arrowaudit test --engine", () => {
 
   it("a measured node stored as a nested Parquet type (list, struct) is an input error (exit 2) naming the file, the column and its type; nested columns the graph does not use are left alone", async () => {
     // pins: a LIST column was read as text, one nominal level per distinct list
-    await duckdb(`COPY (SELECT i / 7.0 AS a, (i % 3)::INTEGER AS b, [i, i + 1] AS l, {'k': i} AS st FROM range(60) t(i)) TO ${sqlPath("nested.parquet")} (FORMAT parquet)`);
+    await duckdbSql(`COPY (SELECT i / 7.0 AS a, (i % 3)::INTEGER AS b, [i, i + 1] AS l, {'k': i} AS st FROM range(60) t(i)) TO ${sqlPath("nested.parquet")} (FORMAT parquet)`);
     writeFileSync(at("nested-ok.txt"), "a -> b\n");
     writeFileSync(at("nested-list.txt"), "a -> l\nl -> b\n");
     writeFileSync(at("nested-struct.txt"), "a -> st\nst -> b\n");
@@ -369,7 +358,7 @@ describe("rows-free linear audit (DuckDB computes the moments)", () => {
     writeFileSync(at("rowsfree-graph.txt"), ROWS_FREE_GRAPH);
     // DOUBLE for every column (the all-empty one too), empty cells as NULL; small row groups so the two halves split inside the file
     const typed = `SELECT * FROM read_csv(${sqlPath("rowsfree.csv")}, nullstr = [''], auto_type_candidates = ['DOUBLE'], types = {'empty': 'DOUBLE'})`;
-    await duckdb(
+    await duckdbSql(
       `COPY (${typed}) TO ${sqlPath("rowsfree.parquet")} (FORMAT parquet, ROW_GROUP_SIZE 700)`,
       `ATTACH ${sqlPath("rowsfree.duckdb")} AS db`,
       `CREATE TABLE db.cohort AS ${typed}`,
@@ -419,7 +408,7 @@ describe("rows-free linear audit (DuckDB computes the moments)", () => {
 
   it("a run with an ordinal variable (3 whole-number levels) does not qualify and reads the rows: the same result as the memory engine, without the rows-free warning", async () => {
     writeFileSync(at("ordinal.csv"), "a,b,c\n" + Array.from({ length: 60 }, (_, i) => `${i % 3},${(i * 7) % 11}.5,${(i * 13) % 17}.25`).join("\n") + "\n");
-    await duckdb(`COPY (SELECT * FROM read_csv(${sqlPath("ordinal.csv")}, auto_type_candidates = ['DOUBLE'])) TO ${sqlPath("ordinal.parquet")} (FORMAT parquet)`);
+    await duckdbSql(`COPY (SELECT * FROM read_csv(${sqlPath("ordinal.csv")}, auto_type_candidates = ['DOUBLE'])) TO ${sqlPath("ordinal.parquet")} (FORMAT parquet)`);
     writeFileSync(at("ordinal-graph.txt"), "a -> b\nb -> c\n");
     const graph = createGraph({ nodes: ["a", "b", "c"] });
     expect(await momentsFromDuckdb({ path: at("ordinal.parquet"), name: "ordinal.parquet", format: "parquet" }, graph, { columns: ["a", "b", "c"] })).toBeUndefined();

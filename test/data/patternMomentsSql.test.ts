@@ -8,10 +8,10 @@ import { spawnSync } from "node:child_process";
 import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
-import { DuckDBInstance } from "@duckdb/node-api";
 import { afterAll, describe, expect, it } from "vitest";
 import { completeCaseMoments, mergePatternSums, patternMomentsSql, profileOfPatterns, quoteSqlIdentifier, readPatternSums } from "../../src/data/patternMomentsSql.js";
 import { mulberry32 } from "../../src/stats/mulberry32.js";
+import { duckdbSql } from "../helpers/duckdbSql.js";
 
 const work = mkdtempSync(join(tmpdir(), "arrowaudit-sql-"));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
@@ -46,16 +46,6 @@ function numpyMoments(path: string, columns: number[]): { n: number; means: numb
   return JSON.parse(r.stdout) as { n: number; means: number[]; cov: number[][] };
 }
 
-async function runSql(sql: string): Promise<unknown[][]> {
-  const instance = await DuckDBInstance.create(":memory:");
-  const connection = await instance.connect();
-  try {
-    return (await connection.runAndReadAll(sql)).getRows() as unknown[][];
-  } finally {
-    connection.closeSync();
-    instance.closeSync();
-  }
-}
 
 const close = (a: number, b: number, rel: number) => Math.abs(a - b) <= rel * Math.max(Math.abs(a), Math.abs(b));
 
@@ -66,7 +56,7 @@ describe("patternMomentsSql", () => {
   const from = `read_csv('${csv.replace(/'/g, "''")}', header = true)`;
 
   it("patternMomentsSql run by DuckDB gives numpy's complete-case means and covariances (ddof=1) of every tested set of columns to 1e-9", async () => {
-    const rows = await runSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! }))));
+    const rows = await duckdbSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! }))));
     const patterns = readPatternSums(rows, NAMES.length);
     expect(patterns.reduce((n, p) => n + p.rows, 0)).toBe(2000);
     expect(patterns.length).toBeGreaterThan(10); // many missing-data patterns, as intended
@@ -82,15 +72,15 @@ describe("patternMomentsSql", () => {
   });
 
   it("patternMomentsSql without shifts agrees with the shifted query (shifts change only the rounding)", async () => {
-    const shifted = readPatternSums(await runSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! })))), NAMES.length);
-    const plain = readPatternSums(await runSql(patternMomentsSql(from, NAMES.map((name) => ({ name })))), NAMES.length);
+    const shifted = readPatternSums(await duckdbSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! })))), NAMES.length);
+    const plain = readPatternSums(await duckdbSql(patternMomentsSql(from, NAMES.map((name) => ({ name })))), NAMES.length);
     const a = completeCaseMoments(shifted, [0, 1, 2], shifts);
     const b = completeCaseMoments(plain, [0, 1, 2]);
     a.cov.forEach((v, i) => expect(close(v, b.cov[i]!, 1e-9)).toBe(true));
   });
 
   it("the profile columns give numpy's per-column observed count, min, max and count of values that are not whole (profileOfPatterns)", async () => {
-    const rows = await runSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! })), { profile: true }));
+    const rows = await duckdbSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! })), { profile: true }));
     const profile = profileOfPatterns(readPatternSums(rows, NAMES.length, { profile: true }), NAMES.length);
     const script = [
       "import json, sys, numpy as np",
@@ -105,7 +95,7 @@ describe("patternMomentsSql", () => {
     if (r.status !== 0) throw new Error(`python3 with numpy is needed for this reference: ${r.stderr}`);
     const ref = JSON.parse(r.stdout) as { observed: number; min: number; max: number; fractional: number }[]; // numpy on the CSV's columns
     expect(profile).toEqual(ref);
-    const plain = readPatternSums(await runSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! })))), NAMES.length);
+    const plain = readPatternSums(await duckdbSql(patternMomentsSql(from, NAMES.map((name, j) => ({ name, shift: shifts[j]! })))), NAMES.length);
     expect(() => profileOfPatterns(plain, NAMES.length)).toThrow(/profile/);
   });
 
@@ -113,9 +103,9 @@ describe("patternMomentsSql", () => {
     const cols = NAMES.map((name, j) => ({ name, shift: shifts[j]! }));
     // two disjoint parts that cover every row, whatever order DuckDB scans them in
     const inFirst = "(age < 50 OR age IS NULL)";
-    const whole = readPatternSums(await runSql(patternMomentsSql(from, cols, { profile: true })), NAMES.length, { profile: true });
-    const first = readPatternSums(await runSql(patternMomentsSql(`(SELECT * FROM ${from} WHERE ${inFirst})`, cols, { profile: true })), NAMES.length, { profile: true });
-    const second = readPatternSums(await runSql(patternMomentsSql(`(SELECT * FROM ${from} WHERE NOT ${inFirst})`, cols, { profile: true })), NAMES.length, { profile: true });
+    const whole = readPatternSums(await duckdbSql(patternMomentsSql(from, cols, { profile: true })), NAMES.length, { profile: true });
+    const first = readPatternSums(await duckdbSql(patternMomentsSql(`(SELECT * FROM ${from} WHERE ${inFirst})`, cols, { profile: true })), NAMES.length, { profile: true });
+    const second = readPatternSums(await duckdbSql(patternMomentsSql(`(SELECT * FROM ${from} WHERE NOT ${inFirst})`, cols, { profile: true })), NAMES.length, { profile: true });
     expect(first.reduce((n, p) => n + p.rows, 0)).toBeGreaterThan(500);
     expect(second.reduce((n, p) => n + p.rows, 0)).toBeGreaterThan(500);
     const merged = mergePatternSums([first, [...second].reverse()]);
