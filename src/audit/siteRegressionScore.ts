@@ -75,7 +75,7 @@ import { independentColumns, lrOutcome } from "./methods/regressionLr.js";
 import { linearAdjustment } from "./methods/adjustmentDetails.js";
 import type { MethodResult, TestContext } from "./TestMethod.js";
 import type { Claim } from "./types.js";
-import { smallCategoricalCell } from "./siteDisclosure.js";
+import { completeRows, smallCategoricalCell } from "./siteDisclosure.js";
 
 /** A row is fitted with certainty by a null fit at its limit when its observed category has probability above this (as in `logisticRegression.ts`). */
 const CERTAIN = 1 - 1e-9;
@@ -141,21 +141,6 @@ export function responseOf(table: Table, claim: Claim): { response: Column; adde
 }
 
 const untestable = (claim: Claim, reason: string): UntestableScoreSummary => ({ x: claim.x, y: claim.y, given: [...claim.given], kind: "untestable", reason });
-
-/** The rows where every column is observed (code ≥ 0, or a finite value). Cost: O(rows · k). */
-function completeRows(table: Table, cols: readonly Column[]): Int32Array {
-  const out = new Int32Array(table.rows);
-  let n = 0;
-  next: for (let r = 0; r < table.rows; r++) {
-    for (const c of cols) {
-      if (c.codes && CATEGORICAL_TYPES.has(c.type)) {
-        if (!(c.codes[r]! >= 0)) continue next;
-      } else if (!Number.isFinite(c.values[r]!)) continue next;
-    }
-    out[n++] = r;
-  }
-  return out.subarray(0, n);
-}
 
 /** The null model's design at a site: row-major m × p0, with its column labels. */
 interface NullDesign {
@@ -273,8 +258,8 @@ export function regressionScoreSummary(table: Table, claim: Claim, k: number): R
   const names = [claim.x, claim.y, ...claim.given];
   for (const v of names) if (!table.column(v)) throw new RangeError(`regressionScoreSummary: the table has no column "${v}"`);
   if (!isScoreClaim(table, claim)) throw new RangeError(`regressionScoreSummary: "${claim.x}" and "${claim.y}" must both be binary or nominal (regression-lr fits a linear model otherwise, which pools through moments)`);
-  const cols = names.map((v) => table.column(v)!);
-  const rows = completeRows(table, cols);
+  // the same complete cases as the disclosure check below
+  const rows = completeRows(table, claim);
   const n = rows.length;
   if (n < k) return untestable(claim, `${n} complete case${n === 1 ? "" : "s"} at this site, fewer than --min-cell ${k}: no statistic is written for it`);
   const small = smallCategoricalCell(table, claim, k);
