@@ -9,7 +9,7 @@
  * incomplete beta function). The interval covers π with probability at least 1 − δ for every π
  * (Clopper & Pearson 1934, Biometrika 26:404–413).
  */
-import betainc from "@stdlib/math-base-special-betainc";
+import { betainc } from "./special.js";
 import { logGamma } from "./pvalues.js";
 
 /**

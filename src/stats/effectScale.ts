@@ -47,7 +47,7 @@
  */
 import { noncentralChiSquareUpper } from "./noncentralChiSquare.js";
 import { normalQuantile } from "./quantiles.js";
-import erfc from "@stdlib/math-base-special-erfc";
+import { erfc } from "./special.js";
 
 /**
  * Likelihood-ratio effect: sign·√(1 − exp(−LR/n)), the effect scale shared by all tests; equal

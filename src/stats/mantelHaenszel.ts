@@ -15,7 +15,7 @@
  *   δ = min(½, |Σ(a_k − E_k)|) (continuity correction, Mantel & Haenszel 1959).
  * Strata with n_k < 2 carry no information and are skipped (counted in `strataSkipped`).
  */
-import erfc from "@stdlib/math-base-special-erfc";
+import { erfc } from "./special.js";
 import { chiSquareUpper } from "./pvalues.js";
 
 export interface MantelHaenszelResult {

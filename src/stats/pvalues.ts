@@ -4,8 +4,7 @@
  * in the tail keeps its relative accuracy instead of rounding to 0. Where even that
  * underflows (below about 1e-308), `log…` variants give the natural log of the p-value.
  */
-import betainc from "@stdlib/math-base-special-betainc";
-import erfc from "@stdlib/math-base-special-erfc";
+import { betainc, erfc } from "./special.js";
 
 /**
  * Upper tail of the chi-square distribution, P(X ≥ x) for X ~ χ²(df).
