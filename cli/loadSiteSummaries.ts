@@ -2,14 +2,15 @@
  * Site summaries as the data argument of `test` and `report`: detects them by their content, reads
  * and checks them, and runs the pooled audit (`poolSiteSummaries`).
  */
-import { isUtf8 } from "node:buffer";
 import { closeSync, openSync, readSync } from "node:fs";
 import { resolve } from "node:path";
 import { InputError, UsageError } from "../src/errors.js";
-import { parseSiteSummary, poolSiteSummaries, type SiteSummaryFile } from "../src/audit/poolSiteSummaries.js";
+import { poolSitePool } from "../src/audit/poolSiteSummaries.js";
+import { SitePoolBuilder, type SitePool } from "../src/audit/sitePool.js";
 import type { AuditResult, AuditSettings } from "../src/audit/types.js";
 import { checkInputFile } from "./checkPaths.js";
-import { type Io, readInput, sha256File, toolVersion } from "./io.js";
+import { type Io, sha256File, toolVersion } from "./io.js";
+import { readSummaryFile } from "./readSummaryFile.js";
 import { loadGraph, splitList } from "./loadGraph.js";
 import { isStdin, isStreamInput } from "./readStdin.js";
 
@@ -39,19 +40,6 @@ export function isSiteSummaryFile(io: Pick<Io, "cwd">, path: string): boolean {
   }
 }
 
-/**
- * A summary file's bytes as text: strict UTF-8 (checked by `isUtf8`, then decoded by Buffer, which
- * is faster on megabytes than a fatal TextDecoder and gives the same text), without a leading
- * byte-order mark (up to two, as the TextDecoder, which drops one, followed by a replace did).
- * @throws InputError when the bytes are not UTF-8
- */
-function decodeSummary(bytes: Uint8Array, path: string): string {
-  const buf = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-  if (!isUtf8(buf)) throw new InputError(`${path}: the site summary is not UTF-8 text; give the file that arrowaudit summarize wrote, unchanged`, { file: path });
-  const bom = buf.length >= 3 && buf[0] === 0xef && buf[1] === 0xbb && buf[2] === 0xbf ? 3 : 0;
-  return buf.toString("utf8", bom).replace(/^\uFEFF/, "");
-}
-
 /** Options that read rows or matrices, which site summaries do not have. */
 const ROW_OPTIONS: ReadonlyArray<[string, string]> = [
   ["missing", "--missing"],
@@ -77,15 +65,8 @@ export async function auditSites(io: Io, graphPath: string, paths: readonly stri
   if (opts.listwise) throw new UsageError("--listwise selects rows, which site summaries do not have; give it to arrowaudit summarize at each site, and drop it here");
   if (isStdin(graphPath)) throw new UsageError("pooling site summaries needs the graph as a file, to check its SHA-256 against theirs; give the graph file's path");
   checkInputFile(io, { path: graphPath, role: "graph file" });
-  const sites: SiteSummaryFile[] = [];
-  for (const path of paths) {
-    if (isStdin(path)) throw new UsageError("site summaries are read from files; give their paths instead of -");
-    checkInputFile(io, { path, role: "site summary" });
-    if (!isSiteSummaryFile(io, path)) throw new InputError(`${path}: is a data table among site summaries; give either one data file or site summaries written by arrowaudit summarize`, { file: path });
-    const text = decodeSummary(readInput(path, io.cwd, "site summary"), path);
-    sites.push({ file: path, summary: parseSiteSummary(text, path) });
-  }
-  const first = sites[0]!.summary;
+  const pool = readSites(io, paths);
+  const first = pool.sites[0]!;
   const method = opts.method as string | undefined;
   if (method !== undefined && method !== "auto" && method !== first.settings.method) {
     throw new UsageError(`--method ${method}: the site summaries were made with --method ${first.settings.method}, which decides the tests; drop --method, or summarize the sites again with --method ${method}`);
@@ -96,5 +77,23 @@ export async function auditSites(io: Io, graphPath: string, paths: readonly stri
   }
   const graph = await loadGraph(io, graphPath, { ...opts, unmeasured: first.settings.unmeasured.join(",") });
   const sha = await sha256File(graphPath, io.cwd);
-  return poolSiteSummaries(graph, sha, graphPath, sites, { settings, version: toolVersion() });
+  return poolSitePool(graph, sha, graphPath, pool, { settings, version: toolVersion() });
+}
+
+/**
+ * Check and read the summary files into one site pool, the sites in the order given; each file is
+ * added to the pool as it is read and its parsed claims let go before the next (memory holds one
+ * parsed file and the pool, rather than every file's claims).
+ * @throws UsageError for standard input; InputError for the first file, in the order given, that
+ *   is missing, unreadable, a data table, not UTF-8 or not a valid summary
+ */
+function readSites(io: Io, paths: readonly string[]): SitePool {
+  const builder = new SitePoolBuilder();
+  for (const path of paths) {
+    if (isStdin(path)) throw new UsageError("site summaries are read from files; give their paths instead of -");
+    checkInputFile(io, { path, role: "site summary" });
+    if (!isSiteSummaryFile(io, path)) throw new InputError(`${path}: is a data table among site summaries; give either one data file or site summaries written by arrowaudit summarize`, { file: path });
+    builder.add(readSummaryFile(path, io.cwd));
+  }
+  return builder.pool;
 }

@@ -45,138 +45,15 @@ import type { AuditResult, Claim } from "./types.js";
 import { runAuditWithTester, type AuditOptions } from "./runAudit.js";
 import { lrOutcome } from "./methods/regressionLr.js";
 import { gaussianLRFromMoments } from "../stats/gaussianLRFromMoments.js";
-import { checkScoreClaimShape, poolScoreClaims, type ScoreClaimSummary } from "./siteRegressionScore.js";
-import {
-  SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION, type ClaimSummary, type MomentsClaimSummary, type ResidualsClaimSummary, type SiteSummary, type TablesClaimSummary,
-} from "./siteSummary.js";
+import { poolScoreClaims, type ScoreClaimSummary } from "./siteRegressionScore.js";
+import type { MomentsClaimSummary, ResidualsClaimSummary, TablesClaimSummary } from "./siteSummary.js";
+import { FOURTH_ORDER_KEYS, type SiteSummaryFile } from "./readSiteSummary.js";
+import { claimPoolOf, poolSites, type MomentsPool, type ResidualsPool, type SiteInfo, type SitePool } from "./sitePool.js";
 
-/** A site summary with the file it was read from (for messages). */
-export interface SiteSummaryFile {
-  file: string;
-  summary: SiteSummary;
-}
+export { parseSiteSummary, type SiteSummaryFile } from "./readSiteSummary.js";
 
 function fail(file: string, what: string): never {
   throw new InputError(`${file}: ${what}`, { file });
-}
-
-// The shape checks run on every number of every summary (about 150,000 a 2 MB file), so they are plain loops.
-function isNumberArray(v: unknown): v is number[] {
-  if (!Array.isArray(v)) return false;
-  for (let i = 0; i < v.length; i++) {
-    const x: unknown = v[i];
-    if (typeof x !== "number" || !Number.isFinite(x)) return false;
-  }
-  return true;
-}
-function isStringArray(v: unknown): v is string[] {
-  if (!Array.isArray(v)) return false;
-  for (let i = 0; i < v.length; i++) if (typeof v[i] !== "string") return false;
-  return true;
-}
-
-/**
- * Read and check a site summary's JSON text: the format tag and version, and the shape of every
- * field (a wrong or truncated file is an input error naming the field and what to do).
- * Cost: O(size of the text).
- * @throws InputError naming the file and the field
- * @example parseSiteSummary(text, "site-a.json").site // "A"
- */
-export function parseSiteSummary(text: string, file: string): SiteSummary {
-  let doc: unknown;
-  try {
-    doc = JSON.parse(text);
-  } catch (e) {
-    fail(file, `is not valid JSON (${(e as Error).message}); give the file that arrowaudit summarize wrote, unchanged`);
-  }
-  const o = doc as Record<string, unknown>;
-  if (typeof o !== "object" || o === null || o.format !== SITE_SUMMARY_FORMAT) fail(file, `is not a site summary (no "format": "${SITE_SUMMARY_FORMAT}"); write one with arrowaudit summarize`);
-  if (o.version !== SITE_SUMMARY_VERSION) {
-    const why = o.version === 1 ? " (version 1 held the linear test's moments for claims with a continuous variable, which are now pooled by the flexible test from residual sums)" : "";
-    fail(file, `is a site summary of version ${JSON.stringify(o.version)}, and this arrowaudit reads version ${SITE_SUMMARY_VERSION}${why}; summarize every site again with this version`);
-  }
-  const bad = (field: string, want: string): never => fail(file, `field "${field}" must be ${want}; summarize the site again rather than editing the file`);
-  if (typeof o.graph_sha256 !== "string" || !/^[0-9a-f]{64}$/.test(o.graph_sha256)) bad("graph_sha256", "64 hexadecimal digits");
-  if (typeof o.site !== "string" || o.site === "") bad("site", "a non-empty text");
-  if (typeof o.n !== "number" || !Number.isInteger(o.n) || o.n < 0) bad("n", "a whole number");
-  const st = o.settings as Record<string, unknown> | undefined;
-  if (typeof st !== "object" || st === null) bad("settings", "an object");
-  if (!["union-parents", "minimal", "all-minimal"].includes(st!.sets as string)) bad("settings.sets", "union-parents, minimal or all-minimal");
-  if (!["auto", "linear", "chisq", "rank", "regression"].includes(st!.method as string)) bad("settings.method", "auto, linear, chisq, rank or regression");
-  if (typeof st!.listwise !== "boolean") bad("settings.listwise", "true or false");
-  if (typeof st!.min_cell !== "number" || !Number.isInteger(st!.min_cell)) bad("settings.min_cell", "a whole number");
-  if (!isStringArray(st!.unmeasured)) bad("settings.unmeasured", "a list of names");
-  if (!Array.isArray(o.variables) || !o.variables.every((v) => typeof v?.name === "string" && typeof v?.type === "string" && (v.levels === undefined || isStringArray(v.levels)))) bad("variables", "a list of { name, type, levels }");
-  if (!Array.isArray(o.claims)) bad("claims", "a list");
-  (o.claims as unknown[]).forEach((c, i) => checkClaim(c, i, bad));
-  return o as unknown as SiteSummary;
-}
-
-function checkClaim(c: unknown, i: number, bad: (field: string, want: string) => never): void {
-  const o = c as Record<string, unknown>;
-  const f = `claims[${i}]`;
-  if (typeof o !== "object" || o === null || typeof o.x !== "string" || typeof o.y !== "string" || !isStringArray(o.given)) bad(f, "a claim with x, y and given");
-  if (o.kind === "untestable") {
-    if (typeof o.reason !== "string") bad(`${f}.reason`, "a text");
-  } else if (o.kind === "moments") {
-    if (!isStringArray(o.columns) || o.columns.length < 2) bad(`${f}.columns`, "a list of at least two names");
-    const d = (o.columns as string[]).length;
-    if (typeof o.n !== "number" || !Number.isInteger(o.n) || o.n < 1) bad(`${f}.n`, "a whole number above 0");
-    if (!isNumberArray(o.means) || o.means.length !== d) bad(`${f}.means`, `${d} finite numbers`);
-    if (!Array.isArray(o.cross_products) || o.cross_products.length !== d || !o.cross_products.every((r) => isNumberArray(r) && r.length === d)) bad(`${f}.cross_products`, `a ${d} × ${d} matrix of finite numbers`);
-  } else if (o.kind === "tables") {
-    if (typeof o.n !== "number" || !Number.isInteger(o.n) || o.n < 0) bad(`${f}.n`, "a whole number");
-    if (!Array.isArray(o.strata) || !o.strata.every((s) => isStringArray(s?.given) && Array.isArray(s?.counts) && s.counts.every((r: unknown) => isNumberArray(r) && r.every((v) => Number.isInteger(v) && v >= 0)))) bad(`${f}.strata`, "a list of { given, counts } with whole counts");
-    const dr = o.dropped as Record<string, unknown> | undefined;
-    if (typeof dr !== "object" || dr === null || typeof dr.strata !== "number" || typeof dr.rows !== "number") bad(`${f}.dropped`, "{ strata, rows }");
-  } else if (o.kind === "residuals") {
-    checkResidualsClaim(o, f, bad);
-  } else if (o.kind === "score") {
-    checkScoreClaimShape(o, f, bad);
-  } else bad(`${f}.kind`, "moments, tables, residuals, score or untestable");
-}
-
-function isMatrix(v: unknown, d: number): boolean {
-  if (!Array.isArray(v) || v.length !== d) return false;
-  for (let i = 0; i < d; i++) {
-    const r: unknown = v[i];
-    if (!isNumberArray(r) || r.length !== d) return false;
-  }
-  return true;
-}
-const isCount = (v: unknown, least = 0): boolean => typeof v === "number" && Number.isInteger(v) && v >= least;
-
-const FOURTH_ORDER_KEYS = ["uu", "vv", "uv", "uuvv", "uuuv", "uvvv", "uuuu", "vvvv"] as const;
-const FLEXIBILITY_KEYS = ["level", "max_level", "level_x", "level_y", "parameters"] as const;
-
-/** Whether two lists of names are equal, name by name. */
-function sameNames(a: readonly string[], b: readonly string[]): boolean {
-  if (a.length !== b.length) return false;
-  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
-  return true;
-}
-
-/** Whether two summaries' claims are the same claim (x, y and the set, in order). */
-const sameClaim = (a: ClaimSummary, b: ClaimSummary): boolean => a.x === b.x && a.y === b.y && sameNames(a.given, b.given);
-
-/** The fields of a residuals claim (see `ResidualsClaimSummary`): shapes from its side columns. */
-function checkResidualsClaim(o: Record<string, unknown>, f: string, bad: (field: string, want: string) => never): void {
-  if (o.test !== "gcm" && o.test !== "gcm-rank") bad(`${f}.test`, '"gcm" or "gcm-rank"');
-  if (!isCount(o.n, 1)) bad(`${f}.n`, "a whole number above 0");
-  if (!isCount(o.params)) bad(`${f}.params`, "a whole number");
-  const sides = o.sides as unknown[];
-  if (!Array.isArray(sides) || sides.length !== 2 || !sides.every((s) => isStringArray(s) && s.length > 0)) bad(`${f}.sides`, "two non-empty lists of column names");
-  const [qx, qy] = [(sides[0] as string[]).length, (sides[1] as string[]).length];
-  if (!isMatrix(o.residual_cross_products, qx + qy)) bad(`${f}.residual_cross_products`, `a ${qx + qy} × ${qx + qy} matrix of finite numbers`);
-  if (!isMatrix(o.product_variance, qx * qy)) bad(`${f}.product_variance`, `a ${qx * qy} × ${qx * qy} matrix of finite numbers`);
-  const fo = o.fourth_order as Record<string, unknown> | undefined;
-  if (fo !== undefined && (typeof fo !== "object" || fo === null || !FOURTH_ORDER_KEYS.every((k) => typeof fo[k] === "number" && Number.isFinite(fo[k])))) bad(`${f}.fourth_order`, `an object of the finite sums ${FOURTH_ORDER_KEYS.join(", ")}`);
-  const lin = o.linear as Record<string, unknown> | undefined;
-  if (typeof lin !== "object" || lin === null || !isCount(lin.params) || !isMatrix(lin.residual_cross_products, qx + qy)) bad(`${f}.linear`, `{ params, residual_cross_products: a ${qx + qy} × ${qx + qy} matrix }`);
-  const fl = o.flexibility as Record<string, unknown> | undefined;
-  if (typeof fl !== "object" || fl === null || !FLEXIBILITY_KEYS.every((k) => isCount(fl[k]))) bad(`${f}.flexibility`, "{ level, max_level, level_x, level_y, parameters } as whole numbers");
-  if (!Array.isArray(o.adjustment) || !o.adjustment.every((a) => typeof a?.variable === "string" && typeof a?.entered === "string")) bad(`${f}.adjustment`, "a list of { variable, entered, columns }");
-  if (!isCount(o.aliased)) bad(`${f}.aliased`, "a whole number");
 }
 
 /**
@@ -186,10 +63,20 @@ function checkResidualsClaim(o: Record<string, unknown>, f: string, bad: (field:
  * @throws InputError naming the file and the difference, and what to do
  */
 export function checkSitesAgree(graphSha256: string, graphFile: string, sites: readonly SiteSummaryFile[]): void {
+  checkPoolAgrees(graphSha256, graphFile, poolSites(sites).sites);
+}
+
+/**
+ * {@link checkSitesAgree} on the sites' headings in a pool (`sitePool.ts`), whose `sameClaims`
+ * says whether each lists the first site's claims. Cost: O(sites · m).
+ * @throws as {@link checkSitesAgree}
+ */
+export function checkPoolAgrees(graphSha256: string, graphFile: string, sites: readonly SiteInfo[]): void {
   const [first, ...rest] = sites;
   if (!first) throw new InputError("no site summary given; give one or more files written by arrowaudit summarize", {});
   const names = new Map<string, string>();
-  for (const { file, summary } of sites) {
+  for (const summary of sites) {
+    const file = summary.file;
     if (summary.graph_sha256 !== graphSha256) {
       fail(file, `was made with a different graph (SHA-256 ${summary.graph_sha256.slice(0, 12)}…, while ${graphFile} has ${graphSha256.slice(0, 12)}…); summarize every site with the same graph file, byte for byte, as the one you test`);
     }
@@ -197,15 +84,15 @@ export function checkSitesAgree(graphSha256: string, graphFile: string, sites: r
     if (seen !== undefined) fail(file, `has the site name ${JSON.stringify(summary.site)}, as ${seen} has; give each site its own name with summarize --site, or do not give one site twice`);
     names.set(summary.site, file);
   }
-  const settingsText = (s: SiteSummary) => JSON.stringify({ sets: s.settings.sets, method: s.settings.method, listwise: s.settings.listwise, min_cell: s.settings.min_cell, unmeasured: s.settings.unmeasured });
-  const varsOf = (s: SiteSummary) => new Map(s.variables.map((v) => [v.name, v]));
-  const firstVars = varsOf(first.summary);
-  const firstClaims = first.summary.claims;
-  for (const { file, summary } of rest) {
-    if (settingsText(summary) !== settingsText(first.summary)) {
+  const settingsText = (s: SiteInfo) => JSON.stringify({ sets: s.settings.sets, method: s.settings.method, listwise: s.settings.listwise, min_cell: s.settings.min_cell, unmeasured: s.settings.unmeasured });
+  const varsOf = (s: SiteInfo) => new Map(s.variables.map((v) => [v.name, v]));
+  const firstVars = varsOf(first);
+  for (const summary of rest) {
+    const file = summary.file;
+    if (settingsText(summary) !== settingsText(first)) {
       const keys = ["sets", "method", "listwise", "min_cell", "unmeasured"] as const;
-      const diff = keys.filter((k) => JSON.stringify(summary.settings[k]) !== JSON.stringify(first.summary.settings[k]));
-      fail(file, `was made with different settings from ${first.file} (${diff.map((k) => `${k}: ${JSON.stringify(summary.settings[k])} against ${JSON.stringify(first.summary.settings[k])}`).join("; ")}); summarize every site with the same options`);
+      const diff = keys.filter((k) => JSON.stringify(summary.settings[k]) !== JSON.stringify(first.settings[k]));
+      fail(file, `was made with different settings from ${first.file} (${diff.map((k) => `${k}: ${JSON.stringify(summary.settings[k])} against ${JSON.stringify(first.settings[k])}`).join("; ")}); summarize every site with the same options`);
     }
     for (const v of summary.variables) {
       const w = firstVars.get(v.name);
@@ -216,30 +103,26 @@ export function checkSitesAgree(graphSha256: string, graphFile: string, sites: r
       }
     }
     if (summary.variables.length !== firstVars.size) fail(file, `has ${summary.variables.length} variables and ${first.file} has ${firstVars.size}; summarize every site with the same graph and options`);
-    if (summary.claims.length !== firstClaims.length || !summary.claims.every((c, i) => sameClaim(c, firstClaims[i]!))) fail(file, `lists other claims than ${first.file}; summarize every site with the same graph and options`);
+    if (!summary.sameClaims) fail(file, `lists other claims than ${first.file}; summarize every site with the same graph and options`);
   }
 }
 
-/** The sites' summed cross-product matrix W (d × d) and complete cases of a moments claim, or why they cannot be added. Cost: O(sites · d²). */
-function sumCrossProducts(parts: readonly MomentsClaimSummary[]): { d: number; w: Float64Array; n: number } | { reason: string } {
-  const d = parts[0]!.columns.length;
-  const names = parts[0]!.columns;
-  if (parts.some((p) => !sameNames(p.columns, names))) return { reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
-  const w = new Float64Array(d * d);
-  let n = 0;
-  for (const p of parts) {
-    n += p.n;
-    for (let a = 0; a < d; a++) for (let b = 0; b < d; b++) w[a * d + b] = w[a * d + b]! + p.cross_products[a]![b]!;
-  }
-  return { d, w, n };
+/** A moments claim's summed cross-product matrix W (d × d) and complete cases, or why the sites' parts cannot be added. */
+function summedCrossProducts(pool: MomentsPool): { d: number; w: Float64Array; n: number } | { reason: string } {
+  if (pool.differ) return { reason: "the sites' summaries of this claim have different design columns; summarize every site with the same options, --types and --levels" };
+  return { d: pool.columns.length, w: pool.w, n: pool.n };
 }
 
 /** The pooled partial-correlation test of a linear claim (see the module comment). Cost: O(sites · d² + d³). */
 export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
-  const summed = sumCrossProducts(parts);
+  return momentsOutcome(claim, claimPoolOf(parts).moments!, parts.length, table, alpha);
+}
+
+/** {@link poolMoments} from the summed cross-products of `m` sites. */
+function momentsOutcome(claim: Claim, pool: MomentsPool, m: number, table: Table, alpha: number): MethodResult {
+  const summed = summedCrossProducts(pool);
   if ("reason" in summed) return { ok: false, reason: summed.reason };
   const { d, w, n } = summed;
-  const m = parts.length;
   const given = Array.from({ length: d - 2 }, (_, i) => i + 2);
   const c = given.length + m - 1;
   const cases = `${n} complete cases at ${m} site${m === 1 ? "" : "s"}`;
@@ -247,7 +130,7 @@ export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[],
   const cov = w.map((v) => v / (n - m));
   const pc = partialCorrelationWithReason(cov, d, 0, 1, given);
   if (!("r" in pc)) {
-    const col = `"${parts[0]!.columns[pc.column]}"`;
+    const col = `"${pool.columns[pc.column]}"`;
     if (pc.reason === "constant") return { ok: false, reason: `${col} is constant within every site among the ${cases}` };
     if (pc.reason === "collinear-given") return { ok: false, reason: `the conditioning set is collinear within sites: ${col} is a linear function of the others and the site among the ${cases}` };
     return { ok: false, reason: `${col} is a linear function of the conditioning set and the site among the ${cases}` };
@@ -284,37 +167,22 @@ export function poolMoments(claim: Claim, parts: readonly MomentsClaimSummary[],
  * Cost: O(sites · q⁴ + q⁶) for q side columns (q⁴ entries of the products' variance).
  */
 export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummary[], sites: readonly string[], table: Table, alpha: number): MethodResult {
-  if (parts.some((p) => p.test !== parts[0]!.test)) return { ok: false, reason: "the sites' residuals of this claim come from different tests (gcm and gcm-rank); summarize every site with the same --method" };
-  const [sx, sy] = parts[0]!.sides;
-  const odd = parts.findIndex((p) => !sameNames(p.sides[0], sx) || !sameNames(p.sides[1], sy));
-  if (odd >= 0) {
-    return { ok: false, reason: `the sites' residuals of this claim are of different side columns (site ${JSON.stringify(sites[0])}: ${parts[0]!.sides.flat().join(", ")}; site ${JSON.stringify(sites[odd])}: ${parts[odd]!.sides.flat().join(", ")}): a level of a nominal side is absent, or the side is constant, among one site's complete cases, so their products are not the same; test the claim at the sites that share them, or leave the variable out` };
+  return residualsOutcome(claim, claimPoolOf(parts).residuals!, parts.length, sites, table, alpha);
+}
+
+/** {@link poolResiduals} from the summed residual sums of `K` sites; `sites` names the pool's sites by index. */
+function residualsOutcome(claim: Claim, pool: ResidualsPool, K: number, sites: readonly string[], table: Table, alpha: number): MethodResult {
+  if (pool.testDiffers) return { ok: false, reason: "the sites' residuals of this claim come from different tests (gcm and gcm-rank); summarize every site with the same --method" };
+  if (pool.odd >= 0) {
+    return { ok: false, reason: `the sites' residuals of this claim are of different side columns (site ${JSON.stringify(sites[pool.first])}: ${pool.sides.flat().join(", ")}; site ${JSON.stringify(sites[pool.odd])}: ${pool.oddSides!.flat().join(", ")}): a level of a nominal side is absent, or the side is constant, among one site's complete cases, so their products are not the same; test the claim at the sites that share them, or leave the variable out` };
   }
-  const [qx, qy] = [parts[0]!.sides[0].length, parts[0]!.sides[1].length];
+  const [qx, qy] = [pool.sides[0].length, pool.sides[1].length];
   const q = qx + qy;
   const qq = qx * qy;
-  const K = parts.length;
-  let n = 0;
-  let params = K - 1; // an intercept per site beyond the first
-  let linParams = K - 1;
-  const cross = new Float64Array(q * q);
-  const linCross = new Float64Array(q * q);
-  const scatter = new Float64Array(qq * qq);
-  const keys = FOURTH_ORDER_KEYS;
-  const fourth = parts.every((p) => p.fourth_order) ? Object.fromEntries(keys.map((k) => [k, 0])) as NonNullable<GcmTestSums["adf"]> : undefined;
-  for (const p of parts) {
-    n += p.n;
-    params += p.params;
-    linParams += p.linear.params;
-    for (let a = 0; a < q; a++) {
-      for (let b = 0; b < q; b++) {
-        cross[a * q + b] = cross[a * q + b]! + p.residual_cross_products[a]![b]!;
-        linCross[a * q + b] = linCross[a * q + b]! + p.linear.residual_cross_products[a]![b]!;
-      }
-    }
-    for (let a = 0; a < qq; a++) for (let b = 0; b < qq; b++) scatter[a * qq + b] = scatter[a * qq + b]! + p.product_variance[a]![b]!;
-    if (fourth) for (const k of keys) fourth[k] += p.fourth_order![k];
-  }
+  const { n, cross, linCross, scatter } = pool;
+  const params = K - 1 + pool.params; // an intercept per site beyond the first
+  const linParams = K - 1 + pool.linParams;
+  const fourth = pool.fourth ? Object.fromEntries(FOURTH_ORDER_KEYS.map((k, i) => [k, pool.fourth![i]!])) as NonNullable<GcmTestSums["adf"]> : undefined;
   // Σ R is the x-by-y block of Σ e eᵀ; the products' covariance is centred at their pooled mean
   const sumR = new Float64Array(qq);
   for (let a = 0; a < qx; a++) for (let b = 0; b < qy; b++) sumR[a * qy + b] = cross[a * q + qx + b]!;
@@ -325,26 +193,24 @@ export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummar
   if ("reason" in res) return { ok: false, reason: res.reason };
   const { test, effect, ci, r, interval } = res;
   const linear = linearCheck(linCross.map((v) => v / (n - 1)), qx, qy, n, linParams);
-  const perSite = parts.map((p, i) => ({ site: sites[i]!, ...p.flexibility }));
+  const perSite = pool.flexibility.map((f) => ({ site: sites[f.site]!, ...f.flexibility }));
   const sideModel = (name: string) => {
     const c = table.column(name)!;
-    const what = c.type === "nominal" ? "level indicators" : parts[0]!.test === "gcm-rank" ? "mid-ranks (among the site's values)" : c.type === "binary" ? "0/1 outcome (linear probability)" : "scores";
+    const what = c.type === "nominal" ? "level indicators" : pool.test === "gcm-rank" ? "mid-ranks (among the site's values)" : c.type === "binary" ? "0/1 outcome (linear probability)" : "scores";
     return `least squares of the ${what} on the adjustment, fitted at each site on its own rows`;
   };
-  const members = claim.given.map((g) => {
-    const entries = parts.map((p) => p.adjustment.find((a) => a.variable === g));
-    const kinds = new Set(entries.map((e) => e?.entered));
-    const entered = kinds.has("spline") ? "spline" : kinds.has("linear") ? "linear" : CATEGORICAL_TYPES.has(table.column(g)!.type) ? "indicators" : "linear";
-    return { variable: g, entered, columns: entries.reduce((a, e) => a + (e?.columns ?? 0), 0) };
+  const members = pool.members.map((m) => {
+    const entered = m.spline ? "spline" : m.linear ? "linear" : CATEGORICAL_TYPES.has(table.column(m.variable)!.type) ? "indicators" : "linear";
+    return { variable: m.variable, entered, columns: m.columns };
   });
   const warnings = [`adjustment for the set fitted at each site on its own rows (its own basis, knots and flexibility level: the set interacted with site)`];
-  const aliased = parts.map((p, i) => ({ site: sites[i]!, k: p.aliased })).filter((a) => a.k > 0);
+  const aliased = pool.aliased.map((a) => ({ site: sites[a.site]!, k: a.k }));
   if (aliased.length > 0) warnings.push(`adjustment columns of ${claim.given.map((g) => `"${g}"`).join(", ")} aliased with others (or constant among the complete rows) and dropped at ${aliased.map((a) => `${a.site}: ${a.k}`).join(", ")}`);
   if (test.components < qq) warnings.push(`${qq - test.components} of ${qq} residual products are redundant with the others and were left out`);
   return {
     ok: true,
     outcome: {
-      test: parts[0]!.test,
+      test: pool.test,
       n,
       statistic: test.statistic,
       df: test.df,
@@ -382,10 +248,14 @@ export function poolResiduals(claim: Claim, parts: readonly ResidualsClaimSummar
  * Cost: O(sites · d² + d³).
  */
 export function poolGaussianLR(claim: Claim, parts: readonly MomentsClaimSummary[], table: Table, alpha: number): MethodResult {
-  const summed = sumCrossProducts(parts);
+  return gaussianLROutcome(claim, claimPoolOf(parts).moments!, parts.length, table, alpha);
+}
+
+/** {@link poolGaussianLR} from the summed cross-products of `m` sites. */
+function gaussianLROutcome(claim: Claim, pool: MomentsPool, m: number, table: Table, alpha: number): MethodResult {
+  const summed = summedCrossProducts(pool);
   if ("reason" in summed) return { ok: false, reason: summed.reason };
   const { d, w, n } = summed;
-  const m = parts.length;
   const xCol = table.column(claim.x)!;
   const yCol = table.column(claim.y)!;
   const width = (c: Column) => (c.type === "nominal" ? Math.max(0, (c.levels?.length ?? 1) - 1) : 1);
@@ -437,15 +307,40 @@ export function poolTables(claim: Claim, parts: readonly TablesClaimSummary[], c
   if (parts.some((p) => p.strata.some((s) => s.counts.length !== lx || s.counts.some((row) => row.length !== ly)))) {
     return { ok: false, reason: "the sites' tables of this claim have different sizes; summarize every site with the same options, --types and --levels" };
   }
+  // plain loops: a pooled run builds thousands of strata
   for (const p of parts) {
     for (const s of p.strata) {
-      const xs = s.counts.map((row, i) => (row.some((v) => v > 0) ? i : -1)).filter((i) => i >= 0);
-      const ys = s.counts[0]!.map((_, j) => (s.counts.some((row) => row[j]! > 0) ? j : -1)).filter((j) => j >= 0);
+      const c = s.counts;
+      const xs: number[] = [];
+      const ys: number[] = [];
+      for (let i = 0; i < lx; i++) {
+        const row = c[i]!;
+        for (let j = 0; j < ly; j++) {
+          if (row[j]! > 0) {
+            xs.push(i);
+            break;
+          }
+        }
+      }
+      for (let j = 0; j < ly; j++) {
+        for (let i = 0; i < lx; i++) {
+          if (c[i]![j]! > 0) {
+            ys.push(j);
+            break;
+          }
+        }
+      }
       const counts = new Float64Array(xs.length * ys.length);
-      xs.forEach((i, a) => ys.forEach((j, b) => (counts[a * ys.length + b] = s.counts[i]![j]!)));
-      for (const v of counts) n += v;
+      for (let a = 0; a < xs.length; a++) {
+        const row = c[xs[a]!]!;
+        for (let b = 0; b < ys.length; b++) {
+          const v = row[ys[b]!]!;
+          counts[a * ys.length + b] = v;
+          n += v;
+        }
+      }
       strata.push({ rows: xs.length, cols: ys.length, counts, xCodes: Int32Array.from(xs), yCodes: Int32Array.from(ys) });
-      if (twoByTwo) full.push(Float64Array.from(s.counts.flat()));
+      if (twoByTwo) full.push(Float64Array.of(c[0]![0]!, c[0]![1]!, c[1]![0]!, c[1]![1]!));
     }
   }
   if (n === 0) return { ok: false, reason: `no site has a stratum of "${claim.x}" and "${claim.y}" to pool` };
@@ -462,9 +357,20 @@ export function poolTables(claim: Claim, parts: readonly TablesClaimSummary[], c
  * @example poolSiteSummaries(graph, sha, "g.txt", [{ file: "a.json", summary: a }, { file: "b.json", summary: b }]).data.source.sites
  */
 export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: string, sites: readonly SiteSummaryFile[], options: AuditOptions = {}): AuditResult {
-  checkSitesAgree(graphSha256, graphFile, sites);
-  const first = sites[0]!.summary;
-  const total = sites.reduce((a, s) => a + s.summary.n, 0);
+  return poolSitePool(graph, graphSha256, graphFile, poolSites(sites), options);
+}
+
+/**
+ * {@link poolSiteSummaries} on summaries already reduced to a site pool (`sitePool.ts`, which the
+ * command builds as it reads the files, letting each parsed file go before the next).
+ * @throws as {@link checkSitesAgree}
+ */
+export function poolSitePool(graph: Graph, graphSha256: string, graphFile: string, pool: SitePool, options: AuditOptions = {}): AuditResult {
+  const sites = pool.sites;
+  checkPoolAgrees(graphSha256, graphFile, sites);
+  const first = sites[0]!;
+  const names = sites.map((s) => s.site);
+  const total = sites.reduce((a, s) => a + s.n, 0);
   const columns: Column[] = first.variables.map((v) => ({
     name: v.name,
     type: v.type,
@@ -475,7 +381,7 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
   }));
   const byName = new Map(columns.map((c) => [c.name, c]));
   const table: Table = { file: sites.map((s) => s.file).join(", "), rows: total, columns, warnings: [], column: (name) => byName.get(name) };
-  const used = sites.reduce((a, s) => a + s.summary.n - s.summary.suppressed.rows, 0);
+  const used = sites.reduce((a, s) => a + s.n - s.suppressed.rows, 0);
   const moments: PatternMoments = {
     patterns: 1,
     completeRows: used,
@@ -488,40 +394,38 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
       throw new Error("internal: pooled site summaries hold no pattern moments");
     },
   };
-  // every site lists the same claims in the same order (checkSitesAgree), so one index serves them all
-  const claimIndex = new Map(first.claims.map((c, i) => [JSON.stringify([c.x, c.y, c.given]), i]));
+  // every site lists the same claims in the same order (checkPoolAgrees), so one index serves them all
+  const claimIndex = new Map(pool.claims.map((c, i) => [JSON.stringify([c.x, c.y, c.given]), i]));
   const test = (claim: Claim, ctx: TestContext): MethodResult => {
     const at = claimIndex.get(JSON.stringify([claim.x, claim.y, claim.given]));
-    const parts = sites.map((s) => (at === undefined ? undefined : s.summary.claims[at]));
-    if (parts.some((p) => p === undefined)) return { ok: false, reason: "the site summaries do not list this claim; summarize every site with the same graph and options" };
-    const left = sites.map((s, i) => ({ site: s.summary.site, part: parts[i]! })).filter((p) => p.part.kind === "untestable");
-    const keptSites = sites.filter((_, i) => parts[i]!.kind !== "untestable").map((s) => s.summary.site);
-    const kept = parts.filter((p): p is MomentsClaimSummary | TablesClaimSummary | ResidualsClaimSummary | ScoreClaimSummary => p!.kind !== "untestable");
-    const reasons = left.map((l) => (l.part as { reason: string }).reason);
-    const leftText = left.map((l, i) => `site ${JSON.stringify(l.site)}: ${reasons[i]}`).join("; ");
-    if (kept.length === 0) return { ok: false, reason: new Set(reasons).size === 1 ? `untestable at every site: ${reasons[0]}` : `untestable at every site (${leftText})` };
-    if (kept.some((p) => p.kind !== kept[0]!.kind)) return { ok: false, reason: `the sites' summaries of this claim are of different kinds (${[...new Set(kept.map((p) => p.kind))].join(" and ")}); summarize every site with the same options, --types and --levels` };
-    const kind = kept[0]!.kind;
+    if (at === undefined) return { ok: false, reason: "the site summaries do not list this claim; summarize every site with the same graph and options" };
+    const cp = pool.pools[at]!;
+    const reasons = cp.untestable.map((u) => u.reason);
+    const leftText = cp.untestable.map((u) => `site ${JSON.stringify(names[u.site])}: ${u.reason}`).join("; ");
+    if (cp.kept.length === 0) return { ok: false, reason: new Set(reasons).size === 1 ? `untestable at every site: ${reasons[0]}` : `untestable at every site (${leftText})` };
+    if (cp.kinds.length > 1) return { ok: false, reason: `the sites' summaries of this claim are of different kinds (${cp.kinds.join(" and ")}); summarize every site with the same options, --types and --levels` };
+    const kind = cp.kinds[0]!;
+    const K = cp.kept.length;
     const alpha = ctx.alpha ?? 0.05;
     const r =
       kind === "moments"
         ? first.settings.method === "regression"
-          ? poolGaussianLR(claim, kept as MomentsClaimSummary[], table, alpha)
-          : poolMoments(claim, kept as MomentsClaimSummary[], table, alpha)
+          ? gaussianLROutcome(claim, cp.moments!, K, table, alpha)
+          : momentsOutcome(claim, cp.moments!, K, table, alpha)
         : kind === "residuals"
-        ? poolResiduals(claim, kept as ResidualsClaimSummary[], keptSites, table, alpha)
+        ? residualsOutcome(claim, cp.residuals!, K, names, table, alpha)
         : kind === "score"
-        ? poolScoreClaims(kept as ScoreClaimSummary[], claim, { table, alpha }, keptSites)
-        : poolTables(claim, kept as TablesClaimSummary[], ctx);
+        ? poolScoreClaims(cp.parts as ScoreClaimSummary[], claim, { table, alpha }, cp.kept.map((i) => names[i]!))
+        : poolTables(claim, cp.parts as TablesClaimSummary[], ctx);
     if (!r.ok) return r;
     const warnings = [...(r.outcome.warnings ?? [])];
-    if (left.length > 0) warnings.push(`${left.length} of ${sites.length} sites left out of this claim (${leftText})`);
-    const dropped = kept.filter((p): p is TablesClaimSummary => p.kind === "tables").reduce((a, p) => ({ strata: a.strata + p.dropped.strata, rows: a.rows + p.dropped.rows }), { strata: 0, rows: 0 });
+    if (cp.untestable.length > 0) warnings.push(`${cp.untestable.length} of ${sites.length} sites left out of this claim (${leftText})`);
+    const dropped = kind === "tables" ? (cp.parts as TablesClaimSummary[]).reduce((a, p) => ({ strata: a.strata + p.dropped.strata, rows: a.rows + p.dropped.rows }), { strata: 0, rows: 0 }) : { strata: 0, rows: 0 };
     if (dropped.strata > 0) warnings.push(`${dropped.strata} strata (${dropped.rows} rows) were dropped at the sites for a cell below --min-cell ${first.settings.min_cell}`);
     return { ok: true, outcome: { ...r.outcome, ...(warnings.length ? { warnings } : {}) } };
   };
   const settings = { ...options.settings, sets: first.settings.sets, method: first.settings.method, listwise: first.settings.listwise };
-  const source = { kind: "sites" as const, n: total, sites: sites.map((s) => ({ site: s.summary.site, file: s.file, n: s.summary.n })) };
+  const source = { kind: "sites" as const, n: total, sites: sites.map((s) => ({ site: s.site, file: s.file, n: s.n })) };
   const result = runAuditWithTester(graph, { table, moments, source, test }, { ...options, settings });
   const flexible = result.claims.filter((c) => c.test === "gcm" && c.details?.sites !== undefined).length;
   if (flexible > 0) {
@@ -531,9 +435,9 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
   if (ranked > 0) {
     result.warnings.push(`${ranked} claim${ranked > 1 ? "s" : ""} got the rank test (gcm-rank) pooled from the sites' residual sums: mid-ranks among each site's own values, the adjustment for the set fitted at each site on its own rows (the set interacted with site)`);
   }
-  const suppressed = sites.filter((s) => s.summary.suppressed.rows > 0);
+  const suppressed = sites.filter((s) => s.suppressed.rows > 0);
   if (suppressed.length > 0) {
-    result.warnings.push(`rows in missing-data patterns of fewer than --min-cell ${first.settings.min_cell} rows were left out at ${suppressed.length} site${suppressed.length > 1 ? "s" : ""} (${suppressed.map((s) => `${s.summary.site}: ${s.summary.suppressed.rows}`).join(", ")})`);
+    result.warnings.push(`rows in missing-data patterns of fewer than --min-cell ${first.settings.min_cell} rows were left out at ${suppressed.length} site${suppressed.length > 1 ? "s" : ""} (${suppressed.map((s) => `${s.site}: ${s.suppressed.rows}`).join(", ")})`);
   }
   return result;
 }

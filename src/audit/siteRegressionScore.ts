@@ -367,40 +367,7 @@ export function regressionScoreSummary(table: Table, claim: Claim, k: number): R
   };
 }
 
-const isFiniteNumber = (v: unknown): v is number => typeof v === "number" && Number.isFinite(v);
-const isNumberArray = (v: unknown, len: number): v is number[] => Array.isArray(v) && v.length === len && v.every(isFiniteNumber);
-const isStringArray = (v: unknown): v is string[] => Array.isArray(v) && v.every((x) => typeof x === "string");
-
-/**
- * Check the shape of a score claim read from a summary file (`kind: "score"`), calling
- * `bad(field, want)` (which throws, naming the file) at the first field that is wrong, as the
- * other kinds are checked in `parseSiteSummary`. `f` is the claim's field name, e.g. "claims[3]".
- * Cost: O(a²) for a added parameters.
- * @throws whatever `bad` throws
- * @example checkScoreClaimShape(JSON.parse(text).claims[0], "claims[0]", bad)
- */
-export function checkScoreClaimShape(c: unknown, f: string, bad: (field: string, want: string) => never): asserts c is ScoreClaimSummary {
-  const o = c as Record<string, unknown>;
-  if (typeof o !== "object" || o === null || typeof o.x !== "string" || typeof o.y !== "string" || !isStringArray(o.given)) bad(f, "a claim with x, y and given");
-  if (o.kind !== "score") bad(`${f}.kind`, `"score"`);
-  if (!Number.isInteger(o.n) || !((o.n as number) >= 1)) bad(`${f}.n`, "a whole number above 0");
-  if (o.response !== o.x && o.response !== o.y) bad(`${f}.response`, `the claim's x or y ("${o.x}" or "${o.y}")`);
-  if (o.model !== "logistic" && o.model !== "multinomial") bad(`${f}.model`, "logistic or multinomial");
-  if (!isStringArray(o.added_columns) || o.added_columns.length < 1) bad(`${f}.added_columns`, "a list of at least one name");
-  const a = (o.added_columns as string[]).length;
-  if (!isNumberArray(o.score, a)) bad(`${f}.score`, `${a} finite numbers`);
-  if (!Array.isArray(o.information) || o.information.length !== a || !o.information.every((r) => isNumberArray(r, a))) bad(`${f}.information`, `a ${a} × ${a} matrix of finite numbers`);
-  const I = o.information as number[][];
-  for (let r = 0; r < a; r++) {
-    if (!(I[r]![r]! >= 0)) bad(`${f}.information`, "a matrix with no negative diagonal entry");
-    for (let s = r + 1; s < a; s++) if (Math.abs(I[r]![s]! - I[s]![r]!) > 1e-9 * (Math.abs(I[r]![s]!) + Math.sqrt(I[r]![r]! * I[s]![s]!)) + 1e-300) bad(`${f}.information`, "a symmetric matrix");
-  }
-  if (o.site_lr !== undefined) {
-    const s = o.site_lr as Record<string, unknown>;
-    if (typeof s !== "object" || s === null || !isFiniteNumber(s.l0) || !isFiniteNumber(s.l1) || !isFiniteNumber(s.lr) || !Number.isInteger(s.df)) bad(`${f}.site_lr`, "{ l0, l1, lr, df } with finite numbers and a whole df");
-  }
-  if (o.notes !== undefined && !isStringArray(o.notes)) bad(`${f}.notes`, "a list of texts");
-}
+export { checkScoreClaimShape } from "./readSiteSummary.js";
 
 /**
  * The pooled efficient score test of a score claim over the sites' summaries `parts` (module

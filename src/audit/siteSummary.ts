@@ -75,10 +75,8 @@ import type { TestContext } from "./TestMethod.js";
 import type { TestName } from "./types.js";
 import { timesPowerOfTwo } from "../stats/powerOfTwoScale.js";
 
-/** The format tag of a site summary file. */
-export const SITE_SUMMARY_FORMAT = "arrowaudit-site-summary";
-/** The version of the format this code writes and reads. */
-export const SITE_SUMMARY_VERSION = 2;
+import { SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION } from "./siteSummaryFormat.js";
+export { SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION };
 /** Default and least `--min-cell`. */
 export const DEFAULT_MIN_CELL = 5;
 export const LEAST_MIN_CELL = 3;
