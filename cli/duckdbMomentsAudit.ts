@@ -55,7 +55,7 @@ import { chooseEngine, probeFile } from "./dataFormat.js";
 import type { Io } from "./io.js";
 import { checkClaimCount, MAX_TESTED_CLAIMS } from "./limits.js";
 import { loadGraph } from "./loadGraph.js";
-import { readOptionsFrom } from "./loadTable.js";
+import { readOptionsFrom } from "./readOptionsFrom.js";
 import { describe, identifier, NUMERIC_TYPES, openDuckdbSession, unreadable, type DuckdbSource } from "./readDuckdbTable.js";
 import { checkOneStdin, inputName } from "./readStdin.js";
 

@@ -3,7 +3,6 @@
  * or `--covariance matrix.csv --n N` in place of the data file. Reads and checks the files, matches
  * the matrix's names to the graph, and runs the audit on the matrix (`runAuditOnSummary`).
  */
-import type { Command } from "commander";
 import { InputError, UsageError } from "../src/errors.js";
 import { runAuditOnSummary, type SummaryAuditInput } from "../src/audit/runAudit.js";
 import type { AuditResult, AuditSettings } from "../src/audit/types.js";
@@ -18,17 +17,7 @@ import { checkInputFile, type NamedPath } from "./checkPaths.js";
 import { type Io, readInput, toolVersion } from "./io.js";
 import { checkClaimCount, MAX_TESTED_CLAIMS } from "./limits.js";
 import { loadGraph } from "./loadGraph.js";
-import { numberIn } from "./program.js";
 import { checkOneStdin, inputName, isStreamInput, readStreamBytes } from "./readStdin.js";
-
-/** The options of summary-statistics input, for `test` and `report`. */
-export const summaryOptions = (c: Command): Command =>
-  c
-    .option("--correlations <matrix.csv>", "audit a correlation matrix instead of a data file (square or lower-triangular, names as header and first column); needs --n")
-    .option("--covariance <matrix.csv>", "audit a covariance matrix instead of a data file (as --correlations); needs --n")
-    .option("--n <cases>", "with --correlations or --covariance: the number of complete cases the matrix was computed on", (v: string) => numberIn("--n", 1, 1e15, true)(v))
-    .option("--sd <sds.csv>", "with --correlations: standard deviations (name,sd per line, or names above values) that turn it into covariances")
-    .option("--counts <column>", "the data give one row per cell: this column holds each row's number of units (every test weights the rows by it)");
 
 /** Whether the options ask for summary-statistics input. */
 export function isSummaryInput(opts: Record<string, unknown>): boolean {

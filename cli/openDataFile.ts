@@ -10,7 +10,8 @@ import { UsageError } from "../src/errors.js";
 import { readFailure } from "./fileErrors.js";
 import { chooseEngine, probeFile } from "./dataFormat.js";
 import { type Io, readHead } from "./io.js";
-import { loadTable, readOptionsFrom } from "./loadTable.js";
+import { loadTable } from "./loadTable.js";
+import { readOptionsFrom } from "./readOptionsFrom.js";
 import type { DataSource } from "./readStdin.js";
 import { listDuckdbFields, readDuckdbTable, type DuckdbSource } from "./readDuckdbTable.js";
 

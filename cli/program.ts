@@ -8,16 +8,7 @@ import { join } from "node:path";
 import { UsageError } from "../src/errors.js";
 import { exitFor, EXIT } from "./exitCodes.js";
 import { type Io, packageRoot, toolVersion } from "./io.js";
-import { runClaims } from "./commands/claims.js";
-import { runTest } from "./commands/test.js";
-import { runSummarize } from "./commands/summarize.js";
-import { runReport } from "./commands/report.js";
-import { runDraw } from "./commands/draw.js";
-import { runSimulate } from "./commands/simulate.js";
-import { runSuggest } from "./commands/suggest.js";
-import { runPower } from "./commands/power.js";
-import { readOptionsFrom } from "./loadTable.js";
-import { summaryOptions } from "./loadSummary.js";
+import { readOptionsFrom } from "./readOptionsFrom.js";
 
 /** Parse a number option in [lo, hi]. */
 export function numberIn(name: string, lo: number, hi: number, integer = false) {
@@ -29,6 +20,15 @@ export function numberIn(name: string, lo: number, hi: number, integer = false) 
     return x;
   };
 }
+
+/** The options of summary-statistics input, for `test` and `report`. */
+const summaryOptions = (c: Command): Command =>
+  c
+    .option("--correlations <matrix.csv>", "audit a correlation matrix instead of a data file (square or lower-triangular, names as header and first column); needs --n")
+    .option("--covariance <matrix.csv>", "audit a covariance matrix instead of a data file (as --correlations); needs --n")
+    .option("--n <cases>", "with --correlations or --covariance: the number of complete cases the matrix was computed on", (v: string) => numberIn("--n", 1, 1e15, true)(v))
+    .option("--sd <sds.csv>", "with --correlations: standard deviations (name,sd per line, or names above values) that turn it into covariances")
+    .option("--counts <column>", "the data give one row per cell: this column holds each row's number of units (every test weights the rows by it)");
 
 const graphOptions = (c: Command): Command =>
   c
@@ -83,7 +83,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .option("--table <name>", "with --columns on a DuckDB database file: the table")
       .option("--max-sets <n>", "with --sets all-minimal: most separating sets listed per pair", numberIn("--max-sets", 1, 100000, true), 100),
   ).action(async (graph: string, opts: Record<string, unknown>) => {
-    state.code = await runClaims(io, graph, opts);
+    state.code = await (await import("./commands/claims.js")).runClaims(io, graph, opts);
   });
 
   summaryOptions(auditOptions(
@@ -97,7 +97,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
   )).action(async (graph: string, data: string[], opts: Record<string, unknown>) => {
     if (opts.json && opts.csv) throw new UsageError("choose one of --json and --csv");
-    state.code = await runTest(io, graph, data[0], opts, data.slice(1));
+    state.code = await (await import("./commands/test.js")).runTest(io, graph, data[0], opts, data.slice(1));
   });
 
   graphOptions(
@@ -123,7 +123,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .option("--quiet", "print nothing but errors", false)
       .hook("preAction", (_cmd, action) => void readOptionsFrom(action.opts(), "")),
   ).action(async (graph: string, data: string, opts: Record<string, unknown>) => {
-    state.code = await runSummarize(io, graph, data, opts);
+    state.code = await (await import("./commands/summarize.js")).runSummarize(io, graph, data, opts);
   });
 
   summaryOptions(auditOptions(
@@ -135,7 +135,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .requiredOption("--out <file>", "report file: .html, .md (drawing saved beside it as .svg) or .txt (the methods text alone, ready to paste); an existing file is overwritten")
       .option("--fail-on-contradiction", "exit with code 3 when any claim is contradicted", false),
   )).action(async (graph: string, data: string[], opts: Record<string, unknown>) => {
-    state.code = await runReport(io, graph, data[0], opts, argv, false, data.slice(1));
+    state.code = await (await import("./commands/report.js")).runReport(io, graph, data[0], opts, argv, false, data.slice(1));
   });
 
   program
@@ -147,7 +147,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
     .addOption(new Option("--format <format>", "graph file format").choices(["auto", "arrows", "dot"]).default("auto"))
     .option("--unmeasured <names>", "comma-separated nodes that are not in the data")
     .action(async (graph: string, opts: Record<string, unknown>) => {
-      state.code = await runDraw(io, graph, opts);
+      state.code = await (await import("./commands/draw.js")).runDraw(io, graph, opts);
     });
 
   summaryOptions(auditOptions(
@@ -160,7 +160,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .option("--out <file>", "write the revised graph (arrowaudit's graph format, each change with a comment)")
       .option("--json", "print the steps, candidates and revised graph as one JSON document", false),
   )).action(async (graph: string, data: string | undefined, opts: Record<string, unknown>) => {
-    state.code = await runSuggest(io, graph, data, opts);
+    state.code = await (await import("./commands/suggest.js")).runSuggest(io, graph, data, opts);
   });
 
   graphOptions(
@@ -178,7 +178,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
       .option("--json", "print one JSON document", false)
       .option("--ascii", "ASCII output only: claims as x indep y given a, b", false),
   ).action(async (graph: string, opts: Record<string, unknown>) => {
-    state.code = await runPower(io, graph, opts);
+    state.code = await (await import("./commands/power.js")).runPower(io, graph, opts);
   });
 
   program
@@ -199,7 +199,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
     .option("--unmeasured <names>", "comma-separated nodes to generate but not write")
     .option("--quiet", "print nothing but errors and the data", false)
     .action(async (graph: string, opts: Record<string, unknown>) => {
-      state.code = await runSimulate(io, graph, opts);
+      state.code = await (await import("./commands/simulate.js")).runSimulate(io, graph, opts);
     });
 
   auditOptions(
@@ -212,7 +212,7 @@ function buildProgram(io: Io, state: { code: number }, argv: string[]): Command 
     // The demo file codes missing BMI as -9 and missing blood pressure as 999, and has text education levels.
     opts.missing ??= "-9,999";
     opts.levels ??= "education=primary|secondary|tertiary";
-    state.code = await runReport(io, join(dir, "graph.txt"), join(dir, "cohort.csv"), { ...opts, printSummary: true }, argv, true);
+    state.code = await (await import("./commands/report.js")).runReport(io, join(dir, "graph.txt"), join(dir, "cohort.csv"), { ...opts, printSummary: true }, argv, true);
   });
   return program;
 }

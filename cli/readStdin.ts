@@ -16,7 +16,7 @@ import { decodeHead } from "../src/data/readHeader.js";
 import { readTable } from "../src/data/readTable.js";
 import type { Table } from "../src/data/Table.js";
 import type { Io } from "./io.js";
-import { readOptionsFrom } from "./loadTable.js";
+import { readOptionsFrom } from "./readOptionsFrom.js";
 import { openDataFile } from "./openDataFile.js";
 
 /** The file name that means standard input. */

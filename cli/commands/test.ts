@@ -13,7 +13,7 @@ import { checkInputFile } from "../checkPaths.js";
 import { type Io, toolVersion } from "../io.js";
 import { checkClaimCount, MAX_TESTED_CLAIMS } from "../limits.js";
 import { loadGraph } from "../loadGraph.js";
-import { readOptionsFrom } from "../loadTable.js";
+import { readOptionsFrom } from "../readOptionsFrom.js";
 import { checkOneStdin, inputName, openData } from "../readStdin.js";
 import { progressBar } from "../progress.js";
 import { auditSummary, isSummaryInput } from "../loadSummary.js";
