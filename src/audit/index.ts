@@ -5,7 +5,8 @@ export {
   summarizeSite, SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION, DEFAULT_MIN_CELL, LEAST_MIN_CELL,
   type SiteSummary, type SiteSummarySettings, type SiteVariable, type ClaimSummary, type MomentsClaimSummary, type TablesClaimSummary, type UntestableClaimSummary, type SummarizeOptions,
 } from "./siteSummary.js";
-export { parseSiteSummary, checkSitesAgree, poolSiteSummaries, poolMoments, poolTables, type SiteSummaryFile } from "./poolSiteSummaries.js";
+export { parseSiteSummary, checkSitesAgree, checkPoolAgrees, poolSiteSummaries, poolSitePool, poolMoments, poolTables, type SiteSummaryFile } from "./poolSiteSummaries.js";
+export { SitePoolBuilder, poolSites, type SitePool, type SiteInfo, type ClaimPool } from "./sitePool.js";
 export type { AuditResult, AuditSettings, Claim, GlobalTest, TestedClaim, TestName, TestOutcome, UntestableClaim, VariableSummary, Verdict } from "./types.js";
 export type { ClaimTypes, MethodResult, TestContext, TestMethod } from "./TestMethod.js";
 export { METHODS, chooseMethod } from "./methods/index.js";

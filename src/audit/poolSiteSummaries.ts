@@ -42,7 +42,7 @@ import type { CompactStratum } from "./methods/groupRows.js";
 import { linearAdjustment } from "./methods/adjustmentDetails.js";
 import type { MethodResult, TestContext } from "./TestMethod.js";
 import type { AuditResult, Claim } from "./types.js";
-import { runAuditWithTester, type AuditOptions } from "./runAudit.js";
+import { runAuditWithTester, type AuditOptions, type ClaimTesterInput } from "./runAudit.js";
 import { lrOutcome } from "./methods/regressionLr.js";
 import { gaussianLRFromMoments } from "../stats/gaussianLRFromMoments.js";
 import { poolScoreClaims, type ScoreClaimSummary } from "./siteRegressionScore.js";
@@ -366,8 +366,23 @@ export function poolSiteSummaries(graph: Graph, graphSha256: string, graphFile: 
  * @throws as {@link checkSitesAgree}
  */
 export function poolSitePool(graph: Graph, graphSha256: string, graphFile: string, pool: SitePool, options: AuditOptions = {}): AuditResult {
+  checkPoolAgrees(graphSha256, graphFile, pool.sites);
+  return withPooledWarnings(runAuditWithTester(graph, pooledTesterInput(pool), pooledOptions(pool, options)), pool);
+}
+
+/** The audit options of a pooled run: the sets, method and listwise choice are the summaries'. */
+function pooledOptions(pool: SitePool, options: AuditOptions): AuditOptions {
+  const first = pool.sites[0]!;
+  return { ...options, settings: { ...options.settings, sets: first.settings.sets, method: first.settings.method, listwise: first.settings.listwise } };
+}
+
+/**
+ * What the audit of a site pool tests claims with (`runAuditWithTester`): a table of the sites'
+ * variables (no rows), moments for the record, the source, and the pooled test of each claim from
+ * its claim pool. The pool's sites must agree ({@link checkPoolAgrees}). Cost: O(claims).
+ */
+function pooledTesterInput(pool: SitePool): ClaimTesterInput {
   const sites = pool.sites;
-  checkPoolAgrees(graphSha256, graphFile, sites);
   const first = sites[0]!;
   const names = sites.map((s) => s.site);
   const total = sites.reduce((a, s) => a + s.n, 0);
@@ -424,9 +439,14 @@ export function poolSitePool(graph: Graph, graphSha256: string, graphFile: strin
     if (dropped.strata > 0) warnings.push(`${dropped.strata} strata (${dropped.rows} rows) were dropped at the sites for a cell below --min-cell ${first.settings.min_cell}`);
     return { ok: true, outcome: { ...r.outcome, ...(warnings.length ? { warnings } : {}) } };
   };
-  const settings = { ...options.settings, sets: first.settings.sets, method: first.settings.method, listwise: first.settings.listwise };
   const source = { kind: "sites" as const, n: total, sites: sites.map((s) => ({ site: s.site, file: s.file, n: s.n })) };
-  const result = runAuditWithTester(graph, { table, moments, source, test }, { ...options, settings });
+  return { table, moments, source, test };
+}
+
+/** The pooled run's warnings: the tests the claims got, and the rows left out at the sites. */
+function withPooledWarnings(result: AuditResult, pool: SitePool): AuditResult {
+  const sites = pool.sites;
+  const first = sites[0]!;
   const flexible = result.claims.filter((c) => c.test === "gcm" && c.details?.sites !== undefined).length;
   if (flexible > 0) {
     result.warnings.push(`${flexible} claim${flexible > 1 ? "s" : ""} with a continuous variable got the flexible test (gcm) pooled from the sites' residual sums, with the adjustment for the set fitted at each site on its own rows (the set interacted with site)`);
