@@ -1,4 +1,4 @@
-import { runAuditParallel } from "../../src/audit/runAudit.js";
+import { runAuditOnCounts, runAuditParallel } from "../../src/audit/runAudit.js";
 import type { AuditResult, AuditSettings } from "../../src/audit/types.js";
 import type { Graph } from "../../src/graph/Graph.js";
 import type { Table } from "../../src/data/Table.js";
@@ -18,7 +18,7 @@ import { checkOneStdin, inputName, openData } from "../readStdin.js";
 import { progressBar } from "../progress.js";
 import { auditSummary, isSummaryInput } from "../loadSummary.js";
 import { findCountsColumn } from "../countsColumn.js";
-import { expandCounts } from "../../src/data/expandCounts.js";
+import { countsTable, expandCounts, type CountsOptions } from "../../src/data/expandCounts.js";
 import { UsageError } from "../../src/errors.js";
 import { auditSites, isSiteSummaryFile } from "../loadSiteSummaries.js";
 import { auditFromDuckdbMoments } from "../duckdbMomentsAudit.js";
@@ -50,17 +50,30 @@ export async function audit(io: Io, graphPath: string, dataPath: string | undefi
   // --method linear on a Parquet file or DuckDB table: the moments from SQL, no rows loaded (undefined when the run does not qualify)
   const rowsFree = await auditFromDuckdbMoments(io, graphPath, dataPath, opts, settingsFrom(opts), toolVersion());
   if (rowsFree) return rowsFree;
-  const { graph, table } = await loadAuditInputs(io, graphPath, dataPath, opts);
+  const { graph, table, counts } = await readAuditInputs(io, graphPath, dataPath, opts);
   const bar = progressBar(io, !!opts.quiet);
   try {
-    return await runAuditParallel(graph, table, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update, helper: claimHelper, buildMoments: (t, o) => parallelPatternMoments(t, o) });
+    if (counts) {
+      // --counts: every claim tested from tables of counts when every test allows it, else one row per unit
+      const cells = countsTable(table, counts.name, counts.options);
+      const counted = runAuditOnCounts(graph, cells.table, cells.weights, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update });
+      if (counted) return counted;
+    }
+    const rows = counts ? expandCounts(table, counts.name, counts.options) : table;
+    return await runAuditParallel(graph, rows, { settings: settingsFrom(opts), version: toolVersion(), onProgress: bar.update, helper: claimHelper, buildMoments: (t, o) => parallelPatternMoments(t, o) });
   } finally {
     bar.done();
   }
 }
 
-/** Check the paths, read the graph, check the data file's header against it and read the measured columns (shared by the commands that audit). */
+/** Check the paths, read the graph, check the data file's header against it and read the measured columns, with `--counts` expanded to one row per unit (shared by the commands that audit). */
 export async function loadAuditInputs(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<{ graph: Graph; table: Table }> {
+  const { graph, table, counts } = await readAuditInputs(io, graphPath, dataPath, opts);
+  return { graph, table: counts ? expandCounts(table, counts.name, counts.options) : table };
+}
+
+/** {@link loadAuditInputs} with `--counts` not expanded: the table of cells with its count column, and where that column is. */
+async function readAuditInputs(io: Io, graphPath: string, dataPath: string, opts: Record<string, unknown>): Promise<{ graph: Graph; table: Table; counts?: { name: string; options: CountsOptions } }> {
   checkOneStdin({ graph: graphPath, data: dataPath });
   checkInputFile(io, { path: graphPath, role: "graph file" });
   checkInputFile(io, { path: dataPath, role: "data file" });
@@ -71,9 +84,9 @@ export async function loadAuditInputs(io: Io, graphPath: string, dataPath: strin
   const { delimiter } = readOptionsFrom(opts, data.name);
   const header = data.fields ?? readHeader(data.head, { file: data.name, ...(delimiter ? { delimiter } : {}) });
   checkColumns(graph, header, { file: data.name });
-  const counts = findCountsColumn(graph, header, opts, data.name); // --counts: one row per cell, expanded to one per unit
+  const counts = findCountsColumn(graph, header, opts, data.name); // --counts: one row per cell with its number of units
   const table = await data.load(counts ? [...measured, counts.name] : measured);
-  return { graph, table: counts ? expandCounts(table, counts.name, { file: data.name, field: counts.field }) : table };
+  return { graph, table, ...(counts ? { counts: { name: counts.name, options: { file: data.name, field: counts.field } } } : {}) };
 }
 
 /** `arrowaudit test <graph> <data>`. */

@@ -18,6 +18,13 @@ export interface TestContext {
   moments: PatternMoments;
   /** When set, only these rows may be used (listwise deletion); otherwise complete cases per claim. */
   rowFilter?: Uint8Array;
+  /**
+   * Units per row, when the data give one row per cell with a count (`--counts`): a row stands for
+   * that many units, and a row of weight 0 for none. Only the table methods (`stratified-chisq`,
+   * `linear-by-linear`) read it; `runAuditOnCounts` runs an audit with weights only when every
+   * claim takes one of them, and the others see the table expanded to one row per unit instead.
+   */
+  weights?: Float64Array;
   /** Seed for Monte-Carlo p-values; a method derives its own stream from (seed, claim). */
   seed: number;
   /** Cap on the Monte-Carlo draws of a claim, and permutation p-values forced (--permutations), if given. */

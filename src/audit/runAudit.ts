@@ -290,6 +290,89 @@ export function runAuditOnSummary(graph: Graph, input: SummaryAuditInput, option
   return finishAudit(graph, table, plan, results, forced);
 }
 
+/** Methods that test a claim from its tables of counts alone, which `runAuditOnCounts` can run on weighted rows. */
+const TABLE_METHODS: ReadonlySet<string> = new Set(["stratified-chisq", "linear-by-linear"]);
+
+/**
+ * {@link runAudit} of data given as one row per cell with a count (`--counts`), without copying
+ * each row once per unit, when every claim takes a test of tables of counts (`stratified-chisq`,
+ * `linear-by-linear`): every measured variable categorical, and `--method auto` or `chisq`.
+ * `table` holds the cells (the count column left out: `countsTable`), `weights` their counts. The
+ * tests group the cells with their counts as weights (`groupStrata`), and what the audit counts
+ * from rows is counted in units: n, the constant and identifier-like variables (rows of count 0
+ * left out), the missing values, the missing-data patterns and the rows used. The result is that
+ * of {@link runAudit} on the table expanded to one row per unit (`expandCounts`), field for field
+ * (tested), at a cost in cells instead of units.
+ * Cost: O(cells · variables) per claim, plus what `runAudit` adds.
+ * @returns undefined when some claim needs another test: expand the table and run {@link runAudit}
+ * @throws UnknownNodeError as {@link runAudit}
+ * @example runAuditOnCounts(graph, cells.table, cells.weights)?.data.rows // the sum of the counts
+ */
+export function runAuditOnCounts(graph: Graph, table: Table, weights: Float64Array, options: AuditOptions = {}): AuditResult | undefined {
+  if (weights.length !== table.rows) throw new RangeError(`weights has ${weights.length} entries but the table has ${table.rows} rows; pass one count per row`);
+  const claimPlan = planClaims(graph, table, options, undefined, weights);
+  if (!claimPlan.claims.every((c) => precheck(c, claimPlan.constant) !== undefined || TABLE_METHODS.has(methodOf(c, table, claimPlan.settings).name))) return undefined;
+  const units = new Uint8Array(table.rows);
+  for (let r = 0; r < table.rows; r++) units[r] = weights[r]! > 0 && (!claimPlan.rowFilter || claimPlan.rowFilter[r]) ? 1 : 0;
+  const variables = claimPlan.measured.filter((n) => !claimPlan.identifiers.has(n));
+  const plan = withBuiltMoments(claimPlan, table, weightedPatterns(table, variables, units, weights));
+  plan.ctx.weights = weights;
+  const results = plan.claims.map((claim, i) => {
+    const r = precheck(claim, plan.constant) ?? testClaimMethod(claim, plan.ctx, plan.settings);
+    options.onProgress?.(i + 1, plan.claims.length);
+    return r;
+  });
+  refineMonteCarlo(plan, results);
+  // the table as its expansion would describe it: rows and missing values in units
+  let total = 0;
+  for (let r = 0; r < table.rows; r++) total += weights[r]!;
+  const columns = table.columns.map((c) => {
+    let missing = 0;
+    for (let r = 0; r < table.rows; r++) if (Number.isNaN(c.values[r]!)) missing += weights[r]!;
+    return { ...c, missing };
+  });
+  const byName = new Map(columns.map((c) => [c.name, c]));
+  const described: Table = { ...table, rows: total, columns, column: (name) => byName.get(name) };
+  return finishAudit(graph, described, plan, results, options);
+}
+
+/**
+ * The missing-data patterns of `variables` over the rows `units` lets through, each counted in
+ * units (`weights`), in order of first appearance, as {@link PatternMoments} that hold no moments
+ * (the table tests read none). Cost: O(rows · variables).
+ */
+function weightedPatterns(table: Table, variables: readonly string[], units: Uint8Array, weights: Float64Array): PatternMoments {
+  const columns = variables.map((v) => table.column(v)!.values);
+  const index = new Map<string, number>();
+  const observed: string[][] = [];
+  const rows: number[] = [];
+  for (let r = 0; r < table.rows; r++) {
+    if (!units[r]) continue;
+    let key = "";
+    for (const v of columns) key += Number.isNaN(v[r]!) ? "0" : "1";
+    let p = index.get(key);
+    if (p === undefined) {
+      p = rows.length;
+      index.set(key, p);
+      observed.push(variables.filter((_, j) => key[j] === "1"));
+      rows.push(0);
+    }
+    rows[p] = rows[p]! + weights[r]!;
+  }
+  const complete = observed.reduce((n, o, p) => (o.length === variables.length ? n + rows[p]! : n), 0);
+  const none = (): never => {
+    throw new Error("internal: an audit of counted rows holds no pattern moments; only table tests run on it");
+  };
+  return {
+    patterns: rows.length,
+    completeRows: complete,
+    patternList: () => observed.map((o, p) => ({ observed: o, rows: rows[p]! })),
+    momentsFor: none,
+    columnsOf: () => [],
+    momentsForColumns: none,
+  };
+}
+
 /** Pattern moments computed where the data live (`data/patternSumsMoments.ts`), with a table description and the checks made there. */
 export interface MomentsAuditInput {
   /** The variables' types, rows and missing counts; no row values. */
@@ -468,7 +551,7 @@ type ClaimPlan = Omit<AuditPlan, "moments" | "ctx"> & { rowFilter?: Uint8Array }
  * constant-column check). `untestableVariables`, when given, replaces the checks on the rows
  * (constant and identifier-like columns) with the caller's reasons (summary statistics have no rows).
  */
-function planClaims(graph: Graph, table: Table, options: AuditOptions, untestableVariables?: ReadonlyMap<string, string>): ClaimPlan {
+function planClaims(graph: Graph, table: Table, options: AuditOptions, untestableVariables?: ReadonlyMap<string, string>, weights?: Float64Array): ClaimPlan {
   const settings: AuditSettings = { ...DEFAULT_SETTINGS, ...options.settings };
   const measured = graph.nodes.filter((n) => graph.isMeasured(n));
   const missingCols = measured.filter((n) => !table.column(n));
@@ -491,10 +574,10 @@ function planClaims(graph: Graph, table: Table, options: AuditOptions, untestabl
   if (truncatedPairs > 0) warnings.push(`${truncatedPairs} pair${truncatedPairs > 1 ? "s have" : " has"} more than ${MAX_SETS_PER_PAIR} minimal separating sets; only ${MAX_SETS_PER_PAIR} of each were tested`);
 
   const rowFilter = settings.listwise ? listwiseFilter(table, measured) : undefined;
-  const constant = untestableVariables ? new Map(untestableVariables) : constantColumns(table, measured, rowFilter);
+  const constant = untestableVariables ? new Map(untestableVariables) : constantColumns(table, measured, rowFilter, weights);
   // identifier-like categorical columns (about one row per level): no test can use them, and their
   // level indicators would make the moments as wide as the table is long
-  const identifiers = untestableVariables ? new Map<string, string>() : findHighCardinalityColumns(table, measured);
+  const identifiers = untestableVariables ? new Map<string, string>() : findHighCardinalityColumns(table, measured, weights);
   for (const [name, reason] of identifiers) if (!constant.has(name)) constant.set(name, reason);
   const decisionFloor = settings.adjust === "none" ? settings.alpha : settings.alpha / Math.max(1, claims.length);
   return { settings, decisionFloor, measured, claims, graphUntestable: graphUntestable.map((u) => ({ ...u })), warnings, constant, identifiers: new Set(identifiers.keys()), ...(rowFilter ? { rowFilter } : {}) };
@@ -776,15 +859,15 @@ function precheck(claim: Claim, constant: Map<string, string>): MethodResult | u
   return undefined;
 }
 
-/** Variables with fewer than two distinct observed values (among the rows allowed). */
-function constantColumns(table: Table, names: readonly string[], rowFilter?: Uint8Array): Map<string, string> {
+/** Variables with fewer than two distinct observed values (among the rows allowed, and of positive weight when the rows have weights). */
+function constantColumns(table: Table, names: readonly string[], rowFilter?: Uint8Array, weights?: Float64Array): Map<string, string> {
   const out = new Map<string, string>();
   for (const name of names) {
     const v = table.column(name)!.values;
     let first = NaN;
     let distinct = 0;
     for (let r = 0; r < v.length; r++) {
-      if (rowFilter && !rowFilter[r]) continue;
+      if ((rowFilter && !rowFilter[r]) || weights?.[r] === 0) continue;
       const x = v[r]!;
       if (Number.isNaN(x)) continue;
       if (distinct === 0) {

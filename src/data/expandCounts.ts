@@ -9,6 +9,8 @@
  * permutations of units alike, with no method left out. The cost is memory for n rows, so the
  * expansion is refused above {@link MAX_EXPANDED_CELLS} cells (units × columns). Types and levels
  * were inferred from the file's rows before the expansion, rows of count 0 included.
+ * When every claim is tested from tables of counts, the audit needs no expansion: {@link countsTable}
+ * gives the rows with their counts as weights, for `runAuditOnCounts`.
  */
 import { DataError } from "../errors.js";
 import type { Column, Table } from "./Table.js";
@@ -26,14 +28,13 @@ export interface CountsOptions {
 }
 
 /**
- * Expand a table of counts to one row per unit (see the module comment); the count column is left
- * out of the result, and a warning records the expansion.
- * Cost: O(n · columns) time and memory for n units.
+ * The count of every row of `table` in its column `countColumn`, and their sum (the units).
+ * Cost: O(rows).
  * @throws DataError naming the file, the row and the column when a count is missing, text,
- *   negative or not a whole number, or when the expansion would exceed {@link MAX_EXPANDED_CELLS}
- * @example expandCounts(table, "n", { file: "cells.csv" }).rows // the sum of the column "n"
+ *   negative or not a whole number
+ * @example readCounts(table, "n", { file: "cells.csv" }).units // the sum of the column "n"
  */
-export function expandCounts(table: Table, countColumn: string, options: CountsOptions): Table {
+export function readCounts(table: Table, countColumn: string, options: CountsOptions): { counts: Float64Array; units: number } {
   const { file } = options;
   const col = table.column(countColumn);
   if (!col) throw new DataError(`${file}: the count column "${countColumn}" was not read; this is a bug, please report it`, { file });
@@ -67,6 +68,21 @@ export function expandCounts(table: Table, countColumn: string, options: CountsO
     counts[r] = v;
     n += v;
   }
+  return { counts, units: n };
+}
+
+/**
+ * Expand a table of counts to one row per unit (see the module comment); the count column is left
+ * out of the result, and a warning records the expansion.
+ * Cost: O(n · columns) time and memory for n units.
+ * @throws DataError naming the file, the row and the column when a count is missing, text,
+ *   negative or not a whole number, or when the expansion would exceed {@link MAX_EXPANDED_CELLS}
+ * @example expandCounts(table, "n", { file: "cells.csv" }).rows // the sum of the column "n"
+ */
+export function expandCounts(table: Table, countColumn: string, options: CountsOptions): Table {
+  const { file } = options;
+  const { counts, units: n } = readCounts(table, countColumn, options);
+  const col = table.column(countColumn)!;
   const kept = table.columns.filter((c) => c !== col);
   if (n * Math.max(1, kept.length) > MAX_EXPANDED_CELLS) {
     throw new DataError(
@@ -99,5 +115,27 @@ export function expandCounts(table: Table, countColumn: string, options: CountsO
     columns,
     warnings: [...table.warnings, note],
     column: (name) => byName.get(name),
+  };
+}
+
+/**
+ * The table of cells with its counts as weights, for the audits that count each row as its units
+ * without copying it (`runAuditOnCounts`: every claim tested from tables of counts): the count
+ * column is left out, the rows stay one per cell, and a warning records the counts as
+ * `expandCounts` records the expansion. Cost: O(rows).
+ * @throws as {@link readCounts}
+ * @example countsTable(table, "n", { file: "cells.csv" }).units // the sum of the column "n"
+ */
+export function countsTable(table: Table, countColumn: string, options: CountsOptions): { table: Table; weights: Float64Array; units: number } {
+  const { counts, units } = readCounts(table, countColumn, options);
+  const col = table.column(countColumn)!;
+  const columns = table.columns.filter((c) => c !== col);
+  const byName = new Map(columns.map((c) => [c.name, c]));
+  const zero = counts.reduce((z, v) => z + (v === 0 ? 1 : 0), 0);
+  const note = `${table.rows.toLocaleString("en-US")} rows of ${options.file} stand for ${units.toLocaleString("en-US")} units by the counts in "${countColumn}"${zero > 0 ? ` (${zero.toLocaleString("en-US")} rows of count 0 add none)` : ""}; every claim was tested from tables of counts, each row counted as its units`;
+  return {
+    table: { ...(table.file !== undefined ? { file: table.file } : {}), rows: table.rows, columns, warnings: [...table.warnings, note], column: (name) => byName.get(name) },
+    weights: counts,
+    units,
   };
 }

@@ -14,10 +14,11 @@ export const HIGH_CARDINALITY_MIN_LEVELS = 50;
 
 /**
  * The observed levels and rows of a high-cardinality categorical column, or undefined (for a
- * continuous column too). Cost: O(rows).
+ * continuous column too); with `weights` (units per row, as `--counts` gives them), rows are
+ * counted as their units and rows of weight 0 left out. Cost: O(rows).
  * @example highCardinality(table.column("pid")!) // { levels: 200, observed: 200 }
  */
-export function highCardinality(column: Column): { levels: number; observed: number } | undefined {
+export function highCardinality(column: Column, weights?: Float64Array): { levels: number; observed: number } | undefined {
   const codes = column.codes;
   if (column.type === "continuous" || codes === undefined || column.levels === undefined) return undefined;
   if (column.levels.length <= HIGH_CARDINALITY_MIN_LEVELS) return undefined;
@@ -26,8 +27,8 @@ export function highCardinality(column: Column): { levels: number; observed: num
   let observed = 0;
   for (let i = 0; i < codes.length; i++) {
     const c = codes[i]!;
-    if (c < 0) continue;
-    observed++;
+    if (c < 0 || weights?.[i] === 0) continue;
+    observed += weights ? weights[i]! : 1;
     if (seen[c] === 0) {
       seen[c] = 1;
       levels++;
@@ -47,14 +48,14 @@ export function highCardinalityReason(name: string, levels: number, observed: nu
 
 /**
  * The high-cardinality columns among `names` (default: every column), each with the reason a
- * claim involving it is untestable (see {@link highCardinalityReason}). Cost: O(rows · columns).
+ * claim involving it is untestable (see {@link highCardinalityReason}); `weights` as for {@link highCardinality}. Cost: O(rows · columns).
  * @example findHighCardinalityColumns(table, ["pid", "age"]) // Map { "pid" => "\"pid\" has 200 levels ..." }
  */
-export function findHighCardinalityColumns(table: Table, names?: readonly string[]): Map<string, string> {
+export function findHighCardinalityColumns(table: Table, names?: readonly string[], weights?: Float64Array): Map<string, string> {
   const out = new Map<string, string>();
   for (const name of names ?? table.columns.map((c) => c.name)) {
     const column = table.column(name);
-    const found = column && highCardinality(column);
+    const found = column && highCardinality(column, weights);
     if (found) out.set(name, highCardinalityReason(name, found.levels, found.observed));
   }
   return out;

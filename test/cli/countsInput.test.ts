@@ -73,6 +73,46 @@ describe("--counts gives the audit of the data expanded to one row per unit", ()
   });
 });
 
+describe("--counts on categorical variables only: tested from tables of counts, without one row per unit", () => {
+  for (const method of ["auto", "chisq"]) {
+    it(`test --counts n --method ${method} with the continuous nodes unmeasured equals test on pandas' expansion, but for the line about the counts`, async () => {
+      const args = ["--method", method, "--unmeasured", "score,y"];
+      const counted = await auditJson(["cells.csv", "--counts", "n", ...args]);
+      const expanded = await auditJson(["expanded.csv", ...args]);
+      expect(counted.claims.length).toBeGreaterThan(0);
+      expect(counted.claims.every((c) => c.test === "stratified-chisq" || c.test === "linear-by-linear")).toBe(true);
+      expect(counted.claims).toEqual(expanded.claims);
+      expect(counted.untestable).toEqual(expanded.untestable);
+      expect(counted.global).toEqual(expanded.global);
+      expect(counted.variables).toEqual(expanded.variables);
+      expect({ ...counted.data, file: "" }).toEqual({ ...expanded.data, file: "" });
+      const note = counted.warnings.find((w) => /stand for/.test(w));
+      expect(note).toMatch(new RegExp(`^150 rows of cells\\.csv stand for ${counted.data.rows} units by the counts in "n" \\(\\d+ rows? of count 0 add none\\); every claim was tested from tables of counts, each row counted as its units$`));
+      expect(counted.warnings.filter((w) => w !== note)).toEqual(expanded.warnings);
+    });
+  }
+
+  it("counts adding up to more units than the expansion takes (3·10^9) are audited from their cells", async () => {
+    const rows = ["sex,edu,region,n"];
+    let units = 0;
+    for (const [i, sex] of ["female", "male"].entries()) {
+      for (const edu of [1, 2, 3]) {
+        for (const [k, region] of ["east", "north", "west"].entries()) {
+          const n = 150_000_000 + 1_000_003 * (i + 2 * edu + 5 * k) + (sex === "male" && region === "west" ? 20_000_000 : 0);
+          rows.push(`${sex},${edu},${region},${n}`);
+          units += n;
+        }
+      }
+    }
+    writeFileSync(join(dir, "big.csv"), rows.join("\n") + "\n");
+    const r = await auditJson(["big.csv", "--counts", "n", "--unmeasured", "score,y"]);
+    expect(r.data.rows).toBe(units);
+    expect(units * 3).toBeGreaterThan(1e8);
+    expect(r.claims.length).toBeGreaterThan(0);
+    expect(r.claims.every((c) => c.n === units)).toBe(true);
+  });
+});
+
 describe("--counts errors", () => {
   const cells = (counts: string[]) => ["a,b,n", ...counts.map((c, i) => `${i % 3},${(i * 7) % 5}.5,${c}`)].join("\n") + "\n";
   const graph = "a -> b\n";

@@ -13,6 +13,9 @@
  * A *stratum* of a claim x ⫫ y | given is one combination of the given variables' codes seen
  * among the complete cases (a single stratum when nothing is given); its *compact table* counts
  * the complete cases by (x level, y level) over the levels seen in that stratum only.
+ * *Weights* (data given as counts, `--counts`): a row of weight w stands for w units, so it adds
+ * w to its group's count and to n, and a row of weight 0 is no complete case at all: the groups,
+ * strata and their order are then those of the table with each row repeated w times.
  */
 import type { Column } from "../../data/Table.js";
 
@@ -117,18 +120,41 @@ function addCodes(key: Int32Array, codes: Int32Array, rows: number, radix: numbe
   }
 }
 
+/** The row filter that also leaves out rows of weight 0 (they stand for no unit). */
+function unitRows(rows: number, rowFilter: Uint8Array | undefined, weights: Float64Array): Uint8Array {
+  const out = new Uint8Array(rows);
+  for (let r = 0; r < rows; r++) out[r] = weights[r]! > 0 && (!rowFilter || rowFilter[r]) ? 1 : 0;
+  return out;
+}
+
+/** The grouping `g` of rows with each row counted as its weight (the groups' counts and n summed in row order). */
+function weighted(g: GroupedRows, weights: Float64Array): GroupedRows {
+  const counts = new Float64Array(g.groups);
+  let n = 0;
+  const rg = g.rowGroup;
+  for (let r = 0; r < rg.length; r++) {
+    const k = rg[r]!;
+    if (k < 0) continue;
+    counts[k] = counts[k]! + weights[r]!;
+    n += weights[r]!;
+  }
+  return { ...g, n, counts };
+}
+
 /**
- * Group the complete cases of categorical columns into distinct code combinations with counts.
+ * Group the complete cases of categorical columns into distinct code combinations with counts
+ * (with `weights`, each row counted as its weight; see the module comment).
  * Cost: O(rows · k) time for k columns, O(rows) memory.
  * @throws TypeError when a column has no `codes` (it is not categorical)
  * @example
  * const g = groupRows([sex, smoker]);
  * g.groups; // at most levels(sex) × levels(smoker)
  */
-export function groupRows(columns: readonly Column[], rows: number, rowFilter?: Uint8Array): GroupedRows {
+export function groupRows(columns: readonly Column[], rows: number, rowFilter?: Uint8Array, weights?: Float64Array): GroupedRows {
   for (const c of columns) {
     if (!c.codes || !c.levels) throw new TypeError(`column "${c.name}" is ${c.type}, not categorical; group only binary, ordinal or nominal columns`);
   }
+  if (weights) return weighted(groupRows(columns, rows, unitRows(rows, rowFilter, weights)), weights);
   let range = 1;
   for (const c of columns) range *= Math.max(1, c.levels!.length);
   if (range <= DIRECT_LIMIT) {
@@ -227,8 +253,8 @@ export interface GroupedStrata {
 /**
  * Group the complete cases of categorical x, y and given variables into one compact x × y table
  * per stratum (a stratum is one combination of the given variables' codes seen among the
- * complete cases). Strata are numbered one given variable at a time in order of first
- * appearance, and a table's rows and columns list the x and y levels in the order the stratum's
+ * complete cases; with `weights`, each row counted as its weight). Strata are numbered one given
+ * variable at a time in order of first appearance, and a table's rows and columns list the x and y levels in the order the stratum's
  * groups first show them.
  * Cost: O(rows · (k + 2)) for grouping (see {@link groupRows}) plus O(groups) for the tables.
  * @throws TypeError when a column is not categorical
@@ -236,8 +262,8 @@ export interface GroupedStrata {
  * const { n, strata } = groupStrata(sex, admitted, [dept], table.rows);
  * strata[0]!.counts; // the first department's sex × admitted counts
  */
-export function groupStrata(x: Column, y: Column, given: readonly Column[], rows: number, rowFilter?: Uint8Array): GroupedStrata {
-  const g = groupRows([...given, x, y], rows, rowFilter);
+export function groupStrata(x: Column, y: Column, given: readonly Column[], rows: number, rowFilter?: Uint8Array, weights?: Float64Array): GroupedStrata {
+  const g = groupRows([...given, x, y], rows, rowFilter, weights);
   const k = given.length;
   // Dense stratum id per group, one given variable at a time.
   const stratumOf = new Int32Array(g.groups);

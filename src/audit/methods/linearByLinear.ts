@@ -176,7 +176,7 @@ export function runLinearByLinear(claim: Claim, ctx: TestContext): MethodResult 
   if ("reason" in xs) return { ok: false, reason: xs.reason };
   const ys = levelScores(y, ctx.table.rows);
   if ("reason" in ys) return { ok: false, reason: ys.reason };
-  const { n, strata: tables } = groupStrata(x, y, given, ctx.table.rows, ctx.rowFilter);
+  const { n, strata: tables } = groupStrata(x, y, given, ctx.table.rows, ctx.rowFilter, ctx.weights);
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
   const strata: ScoredStratum[] = tables.map((t) => ({
     rows: t.rows,

@@ -155,7 +155,7 @@ export function runStratifiedChisq(claim: Claim, ctx: TestContext): MethodResult
     cols.push(col);
   }
   const [x, y, ...given] = cols as [Column, Column, ...Column[]];
-  const { n, strata: tables, twoByTwo: mh } = groupStrata(x, y, given, ctx.table.rows, ctx.rowFilter);
+  const { n, strata: tables, twoByTwo: mh } = groupStrata(x, y, given, ctx.table.rows, ctx.rowFilter, ctx.weights);
   if (n === 0) return { ok: false, reason: `no row has all of ${quoted(names)} observed` };
   return testStrata(claim, n, tables, mh, ctx);
 }
