@@ -85,6 +85,22 @@ describe("runAuditOnCounts against the audit of the expanded table", () => {
     expect(JSON.stringify(withoutNote(counted))).toBe(JSON.stringify(withoutNote(expanded)));
   });
 
+  it("edges: every count 0 (no unit: nothing observed), and an identifier-like column of 60 levels (one unit each, or many units each)", () => {
+    const none = cellsOf(8, 40, 5, 0);
+    none.n = none.n!.map(() => 0);
+    const empty = bothWays(none, {});
+    expect(empty.counted.data.rows).toBe(0);
+    expect(JSON.stringify(withoutNote(empty.counted))).toBe(JSON.stringify(withoutNote(empty.expanded)));
+    for (const per of [1, 3]) {
+      const ids = cellsOf(9, 120, 5, 0.02);
+      ids.f = ids.f!.map((_, i) => `id${i % 60}`);
+      ids.n = ids.n!.map((_, i) => (i < 60 ? per : 0));
+      const { counted, expanded } = bothWays(ids, {});
+      expect(counted.untestable.some((u) => /"f" has 60 levels/.test(u.reason))).toBe(per === 1);
+      expect(JSON.stringify(withoutNote(counted))).toBe(JSON.stringify(withoutNote(expanded)));
+    }
+  });
+
   it("counts of more units than expandCounts takes (2·10^7 units of 6 variables) are tested from their 60 cells", () => {
     const data = cellsOf(6, 60, 40, 0.02);
     data.n = data.n!.map((v, i) => (v === 0 ? 0 : 400_000 + i));
