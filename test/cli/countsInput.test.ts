@@ -41,6 +41,18 @@ async function auditJson(args: string[]): Promise<AuditResult> {
   return JSON.parse(r.stdout) as AuditResult;
 }
 
+/** The audit of cells.csv with --counts equals the one of expanded.csv field for field, but for the line about the counts, which ends with `noteTail`. */
+function expectSameAudit(counted: AuditResult, expanded: AuditResult, noteTail: string): void {
+  expect(counted.claims).toEqual(expanded.claims);
+  expect(counted.untestable).toEqual(expanded.untestable);
+  expect(counted.global).toEqual(expanded.global);
+  expect(counted.variables).toEqual(expanded.variables);
+  expect({ ...counted.data, file: "" }).toEqual({ ...expanded.data, file: "" });
+  const note = counted.warnings.find((w) => /stand for/.test(w));
+  expect(note).toMatch(new RegExp(`^150 rows of cells\\.csv stand for ${counted.data.rows} units by the counts in "n" \\(\\d+ rows? of count 0 add none\\); ${noteTail}$`));
+  expect(counted.warnings.filter((w) => w !== note)).toEqual(expanded.warnings);
+}
+
 describe("--counts gives the audit of the data expanded to one row per unit", () => {
   for (const method of ["auto", "linear", "rank", "chisq", "regression"]) {
     it(`test --counts n --method ${method} equals test on pandas' expansion, every claim field for field`, async () => {
@@ -48,15 +60,8 @@ describe("--counts gives the audit of the data expanded to one row per unit", ()
       const expanded = await auditJson(["expanded.csv", "--method", method]);
       expect(source).not.toBe("");
       expect(counted.claims.length + counted.untestable.length).toBeGreaterThan(0);
-      expect(counted.claims).toEqual(expanded.claims);
-      expect(counted.untestable).toEqual(expanded.untestable);
-      expect(counted.global).toEqual(expanded.global);
-      expect(counted.variables).toEqual(expanded.variables);
-      expect({ ...counted.data, file: "" }).toEqual({ ...expanded.data, file: "" });
       // n is the sum of the counts; the expansion is recorded
-      const note = counted.warnings.find((w) => /stand for/.test(w));
-      expect(note).toMatch(new RegExp(`^150 rows of cells\\.csv stand for ${counted.data.rows} units by the counts in "n" \\(\\d+ rows? of count 0 add none\\); every test sees one row per unit$`));
-      expect(counted.warnings.filter((w) => w !== note)).toEqual(expanded.warnings);
+      expectSameAudit(counted, expanded, "every test sees one row per unit");
     });
   }
 
@@ -81,14 +86,7 @@ describe("--counts on categorical variables only: tested from tables of counts, 
       const expanded = await auditJson(["expanded.csv", ...args]);
       expect(counted.claims.length).toBeGreaterThan(0);
       expect(counted.claims.every((c) => c.test === "stratified-chisq" || c.test === "linear-by-linear")).toBe(true);
-      expect(counted.claims).toEqual(expanded.claims);
-      expect(counted.untestable).toEqual(expanded.untestable);
-      expect(counted.global).toEqual(expanded.global);
-      expect(counted.variables).toEqual(expanded.variables);
-      expect({ ...counted.data, file: "" }).toEqual({ ...expanded.data, file: "" });
-      const note = counted.warnings.find((w) => /stand for/.test(w));
-      expect(note).toMatch(new RegExp(`^150 rows of cells\\.csv stand for ${counted.data.rows} units by the counts in "n" \\(\\d+ rows? of count 0 add none\\); every claim was tested from tables of counts, each row counted as its units$`));
-      expect(counted.warnings.filter((w) => w !== note)).toEqual(expanded.warnings);
+      expectSameAudit(counted, expanded, "every claim was tested from tables of counts, each row counted as its units");
     });
   }
 
