@@ -85,23 +85,90 @@ export function lrEffect(lr: number, df: number, n: number, sign: -1 | 0 | 1 = 1
   return df === 1 ? lrToEffect(lr, n, sign) : lrToEffect(Math.max(0, lr - df), n, 1);
 }
 
-/** Solve P(χ²(df, λ) ≥ lr) = target for λ ≥ 0 by bracketing and bisection on λ (tail increases with λ). */
+/**
+ * Solve P(χ²(df, λ) ≥ lr) = target for λ ≥ 0 (the tail increases with λ): a bracket by doubling,
+ * then Brent's method to 1e-12 of the root, relative (absolute below 1). Each evaluation sums
+ * O(√λ) Poisson terms, so the few steps of Brent's method (about 10, against 40 of bisection to
+ * the same width) matter for large n.
+ * Source: Brent (1973), Algorithms for Minimization without Derivatives, ch. 4 (zero finding,
+ * inverse quadratic interpolation safeguarded by bisection).
+ */
 function solveNoncentrality(lr: number, df: number, target: number): number {
-  const sf = (lambda: number): number => noncentralChiSquareUpper(lr, df, lambda);
-  if (sf(0) >= target) return 0;
+  const f = (lambda: number): number => noncentralChiSquareUpper(lr, df, lambda) - target;
+  const f0 = f(0);
+  if (f0 >= 0) return 0;
   let lo = 0;
+  let flo = f0;
   let hi = Math.max(1, lr);
-  while (sf(hi) < target) {
+  let fhi = f(hi);
+  while (fhi < 0) {
     lo = hi;
+    flo = fhi;
     hi *= 2;
     if (hi > 1e15) return Infinity;
+    fhi = f(hi);
   }
-  for (let it = 0; it < 200 && hi - lo > 1e-12 * Math.max(1, hi); it++) {
-    const mid = (lo + hi) / 2;
-    if (sf(mid) < target) lo = mid;
-    else hi = mid;
+  return brentRoot(f, lo, flo, hi, fhi, (x) => 1e-12 * Math.max(1, Math.abs(x)));
+}
+
+/**
+ * A root of f in [a, b] with f(a)·f(b) ≤ 0, to within tol(x) of it, by Brent's method: inverse
+ * quadratic or secant steps where they stay inside the bracket and shrink it fast enough, else
+ * bisection, so it never takes more steps than bisection to the same width plus a few.
+ * Source: Brent (1973), Algorithms for Minimization without Derivatives, ch. 4, procedure zero.
+ */
+function brentRoot(f: (x: number) => number, a: number, fa: number, b: number, fb: number, tol: (x: number) => number): number {
+  let c = a;
+  let fc = fa;
+  let d = b - a;
+  let e = d;
+  for (let it = 0; it < 200; it++) {
+    if ((fb > 0 && fc > 0) || (fb < 0 && fc < 0)) {
+      c = a;
+      fc = fa;
+      d = e = b - a;
+    }
+    if (Math.abs(fc) < Math.abs(fb)) {
+      a = b;
+      b = c;
+      c = a;
+      fa = fb;
+      fb = fc;
+      fc = fa;
+    }
+    const t = 0.5 * tol(b);
+    const m = 0.5 * (c - b);
+    if (Math.abs(m) <= t || fb === 0) return b;
+    if (Math.abs(e) < t || Math.abs(fa) <= Math.abs(fb)) {
+      d = e = m; // bisection
+    } else {
+      let p: number;
+      let q: number;
+      const s = fb / fa;
+      if (a === c) {
+        p = 2 * m * s; // secant
+        q = 1 - s;
+      } else {
+        const qa = fa / fc;
+        const r = fb / fc;
+        p = s * (2 * m * qa * (qa - r) - (b - a) * (r - 1)); // inverse quadratic interpolation
+        q = (qa - 1) * (r - 1) * (s - 1);
+      }
+      if (p > 0) q = -q;
+      else p = -p;
+      if (2 * p < Math.min(3 * m * q - Math.abs(t * q), Math.abs(e * q))) {
+        e = d;
+        d = p / q;
+      } else {
+        d = e = m;
+      }
+    }
+    a = b;
+    fa = fb;
+    b += Math.abs(d) > t ? d : m > 0 ? t : -t;
+    fb = f(b);
   }
-  return (lo + hi) / 2;
+  return b;
 }
 
 /**
@@ -110,7 +177,7 @@ function solveNoncentrality(lr: number, df: number, target: number): number {
  * and returns [√(1 − exp(−λ_L/n)), √(1 − exp(−λ_U/n))], on the scale of {@link lrToEffect}.
  * The lower end is 0 whenever the central tail P(χ²(df) ≥ LR) ≥ (1 − level)/2 (the test is
  * not significant at (1 − level)/2), and the upper end too when that tail is ≥ (1 + level)/2.
- * Cost: about 100 noncentral tail evaluations.
+ * Cost: about 20 noncentral tail evaluations (Brent's method).
  * Source: Steiger (1990), Multivariate Behavioral Research 25:173–180.
  * @throws {RangeError} when LR is negative or not finite, df or n is not positive, or level is not in (0, 1)
  * @example lrEffectCI(20, 1, 100) // ≈ [0.2473, 0.5821], containing lrToEffect(20, 100) ≈ 0.4257
@@ -133,7 +200,7 @@ export function lrEffectCI(lr: number, df: number, n: number, level = 0.95): [nu
  * P(χ²(df, λ_U) ≥ LR) = (1 + level)/2, both mapped as in {@link lrEffectCI}. The point
  * √(1 − exp(−max(0, LR − df)/n)) of {@link lrEffect} lies inside (LR exceeds the mean df + λ_L
  * of the distribution whose upper α-quantile it is, and falls below the mean df + λ_U of the
- * one whose lower quantile it is). Cost: about 100 noncentral tail evaluations.
+ * one whose lower quantile it is). Cost: about 20 noncentral tail evaluations (Brent's method).
  * Source: Steiger (1990), Multivariate Behavioral Research 25:173–180 (the inversion);
  * Casella & Berger (2002), Statistical Inference, 2nd ed., §9.2.1 (intervals from inverting tests).
  * @throws {RangeError} as lrEffectCI
@@ -157,7 +224,7 @@ export function lrEffectCIAtAlpha(lr: number, df: number, n: number, level = 0.9
  * df > 1 {@link lrEffectCIAtAlpha}, which contains √(1 − exp(−max(0, LR − df)/n)) and has its
  * lower end above 0 exactly when P(χ²(df) ≥ LR) < α. (Both ends of a two-sided noncentral
  * inversion on 1 df collapse to 0 when LR is below the 2.5% quantile, an interval [0, 0] beside a
- * positive point.) Cost: O(1) for df = 1, about 100 noncentral tail evaluations otherwise.
+ * positive point.) Cost: O(1) for df = 1, about 20 noncentral tail evaluations otherwise.
  * Sources: as signedRootEffectCI and lrEffectCIAtAlpha.
  * @throws {RangeError} as those functions
  * @example lrEffectInterval(1e-4, 1, 1000, 1) // ≈ [-0.0617, 0.0623], around lrEffect(1e-4, 1, 1000) ≈ 0.000316
