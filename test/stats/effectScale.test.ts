@@ -45,6 +45,16 @@ describe("lrToEffect", () => {
 });
 
 describe("lrEffectCI", () => {
+  it("at the scale of registry counts (LR up to 2·10^6 on 18 df, n up to 6·10^8) its bounds still solve the tail equations, to 1e-8", () => {
+    for (const [lr, df, n] of [[2e6, 18, 6e8], [2e4, 6, 1e6], [3.1e5, 3, 5e7]] as const) {
+      const [lo, hi] = lrEffectCIAtAlpha(lr, df, n);
+      const lambdaOf = (e: number): number => -n * Math.log1p(-e * e);
+      expect(lo).toBeGreaterThan(0);
+      expect(Math.abs(noncentralChiSquareUpper(lr, df, lambdaOf(lo)) - 0.05)).toBeLessThanOrEqual(1e-8);
+      expect(Math.abs(noncentralChiSquareUpper(lr, df, lambdaOf(hi)) - 0.975)).toBeLessThanOrEqual(1e-8);
+    }
+  });
+
   it("the interval contains the point effect, its bounds solve the tail equations, and a higher level widens it (theorem)", () => {
     fc.assert(
       fc.property(fc.double({ min: 0.5, max: 200, noNaN: true }), fc.integer({ min: 1, max: 6 }), fc.integer({ min: 20, max: 5000 }), (lr, df, n) => {
