@@ -2,19 +2,18 @@
  * Site summaries reduced claim by claim to what their pooled tests need (`poolSiteSummaries.ts`),
  * as each summary is read, so that the parsed file can be let go at once.
  *
- * Terms. A *site pool* holds, for a run of sites in order: each site's heading (file, name, n,
- * suppressed rows, graph hash, settings, variables, and whether it lists the same claims as the
- * run's first site), and per claim a *claim pool*: the sites where the claim is untestable (with
- * their reasons), the sites that kept it, the kinds they wrote, and the kind's sums. The sums are
- * those the pooled tests add over sites: n and the within-site cross-products of a moments claim;
- * n, the parameter counts, Σ e eᵀ, the products' variance sums, the fourth-order sums and the
- * linear fit's Σ e eᵀ of a residuals claim, with each site's flexibility, aliased columns and how
- * it entered each member of the set; tables and score claims keep the sites' parts as they are
- * (a few numbers each). The sites are added in the order given, as the pooled tests added
- * them when they read every site's parts at once.
+ * Terms. A *site pool* holds, for sites in order: each site's heading (file, name, n, suppressed
+ * rows, graph hash, settings, variables, and whether it lists the same claims as the first site),
+ * and per claim a *claim pool*: the sites where the claim is untestable (with their reasons), the
+ * sites that kept it, the kinds they wrote, and the kind's sums. The sums are those the pooled
+ * tests add over sites: n and the within-site cross-products of a moments claim; n, the parameter
+ * counts, Σ e eᵀ, the products' variance sums, the fourth-order sums and the linear fit's Σ e eᵀ
+ * of a residuals claim, with each site's flexibility, aliased columns and how it entered each
+ * member of the set; tables and score claims keep the sites' parts as they are (a few numbers
+ * each). The sites are added in the order given, as the pooled tests added them when they read
+ * every site's parts at once.
  */
-import { FOURTH_ORDER_KEYS } from "./readSiteSummary.js";
-import type { SiteSummaryFile } from "./readSiteSummary.js";
+import { FOURTH_ORDER_KEYS, type SiteSummaryFile } from "./readSiteSummary.js";
 import type { ClaimSummary, MomentsClaimSummary, ResidualsClaimSummary, SiteSummarySettings, SiteVariable, TablesClaimSummary } from "./siteSummary.js";
 import type { ScoreClaimSummary } from "./siteRegressionScore.js";
 
