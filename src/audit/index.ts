@@ -1,6 +1,7 @@
 export { runAudit, DEFAULT_SETTINGS, MAX_AUDIT_CLAIMS, MAX_SETS_PER_PAIR, type AuditOptions } from "./runAudit.js";
 export { runAuditOnSummary, summaryUntestableReason, type SummaryAuditInput } from "./runAudit.js";
 export { runAuditWithTester, type ClaimTesterInput } from "./runAudit.js";
+export { runAuditOnCounts } from "./runAudit.js";
 export {
   summarizeSite, SITE_SUMMARY_FORMAT, SITE_SUMMARY_VERSION, DEFAULT_MIN_CELL, LEAST_MIN_CELL,
   type SiteSummary, type SiteSummarySettings, type SiteVariable, type ClaimSummary, type MomentsClaimSummary, type TablesClaimSummary, type UntestableClaimSummary, type SummarizeOptions,

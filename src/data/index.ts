@@ -24,4 +24,4 @@ export { findNonTextByte } from "./textBytes.js";
 export { parseSummaryMatrix, parseStandardDeviations, printedRounding, type SummaryMatrix, type SummaryKind, type StandardDeviations } from "./parseSummaryMatrix.js";
 export { checkSummaryMatrix, MATRIX_SLACK, type CheckedMatrix } from "./checkSummaryMatrix.js";
 export { createSummaryData, type SummaryData, type SummarySource } from "./summaryData.js";
-export { expandCounts, MAX_EXPANDED_CELLS, type CountsOptions } from "./expandCounts.js";
+export { countsTable, expandCounts, readCounts, MAX_EXPANDED_CELLS, type CountsOptions } from "./expandCounts.js";
