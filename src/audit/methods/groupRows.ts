@@ -254,8 +254,8 @@ export interface GroupedStrata {
  * Group the complete cases of categorical x, y and given variables into one compact x × y table
  * per stratum (a stratum is one combination of the given variables' codes seen among the
  * complete cases; with `weights`, each row counted as its weight). Strata are numbered one given
- * variable at a time in order of first appearance, and a table's rows and columns list the x and y levels in the order the stratum's
- * groups first show them.
+ * variable at a time in order of first appearance, and a table's rows and columns list the x and
+ * y levels in the order the stratum's groups first show them.
  * Cost: O(rows · (k + 2)) for grouping (see {@link groupRows}) plus O(groups) for the tables.
  * @throws TypeError when a column is not categorical
  * @example
