@@ -48,7 +48,7 @@ import { gaussianLRFromMoments } from "../stats/gaussianLRFromMoments.js";
 import { poolScoreClaims, type ScoreClaimSummary } from "./siteRegressionScore.js";
 import type { MomentsClaimSummary, ResidualsClaimSummary, TablesClaimSummary } from "./siteSummary.js";
 import { FOURTH_ORDER_KEYS, type SiteSummaryFile } from "./readSiteSummary.js";
-import { claimPoolOf, poolSites, type MomentsPool, type ResidualsPool, type SiteInfo, type SitePool } from "./sitePool.js";
+import { claimPoolOf, poolSites, siteInfo, type MomentsPool, type ResidualsPool, type SiteInfo, type SitePool } from "./sitePool.js";
 
 export { parseSiteSummary, type SiteSummaryFile } from "./readSiteSummary.js";
 
@@ -63,7 +63,8 @@ function fail(file: string, what: string): never {
  * @throws InputError naming the file and the difference, and what to do
  */
 export function checkSitesAgree(graphSha256: string, graphFile: string, sites: readonly SiteSummaryFile[]): void {
-  checkPoolAgrees(graphSha256, graphFile, poolSites(sites).sites);
+  const claims = sites[0]?.summary.claims ?? [];
+  checkPoolAgrees(graphSha256, graphFile, sites.map((s) => siteInfo(s, claims)));
 }
 
 /**

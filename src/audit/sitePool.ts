@@ -174,6 +174,12 @@ function addResiduals(pool: ClaimPool, part: ResidualsClaimSummary, site: number
   if (part.aliased > 0) r.aliased.push({ site, k: part.aliased });
 }
 
+/** A site's heading (see {@link SiteInfo}), given the claims every site must list (those of the first site). Cost: O(claims). */
+export function siteInfo({ file, summary }: SiteSummaryFile, claims: readonly { x: string; y: string; given: readonly string[] }[]): SiteInfo {
+  const { site, n, suppressed, graph_sha256, settings, variables } = summary;
+  return { file, site, n, suppressed, graph_sha256, settings, variables, sameClaims: sameClaimList(summary.claims, claims) };
+}
+
 /** A pool read site by site: {@link SitePoolBuilder.add} each summary, then take {@link SitePoolBuilder.pool}. */
 export class SitePoolBuilder {
   readonly pool: SitePool = { sites: [], claims: [], pools: [] };
@@ -186,9 +192,9 @@ export class SitePoolBuilder {
       this.pool.claims = summary.claims.map((c) => ({ x: c.x, y: c.y, given: c.given }));
       for (let i = 0; i < summary.claims.length; i++) pools.push({ untestable: [], kept: [], kinds: [] });
     }
-    const same = site === 0 || sameClaimList(summary.claims, this.pool.claims);
-    sites.push({ file, site: summary.site, n: summary.n, suppressed: summary.suppressed, graph_sha256: summary.graph_sha256, settings: summary.settings, variables: summary.variables, sameClaims: same });
-    if (!same) return; // refused by checkPoolAgrees
+    const info = siteInfo({ file, summary }, this.pool.claims);
+    sites.push(info);
+    if (!info.sameClaims) return; // refused by checkPoolAgrees
     for (let c = 0; c < summary.claims.length; c++) addPart(pools[c]!, summary.claims[c]!, site);
   }
 }
