@@ -14,7 +14,7 @@ import type { Graph } from "../graph/Graph.js";
 import { countMissingArrows, deriveClaims } from "../graph/deriveClaims.js";
 import { findHighCardinalityColumns } from "../data/findHighCardinalityColumns.js";
 import { graphSummary } from "../graph/graphSummary.js";
-import type { Table, VariableType } from "../data/Table.js";
+import { CATEGORICAL_TYPES, type Table, type VariableType } from "../data/Table.js";
 import { buildPatternMoments, type PatternMomentsOptions } from "../data/buildPatternMoments.js";
 import { momentExpansions } from "./momentExpansions.js";
 import type { PatternMoments } from "../data/Moments.js";
@@ -310,6 +310,9 @@ const TABLE_METHODS: ReadonlySet<string> = new Set(["stratified-chisq", "linear-
  */
 export function runAuditOnCounts(graph: Graph, table: Table, weights: Float64Array, options: AuditOptions = {}): AuditResult | undefined {
   if (weights.length !== table.rows) throw new RangeError(`weights has ${weights.length} entries but the table has ${table.rows} rows; pass one count per row`);
+  // a measured variable that is not categorical, or another method, means other tests: decline before planning
+  const method = options.settings?.method ?? DEFAULT_SETTINGS.method;
+  if ((method !== "auto" && method !== "chisq") || graph.nodes.some((v) => graph.isMeasured(v) && table.column(v) !== undefined && !CATEGORICAL_TYPES.has(table.column(v)!.type))) return undefined;
   const claimPlan = planClaims(graph, table, options, undefined, weights);
   if (!claimPlan.claims.every((c) => precheck(c, claimPlan.constant) !== undefined || TABLE_METHODS.has(methodOf(c, table, claimPlan.settings).name))) return undefined;
   const units = new Uint8Array(table.rows);
